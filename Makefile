@@ -1,0 +1,29 @@
+# Two entry points, both self-contained on a fresh machine with Python 3.11+:
+#   make demo   build the environment, run the demo job (writes reports/)
+#   make test   build the environment, run the test suite
+PYTHON ?= python3
+VENV   ?= .venv
+PY      = $(VENV)/bin/python
+STAMP   = $(VENV)/.cctkit-installed
+
+.PHONY: demo test bench clean
+
+$(STAMP): pyproject.toml
+	@$(PYTHON) -c 'import sys; sys.exit(0 if sys.version_info >= (3, 11) else "cctkit needs Python 3.11 or newer")'
+	$(PYTHON) -m venv $(VENV)
+	$(PY) -m pip install --quiet --upgrade pip
+	$(PY) -m pip install --quiet -e '.[test]'
+	@touch $(STAMP)
+
+demo: $(STAMP)
+	$(PY) -m cctkit.demo_job --out reports
+
+test: $(STAMP)
+	$(PY) -m pytest
+
+bench: $(STAMP)
+	$(PY) benchmarks/bench_cct.py
+	$(PY) benchmarks/bench_rendering.py
+
+clean:
+	rm -rf $(VENV) build *.egg-info .pytest_cache

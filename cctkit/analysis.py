@@ -1,0 +1,172 @@
+"""``analyse(spectra) -> Analysis``: every measure of cctkit, composed, for N spectra at once.
+
+The measures are plain functions over arrays; this module only calls them in
+order and keeps their results side by side.  Turning an :class:`Analysis` into
+records (dicts with unit-bearing keys), JSON or CSV is a separate, dumb step
+(:meth:`Analysis.records`).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from . import __version__
+from .cct import CctResult, cct_duv
+from .colorimetry import XYZ, XYZ_to_uv, XYZ_to_xy, uv_to_uvp
+from .constants import C2_M_K, DUV_LIMIT, KM_LM_PER_W
+from .errors import Flag
+from .spectra import Quantity, Spectra, to_working_grid
+
+__all__ = ["Analysis", "analyse", "CONVENTIONS", "RECORD_KEYS"]
+
+#: The conventions every number is computed under (written into every output).
+CONVENTIONS = {
+    "wavelength_grid_nm": "360-830 nm at 1 nm",
+    "summation": "plain sum at 1 nm, no end-point halving (CIE 15:2018)",
+    "interpolation": "as measured on the 1 nm grid; Sprague (CIE 167:2005) for uniform steps; PCHIP otherwise",
+    "extrapolation": "nearest measured value repeated (CIE 15:2018 section 7.2.2)",
+    "c2_m_K": C2_M_K,
+    "Km_lm_per_W": KM_LM_PER_W,
+    "cct_method": "exact: nearest Planckian point in CIE 1960 uv (CIE 15:2018 section 9.5)",
+    "duv_sign": "positive above the Planckian locus (towards larger v)",
+    "duv_limit": DUV_LIMIT,
+}
+
+
+@dataclass(frozen=True)
+class Analysis:
+    """All results for N spectra (arrays of leading length N)."""
+
+    spectra: Spectra
+    observer: int
+    XYZ: np.ndarray  # (N, 3); Y in the luminous unit of the quantity (relative: Y = 100)
+    xy: np.ndarray  # (N, 2)
+    uv: np.ndarray
+    uvp: np.ndarray
+    cct: CctResult
+    photometry: Any = None
+    alphaopic: Any = None
+    shape: Any = None
+    dominant: Any = None
+    cri: Any = None
+    tm30: Any = None
+    flags: tuple[tuple[Flag, ...], ...] = field(default=())
+
+    def __len__(self) -> int:
+        return self.XYZ.shape[0]
+
+    def records(self) -> list[dict[str, Any]]:
+        """One dict per spectrum with unit-bearing keys (see :data:`RECORD_KEYS`)."""
+        return [_record(self, i) for i in range(len(self))]
+
+
+def _f(a, i):
+    v = float(a[i])
+    return v if np.isfinite(v) else None
+
+
+def _record(a: Analysis, i: int) -> dict[str, Any]:
+    s = a.spectra
+    lo, hi, step = s.measured_range_nm[i]
+    r: dict[str, Any] = {
+        "name": s.names[i],
+        "source": s.sources[i],
+        "sha256": s.sha256[i],
+        "quantity": s.quantity.value,
+        "spectral_unit": s.quantity.unit,
+        "measured_range_nm": [lo, hi],
+        "measured_step_nm": step,
+        "observer": a.observer,
+        "cct_K": _f(a.cct.cct_K, i) if abs(float(a.cct.duv[i])) <= DUV_LIMIT else None,
+        "duv": _f(a.cct.duv, i),
+        "x": _f(a.xy[:, 0], i),
+        "y": _f(a.xy[:, 1], i),
+        "u": _f(a.uv[:, 0], i),
+        "v": _f(a.uv[:, 1], i),
+        "u_prime": _f(a.uvp[:, 0], i),
+        "v_prime": _f(a.uvp[:, 1], i),
+        "X": _f(a.XYZ[:, 0], i),
+        "Y": _f(a.XYZ[:, 1], i),
+        "Z": _f(a.XYZ[:, 2], i),
+    }
+    for part in (a.photometry, a.alphaopic, a.shape, a.dominant, a.cri, a.tm30):
+        if part is not None:
+            r.update(part.record(i))
+    r["flags"] = [f.as_dict() for f in a.flags[i]]
+    return r
+
+
+def _cct_flags(cct: CctResult, i: int) -> tuple[Flag, ...]:
+    duv = float(cct.duv[i])
+    out = []
+    if not np.isfinite(duv):
+        out.append(Flag("no-chromaticity", "the spectrum has no colour signal (all tristimulus values zero)"))
+    elif abs(duv) > DUV_LIMIT:
+        out.append(Flag("duv-out-of-range", f"|Duv| = {abs(duv):.4f} > {DUV_LIMIT}: CCT is not meaningful and not reported"))
+    elif not np.isfinite(float(cct.cct_K[i])):
+        out.append(Flag("cct-out-of-range", "nearest Planckian point lies outside 1000-100000 K; CCT not reported"))
+    return tuple(out)
+
+
+def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> Analysis:
+    """Every measure for every spectrum in ``spectra``, vectorised.
+
+    Parameters
+    ----------
+    spectra
+        N spectra on any grid; they are resampled once to 360-830 nm at 1 nm.
+    observer
+        Observer for chromaticity and CCT: 2 (CIE 1931, the CCT convention) or 10 (CIE 1964).
+        Photometry always uses V(lambda) (CIE 1924) and rendering uses the observers its
+        standard prescribes.
+    rendering
+        Compute CIE 13.3 and CIE 224 / TM-30 colour rendering (the costly part).
+    """
+    if int(observer) not in (2, 10):
+        raise ValueError(f"observer must be 2 or 10, got {observer!r}")
+    g = to_working_grid(spectra)
+    V = g.values
+    raw = XYZ(V, observer=observer)
+    if g.quantity is Quantity.RELATIVE:
+        with np.errstate(divide="ignore", invalid="ignore"):
+            scale = np.where(raw[:, 1] != 0, 100.0 / raw[:, 1], np.nan)
+        tri = raw * scale[:, None]
+    else:
+        tri = raw * KM_LM_PER_W
+    xy = XYZ_to_xy(tri)
+    uv = XYZ_to_uv(tri)
+    cct = cct_duv(uv, observer=observer)
+    flags = tuple(g.flags[i] + _cct_flags(cct, i) for i in range(len(g)))
+    parts: dict[str, Any] = {}
+    parts.update(_extra_measures(g, tri, uv, cct, rendering=rendering))
+    extra_flags = parts.pop("_flags", None)
+    if extra_flags is not None:
+        flags = tuple(f + e for f, e in zip(flags, extra_flags))
+    return Analysis(
+        spectra=g, observer=int(observer), XYZ=tri, xy=xy, uv=uv, uvp=uv_to_uvp(uv), cct=cct, flags=flags, **parts
+    )
+
+
+def _extra_measures(g: Spectra, tri, uv, cct: CctResult, *, rendering: bool) -> dict[str, Any]:
+    """Photometry, spectral shape, dominant wavelength and colour rendering (wired in as they land)."""
+    return {}
+
+
+def provenance() -> dict[str, Any]:
+    """What every output carries so a number can be traced."""
+    from importlib import metadata
+
+    try:
+        colour_v = metadata.version("colour-science")
+    except metadata.PackageNotFoundError:  # pragma: no cover
+        colour_v = None
+    return {"cctkit_version": __version__, "colour_science_version": colour_v, "conventions": CONVENTIONS}
+
+
+RECORD_KEYS = (
+    "name", "source", "sha256", "quantity", "cct_K", "duv", "x", "y", "u", "v", "u_prime", "v_prime",
+    "X", "Y", "Z",
+)

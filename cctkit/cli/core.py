@@ -1,0 +1,306 @@
+"""Core commands: ``inspect``, ``cct``, ``locus``, ``blackbody``."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any, List, Optional
+
+import typer
+
+from ..errors import InputError
+from .options import (
+    JSON_OPTION,
+    OBSERVER_HELP,
+    OUTPUT_OPTION,
+    OVERWRITE_OPTION,
+    QUANTITY_HELP,
+    csv_text,
+    dumps,
+    emit_json,
+    info,
+    parse_observer,
+    require_suffix,
+    write_output,
+)
+
+# (record key, label, unit, format) for the human table of ``inspect``.
+INSPECT_ROWS: tuple[tuple[str, str, str, str], ...] = (
+    ("cct_K", "CCT", "K", "{:.0f}"),
+    ("duv", "Duv", "", "{:+.4f}"),
+    ("x", "x", "", "{:.4f}"),
+    ("y", "y", "", "{:.4f}"),
+    ("u", "u (CIE 1960)", "", "{:.4f}"),
+    ("v", "v (CIE 1960)", "", "{:.4f}"),
+    ("u_prime", "u' (CIE 1976)", "", "{:.4f}"),
+    ("v_prime", "v' (CIE 1976)", "", "{:.4f}"),
+    ("luminous_flux_lm", "Luminous flux", "lm", "{:.1f}"),
+    ("illuminance_lx", "Illuminance", "lx", "{:.1f}"),
+    ("luminance_cd_per_m2", "Luminance", "cd/m2", "{:.1f}"),
+    ("intensity_cd", "Luminous intensity", "cd", "{:.1f}"),
+    ("ler_lm_per_W", "LER", "lm/W", "{:.1f}"),
+    ("sp_ratio", "S/P ratio", "", "{:.3f}"),
+    ("melanopic_der", "Melanopic DER", "", "{:.3f}"),
+    ("melanopic_edi_lx", "Melanopic EDI", "lx", "{:.1f}"),
+    ("peak_nm", "Peak wavelength", "nm", "{:.1f}"),
+    ("centroid_nm", "Centroid wavelength", "nm", "{:.1f}"),
+    ("fwhm_nm", "FWHM (highest peak)", "nm", "{:.1f}"),
+    ("dominant_wavelength_nm", "Dominant wavelength", "nm", "{:.1f}"),
+    ("purity", "Excitation purity", "", "{:.3f}"),
+    ("Ra", "Ra (CIE 13.3)", "", "{:.1f}"),
+    ("R9", "R9", "", "{:.1f}"),
+    ("Rf", "Rf (TM-30 / CIE 224)", "", "{:.1f}"),
+    ("Rg", "Rg (TM-30)", "", "{:.1f}"),
+)
+
+
+def _fmt(value: Any, fmt: str) -> str:
+    if value is None:
+        return "n/a"
+    if isinstance(value, float):
+        return fmt.format(value)
+    return str(value)
+
+
+def format_records(records: list[dict[str, Any]]) -> str:
+    """The human table of ``inspect``: one block per spectrum, units in their own column."""
+    lines: list[str] = []
+    for rec in records:
+        rec = dict(rec)
+        if "R" in rec and rec["R"] is not None and "R9" not in rec:
+            rec["R9"] = rec["R"][8]
+        lines.append(f"{rec['name']}  ({rec['source'] or 'no file'}; {rec['quantity']}, {rec['spectral_unit']})")
+        for key, label, unit, fmt in INSPECT_ROWS:
+            if key in rec:
+                lines.append(f"  {label:<24} {_fmt(rec[key], fmt):>12}  {unit}")
+        for flag in rec.get("flags", []):
+            lines.append(f"  warning [{flag['code']}]: {flag['message']}")
+        lines.append("")
+    return "\n".join(lines)
+
+
+def load_many(files: List[Path], quantity: Optional[str]):
+    from ..readers import read_spectra
+    from ..spectra import concatenate
+
+    if not files:
+        raise InputError("no input files given")
+    return concatenate([read_spectra(f, quantity=quantity) for f in files])
+
+
+def inspect_cmd(
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
+    observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),
+    json_out: bool = JSON_OPTION,
+    output: Optional[Path] = OUTPUT_OPTION,
+    overwrite: bool = OVERWRITE_OPTION,
+) -> None:
+    """Every measure for each spectrum: CCT, Duv, chromaticity, photometry, colour rendering."""
+    from ..analysis import analyse, provenance
+    from ..spectra import Quantity
+
+    obs = parse_observer(observer)
+    if quantity is not None:
+        Quantity.parse(quantity, source="--quantity")
+    if output is not None:
+        require_suffix(output, (".json", ".csv"))
+    spectra = load_many(files, quantity)
+    records = analyse(spectra, observer=obs).records()
+    doc = {**provenance(), "spectra": records}
+    if output is not None:
+        if output.suffix.lower() == ".json":
+            write_output(output, dumps(doc), overwrite=overwrite, inputs=files)
+        else:
+            write_output(output, records_csv(records), overwrite=overwrite, inputs=files)
+    if json_out:
+        emit_json(doc)
+    else:
+        typer.echo(format_records(records).rstrip("\n"))
+
+
+def records_csv(records: list[dict[str, Any]]) -> str:
+    """Flatten records to CSV: list fields become numbered columns (R1..R14, Rf_h1..)."""
+    flat = [flatten_record(r) for r in records]
+    header: list[str] = []
+    for r in flat:
+        for k in r:
+            if k not in header:
+                header.append(k)
+    return csv_text(header, ([r.get(k, "") for k in header] for r in flat))
+
+
+def flatten_record(rec: dict[str, Any]) -> dict[str, Any]:
+    out: dict[str, Any] = {}
+    for k, v in rec.items():
+        if k == "flags":
+            out["flags"] = ";".join(f["code"] for f in v)
+        elif k == "R" and isinstance(v, list):
+            out.update({f"R{i + 1}": x for i, x in enumerate(v)})
+        elif isinstance(v, list):
+            if k.startswith("measured_range"):
+                out[f"{k}_lo"], out[f"{k}_hi"] = v
+            else:
+                out.update({f"{k}{i + 1}": x for i, x in enumerate(v)})
+        else:
+            out[k] = v
+    return out
+
+
+def cct_cmd(
+    xy: Optional[tuple[float, float]] = typer.Option(None, "--xy", help="CIE 1931 chromaticity x y."),
+    uv: Optional[tuple[float, float]] = typer.Option(None, "--uv", help="CIE 1960 chromaticity u v."),
+    uvp: Optional[tuple[float, float]] = typer.Option(None, "--uvp", help="CIE 1976 chromaticity u' v'."),
+    method: str = typer.Option("exact", "--method", help="exact | ohno2013 | robertson1968."),
+    observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),
+    json_out: bool = JSON_OPTION,
+) -> None:
+    """CCT and Duv of one chromaticity (from a datasheet, say)."""
+    import numpy as np
+
+    from ..cct import METHODS, cct_duv
+    from ..colorimetry import uvp_to_uv, xy_to_uv
+    from ..constants import DUV_LIMIT
+
+    given = [(n, v) for n, v in (("--xy", xy), ("--uv", uv), ("--uvp", uvp)) if v is not None]
+    if len(given) != 1:
+        raise InputError("give exactly one of --xy X Y, --uv U V or --uvp U' V'")
+    if method not in METHODS:
+        raise InputError(f"--method must be one of {', '.join(METHODS)}, got {method!r}")
+    name, pair = given[0]
+    p = np.asarray(pair, dtype=float)
+    if not np.all(np.isfinite(p)) or np.any(p <= 0) or np.any(p >= 1):
+        raise InputError(f"{name} values must be chromaticity coordinates between 0 and 1, got {pair[0]:g} {pair[1]:g}")
+    if name == "--xy":
+        if p.sum() >= 1:
+            raise InputError(f"--xy {pair[0]:g} {pair[1]:g} is not a chromaticity (x + y must be below 1)")
+        p = xy_to_uv(p)
+    elif name == "--uvp":
+        p = uvp_to_uv(p)
+    r = cct_duv(p, method=method, observer=parse_observer(observer))
+    cct, duv = float(r.cct_K), float(r.duv)
+    meaningful = bool(np.isfinite(cct) and abs(duv) <= DUV_LIMIT)
+    doc = {"cct_K": cct if meaningful else None, "duv": duv, "method": method, "u": float(p[0]), "v": float(p[1])}
+    if not meaningful:
+        doc["warning"] = (
+            f"|Duv| = {abs(duv):.4f} exceeds {DUV_LIMIT}: CCT is not meaningful"
+            if np.isfinite(duv) and abs(duv) > DUV_LIMIT
+            else "nearest Planckian point outside 1000-100000 K"
+        )
+    if json_out:
+        emit_json(doc)
+        if "warning" in doc:
+            info(f"warning: {doc['warning']}")
+        return
+    typer.echo(f"CCT  {cct:.1f} K" if meaningful else "CCT  n/a")
+    typer.echo(f"Duv  {duv:+.5f}")
+    typer.echo(f"method  {method}; CIE 1960 uv = ({p[0]:.5f}, {p[1]:.5f})")
+    if "warning" in doc:
+        info(f"warning: {doc['warning']}")
+
+
+def locus_cmd(
+    observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),
+    t_min: float = typer.Option(1000.0, "--from", help="Lowest temperature [K]."),
+    t_max: float = typer.Option(100000.0, "--to", help="Highest temperature [K]."),
+    step: Optional[float] = typer.Option(None, "--step", help="Temperature step [K] (default: 10 K to 10000 K, then 100 K)."),
+    output: Optional[Path] = OUTPUT_OPTION,
+    overwrite: bool = OVERWRITE_OPTION,
+    json_out: bool = JSON_OPTION,
+) -> None:
+    """The Planckian locus as a table (T_K, x, y, u, v, u', v')."""
+    import numpy as np
+
+    from ..locus import default_temperatures, planckian_locus
+
+    if not (500.0 <= t_min < t_max <= 1e6):
+        raise InputError(f"--from/--to must satisfy 500 <= from < to <= 1e6 K, got {t_min:g}..{t_max:g}")
+    if step is not None:
+        if not step > 0 or (t_max - t_min) / step > 1e6:
+            raise InputError(f"--step must be > 0 K and give at most 1e6 rows, got {step:g}")
+        T = np.arange(t_min, t_max + step / 2, step)
+    else:
+        T = default_temperatures()
+        T = T[(T >= t_min) & (T <= t_max)]
+    loc = planckian_locus(T, observer=parse_observer(observer))
+    rows = loc.rows()
+    header = ["T_K", "x", "y", "u", "v", "u_prime", "v_prime"]
+    if output is not None:
+        suffix = require_suffix(output, (".csv", ".json"))
+        if suffix == ".csv":
+            text = csv_text(header, ([r[k] for k in header] for r in rows))
+        else:
+            text = dumps({"observer": loc.observer, "c2_m_K": loc.c2_m_K, "locus": rows})
+        write_output(output, text, overwrite=overwrite)
+    if json_out:
+        emit_json({"observer": loc.observer, "c2_m_K": loc.c2_m_K, "locus": rows})
+    elif output is None:
+        typer.echo(csv_text(header, ([r[k] for k in header] for r in rows)), nl=False)
+
+
+def blackbody_cmd(
+    T_K: float = typer.Argument(..., help="Temperature [K]."),
+    output: Optional[Path] = OUTPUT_OPTION,
+    overwrite: bool = OVERWRITE_OPTION,
+    json_out: bool = JSON_OPTION,
+    quantity: str = typer.Option("exitance", "--as", help="exitance [W/(m2 nm)] or radiance [W/(sr m2 nm)] in the file."),
+) -> None:
+    """A blackbody at T_K: Wien peak, total exitance, efficacy, chromaticity; the spectrum to a file."""
+    import numpy as np
+
+    from ..cct import cct_duv
+    from ..colorimetry import uv_to_xy
+    from ..constants import WAVELENGTH_NM
+    from ..locus import planckian_uv
+    from ..planck import blackbody_efficacy, spectral_exitance, spectral_radiance, total_exitance, wien_peak_nm
+
+    if not np.isfinite(T_K) or not (100.0 <= T_K <= 1e6):
+        raise InputError(f"T_K must be between 100 and 1e6 K, got {T_K:g}")
+    if quantity not in ("exitance", "radiance"):
+        raise InputError(f"--as must be exitance or radiance, got {quantity!r}")
+    uv = planckian_uv(T_K)
+    xy = uv_to_xy(uv)
+    doc = {
+        "T_K": T_K,
+        "peak_nm": float(wien_peak_nm(T_K)),
+        "exitance_W_per_m2": float(total_exitance(T_K)),
+        "luminous_efficacy_lm_per_W": float(blackbody_efficacy(T_K)),
+        "x": float(xy[0]),
+        "y": float(xy[1]),
+        "u": float(uv[0]),
+        "v": float(uv[1]),
+        "cct_K": float(cct_duv(uv).cct_K) if 1000 <= T_K <= 100000 else None,
+    }
+    if output is not None:
+        suffix = require_suffix(output, (".csv", ".json"))
+        if quantity == "exitance":
+            values, unit, col = spectral_exitance(T_K), "W/(m2 nm)", "spectral_exitance (W/(m2 nm))"
+        else:
+            values, unit, col = spectral_radiance(T_K), "W/(sr m2 nm)", "spectral_radiance (W/(sr m2 nm))"
+        if suffix == ".csv":
+            text = f"# blackbody at {T_K:g} K, Planck's law, c2 = 1.4388e-2 m K; unit: {unit}\n" + csv_text(
+                ["wavelength (nm)", col], zip(WAVELENGTH_NM.tolist(), values.tolist())
+            )
+        else:
+            text = dumps({
+                "quantity": "irradiance" if quantity == "exitance" else "radiance",  # exitance shares the unit
+                "unit": unit,
+                "wavelength_nm": WAVELENGTH_NM.tolist(),
+                "spectra": [{"name": f"blackbody {T_K:g} K", "values": values.tolist()}],
+            })
+        write_output(output, text, overwrite=overwrite)
+    if json_out:
+        emit_json(doc)
+    else:
+        typer.echo(f"Blackbody at {T_K:g} K")
+        typer.echo(f"  Wien peak              {doc['peak_nm']:12.2f}  nm")
+        typer.echo(f"  Total exitance         {doc['exitance_W_per_m2']:12.5g}  W/m2")
+        typer.echo(f"  Luminous efficacy      {doc['luminous_efficacy_lm_per_W']:12.3f}  lm/W")
+        typer.echo(f"  x, y                   {doc['x']:.5f}, {doc['y']:.5f}")
+        typer.echo(f"  u, v (CIE 1960)        {doc['u']:.5f}, {doc['v']:.5f}")
+
+
+def register(app: typer.Typer) -> None:
+    app.command("inspect")(inspect_cmd)
+    app.command("cct")(cct_cmd)
+    app.command("locus")(locus_cmd)
+    app.command("blackbody")(blackbody_cmd)

@@ -1,0 +1,53 @@
+"""The project's exceptions and its warnings-as-data.
+
+Library code raises these; only the command line turns them into one line on
+stderr and exit status 2.  Nothing here imports the command-line framework.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+__all__ = ["CctkitError", "InputError", "Flag"]
+
+
+class CctkitError(ValueError):
+    """Base class of every error cctkit raises on purpose."""
+
+
+class InputError(CctkitError):
+    """A file or argument cannot be used; the message names it and the cause.
+
+    Parameters
+    ----------
+    message
+        What is wrong and what is expected.
+    source
+        The file (or argument) concerned, shown first in the message.
+    line
+        1-based line number in ``source`` where it applies.
+    """
+
+    def __init__(self, message: str, *, source: str | None = None, line: int | None = None):
+        self.source = source
+        self.line = line
+        self.reason = message
+        where = ""
+        if source is not None:
+            where = f"{source}:{line}: " if line is not None else f"{source}: "
+        super().__init__(f"{where}{message}")
+
+
+@dataclass(frozen=True)
+class Flag:
+    """A doubtful condition found while measuring, carried with the results.
+
+    ``code`` is stable and machine-readable (e.g. ``"range-short"``); ``message``
+    is one sentence for a person.
+    """
+
+    code: str
+    message: str
+
+    def as_dict(self) -> dict[str, str]:
+        return {"code": self.code, "message": self.message}

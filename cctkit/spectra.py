@@ -1,0 +1,397 @@
+"""The :class:`Spectra` type, its validation, and resampling to the working grid.
+
+A :class:`Spectra` holds N spectra measured on one wavelength axis.  Readers
+keep the data as measured; :func:`to_working_grid` brings it once to the
+working grid (360-830 nm at 1 nm, CIE 15:2018 practice), after which every
+measure is a matrix product against tables on that grid.
+
+Interpolation rules (written down here and in DEVELOPERS.md):
+
+* grid already a subset of the working grid at 1 nm: values are taken as they are;
+* uniformly spaced data with at least 6 points: Sprague (1880) quintic
+  interpolation as recommended by CIE 167:2005 section 5, with the CIE 167 end
+  extension of two points on each side;
+* non-uniform data, or fewer than 6 points: shape-preserving piecewise cubic
+  Hermite (PCHIP, Fritsch-Carlson), which never overshoots between measured points.
+
+Extrapolation outside the measured range repeats the nearest measured value
+(CIE 15:2018 section 7.2.2, "closest measured value" rule).  A flag
+``range-short`` is raised for every spectrum whose measured range does not cover
+380-780 nm.
+"""
+
+from __future__ import annotations
+
+import hashlib
+from dataclasses import dataclass, field, replace
+from enum import Enum
+from functools import lru_cache
+from typing import Iterable, Sequence
+
+import numpy as np
+
+from .constants import VISIBLE_BAND_NM, WAVELENGTH_NM
+from .errors import Flag, InputError
+
+__all__ = [
+    "Quantity",
+    "Spectra",
+    "to_working_grid",
+    "interpolation_matrix",
+    "sha256_of_file",
+    "concatenate",
+]
+
+MIN_POINTS = 5
+
+
+class Quantity(str, Enum):
+    """Radiometric quantity of the spectral values, and its spectral unit."""
+
+    RADIANT_FLUX = "radiant-flux"
+    IRRADIANCE = "irradiance"
+    RADIANCE = "radiance"
+    INTENSITY = "intensity"
+    RELATIVE = "relative"
+
+    @property
+    def unit(self) -> str:
+        return _SPECTRAL_UNIT[self]
+
+    @property
+    def luminous_name(self) -> str:
+        """Name (with unit) of the photometric total this quantity integrates to."""
+        return _LUMINOUS_NAME[self]
+
+    @classmethod
+    def parse(cls, text: str, *, source: str | None = None) -> "Quantity":
+        key = str(text).strip().lower().replace("_", "-").replace(" ", "-")
+        key = _QUANTITY_ALIASES.get(key, key)
+        try:
+            return cls(key)
+        except ValueError:
+            allowed = ", ".join(q.value for q in cls)
+            raise InputError(f"unknown quantity {text!r}; expected one of {allowed}", source=source) from None
+
+
+_SPECTRAL_UNIT = {
+    Quantity.RADIANT_FLUX: "W/nm",
+    Quantity.IRRADIANCE: "W/(m^2 nm)",
+    Quantity.RADIANCE: "W/(sr m^2 nm)",
+    Quantity.INTENSITY: "W/(sr nm)",
+    Quantity.RELATIVE: "1",
+}
+_LUMINOUS_NAME = {
+    Quantity.RADIANT_FLUX: "luminous_flux_lm",
+    Quantity.IRRADIANCE: "illuminance_lx",
+    Quantity.RADIANCE: "luminance_cd_per_m2",
+    Quantity.INTENSITY: "intensity_cd",
+    Quantity.RELATIVE: "relative_luminous",
+}
+_QUANTITY_ALIASES = {
+    "flux": "radiant-flux",
+    "radiantflux": "radiant-flux",
+    "spectral-irradiance": "irradiance",
+    "spectral-radiance": "radiance",
+    "radiant-intensity": "intensity",
+    "spectral-intensity": "intensity",
+    "spectral-flux": "radiant-flux",
+    "relative-power": "relative",
+}
+
+
+@dataclass(frozen=True, eq=False)
+class Spectra:
+    """N spectra on one wavelength axis.
+
+    Attributes
+    ----------
+    wavelength_nm
+        Strictly increasing, finite wavelengths, shape (L,) [nm].
+    values
+        Spectral values, shape (N, L), in ``quantity.unit``.
+    names
+        One name per spectrum.
+    quantity
+        The radiometric quantity of ``values``.
+    sources
+        Where each spectrum came from (file path, optionally ``#column``).
+    sha256
+        SHA-256 of each spectrum's source file, or ``""`` when not from a file.
+    flags
+        Per spectrum, the doubtful conditions found so far (see :class:`~cctkit.errors.Flag`).
+    """
+
+    wavelength_nm: np.ndarray
+    values: np.ndarray
+    names: tuple[str, ...]
+    quantity: Quantity = Quantity.RELATIVE
+    sources: tuple[str, ...] = ()
+    sha256: tuple[str, ...] = ()
+    flags: tuple[tuple[Flag, ...], ...] = ()
+    measured_range_nm: tuple[tuple[float, float, float], ...] = field(default=())
+
+    def __post_init__(self) -> None:
+        source = self.sources[0] if self.sources else None
+        wl = np.asarray(self.wavelength_nm, dtype=np.float64)
+        values = np.asarray(self.values, dtype=np.float64)
+        if values.ndim == 1:
+            values = values[np.newaxis, :]
+        if wl.ndim != 1:
+            raise InputError(f"wavelength axis must be one-dimensional, got shape {wl.shape}", source=source)
+        if values.ndim != 2 or values.shape[1] != wl.shape[0]:
+            raise InputError(
+                f"values must have shape (N, {wl.shape[0]}) to match the wavelength axis, got {values.shape}",
+                source=source,
+            )
+        if values.shape[0] == 0:
+            raise InputError("no spectra found", source=source)
+        if wl.shape[0] < MIN_POINTS:
+            raise InputError(f"only {wl.shape[0]} wavelength points; at least {MIN_POINTS} are needed", source=source)
+        if not np.all(np.isfinite(wl)):
+            raise InputError("wavelengths contain NaN or infinite values", source=source)
+        steps = np.diff(wl)
+        if np.any(steps <= 0):
+            i = int(np.argmax(steps <= 0)) + 1
+            raise InputError(
+                f"wavelengths must be strictly increasing; {wl[i]:g} nm follows {wl[i - 1]:g} nm", source=source
+            )
+        bad = ~np.isfinite(values)
+        if bad.any():
+            n, j = np.argwhere(bad)[0]
+            name = self.names[n] if n < len(self.names) else str(n)
+            raise InputError(
+                f"spectrum {name!r} has a NaN or infinite value at {wl[j]:g} nm", source=_pick(self.sources, n)
+            )
+        n = values.shape[0]
+        names = tuple(str(s) for s in self.names)
+        if len(names) != n:
+            raise InputError(f"{len(names)} names given for {n} spectra", source=source)
+        quantity = self.quantity if isinstance(self.quantity, Quantity) else Quantity.parse(self.quantity)
+        wl.setflags(write=False)
+        values.setflags(write=False)
+        object.__setattr__(self, "wavelength_nm", wl)
+        object.__setattr__(self, "values", values)
+        object.__setattr__(self, "names", names)
+        object.__setattr__(self, "quantity", quantity)
+        object.__setattr__(self, "sources", _per_spectrum(self.sources, n, ""))
+        object.__setattr__(self, "sha256", _per_spectrum(self.sha256, n, ""))
+        flags = _per_spectrum(self.flags, n, ())
+        if not self.measured_range_nm:
+            step = float(np.median(steps))
+            measured = ((float(wl[0]), float(wl[-1]), step),) * n
+            negative = values.min(axis=1) < 0
+            flags = tuple(
+                f + ((_negative_flag(values[i]),) if negative[i] else ()) for i, f in enumerate(flags)
+            )
+            if step > 5.0 + 1e-9:
+                flags = tuple(f + (_coarse_flag(step),) for f in flags)
+            object.__setattr__(self, "measured_range_nm", measured)
+        else:
+            object.__setattr__(self, "measured_range_nm", _per_spectrum(self.measured_range_nm, n, None))
+        object.__setattr__(self, "flags", flags)
+
+    def __len__(self) -> int:
+        return self.values.shape[0]
+
+    @property
+    def on_working_grid(self) -> bool:
+        return self.wavelength_nm.shape == WAVELENGTH_NM.shape and bool(
+            np.array_equal(self.wavelength_nm, WAVELENGTH_NM)
+        )
+
+    def select(self, index: int | slice | Sequence[int]) -> "Spectra":
+        """The spectra at ``index`` (keeps names, sources and flags aligned)."""
+        idx = np.arange(len(self))[index]
+        idx = np.atleast_1d(idx)
+        return replace(
+            self,
+            values=self.values[idx],
+            names=tuple(self.names[i] for i in idx),
+            sources=tuple(self.sources[i] for i in idx),
+            sha256=tuple(self.sha256[i] for i in idx),
+            flags=tuple(self.flags[i] for i in idx),
+            measured_range_nm=tuple(self.measured_range_nm[i] for i in idx),
+        )
+
+    def scaled(self, factor: float, quantity: Quantity | None = None) -> "Spectra":
+        """The same spectra multiplied by ``factor`` (e.g. a unit conversion)."""
+        return replace(self, values=self.values * factor, quantity=quantity or self.quantity)
+
+
+def _pick(seq: Sequence[str], i: int) -> str | None:
+    if not seq:
+        return None
+    return seq[i] if i < len(seq) else seq[0]
+
+
+def _per_spectrum(seq, n: int, default):
+    seq = tuple(seq)
+    if len(seq) == n:
+        return seq
+    if len(seq) == 1:
+        return seq * n
+    if len(seq) == 0:
+        return (default,) * n
+    raise InputError(f"{len(seq)} per-spectrum entries given for {n} spectra")
+
+
+def _negative_flag(row: np.ndarray) -> Flag:
+    peak = float(np.max(np.abs(row))) or 1.0
+    return Flag(
+        "negative-values",
+        f"negative spectral values down to {row.min() / peak:.2%} of the peak (dark-noise); kept as measured",
+    )
+
+
+def _coarse_flag(step: float) -> Flag:
+    return Flag(
+        "coarse-step",
+        f"measured at {step:g} nm steps; CIE 15 recommends 5 nm or finer, narrow LED peaks may be misread",
+    )
+
+
+def _range_flag(lo: float, hi: float) -> Flag:
+    return Flag(
+        "range-short",
+        f"measured range {lo:g}-{hi:g} nm does not cover 380-780 nm; values outside were extrapolated "
+        "by repeating the nearest measured value",
+    )
+
+
+# --------------------------------------------------------------------------- resampling
+
+
+def _sprague_matrix(n_in: int, positions: np.ndarray) -> np.ndarray:
+    """Sprague interpolation weights for uniformly spaced data (CIE 167:2005 section 5).
+
+    ``positions`` are fractional indices into the input samples (0 .. n_in-1); the
+    result ``W`` has shape (len(positions), n_in) so that ``y_out = W @ y_in``.
+    """
+    # CIE 167:2005 Table 4: two extra points at each end, from the first/last six.
+    ext_lo = np.array([[884, -1960, 3033, -2648, 1080, -180], [508, -540, 488, -367, 144, -24]]) / 209.0
+    ext = np.zeros((n_in + 4, n_in))
+    ext[2 : n_in + 2] = np.eye(n_in)
+    ext[0, :6] = ext_lo[0]
+    ext[1, :6] = ext_lo[1]
+    ext[n_in + 3, n_in - 6 :] = ext_lo[0][::-1]
+    ext[n_in + 2, n_in - 6 :] = ext_lo[1][::-1]
+    # Sprague (1880) quintic coefficients a0..a5 from p[i-2..i+3], CIE 167:2005 eq. (5).
+    coef = (
+        np.array(
+            [
+                [0, 0, 24, 0, 0, 0],
+                [2, -16, 0, 16, -2, 0],
+                [-1, 16, -30, 16, -1, 0],
+                [-9, 39, -70, 66, -33, 7],
+                [13, -64, 126, -124, 61, -12],
+                [-5, 25, -50, 50, -25, 5],
+            ],
+            dtype=np.float64,
+        )
+        / 24.0
+    )
+    i = np.clip(np.floor(positions).astype(int), 0, n_in - 2)
+    t = positions - i
+    powers = t[:, None] ** np.arange(6)[None, :]  # (M, 6)
+    local = powers @ coef  # (M, 6) weights on p[i-2..i+3]
+    W = np.zeros((positions.shape[0], n_in))
+    for k in range(6):
+        W += local[:, k : k + 1] * ext[i + k]  # ext row i+k is p[i-2+k]
+    return W
+
+
+@lru_cache(maxsize=32)
+def _cached_matrix(wl_key: bytes, n: int) -> np.ndarray:
+    wl = np.frombuffer(wl_key, dtype=np.float64, count=n)
+    return _build_matrix(wl)
+
+
+def _build_matrix(wl: np.ndarray) -> np.ndarray:
+    target = WAVELENGTH_NM
+    clipped = np.clip(target, wl[0], wl[-1])  # constant extrapolation
+    steps = np.diff(wl)
+    uniform = np.allclose(steps, steps[0], rtol=1e-6, atol=1e-9)
+    if not (uniform and wl.shape[0] >= 6):
+        return np.empty((0, 0))  # PCHIP is not linear in the data: no matrix exists
+    W = _sprague_matrix(wl.shape[0], (clipped - wl[0]) / steps[0])
+    # Exact 1 nm samples already on the grid are copied, not re-interpolated.
+    on_grid = np.isclose(clipped[:, None], wl[None, :], rtol=0, atol=1e-9)
+    rows = on_grid.any(axis=1)
+    W[rows] = on_grid[rows].astype(np.float64)
+    W.setflags(write=False)
+    return W
+
+
+def interpolation_matrix(wavelength_nm: np.ndarray) -> np.ndarray | None:
+    """The (471, L) matrix taking values on ``wavelength_nm`` to the working grid.
+
+    ``None`` when the grid is non-uniform (PCHIP is used, which is not linear in the data).
+    """
+    wl = np.ascontiguousarray(wavelength_nm, dtype=np.float64)
+    W = _cached_matrix(wl.tobytes(), wl.shape[0])
+    return None if W.size == 0 else W
+
+
+def to_working_grid(spectra: Spectra) -> Spectra:
+    """Resample ``spectra`` to 360-830 nm at 1 nm, once, by the rules in the module docstring."""
+    if spectra.on_working_grid:
+        return spectra
+    wl = spectra.wavelength_nm
+    W = interpolation_matrix(wl)
+    if W is not None:
+        values = spectra.values @ W.T
+    else:
+        from scipy.interpolate import PchipInterpolator
+
+        clipped = np.clip(WAVELENGTH_NM, wl[0], wl[-1])
+        values = PchipInterpolator(wl, spectra.values, axis=1, extrapolate=False)(clipped)
+    flags = spectra.flags
+    lo, hi = float(wl[0]), float(wl[-1])
+    if lo > VISIBLE_BAND_NM[0] + 1e-9 or hi < VISIBLE_BAND_NM[1] - 1e-9:
+        flags = tuple(f + (_range_flag(lo, hi),) for f in flags)
+    return Spectra(
+        wavelength_nm=WAVELENGTH_NM.copy(),
+        values=values,
+        names=spectra.names,
+        quantity=spectra.quantity,
+        sources=spectra.sources,
+        sha256=spectra.sha256,
+        flags=flags,
+        measured_range_nm=spectra.measured_range_nm,
+    )
+
+
+def concatenate(items: Iterable[Spectra]) -> Spectra:
+    """Join several Spectra (each brought to the working grid) into one batch.
+
+    All items must share one radiometric quantity.
+    """
+    items = [to_working_grid(s) for s in items]
+    if not items:
+        raise InputError("no spectra given")
+    quantities = {s.quantity for s in items}
+    if len(quantities) > 1:
+        raise InputError(
+            "spectra of different quantities cannot be analysed together: "
+            + ", ".join(sorted(q.value for q in quantities))
+        )
+    return Spectra(
+        wavelength_nm=WAVELENGTH_NM.copy(),
+        values=np.concatenate([s.values for s in items]),
+        names=sum((s.names for s in items), ()),
+        quantity=items[0].quantity,
+        sources=sum((s.sources for s in items), ()),
+        sha256=sum((s.sha256 for s in items), ()),
+        flags=sum((s.flags for s in items), ()),
+        measured_range_nm=sum((s.measured_range_nm for s in items), ()),
+    )
+
+
+def sha256_of_file(path) -> str:
+    """SHA-256 hex digest of a file's bytes."""
+    h = hashlib.sha256()
+    with open(path, "rb") as fh:
+        for block in iter(lambda: fh.read(1 << 20), b""):
+            h.update(block)
+    return h.hexdigest()
