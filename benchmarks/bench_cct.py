@@ -1,0 +1,61 @@
+"""CCT/Duv throughput and accuracy: cctkit.cct_duv against colour-science, side by side, one run.
+
+Run: .venv/bin/python benchmarks/bench_cct.py [N]
+Prints points/s of each solver on the same N points and the max error against the
+exact construction (points placed at known (CCT, Duv) with the exact forward model).
+"""
+
+from __future__ import annotations
+
+import sys
+import time
+
+import numpy as np
+
+
+def best_of(fn, repeat=5):
+    times = []
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        out = fn()
+        times.append(time.perf_counter() - t0)
+    return min(times), out
+
+
+def main(n: int = 100_000) -> None:
+    import colour
+    from colour.temperature import uv_to_CCT_Ohno2013, uv_to_CCT_Robertson1968
+
+    from cctkit.cct import cct_duv
+    from cctkit.locus import uv_from_cct_duv
+
+    rng = np.random.default_rng(1)
+    T = np.exp(rng.uniform(np.log(1000), np.log(25000), n))
+    D = rng.uniform(-0.05, 0.05, n)
+    uv = uv_from_cct_duv(T, D)
+    cmfs = colour.MSDS_CMFS["CIE 1931 2 Degree Standard Observer"]
+    cct_duv(uv[:10])  # build the table once, outside the timing
+    uv_to_CCT_Ohno2013(uv[:10], cmfs)
+
+    rows = []
+    t, r = best_of(lambda: cct_duv(uv))
+    rows.append(("cctkit exact", n, t, np.nanmax(np.abs(r.cct_K - T)), np.nanmax(np.abs(r.duv - D))))
+    t, r = best_of(lambda: cct_duv(uv, method="ohno2013"), repeat=2)
+    rows.append(("cctkit ohno2013", n, t, np.nanmax(np.abs(r.cct_K - T)), np.nanmax(np.abs(r.duv - D))))
+    m = min(n, 20_000)
+    t, ref = best_of(lambda: uv_to_CCT_Ohno2013(uv[:m], cmfs), repeat=1)
+    rows.append(("colour-science Ohno 2013", m, t, np.nanmax(np.abs(ref[:, 0] - T[:m])), np.nanmax(np.abs(ref[:, 1] - D[:m]))))
+    m2 = min(n, 20_000)
+    t, ref = best_of(lambda: uv_to_CCT_Robertson1968(uv[:m2]), repeat=1)
+    rows.append(("colour-science Robertson 1968", m2, t, np.nanmax(np.abs(ref[:, 0] - T[:m2])), np.nanmax(np.abs(ref[:, 1] - D[:m2]))))
+
+    base = rows[0][1] / rows[0][2]
+    print(f"CCT/Duv on {n} points, 1000-25000 K, |Duv| <= 0.05 (best of repeated runs)")
+    print(f"{'solver':32} {'points':>8} {'points/s':>12} {'cctkit ×':>9} {'max |dT| K':>12} {'max |dDuv|':>11}")
+    for name, k, t, eT, eD in rows:
+        rate = k / t
+        print(f"{name:32} {k:8d} {rate:12.4g} {base / rate:9.1f} {eT:12.3g} {eD:11.2g}")
+
+
+if __name__ == "__main__":
+    main(int(sys.argv[1]) if len(sys.argv) > 1 else 100_000)

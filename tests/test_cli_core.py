@@ -1,0 +1,122 @@
+"""The core commands through typer's CliRunner, parsing the JSON they print."""
+
+import json
+import subprocess
+import sys
+
+import pytest
+from typer.testing import CliRunner
+
+from cctkit.cli import app
+
+runner = CliRunner()
+
+
+def run(*args):
+    return runner.invoke(app, list(args))
+
+
+def test_cct_from_xy_json():
+    r = run("cct", "--xy", "0.31272", "0.32903", "--json")
+    assert r.exit_code == 0, r.output
+    doc = json.loads(r.stdout)
+    assert doc["cct_K"] == pytest.approx(6504, abs=1)  # CIE 15:2018, D65: 6504 K
+    assert doc["duv"] == pytest.approx(0.0032, abs=1e-4)  # from memory
+
+
+def test_cct_methods_agree_on_a_datasheet_point():
+    docs = [json.loads(run("cct", "--xy", "0.4369", "0.4041", "--json", "--method", m).stdout)
+            for m in ("exact", "ohno2013", "robertson1968")]
+    # The three methods agree within their published accuracy (Ohno 2013: about 1 K; Robertson: a few K)
+    assert all(abs(d["cct_K"] - docs[0]["cct_K"]) < 2.0 for d in docs)
+    # x 0.4369, y 0.4041 lies on the locus near 3000 K  # reference library: colour-science 0.4 xy_to_CCT
+    import colour
+    import numpy as np
+
+    ref = colour.temperature.uv_to_CCT_Ohno2013(colour.xy_to_UCS_uv(np.array([0.4369, 0.4041])))
+    assert docs[0]["cct_K"] == pytest.approx(ref[0], abs=0.5) and docs[0]["duv"] == pytest.approx(ref[1], abs=1e-5)
+
+
+def test_cct_far_from_locus_is_not_reported():
+    r = run("cct", "--uv", "0.20", "0.40", "--json")
+    doc = json.loads(r.stdout)
+    assert r.exit_code == 0 and doc["cct_K"] is None and "not meaningful" in doc["warning"]
+
+
+@pytest.mark.parametrize(
+    "args, match",
+    [
+        (("cct", "--xy", "0.3", "0.3", "--uv", "0.2", "0.3"), "exactly one of"),
+        (("cct", "--xy", "0.7", "0.5"), "not a chromaticity"),
+        (("cct", "--xy", "0.3", "0.3", "--method", "mccamy"), "--method must be one of"),
+        (("cct", "--xy", "0.3"), "requires 2 arguments"),
+        (("cct", "--frobnicate"), "No such option"),
+        (("blackbody", "-5"), "No such option|T_K must be between"),
+        (("blackbody", "50"), "T_K must be between 100 and 1e6 K"),
+        (("locus", "--from", "5000", "--to", "1000"), "--from/--to must satisfy"),
+        (("locus", "--observer", "5"), "--observer must be 2 or 10"),
+    ],
+)
+def test_bad_arguments_give_one_line_and_status_2(args, match):
+    r = run(*args)
+    assert r.exit_code == 2
+    lines = [l for l in r.output.splitlines() if l.strip()]
+    assert len(lines) == 1, r.output
+    assert "Traceback" not in r.output
+    import re
+
+    assert re.search(match, lines[0]), lines[0]
+
+
+def test_blackbody_json():
+    doc = json.loads(run("blackbody", "2700", "--json").stdout)
+    assert doc["peak_nm"] == pytest.approx(2.897771955e6 / 2700, rel=1e-12)  # CODATA 2018 Wien b
+    assert doc["exitance_W_per_m2"] == pytest.approx(5.670374419e-8 * 2700**4, rel=1e-12)  # CODATA 2018 sigma
+    assert doc["cct_K"] == pytest.approx(2700, abs=1e-3)
+
+
+def test_blackbody_file_and_no_overwrite(tmp_path):
+    out = tmp_path / "bb2700.csv"
+    assert run("blackbody", "2700", "--output", str(out)).exit_code == 0
+    text = out.read_text()
+    assert text.splitlines()[1].startswith("wavelength (nm),")
+    assert len(text.splitlines()) == 2 + 471
+    before = out.read_bytes()
+    r = run("blackbody", "3000", "--output", str(out))
+    assert r.exit_code == 2 and "exists; pass --overwrite" in r.output
+    assert out.read_bytes() == before
+    assert run("blackbody", "3000", "--output", str(out), "--overwrite").exit_code == 0
+    assert out.read_bytes() != before
+
+
+def test_locus_csv(tmp_path):
+    out = tmp_path / "locus.csv"
+    r = run("locus", "--output", str(out))
+    assert r.exit_code == 0
+    lines = out.read_text().splitlines()
+    assert lines[0] == "T_K,x,y,u,v,u_prime,v_prime"
+    first = [float(v) for v in lines[1].split(",")]
+    assert first[0] == 1000.0
+    import colour
+    from colour.temperature import CCT_to_uv_Ohno2013
+
+    ref = CCT_to_uv_Ohno2013([1000.0, 0.0], colour.MSDS_CMFS["CIE 1931 2 Degree Standard Observer"])
+    assert first[3:5] == pytest.approx(list(ref), abs=1e-12)  # reference library: colour-science 0.4
+    assert not list(tmp_path.glob(".*tmp*"))  # no temporary file left behind
+
+
+def test_locus_refuses_unknown_suffix(tmp_path):
+    r = run("locus", "--output", str(tmp_path / "locus.xlsx"))
+    assert r.exit_code == 2 and "must end in .csv or .json" in r.output
+    assert not (tmp_path / "locus.xlsx").exists()
+
+
+def test_help_does_not_import_heavy_libraries():
+    code = "import sys; from cctkit.cli import app; print(sorted(m for m in ('colour','matplotlib','scipy') if m in sys.modules))"
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
+    assert out.strip() == "[]"
+
+
+def test_python_dash_m_works():
+    r = subprocess.run([sys.executable, "-m", "cctkit", "--version"], capture_output=True, text=True)
+    assert r.returncode == 0 and r.stdout.startswith("cctkit ")
