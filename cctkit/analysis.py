@@ -20,7 +20,7 @@ from .constants import C2_M_K, DUV_LIMIT, KM_LM_PER_W
 from .errors import Flag
 from .spectra import Quantity, Spectra, to_working_grid
 
-__all__ = ["Analysis", "analyse", "CONVENTIONS", "RECORD_KEYS"]
+__all__ = ["Analysis", "analyse", "analyse_groups", "provenance", "CONVENTIONS", "RECORD_KEYS"]
 
 #: The conventions every number is computed under (written into every output).
 CONVENTIONS = {
@@ -141,7 +141,7 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> A
     cct = cct_duv(uv, observer=observer)
     flags = tuple(g.flags[i] + _cct_flags(cct, i) for i in range(len(g)))
     parts: dict[str, Any] = {}
-    parts.update(_extra_measures(g, tri, uv, cct, rendering=rendering))
+    parts.update(_extra_measures(g, tri, xy, cct, observer=int(observer), rendering=rendering))
     extra_flags = parts.pop("_flags", None)
     if extra_flags is not None:
         flags = tuple(f + e for f, e in zip(flags, extra_flags))
@@ -150,9 +150,49 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> A
     )
 
 
-def _extra_measures(g: Spectra, tri, uv, cct: CctResult, *, rendering: bool) -> dict[str, Any]:
-    """Photometry, spectral shape, dominant wavelength and colour rendering (wired in as they land)."""
+def _extra_measures(g: Spectra, tri, xy, cct: CctResult, *, observer: int, rendering: bool) -> dict[str, Any]:
+    """Photometry, alpha-opic quantities, spectral shape, dominant wavelength, colour rendering."""
+    from .alphaopic import alpha_opic
+    from .dominant import dominant_wavelength
+    from .photometry import photometry
+    from .shape import spectral_shape
+
+    V = g.values
+    parts: dict[str, Any] = {
+        "photometry": photometry(V, g.quantity),
+        "alphaopic": alpha_opic(V, g.quantity),
+        "shape": spectral_shape(V),
+        "dominant": dominant_wavelength(xy, observer=observer),
+    }
+    if rendering:
+        parts.update(_rendering(V, cct))
+    return parts
+
+
+def _rendering(V: np.ndarray, cct: CctResult) -> dict[str, Any]:
     return {}
+
+
+def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True) -> list[dict[str, Any]]:
+    """Records for several Spectra that may differ in quantity, in input order.
+
+    Spectra of one quantity are joined and analysed as one batch (vectorised); the
+    records come back in the order of ``items``.
+    """
+    from .spectra import concatenate
+
+    order: dict[Quantity, list[int]] = {}
+    for i, s in enumerate(items):
+        order.setdefault(s.quantity, []).append(i)
+    per_item: dict[int, list[dict[str, Any]]] = {}
+    for idx in order.values():
+        recs = analyse(concatenate([items[i] for i in idx]), observer=observer, rendering=rendering).records()
+        pos = 0
+        for i in idx:
+            n = len(items[i])
+            per_item[i] = recs[pos : pos + n]
+            pos += n
+    return [r for i in range(len(items)) for r in per_item[i]]
 
 
 def provenance() -> dict[str, Any]:

@@ -21,7 +21,7 @@ from ..errors import CctkitError
 
 __all__ = ["app", "main"]
 
-_COMMAND_MODULES = ("core",)
+_COMMAND_MODULES = ("core", "verify")
 
 
 class _OneLineErrors(TyperGroup):

@@ -57,7 +57,10 @@ def _fmt(value: Any, fmt: str) -> str:
     if value is None:
         return "n/a"
     if isinstance(value, float):
-        return fmt.format(value)
+        text = fmt.format(value)
+        if text.startswith("-") and float(text) == 0.0:
+            text = ("+" if "+" in fmt else "") + text[1:]  # no "-0.0000"
+        return text
     return str(value)
 
 
@@ -79,12 +82,12 @@ def format_records(records: list[dict[str, Any]]) -> str:
 
 
 def load_many(files: List[Path], quantity: Optional[str]):
+    """Read every file (each may hold several spectra); a list of Spectra in input order."""
     from ..readers import read_spectra
-    from ..spectra import concatenate
 
     if not files:
         raise InputError("no input files given")
-    return concatenate([read_spectra(f, quantity=quantity) for f in files])
+    return [read_spectra(f, quantity=quantity) for f in files]
 
 
 def inspect_cmd(
@@ -96,7 +99,7 @@ def inspect_cmd(
     overwrite: bool = OVERWRITE_OPTION,
 ) -> None:
     """Every measure for each spectrum: CCT, Duv, chromaticity, photometry, colour rendering."""
-    from ..analysis import analyse, provenance
+    from ..analysis import analyse_groups, provenance
     from ..spectra import Quantity
 
     obs = parse_observer(observer)
@@ -104,8 +107,7 @@ def inspect_cmd(
         Quantity.parse(quantity, source="--quantity")
     if output is not None:
         require_suffix(output, (".json", ".csv"))
-    spectra = load_many(files, quantity)
-    records = analyse(spectra, observer=obs).records()
+    records = analyse_groups(load_many(files, quantity), observer=obs)
     doc = {**provenance(), "spectra": records}
     if output is not None:
         if output.suffix.lower() == ".json":

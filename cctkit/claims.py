@@ -1,0 +1,608 @@
+"""Supplier claims, written as a small TOML file, checked against measured results.
+
+A claims file is meant to be typed from a datasheet in two minutes::
+
+    [claims]                      # who and what
+    supplier = "Northbeam Lighting"
+    product = "NB-Downlight 12 3000K"
+
+    [limits]                      # any measured metric, with min and/or max
+    Ra = { min = 90 }
+    R9 = { min = 50 }
+    luminous_flux_lm = { min = 1200 }
+    efficacy_lm_per_W = { min = 110 }    # needs [samples] power
+
+    [chromaticity]                # optional
+    nominal_cct_K = 3000
+    ansi_quadrangle = true        # inside the ANSI C78.377 quadrangle of nominal_cct_K
+    max_sdcm = 3                  # within 3 SDCM steps
+    sdcm_centre = "iec"           # "iec" (IEC 60081 lamp ellipse) or "ansi" (see below)
+
+    [uncertainty]                 # optional expanded uncertainties U (k = 2), same units
+    Ra = 1.0
+    luminous_flux_lm = 36
+
+    [samples]                     # per-sample inputs a spectrum cannot carry
+    power_W = 10.5                # one value for every sample, or
+    sidecar = "powers.csv"        # columns name,power_W[,declared_id], relative to this file;
+                                  # lines starting with "#" are comments
+
+Metric names are the keys of the per-spectrum record (``cctkit inspect --json``)
+plus ``R1`` ... ``R14``, ``efficacy_lm_per_W`` (luminous flux / electrical power)
+and ``power_W``.  ``sdcm`` and ``ansi_quadrangle`` checks come from
+``[chromaticity]``.
+
+Decision rules
+--------------
+Without an uncertainty the rule is simple acceptance: a value passes when it is
+within its limits (limits included).  When ``[uncertainty]`` gives U for a
+metric, a guard band applies, as in ISO 14253-1 and ILAC G8:09 (non-binary
+statement).  The check passes when the value is inside the limit by at least U.
+It fails when the value is outside by at least U.  Anything in between is
+"inconclusive".  A sample's verdict, and the overall verdict, is "fail" if any
+check fails.  Otherwise it is "inconclusive" if any check is inconclusive, and
+"pass" if not.  A value the measurement could not give (NaN, e.g. CCT where
+|Duv| > 0.05, or Ra of an invalid rendering) fails its check: conformance is
+not shown.
+
+SDCM centre
+-----------
+``sdcm_centre = "iec"`` (the default where the nominal CCT has one: 2700, 3000,
+3500, 4000, 5000, 6500 K) measures steps from the IEC 60081 Annex D lamp
+chromaticity with that lamp's ellipse, the classic meaning of "n-step MacAdam".
+``"ansi"`` measures from the ANSI C78.377 quadrangle centre with MacAdam's
+(1942) ellipse interpolated there (see :mod:`cctkit.tolerance`).
+"""
+
+from __future__ import annotations
+
+import csv
+import difflib
+import math
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Mapping
+
+import numpy as np
+
+from .errors import InputError
+
+__all__ = [
+    "Limit",
+    "ChromaticityClaim",
+    "Claims",
+    "Check",
+    "SampleVerdict",
+    "Verdict",
+    "METRICS",
+    "load_claims",
+    "parse_claims",
+    "verify",
+]
+
+# Scalar keys of the per-spectrum record (the lead's record contract), plus names
+# derived here.  Radiant and photon totals carry their quantity in the name.
+_RECORD_METRICS = (
+    "cct_K", "duv", "x", "y", "u", "v", "u_prime", "v_prime", "X", "Y", "Z",
+    "luminous_flux_lm", "illuminance_lx", "luminance_cd_per_m2", "intensity_cd",
+    "radiant_total_W", "radiant_total_W_per_m2", "radiant_total_W_per_sr_m2", "radiant_total_W_per_sr",
+    "ler_lm_per_W", "sp_ratio", "melanopic_der", "melanopic_edi_lx",
+    "peak_nm", "centroid_nm", "fwhm_nm", "dominant_wavelength_nm", "purity",
+    "photon_flux_umol_per_s", "photon_flux_umol_per_m2_s", "photon_flux_umol_per_sr_m2_s", "photon_flux_umol_per_sr_s",
+    "ppf_umol_per_s", "ppfd_umol_per_m2_s", "ppf_umol_per_sr_m2_s", "ppf_umol_per_sr_s",
+    "Ra", "Rf", "Rg",
+)
+_DERIVED = ("efficacy_lm_per_W", "power_W")
+METRICS: tuple[str, ...] = _RECORD_METRICS + tuple(f"R{i}" for i in range(1, 15)) + _DERIVED
+_CHROMA_METRICS = ("sdcm", "ansi_quadrangle")
+
+_SECTIONS = ("claims", "limits", "chromaticity", "uncertainty", "samples")
+_CLAIMS_KEYS = ("supplier", "product", "description", "reference", "date")
+_CHROMA_KEYS = ("nominal_cct_K", "ansi_quadrangle", "max_sdcm", "sdcm_centre")
+_SAMPLES_KEYS = ("power_W", "sidecar")
+_IEC_NOMINALS = (2700, 3000, 3500, 4000, 5000, 6500)
+
+
+@dataclass(frozen=True)
+class Limit:
+    """An acceptance interval for one metric; either end may be open (None)."""
+
+    metric: str
+    min: float | None = None
+    max: float | None = None
+
+
+@dataclass(frozen=True)
+class ChromaticityClaim:
+    """Chromaticity claims tied to a nominal CCT."""
+
+    nominal_cct_K: int
+    ansi_quadrangle: bool = False
+    max_sdcm: float | None = None
+    sdcm_centre: str = "iec"
+
+
+@dataclass(frozen=True)
+class Claims:
+    """A parsed claims file.
+
+    ``power_W`` maps sample name to electrical power [W]; the key ``"*"`` holds
+    a value that applies to every sample.  ``declared_id`` maps sample name to
+    the supplier's identifier from the sidecar.
+    """
+
+    source: str
+    supplier: str = ""
+    product: str = ""
+    limits: tuple[Limit, ...] = ()
+    chromaticity: ChromaticityClaim | None = None
+    uncertainty: Mapping[str, float] = field(default_factory=dict)
+    power_W: Mapping[str, float] = field(default_factory=dict)
+    declared_id: Mapping[str, str] = field(default_factory=dict)
+
+    @property
+    def metrics(self) -> tuple[str, ...]:
+        """The metrics checked, in file order (limits first, then chromaticity)."""
+        names = [lim.metric for lim in self.limits]
+        if self.chromaticity is not None:
+            if self.chromaticity.ansi_quadrangle:
+                names.append("ansi_quadrangle")
+            if self.chromaticity.max_sdcm is not None:
+                names.append("sdcm")
+        return tuple(names)
+
+
+# ------------------------------------------------------------------ parsing
+
+
+def _suggest(word: str, choices) -> str:
+    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.5)
+    if not close:
+        close = [c for c in choices if c.lower() == word.lower()]
+    return f"; did you mean {close[0]!r}?" if close else ""
+
+
+def _number(value: Any, where: str, source: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise InputError(f"{where}: expected a number, got {value!r}", source=source)
+    v = float(value)
+    if not math.isfinite(v):
+        raise InputError(f"{where}: expected a finite number, got {value!r}", source=source)
+    return v
+
+
+def _check_keys(table: Mapping, allowed, where: str, source: str) -> None:
+    for key in table:
+        if key not in allowed:
+            raise InputError(f"{where}: unknown key {key!r}{_suggest(key, allowed)}", source=source)
+
+
+def _table(doc: Mapping, name: str, source: str) -> Mapping:
+    value = doc.get(name, {})
+    if not isinstance(value, Mapping):
+        raise InputError(f"[{name}] must be a table, got {value!r}", source=source)
+    return value
+
+
+def load_claims(path: str | Path) -> Claims:
+    """Read and check a claims TOML file (see the module docstring for its layout)."""
+    p = Path(path)
+    source = str(p)
+    try:
+        raw = p.read_bytes()
+    except OSError as exc:
+        raise InputError(f"cannot read claims file ({exc.strerror or exc})", source=source) from None
+    try:
+        doc = tomllib.loads(raw.decode("utf-8"))
+    except UnicodeDecodeError:
+        raise InputError("claims file is not UTF-8 text", source=source) from None
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"not valid TOML ({exc})", source=source) from None
+    return parse_claims(doc, source=source, base_dir=p.parent)
+
+
+def parse_claims(doc: Mapping[str, Any], *, source: str = "<claims>", base_dir: str | Path = ".") -> Claims:
+    """Check a claims mapping (as parsed from TOML) and build :class:`Claims`."""
+    _check_keys(doc, _SECTIONS, "top level", source)
+
+    head = _table(doc, "claims", source)
+    _check_keys(head, _CLAIMS_KEYS, "[claims]", source)
+    for key, value in head.items():
+        if not isinstance(value, str):
+            raise InputError(f"[claims] {key}: expected text, got {value!r}", source=source)
+
+    limits: list[Limit] = []
+    for metric, spec in _table(doc, "limits", source).items():
+        where = f"[limits] {metric}"
+        if metric not in METRICS:
+            hint = _suggest(metric, METRICS + _CHROMA_METRICS)
+            if metric in _CHROMA_METRICS:
+                hint = "; chromaticity claims belong in [chromaticity]"
+            raise InputError(f"{where}: unknown metric{hint}", source=source)
+        if not isinstance(spec, Mapping):
+            raise InputError(f"{where}: expected a table like {{ min = 90 }}, got {spec!r}", source=source)
+        _check_keys(spec, ("min", "max"), where, source)
+        if not spec:
+            raise InputError(f"{where}: give min, max or both", source=source)
+        lo = _number(spec["min"], f"{where}.min", source) if "min" in spec else None
+        hi = _number(spec["max"], f"{where}.max", source) if "max" in spec else None
+        if lo is not None and hi is not None and lo > hi:
+            raise InputError(f"{where}: inverted range, min {lo:g} > max {hi:g}", source=source)
+        limits.append(Limit(metric, lo, hi))
+
+    chroma = _parse_chromaticity(_table(doc, "chromaticity", source), source)
+
+    uncertainty: dict[str, float] = {}
+    checked = {lim.metric for lim in limits}
+    if chroma is not None:
+        checked |= {m for m, on in (("ansi_quadrangle", chroma.ansi_quadrangle), ("sdcm", chroma.max_sdcm is not None)) if on}
+    for metric, value in _table(doc, "uncertainty", source).items():
+        where = f"[uncertainty] {metric}"
+        if metric not in METRICS + _CHROMA_METRICS:
+            raise InputError(f"{where}: unknown metric{_suggest(metric, METRICS + _CHROMA_METRICS)}", source=source)
+        if metric not in checked:
+            raise InputError(f"{where}: no claim on this metric to apply it to", source=source)
+        u = _number(value, where, source)
+        if u < 0:
+            raise InputError(f"{where}: an uncertainty cannot be negative, got {u:g}", source=source)
+        uncertainty[metric] = u
+
+    power, declared = _parse_samples(_table(doc, "samples", source), source, Path(base_dir))
+    needs_power = [m for m in ("efficacy_lm_per_W", "power_W") if m in checked]
+    if needs_power and not power:
+        raise InputError(
+            f"[limits] {needs_power[0]}: needs the electrical power; give [samples] power_W or sidecar",
+            source=source,
+        )
+    if not limits and chroma is None:
+        raise InputError("no claims to check: add a [limits] or [chromaticity] table", source=source)
+    return Claims(
+        source=source,
+        supplier=head.get("supplier", ""),
+        product=head.get("product", ""),
+        limits=tuple(limits),
+        chromaticity=chroma,
+        uncertainty=uncertainty,
+        power_W=power,
+        declared_id=declared,
+    )
+
+
+def _parse_chromaticity(table: Mapping, source: str) -> ChromaticityClaim | None:
+    if not table:
+        return None
+    from .tolerance import ANSI_NOMINAL_CCTS_K
+
+    _check_keys(table, _CHROMA_KEYS, "[chromaticity]", source)
+    if "nominal_cct_K" not in table:
+        raise InputError("[chromaticity] nominal_cct_K: missing (e.g. nominal_cct_K = 3000)", source=source)
+    nominal = _number(table["nominal_cct_K"], "[chromaticity] nominal_cct_K", source)
+    if nominal not in ANSI_NOMINAL_CCTS_K:
+        allowed = ", ".join(str(n) for n in ANSI_NOMINAL_CCTS_K)
+        raise InputError(f"[chromaticity] nominal_cct_K: {nominal:g} K is not an ANSI C78.377 category; "
+                         f"expected one of {allowed}", source=source)
+    quad = table.get("ansi_quadrangle", False)
+    if not isinstance(quad, bool):
+        raise InputError(f"[chromaticity] ansi_quadrangle: expected true or false, got {quad!r}", source=source)
+    max_sdcm = None
+    if "max_sdcm" in table:
+        max_sdcm = _number(table["max_sdcm"], "[chromaticity] max_sdcm", source)
+        if max_sdcm <= 0:
+            raise InputError(f"[chromaticity] max_sdcm: must be positive, got {max_sdcm:g}", source=source)
+    default_centre = "iec" if int(nominal) in _IEC_NOMINALS else "ansi"
+    centre = table.get("sdcm_centre", default_centre)
+    if centre not in ("iec", "ansi"):
+        raise InputError(f"[chromaticity] sdcm_centre: expected \"iec\" or \"ansi\", got {centre!r}", source=source)
+    if centre == "iec" and int(nominal) not in _IEC_NOMINALS:
+        raise InputError(f"[chromaticity] sdcm_centre: IEC 60081 has no {int(nominal)} K lamp ellipse; "
+                         f"use \"ansi\"", source=source)
+    if not quad and max_sdcm is None:
+        raise InputError("[chromaticity]: set ansi_quadrangle = true and/or max_sdcm", source=source)
+    return ChromaticityClaim(int(nominal), quad, max_sdcm, centre)
+
+
+def _parse_samples(table: Mapping, source: str, base_dir: Path) -> tuple[dict[str, float], dict[str, str]]:
+    _check_keys(table, _SAMPLES_KEYS, "[samples]", source)
+    if "power_W" in table and "sidecar" in table:
+        raise InputError("[samples]: give power_W or sidecar, not both", source=source)
+    if "power_W" in table:
+        p = _number(table["power_W"], "[samples] power_W", source)
+        if p <= 0:
+            raise InputError(f"[samples] power_W: must be positive, got {p:g}", source=source)
+        return {"*": p}, {}
+    if "sidecar" not in table:
+        return {}, {}
+    name = table["sidecar"]
+    if not isinstance(name, str) or not name:
+        raise InputError(f"[samples] sidecar: expected a file name, got {name!r}", source=source)
+    path = Path(name) if Path(name).is_absolute() else base_dir / name
+    return _read_sidecar(path, f"{source}: [samples] sidecar")
+
+
+def _read_sidecar(path: Path, where: str) -> tuple[dict[str, float], dict[str, str]]:
+    src = str(path)
+    try:
+        text = path.read_text(encoding="utf-8-sig")
+    except OSError as exc:
+        raise InputError(f"cannot read sidecar ({exc.strerror or exc}), named in {where}", source=src) from None
+    except UnicodeDecodeError:
+        raise InputError("sidecar is not UTF-8 text", source=src) from None
+    # Line numbers are kept for messages; blank lines and lines starting with "#" are skipped.
+    numbered = [(n, line) for n, line in enumerate(text.splitlines(), start=1)
+                if line.strip() and not line.lstrip().startswith("#")]
+    rows = [(n, r) for n, r in zip((n for n, _ in numbered), csv.reader(line for _, line in numbered))]
+    if not rows:
+        raise InputError("sidecar is empty; expected columns name,power_W[,declared_id]", source=src)
+    head_line, head = rows[0]
+    header = [c.strip() for c in head]
+    for col in ("name", "power_W"):
+        if col not in header:
+            raise InputError(f"sidecar has no {col!r} column{_suggest(col, header)}; "
+                             f"expected columns name,power_W[,declared_id]", source=src, line=head_line)
+    i_name, i_p = header.index("name"), header.index("power_W")
+    i_id = header.index("declared_id") if "declared_id" in header else None
+    power: dict[str, float] = {}
+    declared: dict[str, str] = {}
+    for lineno, row in rows[1:]:
+        if len(row) < len(header):
+            raise InputError(f"expected {len(header)} columns, got {len(row)}", source=src, line=lineno)
+        nm = row[i_name].strip()
+        if not nm:
+            raise InputError("empty sample name", source=src, line=lineno)
+        if nm in power:
+            raise InputError(f"sample {nm!r} listed twice", source=src, line=lineno)
+        try:
+            p = float(row[i_p])
+        except ValueError:
+            raise InputError(f"power_W {row[i_p]!r} is not a number", source=src, line=lineno) from None
+        if not (math.isfinite(p) and p > 0):
+            raise InputError(f"power_W must be a positive number, got {row[i_p]!r}", source=src, line=lineno)
+        power[nm] = p
+        if i_id is not None:
+            declared[nm] = row[i_id].strip()
+    if not power:
+        raise InputError("sidecar lists no samples", source=src)
+    return power, declared
+
+
+# ------------------------------------------------------------------ verdicts
+
+
+@dataclass(frozen=True)
+class Check:
+    """One metric of one sample against its claim.
+
+    ``margin`` is how far the value is inside the limits (negative outside), in
+    the metric's unit; for ``ansi_quadrangle`` it is the distance in CIE 1960 uv
+    to the nearest quadrangle edge and ``value`` is the quadrangle found.
+    ``result`` is "pass", "fail" or "inconclusive"; ``uncertainty`` the U of a
+    guard band (None under simple acceptance).
+    """
+
+    metric: str
+    value: float | str | None
+    min: float | None
+    max: float | None
+    margin: float | None
+    result: str
+    uncertainty: float | None = None
+
+    def as_dict(self) -> dict[str, Any]:
+        d = {
+            "metric": self.metric,
+            "value": self.value,
+            "min": self.min,
+            "max": self.max,
+            "margin": self.margin,
+            "pass": None if self.result == "inconclusive" else self.result == "pass",
+        }
+        if self.uncertainty is not None:
+            d["decision"] = {"rule": "guard-band", "U": self.uncertainty, "result": self.result}
+        return d
+
+
+@dataclass(frozen=True)
+class SampleVerdict:
+    name: str
+    verdict: str
+    checks: tuple[Check, ...]
+    declared_id: str | None = None
+
+    def as_dict(self) -> dict[str, Any]:
+        d: dict[str, Any] = {"name": self.name, "verdict": self.verdict, "checks": [c.as_dict() for c in self.checks]}
+        return d
+
+
+@dataclass(frozen=True)
+class Verdict:
+    """The outcome of :func:`verify`: overall verdict, per-sample checks, per-metric summary."""
+
+    verdict: str
+    samples: tuple[SampleVerdict, ...]
+    summary: Mapping[str, Mapping[str, float | int | None]]
+    guard_band: bool
+    claims: Claims
+
+    def as_dict(self) -> dict[str, Any]:
+        d: dict[str, Any] = {
+            "verdict": self.verdict,
+            "samples": [s.as_dict() for s in self.samples],
+            "summary": {k: dict(v) for k, v in self.summary.items()},
+        }
+        if self.guard_band:
+            d["decision"] = "guard-band (ISO 14253-1, ILAC G8); simple acceptance where no U is given"
+        return d
+
+
+def _combine(results) -> str:
+    results = list(results)
+    if "fail" in results:
+        return "fail"
+    if "inconclusive" in results:
+        return "inconclusive"
+    return "pass"
+
+
+def _decide(margin: float | None, U: float | None) -> str:
+    if margin is None or not math.isfinite(margin):
+        return "fail"
+    if not U:
+        return "pass" if margin >= 0 else "fail"
+    if margin >= U:
+        return "pass"
+    if margin <= -U:
+        return "fail"
+    return "inconclusive"
+
+
+def _finite(v) -> float | None:
+    if v is None or isinstance(v, bool):
+        return None
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        return None
+    return f if math.isfinite(f) else None
+
+
+def _record_value(rec: Mapping, metric: str, claims: Claims, name: str) -> float | None:
+    if metric == "power_W" or metric == "efficacy_lm_per_W":
+        power = claims.power_W.get(name, claims.power_W.get("*"))
+        if power is None:
+            raise InputError(f"no power_W for sample {name!r} in the sidecar", source=claims.source)
+        if metric == "power_W":
+            return power
+        flux = _need(rec, "luminous_flux_lm", claims, name, why="efficacy_lm_per_W")
+        f = _finite(flux)
+        return None if f is None else f / power
+    if metric in rec:
+        return _finite(rec[metric])
+    if metric[0] == "R" and metric[1:].isdigit() and "R" in rec:
+        values = rec["R"]
+        i = int(metric[1:]) - 1
+        if values is None:
+            return None
+        return _finite(values[i]) if i < len(values) else None
+    _need(rec, metric, claims, name)
+    return None  # pragma: no cover - _need raised
+
+
+def _need(rec: Mapping, key: str, claims: Claims, name: str, *, why: str | None = None):
+    if key not in rec:
+        reason = f" (for {why})" if why else ""
+        quantity = rec.get("quantity")
+        kind = f" (a {quantity} spectrum)" if quantity else ""
+        raise InputError(f"claim needs {key}{reason} but sample {name!r}{kind} has none", source=claims.source)
+    return rec[key]
+
+
+def _limit_check(metric: str, value: float | None, lo: float | None, hi: float | None, U: float | None) -> Check:
+    margin = None
+    if value is not None:
+        sides = []
+        if lo is not None:
+            sides.append(value - lo)
+        if hi is not None:
+            sides.append(hi - value)
+        margin = min(sides)
+    return Check(metric, value, lo, hi, margin, _decide(margin, U), U)
+
+
+def _chroma_checks(records: list[Mapping], claims: Claims) -> list[list[Check]]:
+    """Chromaticity checks for every record at once, vectorised over samples."""
+    from . import tolerance as tol
+
+    c = claims.chromaticity
+    out: list[list[Check]] = [[] for _ in records]
+    if c is None:
+        return out
+    xy = np.array([[_nan_if_none(_finite(_need(r, k, claims, _name(r, i)))) for k in ("x", "y")]
+                   for i, r in enumerate(records)], dtype=np.float64).reshape(-1, 2)
+    if c.ansi_quadrangle:
+        quad = tol.ansi_quadrangle(c.nominal_cct_K)
+        found = tol.classify_ansi(xy, space="xy")
+        margin = tol.edge_margin_uv(xy, quad, space="xy")
+        U = claims.uncertainty.get("ansi_quadrangle")
+        for i in range(len(records)):
+            m = _finite(margin[i])
+            out[i].append(Check("ansi_quadrangle", found[i], None, None, m, _decide(m, U), U))
+    if c.max_sdcm is not None:
+        if c.sdcm_centre == "iec":
+            e = tol.iec60081_ellipse(c.nominal_cct_K)
+        else:
+            e = tol.macadam1942_ellipse(tol.ansi_quadrangle(c.nominal_cct_K).centre_xy)
+        steps = e.steps(xy)
+        U = claims.uncertainty.get("sdcm")
+        for i in range(len(records)):
+            s = _finite(steps[i])
+            out[i].append(_limit_check("sdcm", s, None, c.max_sdcm, U))
+    return out
+
+
+def _nan_if_none(v: float | None) -> float:
+    return np.nan if v is None else v
+
+
+def _name(rec: Mapping, i: int) -> str:
+    return str(rec.get("name", f"sample {i + 1}"))
+
+
+def _summary(samples: list[SampleVerdict], metrics: tuple[str, ...]) -> dict[str, dict[str, Any]]:
+    summary: dict[str, dict[str, Any]] = {}
+    for j, metric in enumerate(metrics):
+        checks = [s.checks[j] for s in samples]
+        # For the quadrangle the value is a name; its statistics are of the uv margin.
+        nums = np.array([
+            (ch.margin if metric == "ansi_quadrangle" else ch.value) for ch in checks
+            if _finite(ch.margin if metric == "ansi_quadrangle" else ch.value) is not None
+        ], dtype=np.float64)
+        n = nums.size
+        summary[metric] = {
+            "count_pass": sum(ch.result == "pass" for ch in checks),
+            "mean": float(nums.mean()) if n else None,
+            "std": float(nums.std(ddof=1)) if n >= 2 else None,
+            "min": float(nums.min()) if n else None,
+            "max": float(nums.max()) if n else None,
+        }
+    return summary
+
+
+def verify(records: list[Mapping[str, Any]], claims: Claims) -> Verdict:
+    """Check measured records (from ``Analysis.records()``) against ``claims``.
+
+    Each sample gets one :class:`Check` per claimed metric, in the order of
+    :attr:`Claims.metrics`.  ``summary`` gives, per metric, the number of samples
+    that pass, and the mean, sample standard deviation (ddof = 1; None for
+    fewer than two values), minimum and maximum of the values.  For
+    ``ansi_quadrangle`` these statistics are of the uv edge margin.
+
+    Raises
+    ------
+    InputError
+        No records, or a claim needs a quantity a record does not have (for
+        example luminous flux of a relative spectrum, or a sample missing from
+        the power sidecar).
+    """
+    records = list(records)
+    if not records:
+        raise InputError("no samples to verify", source=claims.source)
+    chroma = _chroma_checks(records, claims)
+    samples = []
+    for i, rec in enumerate(records):
+        name = _name(rec, i)
+        checks = [
+            _limit_check(lim.metric, _record_value(rec, lim.metric, claims, name), lim.min, lim.max,
+                         claims.uncertainty.get(lim.metric))
+            for lim in claims.limits
+        ]
+        checks += chroma[i]
+        samples.append(SampleVerdict(name, _combine(c.result for c in checks), tuple(checks),
+                                     claims.declared_id.get(name)))
+    return Verdict(
+        verdict=_combine(s.verdict for s in samples),
+        samples=tuple(samples),
+        summary=_summary(samples, claims.metrics),
+        guard_band=bool(claims.uncertainty),
+        claims=claims,
+    )

@@ -1,0 +1,231 @@
+"""Commands about reference illuminants: ``versus`` (a spectrum against its reference) and ``reference``.
+
+``cctkit versus FILE`` reads the spectra in FILE, finds each one's CCT, builds the
+reference illuminant of that CCT (CIE 224 by default, or CIE 13.3) and reports how
+the test departs from it: per wavelength (both scaled to Y = 100), and per colour
+sample (CAM02-UCS difference and hue shift of the 99 CIE 224 samples, U*V*W*
+difference of the 14 CIE 13.3 samples).
+
+``cctkit reference CCT_K`` builds the reference spectrum of a CCT and writes it to a
+file that ``cctkit`` itself can read back.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any, Optional
+
+import typer
+
+from ..errors import InputError
+from .options import (
+    JSON_OPTION,
+    OVERWRITE_OPTION,
+    QUANTITY_HELP,
+    csv_text,
+    dumps,
+    emit_json,
+    info,
+    require_suffix,
+    write_output,
+)
+
+METHOD_HELP = "Reference illuminant: cie224 (CIE 224:2017 / TM-30: Planckian, blend 4000-5000 K, daylight) or cie13.3 (Planckian below 5000 K, daylight from 5000 K)."
+_T_RANGE_K = (1000.0, 25000.0)
+
+
+def _method(value: str) -> str:
+    from ..rendering import canonical_method
+
+    try:
+        return canonical_method(value)
+    except ValueError:
+        raise InputError(f"--method must be cie224 or cie13.3, got {value!r}") from None
+
+
+def _worst(values, labels, count: int = 3) -> list[tuple[str, float]]:
+    import numpy as np
+
+    order = np.argsort(-np.nan_to_num(values, nan=-np.inf))[:count]
+    return [(labels[i], float(values[i])) for i in order]
+
+
+def versus_cmd(
+    file: Path = typer.Argument(..., help="Spectrum file (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    method: str = typer.Option("cie224", "--method", "-m", help=METHOD_HELP),
+    quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
+    cct: Optional[float] = typer.Option(None, "--cct", help="Use this CCT [K] for every spectrum instead of computing it."),
+    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the per-wavelength comparison to FILE (.csv)."),
+    overwrite: bool = OVERWRITE_OPTION,
+    json_out: bool = JSON_OPTION,
+) -> None:
+    """Each spectrum in FILE against the reference illuminant of its CCT, per wavelength and per sample."""
+    import numpy as np
+
+    from ..cct import cct_duv
+    from ..colorimetry import XYZ, XYZ_to_uv
+    from ..readers import read_spectra
+    from ..rendering import cie13_3, compare_to_reference, tm30
+    from ..spectra import to_working_grid
+
+    ref_method = _method(method)
+    if output is not None:
+        require_suffix(output, (".csv",))
+    spectra = to_working_grid(read_spectra(file, quantity=quantity))
+    values = spectra.values
+    n = values.shape[0]
+    res = cct_duv(XYZ_to_uv(XYZ(values)))
+    duv = np.asarray(res.duv, dtype=float)
+    if cct is not None:
+        if not np.isfinite(cct) or not (_T_RANGE_K[0] <= cct <= _T_RANGE_K[1]):
+            raise InputError(f"--cct must be between {_T_RANGE_K[0]:g} and {_T_RANGE_K[1]:g} K, got {cct:g}")
+        T = np.full(n, float(cct))
+    else:
+        T = np.asarray(res.cct_K, dtype=float).copy()
+        outside = ~(np.isfinite(T) & (T >= _T_RANGE_K[0]) & (T <= _T_RANGE_K[1]) & (np.abs(duv) <= 0.05))
+        for i in np.flatnonzero(outside):
+            info(
+                f"warning: {spectra.names[i]}: CCT {T[i]:.0f} K / Duv {duv[i]:+.4f} is outside "
+                f"{_T_RANGE_K[0]:g}-{_T_RANGE_K[1]:g} K or |Duv| <= 0.05; no reference, results left empty"
+            )
+        T[outside] = np.nan
+
+    comp = compare_to_reference(values, T, method=ref_method)
+    cri = cie13_3(values, T)
+    t30 = tm30(values, T)
+
+    ces_labels = [f"CES{i + 1:02d}" for i in range(comp.ces_dE.shape[1])]
+    docs: list[dict[str, Any]] = []
+    for i in range(n):
+        with np.errstate(invalid="ignore"):
+            dev = np.nanmax(np.abs(comp.difference[i])) if np.isfinite(comp.difference[i]).any() else np.nan
+            at = int(np.nanargmax(np.abs(comp.difference[i]))) if np.isfinite(dev) else None
+        docs.append({
+            "name": spectra.names[i],
+            "source": spectra.sources[i],
+            "sha256": spectra.sha256[i],
+            "cct_K": T[i],
+            "duv": duv[i],
+            "method": ref_method,
+            "reference": comp.reference_kind[i],
+            "Ra": cri.Ra[i],
+            "R": cri.R[i],
+            "cri_valid": bool(cri.valid[i]),
+            "dc": cri.dc[i],
+            "Rf": t30.Rf[i],
+            "Rg": t30.Rg[i],
+            "largest_difference_Y100": dev,
+            "largest_difference_at_nm": None if at is None else float(comp.wavelength_nm[at]),
+            "tcs_dE": comp.tcs_dE[i],
+            "ces_dE": comp.ces_dE[i],
+            "ces_hue_shift_deg": comp.ces_hue_shift_deg[i],
+            "flags": [f.as_dict() for f in spectra.flags[i]],
+        })
+
+    if output is not None:
+        header = ["wavelength_nm"]
+        columns = [comp.wavelength_nm]
+        for i, name in enumerate(spectra.names):
+            header += [f"{name}: test (Y=100)", f"{name}: reference (Y=100)", f"{name}: difference", f"{name}: ratio"]
+            columns += [comp.test[i], comp.reference[i], comp.difference[i], comp.ratio[i]]
+        rows = zip(*[c.tolist() for c in columns])
+        write_output(output, csv_text(header, rows), overwrite=overwrite, inputs=[file])
+
+    if json_out:
+        emit_json({"method": ref_method, "wavelength_nm": comp.wavelength_nm, "spectra": [
+            dict(d, test_Y100=comp.test[i], reference_Y100=comp.reference[i], ratio=comp.ratio[i])
+            for i, d in enumerate(docs)
+        ]})
+        return
+    for d in docs:
+        typer.echo(f"{d['name']}  against its {ref_method} reference ({d['reference']})")
+        if not np.isfinite(d["cct_K"]):
+            typer.echo("  no reference: CCT not available")
+            typer.echo("")
+            continue
+        typer.echo(f"  {'CCT':<30} {d['cct_K']:10.0f}  K")
+        typer.echo(f"  {'Duv':<30} {d['duv']:+10.4f}")
+        valid = "" if d["cri_valid"] else "  (DC >= 5.4e-3: CIE 13.3 result not meaningful)"
+        typer.echo(f"  {'Ra (CIE 13.3)':<30} {d['Ra']:10.1f}{valid}")
+        typer.echo(f"  {'R9':<30} {d['R'][8]:10.1f}")
+        typer.echo(f"  {'Rf / Rg (CIE 224, TM-30)':<30} {d['Rf']:6.1f} /{d['Rg']:5.1f}")
+        if d["largest_difference_at_nm"] is not None:
+            typer.echo(
+                f"  {'largest spectral difference':<30} {d['largest_difference_Y100']:10.3g}  at "
+                f"{d['largest_difference_at_nm']:.0f} nm (both scaled to Y = 100)"
+            )
+        worst = _worst(np.asarray(d["ces_dE"]), ces_labels)
+        shifts = np.asarray(d["ces_hue_shift_deg"])
+        text = ", ".join(
+            f"{lab} dE' {val:.1f} (hue {shifts[ces_labels.index(lab)]:+.1f} deg)" for lab, val in worst
+        )
+        typer.echo(f"  {'most changed samples':<30} {text}")
+        tcs = _worst(np.asarray(d["tcs_dE"]), [f"TCS{i + 1:02d}" for i in range(14)], 2)
+        typer.echo(f"  {'most changed CIE 13.3 samples':<30} " + ", ".join(f"{lab} dE {v:.1f}" for lab, v in tcs))
+        for flag in d["flags"]:
+            typer.echo(f"  warning [{flag['code']}]: {flag['message']}")
+        typer.echo("")
+
+
+def reference_cmd(
+    cct_K: float = typer.Argument(..., help="Correlated colour temperature [K] (1000-25000)."),
+    method: str = typer.Option("cie224", "--method", "-m", help=METHOD_HELP),
+    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the spectrum to FILE (.csv or .json)."),
+    overwrite: bool = OVERWRITE_OPTION,
+    json_out: bool = JSON_OPTION,
+) -> None:
+    """The reference illuminant of a CCT (relative spectrum, Y = 100), optionally written to a file."""
+    import numpy as np
+
+    from ..cct import cct_duv
+    from ..colorimetry import XYZ, XYZ_to_uv, XYZ_to_xy
+    from ..constants import WAVELENGTH_NM
+    from ..rendering import reference_for
+
+    ref_method = _method(method)
+    if not np.isfinite(cct_K) or not (_T_RANGE_K[0] <= cct_K <= _T_RANGE_K[1]):
+        raise InputError(f"CCT_K must be between {_T_RANGE_K[0]:g} and {_T_RANGE_K[1]:g} K, got {cct_K:g}")
+    suffix = require_suffix(output, (".csv", ".json")) if output is not None else None
+    ref = reference_for([cct_K], method=ref_method)
+    values = ref.values[0]
+    tri = XYZ(values[None])
+    xy = XYZ_to_xy(tri)[0]
+    check = cct_duv(XYZ_to_uv(tri))
+    name = f"{ref_method} reference {cct_K:g} K"
+    doc = {
+        "name": name,
+        "method": ref_method,
+        "cct_K": cct_K,
+        "reference": ref.kind[0],
+        "planckian_weight": float(ref.planckian_weight[0]),
+        "x": float(xy[0]),
+        "y": float(xy[1]),
+        "cct_of_spectrum_K": float(check.cct_K[0]),
+        "duv_of_spectrum": float(check.duv[0]),
+    }
+    if output is not None:
+        if suffix == ".csv":
+            text = (
+                f"# {name} ({ref.kind[0]}, Planckian weight {doc['planckian_weight']:g}); relative, Y = 100 (CIE 1931 2 deg)\n"
+                + csv_text(["wavelength (nm)", "relative"], zip(WAVELENGTH_NM.tolist(), values.tolist()))
+            )
+        else:
+            text = dumps({
+                "quantity": "relative",
+                "wavelength_nm": WAVELENGTH_NM.tolist(),
+                "spectra": [{"name": name, "values": values.tolist()}],
+            })
+        write_output(output, text, overwrite=overwrite)
+    if json_out:
+        emit_json(doc)
+        return
+    typer.echo(f"{name}")
+    typer.echo(f"  {'kind':<26} {doc['reference']}")
+    typer.echo(f"  {'Planckian weight':<26} {doc['planckian_weight']:.3f}")
+    typer.echo(f"  {'x, y':<26} {doc['x']:.5f}, {doc['y']:.5f}")
+    typer.echo(f"  {'CCT / Duv of the spectrum':<26} {doc['cct_of_spectrum_K']:.0f} K / {doc['duv_of_spectrum']:+.4f}")
+
+
+def register(app: typer.Typer) -> None:
+    app.command("versus")(versus_cmd)
+    app.command("reference")(reference_cmd)

@@ -1,0 +1,201 @@
+"""Commands ``verify`` (spectra against a claims file) and ``bin`` (ANSI quadrangle and SDCM bins).
+
+Exit status of ``verify``: 0 when every check passes; 1 when any check fails;
+3 when nothing fails but some check is inconclusive under a guard band (the
+claim is neither shown nor refuted); 2 for bad input.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+from typing import Any, List, Optional
+
+import typer
+
+from .options import (
+    JSON_OPTION,
+    OVERWRITE_OPTION,
+    QUANTITY_HELP,
+    csv_text,
+    dumps,
+    emit_json,
+    require_suffix,
+    write_output,
+)
+
+EXIT_FAIL = 1
+EXIT_INCONCLUSIVE = 3
+
+_OUTPUT_CSV = typer.Option(None, "--output", "-o", help="Write the per-sample table to FILE (.csv or .json).")
+
+
+def _records(files: List[Path], quantity: Optional[str], *, rendering: bool) -> list[dict[str, Any]]:
+    from ..analysis import analyse
+    from ..errors import InputError
+    from ..readers import read_spectra
+    from ..spectra import concatenate
+
+    if not files:
+        raise InputError("no input files given")
+    spectra = concatenate([read_spectra(f, quantity=quantity) for f in files])
+    return analyse(spectra, rendering=rendering).records()
+
+
+def _needs_rendering(claims) -> bool:
+    rendering = {"Ra", "Rf", "Rg"} | {f"R{i}" for i in range(1, 15)}
+    return any(lim.metric in rendering for lim in claims.limits)
+
+
+def _fmt(v: Any) -> str:
+    if v is None:
+        return "n/a"
+    if isinstance(v, float):
+        if not math.isfinite(v):
+            return "n/a"
+        a = abs(v)
+        return f"{v:.4f}" if a < 1 else (f"{v:.2f}" if a < 100 else f"{v:.1f}")
+    return str(v)
+
+
+def _limit_text(c: dict) -> str:
+    if c["metric"] == "ansi_quadrangle":
+        return "inside"
+    lo, hi = c["min"], c["max"]
+    if lo is not None and hi is not None:
+        return f"{_fmt(lo)}..{_fmt(hi)}"
+    return f">={_fmt(lo)}" if lo is not None else f"<={_fmt(hi)}"
+
+
+def _mark(c: dict) -> str:
+    return {True: "pass", False: "FAIL", None: "inconclusive"}[c["pass"]]
+
+
+def format_verdict(doc: dict, claims) -> str:
+    """The terminal table: one row per sample, one column per claim (value / limit / margin / result)."""
+    metrics = list(claims.metrics)
+    head = ["sample", "verdict"] + metrics
+    rows = []
+    for s in doc["samples"]:
+        cells = [s["name"], s["verdict"].upper() if s["verdict"] != "pass" else "pass"]
+        for c in s["checks"]:
+            cells.append(f"{_fmt(c['value'])} [{_limit_text(c)}] {_fmt(c['margin'])} {_mark(c)}")
+        rows.append(cells)
+    widths = [max(len(str(r[i])) for r in [head] + rows) for i in range(len(head))]
+    lines = []
+    who = " / ".join(p for p in (claims.supplier, claims.product) if p)
+    lines.append(f"claims: {claims.source}" + (f" ({who})" if who else ""))
+    lines.append("cell: value [limit] margin result")
+    lines.append("  ".join(h.ljust(w) for h, w in zip(head, widths)))
+    lines.append("  ".join("-" * w for w in widths))
+    for r in rows:
+        lines.append("  ".join(str(c).ljust(w) for c, w in zip(r, widths)))
+    lines.append("")
+    lines.append("summary (over samples): metric  passed/total  mean  std  min  max")
+    n = len(doc["samples"])
+    for m, st in doc["summary"].items():
+        lines.append(f"  {m:<20} {st['count_pass']}/{n}  {_fmt(st['mean'])}  {_fmt(st['std'])}  "
+                     f"{_fmt(st['min'])}  {_fmt(st['max'])}")
+    if "decision" in doc:
+        lines.append(f"decision rule: {doc['decision']}")
+    lines.append(f"verdict: {doc['verdict'].upper()}")
+    return "\n".join(lines)
+
+
+def verdict_csv(doc: dict, claims) -> str:
+    """One row per sample; for each claimed metric its value, limits, margin and result."""
+    metrics = list(claims.metrics)
+    header = ["name", "verdict"]
+    for m in metrics:
+        header += [f"{m}_value", f"{m}_min", f"{m}_max", f"{m}_margin", f"{m}_result"]
+    rows = []
+    for s in doc["samples"]:
+        row: list[Any] = [s["name"], s["verdict"]]
+        for c in s["checks"]:
+            result = c["decision"]["result"] if "decision" in c else ("pass" if c["pass"] else "fail")
+            row += [c["value"], c["min"], c["max"], c["margin"], result]
+        rows.append(["" if v is None else v for v in row])
+    return csv_text(header, rows)
+
+
+def verify_cmd(
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    claims_file: Path = typer.Option(..., "--claims", help="Claims file (TOML) to check the spectra against."),
+    quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
+    json_out: bool = JSON_OPTION,
+    output: Optional[Path] = _OUTPUT_CSV,
+    overwrite: bool = OVERWRITE_OPTION,
+) -> None:
+    """Check measured spectra against a supplier's claims; exit 0 pass, 1 fail, 3 inconclusive, 2 bad input."""
+    from ..claims import load_claims, verify
+
+    if output is not None:
+        require_suffix(output, (".csv", ".json"))
+    claims = load_claims(claims_file)
+    records = _records(files, quantity, rendering=_needs_rendering(claims))
+    verdict = verify(records, claims)
+    doc = verdict.as_dict()
+    if output is not None:
+        text = dumps(doc) if output.suffix.lower() == ".json" else verdict_csv(doc, claims)
+        write_output(output, text, overwrite=overwrite, inputs=[*files, claims_file])
+    if json_out:
+        emit_json(doc)
+    else:
+        typer.echo(format_verdict(doc, claims))
+    code = {"pass": 0, "fail": EXIT_FAIL, "inconclusive": EXIT_INCONCLUSIVE}[verdict.verdict]
+    if code:
+        raise typer.Exit(code)
+
+
+def bin_cmd(
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
+    ellipses: str = typer.Option("macadam1942", "--ellipses",
+                                 help="SDCM centres and ellipses: macadam1942 (ANSI centres) | iec60081 (lamp centres)."),
+    json_out: bool = JSON_OPTION,
+    output: Optional[Path] = _OUTPUT_CSV,
+    overwrite: bool = OVERWRITE_OPTION,
+) -> None:
+    """ANSI C78.377 quadrangle and SDCM step of each spectrum, with counts per bin."""
+    import numpy as np
+
+    from ..binning import ELLIPSE_SETS, bin_chromaticities
+    from ..errors import InputError
+
+    if ellipses not in ELLIPSE_SETS:
+        raise InputError(f"--ellipses must be one of {', '.join(ELLIPSE_SETS)}, got {ellipses!r}")
+    if output is not None:
+        require_suffix(output, (".csv", ".json"))
+    records = _records(files, quantity, rendering=False)
+    xy = np.array([[np.nan if r["x"] is None else r["x"], np.nan if r["y"] is None else r["y"]] for r in records])
+    result = bin_chromaticities(xy, names=[r["name"] for r in records], ellipses=ellipses)
+    rows = result.records()
+    for row, rec in zip(rows, records):
+        row["cct_K"] = rec.get("cct_K")
+        row["duv"] = rec.get("duv")
+    doc = {"ellipses": ellipses, "samples": rows, "counts": result.counts()}
+    if output is not None:
+        text = dumps(doc) if output.suffix.lower() == ".json" else result.csv()
+        write_output(output, text, overwrite=overwrite, inputs=files)
+    if json_out:
+        emit_json(doc)
+        return
+    head = ["sample", "CCT [K]", "Duv", "x", "y", "quadrangle", "centre", "SDCM", "bin"]
+    table = [[r["name"], _fmt(r["cct_K"]), _fmt(r["duv"]), f"{r['x']:.4f}", f"{r['y']:.4f}",
+              r["quadrangle"] or "none", r["centre"] + ("*" if r["extrapolated"] else ""),
+              _fmt(r["sdcm_steps"]), "n/a" if r["sdcm_bin"] is None else str(r["sdcm_bin"])] for r in rows]
+    widths = [max(len(str(t[i])) for t in [head] + table) for i in range(len(head))]
+    lines = ["  ".join(h.ljust(w) for h, w in zip(head, widths)), "  ".join("-" * w for w in widths)]
+    lines += ["  ".join(str(c).ljust(w) for c, w in zip(t, widths)) for t in table]
+    lines.append("")
+    lines.append("counts (quadrangle: SDCM bin = samples):")
+    for q, bins in doc["counts"].items():
+        lines.append(f"  {q:<6} " + ", ".join(f"{b} step{'s' if b != '1' else ''}: {c}" for b, c in bins.items()))
+    if any(r["extrapolated"] for r in rows):
+        lines.append("* centre outside the hull of MacAdam's 1942 data: nearest ellipse used")
+    typer.echo("\n".join(lines))
+
+
+def register(app: typer.Typer) -> None:
+    app.command("verify")(verify_cmd)
+    app.command("bin")(bin_cmd)

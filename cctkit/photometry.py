@@ -1,0 +1,304 @@
+"""Photometric and photon totals of spectra on the working grid.
+
+Every function takes spectral values on the working grid (360-830 nm at 1 nm),
+shape (..., 471), and sums them plainly at 1 nm without end-point halving
+(CIE 15:2018 section 7.1 practice), so each total is a matrix product against
+a weighting vector.  The unit of a total follows the radiometric quantity of
+the values:
+
+=============  ==================  ==================  =========================
+quantity       radiant total       luminous total      photon total
+=============  ==================  ==================  =========================
+radiant-flux   W                   lm                  umol s^-1
+irradiance     W m^-2              lx                  umol m^-2 s^-1
+radiance       W sr^-1 m^-2        cd m^-2             umol sr^-1 m^-2 s^-1
+intensity      W sr^-1             cd                  umol sr^-1 s^-1
+relative       relative            relative            relative
+=============  ==================  ==================  =========================
+
+Ranges: radiant and photon totals and the luminous efficacy of radiation (LER)
+use the whole working grid, 360-830 nm; the photosynthetic photon flux (PPF,
+PPFD for irradiance) uses 400-700 nm inclusive (the photosynthetically active band
+of ANSI/ASABE S640, cited from memory).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import lru_cache
+from typing import Any
+
+import numpy as np
+
+from .constants import C_M_PER_S, H_J_S, KM_LM_PER_W, KM_SCOTOPIC_LM_PER_W, WAVELENGTH_NM
+from .errors import InputError
+from .spectra import Quantity
+
+__all__ = [
+    "N_A_PER_MOL",
+    "PAR_BAND_NM",
+    "Photometry",
+    "photometry",
+    "luminous_total",
+    "radiant_total",
+    "luminous_efficacy_of_radiation",
+    "scotopic_total",
+    "sp_ratio",
+    "photon_total_umol",
+    "ppf_umol",
+    "grid_values",
+]
+
+#: Avogadro constant [mol^-1] -- CODATA 2018 (exact since the 2019 SI redefinition).
+N_A_PER_MOL = 6.02214076e23
+
+#: Photosynthetically active band [nm], inclusive -- ANSI/ASABE S640 (from memory).
+PAR_BAND_NM = (400.0, 700.0)
+
+_RADIANT_UNIT = {
+    Quantity.RADIANT_FLUX: "W",
+    Quantity.IRRADIANCE: "W/m^2",
+    Quantity.RADIANCE: "W/(sr m^2)",
+    Quantity.INTENSITY: "W/sr",
+    Quantity.RELATIVE: "1",
+}
+_LUMINOUS_UNIT = {
+    Quantity.RADIANT_FLUX: "lm",
+    Quantity.IRRADIANCE: "lx",
+    Quantity.RADIANCE: "cd/m^2",
+    Quantity.INTENSITY: "cd",
+    Quantity.RELATIVE: "1",
+}
+_PHOTON_UNIT = {
+    Quantity.RADIANT_FLUX: "umol/s",
+    Quantity.IRRADIANCE: "umol/(m^2 s)",
+    Quantity.RADIANCE: "umol/(sr m^2 s)",
+    Quantity.INTENSITY: "umol/(sr s)",
+    Quantity.RELATIVE: "1",
+}
+#: Record keys of the radiant, photon and PPF totals by quantity (relative spectra have none).
+RADIANT_KEY = {
+    Quantity.RADIANT_FLUX: "radiant_total_W",
+    Quantity.IRRADIANCE: "radiant_total_W_per_m2",
+    Quantity.RADIANCE: "radiant_total_W_per_sr_m2",
+    Quantity.INTENSITY: "radiant_total_W_per_sr",
+}
+PHOTON_KEY = {
+    Quantity.RADIANT_FLUX: "photon_flux_umol_per_s",
+    Quantity.IRRADIANCE: "photon_flux_umol_per_m2_s",
+    Quantity.RADIANCE: "photon_flux_umol_per_sr_m2_s",
+    Quantity.INTENSITY: "photon_flux_umol_per_sr_s",
+}
+PPF_KEY = {
+    Quantity.RADIANT_FLUX: "ppf_umol_per_s",
+    Quantity.IRRADIANCE: "ppfd_umol_per_m2_s",
+    Quantity.RADIANCE: "ppf_umol_per_sr_m2_s",
+    Quantity.INTENSITY: "ppf_umol_per_sr_s",
+}
+
+
+def grid_values(values: Any, *, name: str = "values") -> np.ndarray:
+    """``values`` as a float array whose last axis is the 471-point working grid.
+
+    Raises
+    ------
+    InputError
+        When the last axis does not hold 471 samples (360-830 nm at 1 nm).
+    """
+    arr = np.asarray(values, dtype=np.float64)
+    n = WAVELENGTH_NM.shape[0]
+    if arr.ndim == 0 or arr.shape[-1] != n:
+        raise InputError(
+            f"{name}: last axis must hold {n} samples of the 360-830 nm working grid at 1 nm, "
+            f"got shape {arr.shape}; resample with cctkit.spectra.to_working_grid first"
+        )
+    return arr
+
+
+def _quantity(quantity: Quantity | str) -> Quantity:
+    return quantity if isinstance(quantity, Quantity) else Quantity.parse(quantity, source="quantity")
+
+
+def _divide(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(b != 0, a / np.where(b != 0, b, 1.0), np.nan)
+
+
+def _V() -> np.ndarray:
+    from .tables import table
+
+    return table("cmf_2")[:, 1]
+
+
+@lru_cache(maxsize=1)
+def _photon_weights() -> tuple[np.ndarray, np.ndarray]:
+    # photons per joule at lambda is lambda / (h c); 1 nm step; mol -> umol is 1e6.
+    per_W_umol = WAVELENGTH_NM * 1e-9 / (H_J_S * C_M_PER_S) / N_A_PER_MOL * 1e6
+    par = (WAVELENGTH_NM >= PAR_BAND_NM[0]) & (WAVELENGTH_NM <= PAR_BAND_NM[1])
+    full = per_W_umol.copy()
+    band = np.where(par, per_W_umol, 0.0)
+    full.setflags(write=False)
+    band.setflags(write=False)
+    return full, band
+
+
+def luminous_total(values: Any) -> np.ndarray:
+    """Photopic luminous total Km sum S(lambda) V(lambda) at 1 nm over 360-830 nm.
+
+    Parameters
+    ----------
+    values : array_like (..., 471)
+        Spectral values on the working grid [W nm^-1, W m^-2 nm^-1, ...].
+
+    Returns
+    -------
+    ndarray (...)
+        Luminous flux [lm], illuminance [lx], luminance [cd m^-2] or intensity [cd]
+        according to the quantity (a relative number for relative spectra).
+
+    References
+    ----------
+    CIE 15:2018 section 7.1 (Km = 683.002 lm/W, CIE 1924 V(lambda) = y-bar of the CIE 1931 observer).
+    """
+    return KM_LM_PER_W * (grid_values(values) @ _V())
+
+
+def radiant_total(values: Any) -> np.ndarray:
+    """Radiant total sum S(lambda) at 1 nm over 360-830 nm [W, W m^-2, W sr^-1 m^-2, W sr^-1]."""
+    return grid_values(values).sum(axis=-1)
+
+
+def luminous_efficacy_of_radiation(values: Any) -> np.ndarray:
+    """Luminous efficacy of radiation K = luminous total / radiant total over 360-830 nm [lm/W].
+
+    The denominator is the radiant total over the working grid 360-830 nm, not over all
+    wavelengths: infrared or ultraviolet outside the grid is not counted.  NaN for a
+    spectrum whose radiant total is zero.
+
+    References
+    ----------
+    CIE S 017 (ILV), term 'luminous efficacy of radiation'; CIE 15:2018 section 7.1.
+    """
+    v = grid_values(values)
+    return _divide(luminous_total(v), radiant_total(v))
+
+
+def scotopic_total(values: Any) -> np.ndarray:
+    """Scotopic luminous total K'm sum S(lambda) V'(lambda) with K'm = 1700.06 lm/W.
+
+    Unit as :func:`luminous_total` (scotopic lm, lx, ...).  V'(lambda) is the CIE 1951
+    scotopic function, tabulated 380-780 nm (zero outside).
+
+    References
+    ----------
+    CIE 15:2018 section 7.1 and Table T.3 (CIE 1951 V'(lambda)); K'm as in cctkit.constants.
+    """
+    from .tables import table
+
+    return KM_SCOTOPIC_LM_PER_W * (grid_values(values) @ table("v_scotopic"))
+
+
+def sp_ratio(values: Any) -> np.ndarray:
+    """S/P ratio: scotopic over photopic luminous total (dimensionless); NaN if photopic is zero."""
+    v = grid_values(values)
+    return _divide(scotopic_total(v), luminous_total(v))
+
+
+def photon_total_umol(values: Any) -> np.ndarray:
+    """Photon total over 360-830 nm, sum S(lambda) lambda / (h c N_A) [umol s^-1, umol m^-2 s^-1, ...].
+
+    References
+    ----------
+    h, c: CODATA 2018 (exact); N_A: CODATA 2018 (exact).
+    """
+    return grid_values(values) @ _photon_weights()[0]
+
+
+def ppf_umol(values: Any) -> np.ndarray:
+    """Photosynthetic photon flux over 400-700 nm inclusive [umol s^-1]; PPFD [umol m^-2 s^-1] for irradiance.
+
+    References
+    ----------
+    ANSI/ASABE S640 (PAR band 400-700 nm, from memory); constants as :func:`photon_total_umol`.
+    """
+    return grid_values(values) @ _photon_weights()[1]
+
+
+@dataclass(frozen=True)
+class Photometry:
+    """Photometric, radiometric and photon totals of N spectra (arrays of shape (N,)).
+
+    The unit of ``luminous``, ``scotopic``, ``radiant``, ``photon_umol`` and ``ppf_umol``
+    depends on ``quantity`` (see the module table and the ``*_unit`` properties);
+    ``ler_lm_per_W`` and ``sp_ratio`` do not.
+    """
+
+    quantity: Quantity
+    luminous: np.ndarray
+    scotopic: np.ndarray
+    radiant: np.ndarray
+    ler_lm_per_W: np.ndarray
+    sp_ratio: np.ndarray
+    photon_umol: np.ndarray
+    ppf_umol: np.ndarray
+
+    @property
+    def luminous_unit(self) -> str:
+        return _LUMINOUS_UNIT[self.quantity]
+
+    @property
+    def radiant_unit(self) -> str:
+        return _RADIANT_UNIT[self.quantity]
+
+    @property
+    def photon_unit(self) -> str:
+        return _PHOTON_UNIT[self.quantity]
+
+    def record(self, i: int) -> dict[str, float | None]:
+        """Per-spectrum record fields; absolute totals are left out for relative spectra."""
+        out: dict[str, float | None] = {
+            "ler_lm_per_W": _num(self.ler_lm_per_W[i]),
+            "sp_ratio": _num(self.sp_ratio[i]),
+        }
+        if self.quantity is not Quantity.RELATIVE:
+            out[self.quantity.luminous_name] = _num(self.luminous[i])
+            out[RADIANT_KEY[self.quantity]] = _num(self.radiant[i])
+            out[PHOTON_KEY[self.quantity]] = _num(self.photon_umol[i])
+            out[PPF_KEY[self.quantity]] = _num(self.ppf_umol[i])
+        return out
+
+
+def _num(x) -> float | None:
+    v = float(x)
+    return v if np.isfinite(v) else None
+
+
+def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> Photometry:
+    """All photometric and photon totals of spectra on the working grid.
+
+    Parameters
+    ----------
+    values : array_like (N, 471)
+        Spectral values on the working grid, in ``quantity.unit``.
+    quantity
+        Radiometric quantity of ``values``; fixes the unit of the totals.
+
+    Returns
+    -------
+    Photometry
+    """
+    q = _quantity(quantity)
+    v = np.atleast_2d(grid_values(values))
+    lum = luminous_total(v)
+    sco = scotopic_total(v)
+    rad = radiant_total(v)
+    return Photometry(
+        quantity=q,
+        luminous=lum,
+        scotopic=sco,
+        radiant=rad,
+        ler_lm_per_W=_divide(lum, rad),
+        sp_ratio=_divide(sco, lum),
+        photon_umol=photon_total_umol(v),
+        ppf_umol=ppf_umol(v),
+    )

@@ -1,0 +1,527 @@
+"""Reading measured spectra from files.
+
+:func:`read_spectra` is the one entry point.  It reads the file's bytes once
+(refusing missing files, folders, special files, empty files and files over
+``max_bytes``), picks the format by extension (content sniffing for unknown
+extensions), and returns a :class:`~cctkit.spectra.Spectra` holding the data
+as measured: no resampling, only unit conversion to the base unit of the
+quantity and, for files written in descending wavelength order, a reversal
+(recorded as a ``wavelength-descending`` flag).
+
+========================  ===============================================
+extension                 format
+========================  ===============================================
+.csv .tsv .txt .dat .prn  delimited text (:mod:`cctkit.readers.delimited`)
+.json                     cctkit spectra JSON (:mod:`cctkit.readers.jsonfile`)
+.xml .spdx                IES TM-27 spectral data (:mod:`cctkit.readers.tm27`)
+========================  ===============================================
+
+Every failure is a :class:`~cctkit.errors.InputError` whose text starts with
+the file path (and the 1-based line number where one applies), on one line.
+
+Units
+-----
+Spectral units are parsed into powers of W, m and sr with SI prefixes, so
+``W/m2/nm``, ``W/(m^2 nm)``, ``W m-2 nm-1``, ``mW/m²/nm``, ``µW/cm²/nm``,
+``W/m3`` (per metre of wavelength), ``W/nm``, ``mW/nm``, ``W/sr/m2/nm`` and
+``W/(sr nm)`` are all understood.  The dimensions give the quantity
+(W m⁻¹ → radiant flux per nm, W m⁻³ → irradiance, W sr⁻¹ m⁻³ → radiance,
+W sr⁻¹ m⁻¹ → intensity) and the prefixes the factor to the base units
+W/nm, W/(m² nm), W/(sr m² nm) and W/(sr nm).  ``a.u.``, ``rel``, ``counts``,
+``%`` and the like mean relative values.  Anything else is refused.
+"""
+
+from __future__ import annotations
+
+import codecs
+import hashlib
+import os
+import re
+import stat
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Sequence
+
+import numpy as np
+
+from ..errors import Flag, InputError
+from ..spectra import Quantity, Spectra
+
+__all__ = [
+    "read_spectra",
+    "DEFAULT_MAX_BYTES",
+    "ParsedSpectra",
+    "parse_spectral_unit",
+    "parse_length_unit",
+    "decode_text",
+]
+
+#: Largest file :func:`read_spectra` reads unless told otherwise [bytes] (256 MiB).
+DEFAULT_MAX_BYTES = 256 * 1024 * 1024
+
+_DELIMITED = {".csv", ".tsv", ".txt", ".dat", ".prn"}
+_JSON = {".json"}
+_XML = {".xml", ".spdx"}
+
+
+@dataclass(frozen=True)
+class ParsedSpectra:
+    """What a format module hands back: data as measured, in base units.
+
+    ``columns`` names each spectrum's place in a multi-spectrum file (used for
+    ``sources`` as ``path#column``); ``None`` for a single-spectrum file.
+    ``quantity`` is what the file itself states, or ``None`` when it says nothing.
+    """
+
+    wavelength_nm: np.ndarray
+    values: np.ndarray
+    names: tuple[str, ...]
+    columns: tuple[str, ...] | None
+    quantity: Quantity | None
+    flags: tuple[Flag, ...] = ()
+
+
+def read_spectra(
+    path: str | os.PathLike,
+    *,
+    quantity: Quantity | str | None = None,
+    max_bytes: int = DEFAULT_MAX_BYTES,
+) -> Spectra:
+    """Read the spectra in ``path``, as measured.
+
+    Parameters
+    ----------
+    path
+        A delimited-text, JSON or IES TM-27 file (see the module docstring).
+    quantity
+        Radiometric quantity of the values when the file does not state one.
+        When the file states one and this differs, an InputError names both.
+    max_bytes
+        Refuse files larger than this [bytes].
+
+    Returns
+    -------
+    Spectra
+        ``sources`` is the path (``path#column`` for files with several spectra),
+        ``sha256`` the digest of the file's bytes, ``quantity`` the file's, else
+        ``quantity``, else relative.
+
+    Raises
+    ------
+    InputError
+        For every problem with the file or the arguments; the text starts with the path.
+    """
+    try:
+        fspath = os.fspath(path)
+    except TypeError:
+        raise InputError(f"expected a file path, got {type(path).__name__}", source="path") from None
+    if isinstance(fspath, bytes):
+        fspath = os.fsdecode(fspath)
+    source = str(fspath)
+    p = Path(fspath)
+    wanted = _quantity_argument(quantity, source)
+    if isinstance(max_bytes, bool) or not isinstance(max_bytes, (int, np.integer)) or max_bytes <= 0:
+        raise InputError(f"max_bytes must be a positive number of bytes, got {max_bytes!r}", source=source)
+    data = _read_bytes(p, source, int(max_bytes))
+    kind = _format_of(p, data)
+    if kind == "json":
+        from . import jsonfile as module
+    elif kind == "xml":
+        from . import tm27 as module
+    else:
+        from . import delimited as module
+    parsed = module.parse(data, source=source, stem=p.stem or source)
+    return _to_spectra(parsed, data, source, wanted)
+
+
+def _quantity_argument(quantity, source: str) -> Quantity | None:
+    if quantity is None:
+        return None
+    if isinstance(quantity, Quantity):
+        return quantity
+    if not isinstance(quantity, str):
+        raise InputError(f"quantity argument must be a name, got {type(quantity).__name__}", source=source)
+    return Quantity.parse(quantity, source=source)
+
+
+def _to_spectra(parsed: ParsedSpectra, data: bytes, source: str, wanted: Quantity | None) -> Spectra:
+    stated = parsed.quantity
+    if stated is not None and wanted is not None and stated is not wanted:
+        raise InputError(
+            f"the file states quantity {stated.value!r} but {wanted.value!r} was asked for", source=source
+        )
+    q = stated or wanted or Quantity.RELATIVE
+    n = parsed.values.shape[0]
+    if parsed.columns is None:
+        sources = (source,) * n
+    else:
+        sources = tuple(f"{source}#{c}" for c in parsed.columns)
+    digest = hashlib.sha256(data).hexdigest()
+    return Spectra(
+        wavelength_nm=parsed.wavelength_nm,
+        values=parsed.values,
+        names=parsed.names,
+        quantity=q,
+        sources=sources,
+        sha256=(digest,) * n,
+        flags=(parsed.flags,) * n,
+    )
+
+
+# --------------------------------------------------------------------------- bytes and text
+
+
+def _read_bytes(p: Path, source: str, max_bytes: int) -> bytes:
+    try:
+        st = os.stat(p)
+    except FileNotFoundError:
+        raise InputError("file not found", source=source) from None
+    except NotADirectoryError:
+        raise InputError("file not found (a part of the path is not a folder)", source=source) from None
+    except PermissionError:
+        raise InputError("permission denied", source=source) from None
+    except (OSError, ValueError) as exc:
+        raise InputError(f"cannot read the file ({_oserror_text(exc)})", source=source) from None
+    if stat.S_ISDIR(st.st_mode):
+        raise InputError("is a folder, not a file", source=source)
+    if not stat.S_ISREG(st.st_mode):
+        raise InputError("is not a regular file (device, pipe or socket)", source=source)
+    if st.st_size > max_bytes:
+        raise InputError(f"file is {st.st_size} bytes, over the limit of {max_bytes} bytes", source=source)
+    try:
+        with open(p, "rb") as fh:
+            data = fh.read(max_bytes + 1)
+    except PermissionError:
+        raise InputError("permission denied", source=source) from None
+    except IsADirectoryError:
+        raise InputError("is a folder, not a file", source=source) from None
+    except OSError as exc:
+        raise InputError(f"cannot read the file ({_oserror_text(exc)})", source=source) from None
+    if len(data) > max_bytes:
+        raise InputError(f"file is over the limit of {max_bytes} bytes", source=source)
+    if not data.strip():
+        raise InputError("file is empty", source=source)
+    return data
+
+
+def _oserror_text(exc: BaseException) -> str:
+    return (getattr(exc, "strerror", None) or str(exc) or type(exc).__name__).replace("\n", " ")
+
+
+_BOMS = (
+    (codecs.BOM_UTF32_LE, "utf-32-le", "UTF-32"),
+    (codecs.BOM_UTF32_BE, "utf-32-be", "UTF-32"),
+    (codecs.BOM_UTF8, "utf-8", "UTF-8"),
+    (codecs.BOM_UTF16_LE, "utf-16-le", "UTF-16"),
+    (codecs.BOM_UTF16_BE, "utf-16-be", "UTF-16"),
+)
+_CONTROL = re.compile(r"[\x00-\x08\x0e-\x1f\x7f]")
+
+
+def _strip_bom(data: bytes) -> tuple[bytes, str | None, str | None]:
+    for bom, codec, label in _BOMS:
+        if data.startswith(bom):
+            return data[len(bom):], codec, label
+    return data, None, None
+
+
+def _utf16_without_bom(data: bytes) -> str | None:
+    head = data[:4096]
+    if len(head) < 4:
+        return None
+    if len(head) % 2:
+        head = head[:-1]
+    even, odd = head[0::2], head[1::2]
+    if odd.count(0) == len(odd) and even.count(0) == 0:
+        return "utf-16-le"
+    if even.count(0) == len(even) and odd.count(0) == 0:
+        return "utf-16-be"
+    return None
+
+
+def decode_text(data: bytes, source: str) -> tuple[str, tuple[Flag, ...]]:
+    """Text of ``data``: UTF-8 (with or without BOM), UTF-16/32 with BOM, BOM-less UTF-16.
+
+    Bytes that are not UTF-8 are read as Latin-1 (older instrument exports write
+    ``µ`` as byte 0xB5) and a ``text-encoding`` flag says so.  Text holding NUL or
+    other control characters is refused as binary.
+    """
+    body, codec, label = _strip_bom(data)
+    flags: tuple[Flag, ...] = ()
+    if codec is None:
+        codec = _utf16_without_bom(data)
+        label = "UTF-16 (no BOM)" if codec else None
+    if codec is not None:
+        try:
+            text = body.decode(codec)
+        except UnicodeDecodeError as exc:
+            raise InputError(f"not valid {label} text (bad bytes at offset {exc.start})", source=source) from None
+    else:
+        if b"\x00" in body:
+            offset = body.index(b"\x00")
+            raise InputError(f"binary file, not text (NUL byte at offset {offset})", source=source)
+        try:
+            text = body.decode("utf-8")
+        except UnicodeDecodeError:
+            text = body.decode("latin-1")
+            flags = (Flag("text-encoding", "file is not UTF-8; read as Latin-1 (ISO 8859-1)"),)
+    if not text.strip():
+        raise InputError("file is empty", source=source)
+    m = _CONTROL.search(text)
+    if m is not None:
+        line = text.count("\n", 0, m.start()) + 1
+        raise InputError(
+            f"binary file, not text (control character 0x{ord(m.group()):02x})", source=source, line=line
+        )
+    return text, flags
+
+
+def _format_of(p: Path, data: bytes) -> str:
+    ext = p.suffix.lower()
+    if ext in _JSON:
+        return "json"
+    if ext in _XML:
+        return "xml"
+    if ext in _DELIMITED:
+        return "delimited"
+    body, codec, _ = _strip_bom(data)
+    codec = codec or _utf16_without_bom(data) or "utf-8"
+    try:
+        head = body[:256].decode(codec, errors="ignore").lstrip()
+    except LookupError:  # pragma: no cover - codecs above all exist
+        head = ""
+    if head.startswith(("{", "[")):
+        return "json"
+    if head.startswith("<"):
+        return "xml"
+    return "delimited"
+
+
+# --------------------------------------------------------------------------- wavelength axis
+
+
+def order_axis(
+    wavelength_nm: np.ndarray,
+    values: np.ndarray,
+    *,
+    source: str,
+    lines: Sequence[int] | None = None,
+    what: str = "wavelength",
+) -> tuple[np.ndarray, np.ndarray, tuple[Flag, ...]]:
+    """Check the axis is strictly monotonic; reverse a descending one (with a flag).
+
+    ``values`` has shape (N, L).  ``lines`` gives the file line of each point, for messages.
+    """
+    wl = np.asarray(wavelength_nm, dtype=np.float64)
+    vals = np.asarray(values, dtype=np.float64)
+
+    def line_of(i: int) -> int | None:
+        return None if lines is None else int(lines[i])
+
+    if wl.size == 0:
+        raise InputError("no data rows", source=source)
+    bad = np.flatnonzero(~(wl > 0))
+    if bad.size:
+        i = int(bad[0])
+        raise InputError(f"{what} {wl[i]:g} nm is not positive", source=source, line=line_of(i))
+    if wl.size == 1:
+        return wl, vals, ()
+    steps = np.diff(wl)
+    flags: tuple[Flag, ...] = ()
+    dup = np.flatnonzero(steps == 0)
+    if dup.size:
+        i = int(dup[0]) + 1
+        raise InputError(f"duplicate {what} {wl[i]:g} nm", source=source, line=line_of(i))
+    descending = steps[0] < 0
+    wrong = np.flatnonzero(steps > 0) if descending else np.flatnonzero(steps < 0)
+    if wrong.size:
+        i = int(wrong[0]) + 1
+        order = "descending" if descending else "ascending"
+        raise InputError(
+            f"{what}s out of order: {wl[i]:g} nm follows {wl[i - 1]:g} nm in an {order} list",
+            source=source,
+            line=line_of(i),
+        )
+    if descending:
+        wl = wl[::-1].copy()
+        vals = vals[:, ::-1].copy()
+        flags = (Flag("wavelength-descending", "wavelengths were in descending order in the file; reversed"),)
+    return wl, vals, flags
+
+
+# --------------------------------------------------------------------------- units
+
+_RELATIVE_UNITS = {
+    "", "1", "-", "a.u.", "a.u", "au", "arb", "arb.", "arb.u.", "arb. units", "arb units", "arbitrary",
+    "arbitrary units", "rel", "rel.", "relative", "relative units", "rel. units", "counts", "count", "cts",
+    "%", "norm", "norm.", "normalised", "normalized", "unitless", "dimensionless",
+}
+_PREFIXES = {"p": 1e-12, "n": 1e-9, "u": 1e-6, "m": 1e-3, "c": 1e-2, "d": 1e-1, "k": 1e3, "M": 1e6, "G": 1e9}
+# symbol -> (dimension index, SI factor): dimensions are W, m, sr
+_BASE = {"W": (0, 1.0), "w": (0, 1.0), "m": (1, 1.0), "sr": (2, 1.0), "Å": (1, 1e-10)}
+_SUPERSCRIPTS = str.maketrans({"⁻": "-", "⁺": "+", "⁰": "0", "¹": "1", "²": "2", "³": "3", "⁴": "4",
+                               "µ": "u", "μ": "u", "·": " ", "⋅": " ", "*": " ", "×": " ", "^": "",
+                               "−": "-"})
+_TOKEN = re.compile(r"\s*(?:(?P<open>[(\[])|(?P<close>[)\]])|(?P<div>/)|(?P<sym>[A-Za-zÅ]+)(?P<exp>[+-]?\d+)?)")
+#: (W, m, sr) exponents -> quantity; the base unit of each is W (sr) m^-2? nm^-1 = 1e9 in SI.
+_SPECTRAL_DIMENSIONS = {
+    (1, -1, 0): Quantity.RADIANT_FLUX,
+    (1, -3, 0): Quantity.IRRADIANCE,
+    (1, -3, -1): Quantity.RADIANCE,
+    (1, -1, -1): Quantity.INTENSITY,
+}
+_BASE_UNIT_SI = 1e9  # W/nm = 1e9 W/m; W/(m2 nm) = 1e9 W/m3; likewise with sr^-1
+
+
+class _UnitSyntax(Exception):
+    """The text is not a product of powers of known symbols."""
+
+
+def _unit_dimensions(text: str) -> tuple[tuple[int, int, int], float]:
+    s = text.translate(_SUPERSCRIPTS).strip()
+    s = re.sub(r"(?<=[A-Za-z0-9)\]])\.(?=[A-Za-z(\[])", " ", s)  # "W.m-2.nm-1"
+    pos = 0
+    tokens: list[tuple[str, str, int]] = []
+    while pos < len(s):
+        m = _TOKEN.match(s, pos)
+        if m is None or m.end() == pos:
+            if s[pos:].strip() == "":
+                break
+            raise _UnitSyntax(s[pos:])
+        pos = m.end()
+        if m.group("open"):
+            tokens.append(("(", "", 0))
+        elif m.group("close"):
+            tokens.append((")", "", 0))
+        elif m.group("div"):
+            tokens.append(("/", "", 0))
+        else:
+            tokens.append(("sym", m.group("sym"), int(m.group("exp") or 1)))
+    dims, factor, end = _unit_group(tokens, 0)
+    if end != len(tokens):
+        raise _UnitSyntax("unbalanced parentheses")
+    return dims, factor
+
+
+def _unit_group(tokens, i):
+    dims = [0, 0, 0]
+    factor = 1.0
+    sign = 1
+    seen_any = False
+    while i < len(tokens):
+        kind, sym, exp = tokens[i]
+        if kind == ")":
+            break
+        if kind == "/":
+            if not seen_any:
+                raise _UnitSyntax("'/' with nothing before it")
+            sign = -1
+            i += 1
+            continue
+        if kind == "(":
+            sub, f, i = _unit_group(tokens, i + 1)
+            if i >= len(tokens) or tokens[i][0] != ")":
+                raise _UnitSyntax("unbalanced parentheses")
+            i += 1
+            for k in range(3):
+                dims[k] += sign * sub[k]
+            factor *= f**sign
+            seen_any = True
+            continue
+        dim, f = _symbol(sym)
+        dims[dim] += sign * exp
+        factor *= f ** (sign * exp)
+        seen_any = True
+        i += 1
+    if not seen_any:
+        raise _UnitSyntax("empty unit")
+    return tuple(dims), factor, i
+
+
+def _symbol(sym: str) -> tuple[int, float]:
+    if sym in _BASE:
+        return _BASE[sym]
+    if len(sym) > 1 and sym[0] in _PREFIXES and sym[1:] in _BASE:
+        dim, f = _BASE[sym[1:]]
+        return dim, f * _PREFIXES[sym[0]]
+    raise _UnitSyntax(sym)
+
+
+def is_relative_unit(text: str) -> bool:
+    """Whether ``text`` names relative (unitless) values: ``a.u.``, ``counts``, ``%``, ..."""
+    return text.strip().lower() in _RELATIVE_UNITS
+
+
+def looks_like_unit(text: str) -> bool:
+    """Whether bracketed header text is meant as a unit (and not, say, ``(2700 K)``)."""
+    t = text.strip()
+    if is_relative_unit(t) or "/" in t:
+        return True
+    try:
+        _unit_dimensions(t)
+    except (_UnitSyntax, OverflowError, ZeroDivisionError):
+        return False
+    return True
+
+
+def parse_spectral_unit(text: str, *, source: str, line: int | None = None) -> tuple[Quantity, float]:
+    """Quantity and factor to its base unit for a spectral unit such as ``mW/m²/nm``.
+
+    Examples (unit arithmetic, SI): ``µW/cm²/nm`` → (irradiance, 0.01);
+    ``mW/nm`` → (radiant flux, 0.001); ``W/m3`` → (irradiance, 1e-9).
+    """
+    t = text.strip()
+    if is_relative_unit(t):
+        return Quantity.RELATIVE, 1.0
+    low = t.lower()
+    if "mol" in low or "photon" in low or "einstein" in low:
+        raise InputError(f"photon units are not supported: {t!r}; give the values in W", source=source, line=line)
+    if re.search(r"\b(lm|lx|cd|lux|nit)\b", low):
+        raise InputError(
+            f"{t!r} is a photometric unit; spectral radiometric values (W per nm) are needed", source=source, line=line
+        )
+    try:
+        dims, factor = _unit_dimensions(t)
+    except (_UnitSyntax, OverflowError, ZeroDivisionError):
+        raise InputError(
+            f"unknown unit {t!r}; expected e.g. W/nm, W/(m2 nm), W/(sr m2 nm), W/(sr nm) or a.u.",
+            source=source,
+            line=line,
+        ) from None
+    q = _SPECTRAL_DIMENSIONS.get(dims)
+    if q is None:
+        raise InputError(
+            f"{t!r} is not a spectral power unit; expected e.g. W/nm, W/(m2 nm), W/(sr m2 nm), W/(sr nm)",
+            source=source,
+            line=line,
+        )
+    return q, factor / _BASE_UNIT_SI
+
+
+def parse_length_unit(text: str, *, source: str, line: int | None = None) -> float:
+    """Factor from the wavelength unit ``text`` (``nm``, ``um``, ``µm``, ``Å``, ...) to nm."""
+    t = text.strip()
+    try:
+        dims, factor = _unit_dimensions(t)
+    except (_UnitSyntax, OverflowError, ZeroDivisionError):
+        dims, factor = None, 0.0
+    if dims != (0, 1, 0):
+        raise InputError(f"unknown wavelength unit {t!r}; expected nm, um (µm) or Å", source=source, line=line)
+    return factor / 1e-9
+
+
+def check_plain_nm(wavelength_nm: np.ndarray, *, source: str, line: int | None = None) -> None:
+    """Refuse a unit-less axis that is plainly in micrometres (all values below 10)."""
+    if wavelength_nm.size and float(np.max(wavelength_nm)) < 10.0:
+        raise InputError(
+            f"wavelengths {float(np.min(wavelength_nm)):g}-{float(np.max(wavelength_nm)):g} look like micrometres; "
+            "state the unit, e.g. 'wavelength (um)'",
+            source=source,
+            line=line,
+        )
+
+
+def short(text: str, limit: int = 40) -> str:
+    """``repr`` of ``text`` cut to ``limit`` characters, for one-line messages."""
+    t = text if len(text) <= limit else text[: limit - 1] + "…"
+    return repr(t)

@@ -1,0 +1,207 @@
+"""Colour rendering: reference illuminants, CIE 13.3-1995 (Ra, R1-R14), CIE 224:2017 / TM-30 (Rf, Rg, ...).
+
+Every function here works on spectra on the working grid, shape (N, 471), and takes
+the test CCT as an argument so it does not depend on how the CCT was found;
+:func:`colour_rendition` computes it with :func:`cctkit.cct.cct_duv` when not given.
+
+Modules
+-------
+:mod:`.reference`  Planckian, CIE daylight, CIE 13.3 and CIE 224 references.
+:mod:`.cie13_3`    CIE 13.3-1995 colour rendering index.
+:mod:`.tm30`       CIE 224:2017 fidelity Rf and ANSI/IES TM-30-20 gamut and hue-bin measures.
+:mod:`.cam`        CIECAM02 forward model and CAM02-UCS (CIE 159:2004).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..colorimetry import XYZ, XYZ_to_uv
+from ..tables import cmfs
+from .cie13_3 import DC_LIMIT, Cri13Result, cie13_3, cie13_3_samples
+from .reference import (
+    Reference,
+    daylight_reference,
+    daylight_xy,
+    nominal_daylight_cct_K,
+    planckian_reference,
+    reference_cie13_3,
+    reference_cie224,
+)
+from .tm30 import Tm30Result, tm30, tm30_samples
+
+__all__ = [
+    "Reference",
+    "planckian_reference",
+    "daylight_reference",
+    "daylight_xy",
+    "nominal_daylight_cct_K",
+    "reference_cie13_3",
+    "reference_cie224",
+    "reference_for",
+    "canonical_method",
+    "REFERENCE_METHODS",
+    "Cri13Result",
+    "cie13_3",
+    "cie13_3_samples",
+    "DC_LIMIT",
+    "Tm30Result",
+    "tm30",
+    "tm30_samples",
+    "Rendition",
+    "colour_rendition",
+    "ReferenceComparison",
+    "compare_to_reference",
+]
+
+#: Names accepted by :func:`reference_for` and the command line.
+REFERENCE_METHODS = ("cie13.3", "cie224")
+
+
+def canonical_method(method: str) -> str:
+    """``"cie13.3"`` or ``"cie224"`` for the spellings people use (``CIE 13.3``, ``tm30``, ...)."""
+    key = str(method).strip().lower().replace(" ", "").replace("_", ".").replace("-", "")
+    if key in ("cie13.3", "cie13.31995", "13.3", "cri"):
+        return "cie13.3"
+    if key in ("cie224", "cie224:2017", "224", "tm30", "cie2017"):
+        return "cie224"
+    raise ValueError(f"method must be one of {', '.join(REFERENCE_METHODS)}, got {method!r}")
+
+
+def reference_for(cct_K, *, method: str = "cie224") -> Reference:
+    """The reference of ``method`` (``"cie13.3"`` or ``"cie224"``) for each CCT in ``cct_K`` [K]."""
+    if canonical_method(method) == "cie13.3":
+        return reference_cie13_3(cct_K)
+    return reference_cie224(cct_K)
+
+
+def _test_cct(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    from ..cct import cct_duv
+
+    res = cct_duv(XYZ_to_uv(XYZ(values, observer=2)), observer=2)
+    return np.asarray(res.cct_K, dtype=np.float64), np.asarray(res.duv, dtype=np.float64)
+
+
+@dataclass(frozen=True)
+class Rendition:
+    """CIE 13.3 and CIE 224 / TM-30 results of the same N spectra, with the CCT both used.
+
+    ``duv`` is NaN when the CCT was given rather than computed.
+    """
+
+    cct_K: np.ndarray
+    duv: np.ndarray
+    cri: Cri13Result
+    tm30: Tm30Result
+
+
+def colour_rendition(values, *, cct_K=None) -> Rendition:
+    """Ra, R1-R14, Rf, Rg and the hue-bin measures of spectra on the working grid, (N, 471).
+
+    Parameters
+    ----------
+    values : array_like (N, 471)
+        Test spectra [any unit].
+    cct_K : array_like (N,), optional
+        CCT of each spectrum [K]; computed (CIE 1931 2 deg, :func:`cctkit.cct.cct_duv`)
+        when omitted.  Where it is NaN every index is NaN.
+    """
+    v = np.asarray(values, dtype=np.float64)
+    if v.ndim == 1:
+        v = v[None]
+    if cct_K is None:
+        T, duv = _test_cct(v)
+    else:
+        T = np.atleast_1d(np.asarray(cct_K, dtype=np.float64))
+        duv = np.full_like(T, np.nan)
+    return Rendition(cct_K=T, duv=duv, cri=cie13_3(v, T), tm30=tm30(v, T))
+
+
+@dataclass(frozen=True)
+class ReferenceComparison:
+    """A test spectrum set against its reference, everything per spectrum.
+
+    Attributes
+    ----------
+    wavelength_nm : (471,)
+        Working grid [nm].
+    test, reference : (N, 471)
+        Test and reference spectra, each scaled to Y = 100 (CIE 1931 2 deg).
+    difference : (N, 471)
+        ``test - reference`` on that scale.
+    ratio : (N, 471)
+        ``test / reference`` (NaN where the reference is 0).
+    cct_K : (N,)
+        CCT both references were built for [K].
+    method : str
+        Reference of the spectral comparison (``"cie13.3"`` or ``"cie224"``).
+    reference_kind : tuple of str
+        ``"planckian"``, ``"daylight"`` or ``"blend"`` of that reference.
+    ces_dE : (N, 99)
+        CAM02-UCS colour difference of each CIE 224 sample (CIE 224 reference).
+    ces_hue_shift_deg : (N, 99)
+        Hue angle under test minus under reference, in (-180, 180] [deg].
+    tcs_dE : (N, 14)
+        CIE 1964 U*V*W* colour difference of each CIE 13.3 sample (CIE 13.3 reference).
+    """
+
+    wavelength_nm: np.ndarray
+    test: np.ndarray
+    reference: np.ndarray
+    difference: np.ndarray
+    ratio: np.ndarray
+    cct_K: np.ndarray
+    method: str
+    reference_kind: tuple[str, ...]
+    ces_dE: np.ndarray
+    ces_hue_shift_deg: np.ndarray
+    tcs_dE: np.ndarray
+
+
+def compare_to_reference(values, cct_K=None, *, method: str = "cie224") -> ReferenceComparison:
+    """Test spectra against the reference illuminant of their CCT, per wavelength and per sample.
+
+    Parameters
+    ----------
+    values : array_like (N, 471)
+        Test spectra on the working grid [any unit].
+    cct_K : array_like (N,), optional
+        CCT of each spectrum [K]; computed with :func:`cctkit.cct.cct_duv` when omitted.
+    method
+        Reference for the per-wavelength comparison: ``"cie224"`` (default) or ``"cie13.3"``.
+        The per-sample figures always use each metric's own reference.
+    """
+    from ..constants import WAVELENGTH_NM
+
+    v = np.asarray(values, dtype=np.float64)
+    if v.ndim == 1:
+        v = v[None]
+    if v.ndim != 2 or v.shape[1] != WAVELENGTH_NM.shape[0]:
+        raise ValueError(f"values must have shape (N, 471) on the working grid, got {v.shape}")
+    T = _test_cct(v)[0] if cct_K is None else np.atleast_1d(np.asarray(cct_K, dtype=np.float64))
+    if T.shape != (v.shape[0],):
+        raise ValueError(f"cct_K must have shape ({v.shape[0]},) to match values, got {T.shape}")
+    ref = reference_for(T, method=method)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        test = v * (100.0 / (v @ cmfs(2)[:, 1]))[:, None]
+        ratio = np.where(ref.values > 0, test / np.where(ref.values > 0, ref.values, 1.0), np.nan)
+    t = tm30(v, T)
+    ht = np.arctan2(t.Jab_test_i[..., 2], t.Jab_test_i[..., 1])
+    hr = np.arctan2(t.Jab_ref_i[..., 2], t.Jab_ref_i[..., 1])
+    shift = np.degrees(np.angle(np.exp(1j * (ht - hr))))  # wrapped to (-180, 180]
+    dE_tcs, _ = cie13_3_samples(v, reference_cie13_3(T).values)
+    return ReferenceComparison(
+        wavelength_nm=WAVELENGTH_NM.copy(),
+        test=test,
+        reference=ref.values,
+        difference=test - ref.values,
+        ratio=ratio,
+        cct_K=T,
+        method=canonical_method(method),
+        reference_kind=ref.kind,
+        ces_dE=t.dE_i,
+        ces_hue_shift_deg=shift,
+        tcs_dE=dE_tcs,
+    )

@@ -1,0 +1,230 @@
+"""CIE 224:2017 colour fidelity index Rf and the ANSI/IES TM-30-20 gamut and hue-bin measures.
+
+Vectorised over N spectra and the 99 colour evaluation samples (CES) at once.
+
+Procedure (CIE 224:2017 section 4; ANSI/IES TM-30-20 sections 4-6):
+
+1. Reference of the test CCT (:func:`~.reference.reference_cie224`): Planckian below
+   4000 K, CIE daylight above 5000 K, the normalised blend in between.
+2. CIE 1964 10 deg tristimulus values of the 99 CES under test and reference,
+   summed at 1 nm over 380-780 nm (the calculation range both standards specify;
+   the working grid's 360-380 and 780-830 nm are given zero weight here), each
+   illuminant scaled to Y_10 = 100.
+3. CIECAM02 with L_A = 100 cd/m^2, Y_b = 20, average surround and D = 1 (both
+   standards fix complete adaptation), then CAM02-UCS J', a', b' (:mod:`.cam`).
+4. dE'_i = |J'a'b'_test - J'a'b'_ref| per sample; Rf from the mean through
+   Rf = 10 ln(exp((100 - c_f dE')/10) + 1), c_f = 6.73; Rf,i the same per sample.
+5. (TM-30) 16 hue-angle bins of 22.5 deg by the *reference* hue of each sample; in
+   each bin the mean a', b' under test and reference.  Rg = 100 A_test / A_ref, the
+   areas of the two 16-gons of bin means.  Rf,hj from the bin's mean dE'.
+   Rcs,hj and Rhs,hj: the shift of the bin mean (test minus reference) projected on
+   the unit vector of the bin's centre hue angle (j + 1/2) 22.5 deg and on its
+   normal, divided by the chroma of the reference bin mean.  Rcs,hj is returned as a fraction (x 100 for the
+   percent TM-30 prints); Rhs,hj is dimensionless.
+
+Editions: CIE 224:2017 defines Rf (and Rf,i).  ANSI/IES TM-30-18 adopted exactly that
+Rf (with c_f = 6.73, the 10 deg observer and the CIE 224 reference) and keeps Rg, the
+hue-bin indices and the colour vector graphic; TM-30-20 changed the document's
+recommendations and annexes, not these calculations.  The first edition, TM-30-15,
+used c_f = 7.54 and a slightly different reference-blend and CES wavelength set-up,
+so its Rf differs by up to about one point; that edition is not implemented.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..constants import WAVELENGTH_NM
+from ..tables import cmfs, table
+from .cam import xyz_to_cam02ucs
+from .reference import reference_cie224
+
+__all__ = ["Tm30Result", "tm30", "tm30_samples", "fidelity_from_dE", "CF_CIE224", "N_BINS", "RANGE_NM"]
+
+#: Scaling factor c_f of CIE 224:2017 eq. (4.x) and ANSI/IES TM-30-18/-20.
+CF_CIE224 = 6.73
+#: Number of hue-angle bins -- ANSI/IES TM-30-20 section 5.
+N_BINS = 16
+#: Calculation range of CIE 224:2017 and TM-30 [nm].
+RANGE_NM = (380.0, 780.0)
+_CHUNK = 2048
+# Bin-centre hue angles (j + 1/2) 22.5 deg: the directions TM-30-20 projects the shifts on.
+_CENTRE_RAD = (np.arange(N_BINS) + 0.5) * (2.0 * np.pi / N_BINS)
+_COS_CENTRE, _SIN_CENTRE = np.cos(_CENTRE_RAD), np.sin(_CENTRE_RAD)
+
+
+@dataclass(frozen=True)
+class Tm30Result:
+    """CIE 224:2017 / ANSI/IES TM-30-20 colour rendition of N spectra.
+
+    Attributes
+    ----------
+    Rf : (N,)
+        Fidelity index (CIE 224:2017 R_f, identical to TM-30 R_f).
+    Rg : (N,)
+        Gamut index (TM-30).
+    Rf_h : (N, 16)
+        Fidelity per hue bin.
+    Rcs_h : (N, 16)
+        Relative chroma shift per hue bin [fraction; x100 for percent].
+    Rhs_h : (N, 16)
+        Hue shift per hue bin [dimensionless].
+    Rf_i : (N, 99)
+        Fidelity per colour evaluation sample.
+    dE_i : (N, 99)
+        CAM02-UCS colour difference per sample.
+    hue_bin_i : (N, 99)
+        Hue bin (0-15) of each sample, by its reference hue (-1 where there is no result).
+    ab_test_h, ab_ref_h : (N, 16, 2)
+        Bin means of a', b' under test and reference (for a colour vector graphic).
+    Jab_test_i, Jab_ref_i : (N, 99, 3)
+        CAM02-UCS J', a', b' of each sample under test and reference.
+    cct_K : (N,)
+        CCT the reference was built for [K].
+    reference : tuple of str
+        ``"planckian"``, ``"daylight"`` or ``"blend"`` per spectrum.
+    """
+
+    Rf: np.ndarray
+    Rg: np.ndarray
+    Rf_h: np.ndarray
+    Rcs_h: np.ndarray
+    Rhs_h: np.ndarray
+    Rf_i: np.ndarray
+    dE_i: np.ndarray
+    hue_bin_i: np.ndarray
+    ab_test_h: np.ndarray
+    ab_ref_h: np.ndarray
+    Jab_test_i: np.ndarray
+    Jab_ref_i: np.ndarray
+    cct_K: np.ndarray
+    reference: tuple[str, ...]
+
+
+def fidelity_from_dE(dE, *, cf: float = CF_CIE224) -> np.ndarray:
+    """Rf = 10 ln(exp((100 - c_f dE)/10) + 1) (CIE 224:2017 section 4.6)."""
+    dE = np.asarray(dE, dtype=np.float64)
+    return 10.0 * np.log1p(np.exp((100.0 - cf * dE) / 10.0))
+
+
+def _weights() -> tuple[np.ndarray, np.ndarray]:
+    wl = WAVELENGTH_NM
+    inside = ((wl >= RANGE_NM[0]) & (wl <= RANGE_NM[1])).astype(np.float64)
+    cmf = cmfs(10) * inside[:, None]  # (471, 3)
+    ces = table("ces_2017")  # (471, 99)
+    sample_w = (ces[:, :, None] * cmf[:, None, :]).reshape(wl.shape[0], -1)  # (471, 297)
+    return cmf, sample_w
+
+
+def _jab(values: np.ndarray, cmf: np.ndarray, sample_w: np.ndarray) -> np.ndarray:
+    """CAM02-UCS J'a'b' (n, 99, 3) of the CES under each illuminant in ``values`` (n, 471)."""
+    XYZ_w = values @ cmf
+    with np.errstate(divide="ignore", invalid="ignore"):
+        k = 100.0 / XYZ_w[:, 1]
+        XYZ_s = (values @ sample_w).reshape(values.shape[0], -1, 3) * k[:, None, None]
+        return xyz_to_cam02ucs(XYZ_s, (XYZ_w * k[:, None])[:, None, :])
+
+
+def _polygon_area(ab: np.ndarray) -> np.ndarray:
+    x, y = ab[..., 0], ab[..., 1]
+    return 0.5 * np.sum(x * np.roll(y, -1, axis=-1) - np.roll(x, -1, axis=-1) * y, axis=-1)
+
+
+def tm30_samples(values, reference_values, *, cf: float = CF_CIE224) -> dict[str, np.ndarray]:
+    """All TM-30 arrays for test spectra against given reference spectra (both (N, 471)).
+
+    The building block of :func:`tm30`; returns the fields of :class:`Tm30Result`
+    except ``cct_K`` and ``reference``.  Works in chunks of spectra to bound memory.
+    """
+    test = np.asarray(values, dtype=np.float64)
+    ref = np.asarray(reference_values, dtype=np.float64)
+    if test.ndim == 1:
+        test = test[None]
+    if ref.ndim == 1:
+        ref = ref[None]
+    if test.shape != ref.shape or test.shape[-1] != WAVELENGTH_NM.shape[0]:
+        raise ValueError(f"values and reference_values must both be (N, 471), got {test.shape} and {ref.shape}")
+    cmf, sample_w = _weights()
+    parts = [
+        _chunk(test[i : i + _CHUNK], ref[i : i + _CHUNK], cmf, sample_w, cf) for i in range(0, test.shape[0], _CHUNK)
+    ]
+    return {key: np.concatenate([p[key] for p in parts]) for key in parts[0]}
+
+
+def _chunk(test, ref, cmf, sample_w, cf) -> dict[str, np.ndarray]:
+    Jt = _jab(test, cmf, sample_w)
+    Jr = _jab(ref, cmf, sample_w)
+    dE = np.linalg.norm(Jt - Jr, axis=-1)  # (n, 99)
+    hue = np.arctan2(Jr[..., 2], Jr[..., 1]) % (2.0 * np.pi)
+    finite = np.isfinite(hue)
+    bins = np.minimum((np.where(finite, hue, 0.0) / (2.0 * np.pi / N_BINS)).astype(np.int64), N_BINS - 1)
+    bins = np.where(finite, bins, -1)  # a spectrum without a result (NaN) falls in no bin
+    n = test.shape[0]
+    # bin sums by one bincount over the flat index (spectrum, bin); spectra without a bin drop out
+    flat = np.where(bins >= 0, bins + N_BINS * np.arange(n)[:, None], n * N_BINS).ravel()
+
+    def bin_sum(w: np.ndarray) -> np.ndarray:
+        return np.bincount(flat, weights=w.ravel(), minlength=n * N_BINS + 1)[: n * N_BINS].reshape(n, N_BINS)
+
+    count = bin_sum(np.ones(bins.shape))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        inv = np.where(count > 0, 1.0 / count, np.nan)
+        ab_t = np.stack([bin_sum(Jt[..., 1]), bin_sum(Jt[..., 2])], axis=-1) * inv[..., None]
+        ab_r = np.stack([bin_sum(Jr[..., 1]), bin_sum(Jr[..., 2])], axis=-1) * inv[..., None]
+        dE_h = bin_sum(dE) * inv
+        Rg = 100.0 * _polygon_area(ab_t) / _polygon_area(ab_r)
+        C_r = np.hypot(ab_r[..., 0], ab_r[..., 1])
+        shift = ab_t - ab_r
+        Rcs = (shift[..., 0] * _COS_CENTRE + shift[..., 1] * _SIN_CENTRE) / C_r
+        Rhs = (-shift[..., 0] * _SIN_CENTRE + shift[..., 1] * _COS_CENTRE) / C_r
+    return {
+        "Rf": fidelity_from_dE(dE.mean(axis=1), cf=cf),
+        "Rg": Rg,
+        "Rf_h": fidelity_from_dE(dE_h, cf=cf),
+        "Rcs_h": Rcs,
+        "Rhs_h": Rhs,
+        "Rf_i": fidelity_from_dE(dE, cf=cf),
+        "dE_i": dE,
+        "hue_bin_i": bins,
+        "ab_test_h": ab_t,
+        "ab_ref_h": ab_r,
+        "Jab_test_i": Jt,
+        "Jab_ref_i": Jr,
+    }
+
+
+def tm30(values, cct_K, *, cf: float = CF_CIE224, blend_observer: int = 10) -> Tm30Result:
+    """CIE 224:2017 Rf and ANSI/IES TM-30-20 Rg, Rf,hj, Rcs,hj, Rhs,hj of spectra on the working grid.
+
+    Parameters
+    ----------
+    values : array_like (N, 471)
+        Spectral power of the test sources on 360-830 nm at 1 nm [any unit].
+    cct_K : array_like (N,)
+        CCT of each test source [K] (CIE 1931 2 deg, as both standards use), which
+        selects the reference.
+    cf
+        Scaling factor of the fidelity formula (6.73, CIE 224:2017).
+    blend_observer
+        Observer used to equalise Planckian and daylight inside the 4000-5000 K blend
+        (see :func:`~.reference.reference_cie224`).
+
+    Returns
+    -------
+    Tm30Result
+
+    References
+    ----------
+    CIE 224:2017 section 4; ANSI/IES TM-30-20 sections 4-6; CIE 159:2004; Luo, Cui and Li (2006).
+    """
+    test = np.asarray(values, dtype=np.float64)
+    if test.ndim == 1:
+        test = test[None]
+    T = np.atleast_1d(np.asarray(cct_K, dtype=np.float64))
+    if T.shape != (test.shape[0],):
+        raise ValueError(f"cct_K must have shape ({test.shape[0]},) to match values, got {T.shape}")
+    ref = reference_cie224(T, blend_observer=blend_observer)
+    fields = tm30_samples(test, ref.values, cf=cf)
+    return Tm30Result(**fields, cct_K=T, reference=ref.kind)

@@ -1,0 +1,550 @@
+"""Charts of a report, each a function ``chart(analysis, ax, ...)`` that draws on a given Axes.
+
+A library user can put any of them in a figure of their own::
+
+    import matplotlib.pyplot as plt
+    from cctkit.report import charts
+    fig, ax = plt.subplots()
+    charts.chromaticity_chart(analysis, ax, diagram="uvp")
+
+Charts only draw: every number comes from :class:`cctkit.analysis.Analysis` or from a
+library function (:func:`cctkit.rendering.compare_to_reference`, :mod:`cctkit.locus`,
+:mod:`cctkit.tolerance`).  Where a part of the analysis has not been computed the chart
+says so instead of failing.  Charts are readable in greyscale: series differ by line
+style and marker, not by colour alone.  matplotlib is imported by the caller (the
+functions use only Axes methods), so importing this module costs nothing.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any, Sequence
+
+import numpy as np
+
+from ..constants import DUV_LIMIT, VISIBLE_BAND_NM
+
+__all__ = [
+    "DIAGRAMS",
+    "Outline",
+    "series_style",
+    "shorten",
+    "not_computed",
+    "reference_comparison",
+    "spectrum_chart",
+    "difference_chart",
+    "spectra_overlay_chart",
+    "chromaticity_chart",
+    "ansi_outlines",
+    "ellipse_outline",
+    "cri_chart",
+    "hue_fidelity_chart",
+    "chroma_shift_chart",
+    "vector_graphic_chart",
+]
+
+#: Chromaticity diagrams a chart can be drawn in, with their axis names.
+DIAGRAMS = {
+    "uv": ("u (CIE 1960) [1]", "v (CIE 1960) [1]"),
+    "uvp": ("u\u2032 (CIE 1976) [1]", "v\u2032 (CIE 1976) [1]"),
+    "xy": ("x (CIE 1931) [1]", "y (CIE 1931) [1]"),
+}
+
+INK = "#111111"
+GREY = "#777777"
+LIGHT = "#d9d9d9"
+# Dark, well-separated hues for screens; every series also has its own line style and
+# marker, so a greyscale print stays legible.
+_SERIES_COLOURS = ("#1b1b1b", "#1f4e9a", "#b35900", "#2d7a3a", "#7a1f6b", "#8a6d00")
+_SERIES_LINES = ("-", "--", "-.", ":")
+_SERIES_MARKERS = ("o", "s", "^", "D", "v", "P", "X", "<", ">", "h", "*", "p")
+
+
+def series_style(i: int) -> dict[str, Any]:
+    """Colour, line style and marker of series ``i`` (distinct in greyscale for i < 12)."""
+    return {
+        "color": _SERIES_COLOURS[i % len(_SERIES_COLOURS)],
+        "linestyle": _SERIES_LINES[i % len(_SERIES_LINES)],
+        "marker": _SERIES_MARKERS[i % len(_SERIES_MARKERS)],
+    }
+
+
+def shorten(text: str, width: int, *, keep: str = "end") -> str:
+    """``text`` cut to at most ``width`` characters with an ellipsis.
+
+    ``keep="end"`` keeps the start (names); ``keep="tail"`` keeps the end (file paths).
+    """
+    text = " ".join(str(text).split())
+    if len(text) <= width:
+        return text
+    if width <= 1:
+        return "\u2026"
+    if keep == "tail":
+        return "\u2026" + text[-(width - 1):]
+    return text[: width - 1].rstrip() + "\u2026"
+
+
+def not_computed(ax, what: str) -> None:
+    """Mark ``ax`` as a placeholder: ``what`` was not computed for this report."""
+    ax.set_xticks([])
+    ax.set_yticks([])
+    for side in ax.spines.values():
+        side.set_linestyle(":")
+        side.set_edgecolor(GREY)
+    ax.text(0.5, 0.5, f"{what}\nnot computed", transform=ax.transAxes, ha="center", va="center",
+            color=GREY, fontsize="small")
+
+
+def _part(analysis, name: str):
+    return getattr(analysis, name, None)
+
+
+def _finite(x) -> bool:
+    try:
+        return bool(np.isfinite(float(x)))
+    except (TypeError, ValueError):
+        return False
+
+
+def reported_cct_K(analysis) -> np.ndarray:
+    """The CCT of each spectrum where the analysis reports one (|Duv| <= 0.05), else NaN [K]."""
+    cct = np.asarray(analysis.cct.cct_K, dtype=np.float64)
+    duv = np.asarray(analysis.cct.duv, dtype=np.float64)
+    with np.errstate(invalid="ignore"):
+        return np.where(np.abs(duv) <= DUV_LIMIT, cct, np.nan)
+
+
+def reference_comparison(analysis):
+    """:func:`cctkit.rendering.compare_to_reference` of every spectrum of ``analysis``.
+
+    The reference is built at the reported CCT; where no CCT is reported (|Duv| > 0.05)
+    the reference row is NaN and charts say "no reference".
+    """
+    from ..rendering import compare_to_reference
+
+    with np.errstate(all="ignore"):
+        return compare_to_reference(analysis.spectra.values, reported_cct_K(analysis))
+
+
+# ---------------------------------------------------------------- spectra
+
+
+def _band(ax) -> None:
+    lo, hi = VISIBLE_BAND_NM
+    ax.axvspan(lo, hi, color="#f2f2f2", zorder=0, lw=0)
+    ax.axvline(lo, color=LIGHT, lw=0.6, zorder=0)
+    ax.axvline(hi, color=LIGHT, lw=0.6, zorder=0)
+
+
+def spectrum_chart(analysis, ax, *, index: int = 0, comparison=None, legend: bool = True) -> None:
+    """Test spectrum and its reference illuminant at the same CCT, both scaled to Y = 100.
+
+    The scaling (equal luminance, CIE 1931 2 deg) and the reference (CIE 224:2017
+    Planckian / daylight / blend) are those of :func:`cctkit.rendering.compare_to_reference`.
+    The shaded band is 380-780 nm, the range CIE 15:2018 requires a measurement to cover.
+    """
+    cmp = comparison if comparison is not None else reference_comparison(analysis)
+    wl = cmp.wavelength_nm
+    _band(ax)
+    test = cmp.test[index]
+    ref = cmp.reference[index]
+    ax.plot(wl, test, color=INK, lw=1.0, label="test source")
+    has_ref = bool(np.all(np.isfinite(ref)))
+    if has_ref:
+        kind = cmp.reference_kind[index]
+        ax.plot(wl, ref, color=GREY, lw=1.0, linestyle="--",
+                label=f"reference ({kind}, {cmp.cct_K[index]:.0f} K)")
+    else:
+        ax.text(0.98, 0.95, "no reference: CCT not reported", transform=ax.transAxes, ha="right", va="top",
+                color=GREY, fontsize="small")
+    ax.set_xlim(wl[0], wl[-1])
+    top = np.nanmax(np.concatenate([test, ref if has_ref else test]))
+    ax.set_ylim(min(0.0, float(np.nanmin(test))), 1.08 * top if np.isfinite(top) and top > 0 else 1.0)
+    ax.set_ylabel("Spectral power [rel., Y = 100]")
+    ax.set_xlabel("Wavelength [nm]")
+    ax.text(0.5 * sum(VISIBLE_BAND_NM), 0.0, "380\u2013780 nm", transform=ax.get_xaxis_transform(),
+            ha="center", va="bottom", fontsize="x-small", color=GREY)
+    if legend:
+        ax.legend(loc="upper left", fontsize="x-small", frameon=False)
+
+
+def difference_chart(analysis, ax, *, index: int = 0, comparison=None) -> None:
+    """Test minus reference per wavelength, on the Y = 100 scale of :func:`spectrum_chart`."""
+    cmp = comparison if comparison is not None else reference_comparison(analysis)
+    wl = cmp.wavelength_nm
+    d = cmp.difference[index]
+    _band(ax)
+    ax.axhline(0.0, color=GREY, lw=0.6)
+    ax.set_xlim(wl[0], wl[-1])
+    ax.set_xlabel("Wavelength [nm]")
+    ax.set_ylabel("Test \u2212 ref. [rel.]")
+    if not np.all(np.isfinite(d)):
+        ax.text(0.5, 0.5, "no reference: CCT not reported", transform=ax.transAxes, ha="center", va="center",
+                color=GREY, fontsize="small")
+        ax.set_ylim(-1, 1)
+        return
+    ax.fill_between(wl, 0.0, d, where=d >= 0, color="#bdbdbd", lw=0, step=None, label="test above")
+    ax.fill_between(wl, 0.0, d, where=d < 0, facecolor="white", edgecolor=GREY, hatch="////", lw=0,
+                    label="test below")
+    ax.plot(wl, d, color=INK, lw=0.7)
+    lim = float(np.max(np.abs(d))) * 1.15 or 1.0
+    ax.set_ylim(-lim, lim)
+    ax.legend(loc="upper right", fontsize="x-small", frameon=False, ncol=2)
+
+
+def spectra_overlay_chart(analysis, ax, *, indices: Sequence[int] | None = None, comparison=None,
+                          labels: Sequence[str] | None = None, legend: bool = True) -> None:
+    """Several test spectra overlaid, each scaled to Y = 100 (so their shapes compare)."""
+    cmp = comparison if comparison is not None else reference_comparison(analysis)
+    idx = list(range(len(analysis))) if indices is None else list(indices)
+    wl = cmp.wavelength_nm
+    _band(ax)
+    many = len(idx) > 12
+    for k, i in enumerate(idx):
+        if many:
+            ax.plot(wl, cmp.test[i], color=INK, lw=0.4, alpha=0.35)
+            continue
+        st = series_style(k)
+        label = labels[k] if labels is not None else f"{k + 1}"
+        ax.plot(wl, cmp.test[i], color=st["color"], linestyle=st["linestyle"], marker=st["marker"],
+                markevery=(5 * k % 40, 40), markersize=3, lw=0.9, label=label)
+    ax.set_xlim(wl[0], wl[-1])
+    ax.set_ylim(bottom=min(0.0, float(np.nanmin(cmp.test[idx]))))
+    ax.set_xlabel("Wavelength [nm]")
+    ax.set_ylabel("Spectral power [rel., Y = 100]")
+    if legend and not many:
+        ax.legend(loc="upper left", fontsize="x-small", frameon=False, ncol=2 if len(idx) > 4 else 1)
+    if many:
+        ax.text(0.99, 0.97, f"{len(idx)} spectra", transform=ax.transAxes, ha="right", va="top",
+                fontsize="small", color=GREY)
+
+
+# ---------------------------------------------------------------- chromaticity
+
+
+@dataclass(frozen=True)
+class Outline:
+    """A closed outline to draw on a chromaticity chart (tolerance quadrangle, SDCM ellipse, ...).
+
+    ``points`` (M, 2) are in ``space`` (``"uv"``, ``"uvp"`` or ``"xy"``); they are converted
+    to the chart's diagram with the :mod:`cctkit.colorimetry` functions.  Straight edges
+    between few corners stay straight in every diagram (the maps between them are
+    projective), so four corners are enough for a quadrangle.
+    """
+
+    label: str
+    points: np.ndarray
+    space: str = "xy"
+    linestyle: str = "-"
+
+
+def _convert(points, space: str, diagram: str) -> np.ndarray:
+    from ..colorimetry import uv_to_uvp, uv_to_xy, uvp_to_uv, xy_to_uv
+
+    p = np.asarray(points, dtype=np.float64)
+    if space == diagram:
+        return p
+    uv = p if space == "uv" else (uvp_to_uv(p) if space == "uvp" else xy_to_uv(p))
+    if diagram == "uv":
+        return uv
+    return uv_to_uvp(uv) if diagram == "uvp" else uv_to_xy(uv)
+
+
+def ansi_outlines() -> tuple[Outline, ...]:
+    """The ANSI C78.377 quadrangles of :mod:`cctkit.tolerance` as outlines (empty if unavailable)."""
+    try:
+        from ..tolerance import ansi_quadrangles
+    except ImportError:  # the tolerance module is optional for charts
+        return ()
+    return tuple(Outline(q.name, np.asarray(q.corners_xy), "xy", "-") for q in ansi_quadrangles())
+
+
+def ellipse_outline(ellipse, steps: float = 1.0, *, label: str | None = None) -> Outline:
+    """A :class:`cctkit.tolerance.Ellipse` at ``steps`` SDCM as an outline."""
+    from ..tolerance import ellipse_boundary_xy
+
+    name = label if label is not None else f"{ellipse.name} {steps:g}-step"
+    return Outline(name, ellipse_boundary_xy(ellipse, steps), "xy", "--")
+
+
+# Round CCTs whose isotemperature lines may be drawn, coarse to fine.
+_ISO_LEVELS = (
+    (2000, 3000, 4000, 5000, 6500, 10000, 20000),
+    (1500, 2500, 3500, 4500, 5700, 8000, 15000),
+    (2200, 2700, 6000, 7000, 12000),
+    (1800, 2400, 2600, 2800, 3200, 3800, 4200, 5300, 9000),
+)
+_DUV_LINES = (-0.05, -0.04, -0.03, -0.02, -0.01, 0.01, 0.02, 0.03, 0.04, 0.05)
+_MIN_HALF_SPAN = {"uv": (0.022, 0.016), "uvp": (0.022, 0.024), "xy": (0.035, 0.03)}
+
+
+def _window(points: np.ndarray, diagram: str) -> tuple[float, float, float, float]:
+    pts = points[np.all(np.isfinite(points), axis=1)]
+    hu, hv = _MIN_HALF_SPAN[diagram]
+    if pts.size == 0:
+        from ..locus import planckian_uv
+
+        pts = _convert(planckian_uv(np.array([4000.0])), "uv", diagram)
+    lo = pts.min(axis=0)
+    hi = pts.max(axis=0)
+    c = 0.5 * (lo + hi)
+    half = np.maximum(0.5 * (hi - lo) * 1.25, [hu, hv])
+    return float(c[0] - half[0]), float(c[0] + half[0]), float(c[1] - half[1]), float(c[1] + half[1])
+
+
+def _inside(p: np.ndarray, win) -> np.ndarray:
+    return (p[:, 0] >= win[0]) & (p[:, 0] <= win[1]) & (p[:, 1] >= win[2]) & (p[:, 1] <= win[3])
+
+
+def chromaticity_chart(
+    analysis,
+    ax,
+    *,
+    indices: Sequence[int] | None = None,
+    diagram: str = "uv",
+    regions: Sequence[Outline] | None = None,
+    annotate: bool | None = None,
+    legend_labels: Sequence[str] | None = None,
+) -> None:
+    """The region around the Planckian locus with the sample point(s).
+
+    Draws the Planckian locus (:func:`cctkit.locus.planckian_locus`), isotemperature
+    lines at round CCTs (:func:`cctkit.locus.isotemperature_line`, Duv -0.05...+0.05),
+    lines of constant Duv every 0.01 (:func:`cctkit.locus.uv_from_cct_duv`) and the
+    chromaticity of each spectrum.
+
+    Parameters
+    ----------
+    analysis
+        A :class:`cctkit.analysis.Analysis`.
+    ax
+        matplotlib Axes to draw on.
+    indices
+        Spectra to plot (default all).
+    diagram
+        ``"uv"`` (CIE 1960, default), ``"uvp"`` (CIE 1976 u'v') or ``"xy"`` (CIE 1931).
+    regions
+        Extra outlines (:class:`Outline`: tolerance quadrangles, SDCM ellipses).  ``None``
+        draws the ANSI C78.377 quadrangles of :mod:`cctkit.tolerance` that fall in the
+        window; ``()`` draws none.
+    annotate
+        Number the points 1, 2, ... (default: when more than one and at most 40 points).
+    legend_labels
+        Legend text per plotted point (at most 12 points get a legend).
+    """
+    from ..locus import isotemperature_line, planckian_locus, uv_from_cct_duv
+
+    if diagram not in DIAGRAMS:
+        raise ValueError(f"diagram must be one of {', '.join(DIAGRAMS)}, got {diagram!r}")
+    idx = list(range(len(analysis))) if indices is None else list(indices)
+    sample = {"uv": analysis.uv, "uvp": analysis.uvp, "xy": analysis.xy}[diagram][idx]
+    win = _window(np.asarray(sample, dtype=np.float64), diagram)
+
+    T = np.geomspace(1000.0, 100000.0, 700)
+    locus = _convert(planckian_locus(T).uv, "uv", diagram)
+    for duv in _DUV_LINES:
+        line = _convert(uv_from_cct_duv(T, np.full_like(T, duv)), "uv", diagram)
+        ax.plot(line[:, 0], line[:, 1], color=GREY, lw=0.5, linestyle=":", zorder=1)
+        inside = np.flatnonzero(_inside(line, win))
+        if inside.size:
+            j = inside[len(inside) // 2]
+            ax.text(line[j, 0], line[j, 1], f"{duv:+.2f}", fontsize=5, color=GREY, ha="center", va="center",
+                    zorder=2, bbox={"boxstyle": "square,pad=0.05", "fc": "white", "ec": "none"})
+    ax.plot(locus[:, 0], locus[:, 1], color=INK, lw=1.1, zorder=3, label="Planckian locus")
+
+    ax.set_xlim(win[0], win[1])
+    ax.set_ylim(win[2], win[3])
+    placed: list[float] = []
+    span_x = win[1] - win[0]
+    duv_grid = np.linspace(-DUV_LIMIT, DUV_LIMIT, 41)
+    for level in _ISO_LEVELS:
+        for t in level:
+            line = _convert(isotemperature_line(float(t), duv_grid), "uv", diagram)
+            inside = np.flatnonzero(_inside(line, win))
+            if inside.size < 2:
+                continue
+            j = inside[0]  # the low-Duv end inside the window
+            fx = (line[j, 0] - win[0]) / span_x
+            if any(abs(fx - p) < 0.11 for p in placed):
+                continue  # too close to a line already labelled: leave this level out here
+            placed.append(fx)
+            ax.plot(line[:, 0], line[:, 1], color=GREY, lw=0.6, zorder=2)
+            ax.text(line[j, 0], line[j, 1], f"{t} K", fontsize=5.5, color=INK, ha="center", va="bottom",
+                    zorder=4, bbox={"boxstyle": "square,pad=0.1", "fc": "white", "ec": "none"})
+
+    outlines = ansi_outlines() if regions is None else tuple(regions)
+    drawn_region = False
+    for o in outlines:
+        pts = _convert(o.points, o.space, diagram)
+        if not _inside(pts, win).any():
+            continue
+        closed = np.vstack([pts, pts[:1]])
+        ax.plot(closed[:, 0], closed[:, 1], color="#4d4d4d", lw=0.7, linestyle=o.linestyle, zorder=2,
+                label=None)
+        c = pts.mean(axis=0)
+        if _inside(c[None], win)[0]:
+            ax.text(c[0], c[1], o.label, fontsize=5, color="#4d4d4d", ha="center", va="center", zorder=2)
+        drawn_region = True
+
+    annotate = (1 < len(idx) <= 40) if annotate is None else annotate
+    pts = np.asarray(sample, dtype=np.float64)
+    if len(idx) <= 12:
+        for k, p in enumerate(pts):
+            st = series_style(k)
+            lab = legend_labels[k] if legend_labels is not None else None
+            ax.plot(p[0], p[1], linestyle="none", marker=st["marker"], markersize=5, mfc="white" if k % 2 else
+                    st["color"], mec=st["color"], mew=1.0, zorder=5, label=lab)
+    else:
+        ax.plot(pts[:, 0], pts[:, 1], linestyle="none", marker="o", markersize=2.5, mfc="white", mec=INK,
+                mew=0.6, zorder=5)
+    if annotate:
+        for k, p in enumerate(pts):
+            if np.all(np.isfinite(p)):
+                ax.annotate(str(k + 1), p, xytext=(3, 3), textcoords="offset points", fontsize=5, zorder=6)
+
+    ax.set_aspect("equal", adjustable="datalim")
+    ax.set_xlabel(DIAGRAMS[diagram][0])
+    ax.set_ylabel(DIAGRAMS[diagram][1])
+    notes = ["isotemperature lines at round CCTs, dotted: constant Duv"]
+    if drawn_region:
+        notes.append("outlines: ANSI C78.377 quadrangles" if regions is None else "outlines: tolerance regions")
+    ax.set_title("; ".join(notes), fontsize=5.5, color=GREY, loc="left")
+    if legend_labels is not None and len(idx) <= 12:
+        ax.legend(loc="lower right", fontsize="x-small", frameon=True, framealpha=0.9, edgecolor=LIGHT)
+
+
+# ---------------------------------------------------------------- colour rendering
+
+
+def _bar_labels(ax, xs, values, fmt="{:.0f}", fontsize=5.5) -> None:
+    for x, v in zip(xs, values):
+        if np.isfinite(v):
+            ax.text(x, v, fmt.format(v), ha="center", va="bottom" if v >= 0 else "top", fontsize=fontsize)
+
+
+def cri_chart(analysis, ax, *, index: int = 0) -> None:
+    """CIE 13.3-1995 Ra and R1-R14 as bars; R9 (strong red) hatched and named."""
+    cri = _part(analysis, "cri")
+    if cri is None:
+        not_computed(ax, "CIE 13.3 colour rendering")
+        return
+    R = np.asarray(cri.R[index], dtype=np.float64)
+    Ra = float(np.asarray(cri.Ra)[index])
+    values = np.concatenate([[Ra], R])
+    names = ["Ra"] + [f"R{i}" for i in range(1, 15)]
+    xs = np.arange(values.size, dtype=float)
+    xs[1:] += 0.6  # a gap between the general index and the special ones
+    if not np.all(np.isfinite(values)):
+        not_computed(ax, "CIE 13.3 colour rendering (no CCT)")
+        return
+    bars = ax.bar(xs, values, width=0.75, color="#bdbdbd", edgecolor=INK, lw=0.5)
+    bars[0].set_facecolor("#636363")
+    bars[9].set_facecolor("white")
+    bars[9].set_hatch("xxxx")
+    _bar_labels(ax, xs, values)
+    ax.axhline(0.0, color=INK, lw=0.5)
+    ax.set_xticks(xs, names, fontsize=6)
+    lo = min(0.0, float(np.min(values)) - 12.0)
+    ax.set_ylim(lo, 112)
+    ax.set_ylabel("Index [1]")
+    ax.set_xlim(xs[0] - 0.7, xs[-1] + 0.7)
+    valid = bool(np.asarray(cri.valid)[index]) if getattr(cri, "valid", None) is not None else True
+    note = "R1\u2013R8 average to Ra; R9 (strong red) hatched"
+    if not valid:
+        dc = float(np.asarray(cri.dc)[index])
+        note += f"; NOT VALID: DC = {dc:.4f} > 0.0054"
+    ax.set_title(note, fontsize=6, loc="left", color=INK if not valid else GREY)
+
+
+def _tm30(analysis, ax, what: str):
+    t = _part(analysis, "tm30")
+    if t is None:
+        not_computed(ax, what)
+    return t
+
+
+_BIN_X = np.arange(1, 17)
+
+
+def hue_fidelity_chart(analysis, ax, *, index: int = 0) -> None:
+    """TM-30-20 local fidelity Rf,h1-Rf,h16 per hue bin."""
+    t = _tm30(analysis, ax, "TM-30 hue-bin fidelity")
+    if t is None:
+        return
+    v = np.asarray(t.Rf_h[index], dtype=np.float64)
+    ax.bar(_BIN_X, v, width=0.75, color="#bdbdbd", edgecolor=INK, lw=0.5)
+    _bar_labels(ax, _BIN_X, v, fontsize=5)
+    ax.set_xticks(_BIN_X, [str(i) for i in _BIN_X], fontsize=6)
+    ax.set_xlim(0.3, 16.7)
+    ax.set_ylim(0, 112)
+    ax.set_xlabel("Hue bin [1\u201316]")
+    ax.set_ylabel("Rf,h [1]")
+
+
+def chroma_shift_chart(analysis, ax, *, index: int = 0) -> None:
+    """TM-30-20 local chroma shift Rcs,h1-Rcs,h16 [%]; decreases hatched."""
+    t = _tm30(analysis, ax, "TM-30 chroma shift")
+    if t is None:
+        return
+    v = 100.0 * np.asarray(t.Rcs_h[index], dtype=np.float64)  # fraction -> percent (a unit change)
+    bars = ax.bar(_BIN_X, v, width=0.75, color="#bdbdbd", edgecolor=INK, lw=0.5)
+    for b, x in zip(bars, v):
+        if x < 0:
+            b.set_facecolor("white")
+            b.set_hatch("////")
+    _bar_labels(ax, _BIN_X, v, fontsize=5)
+    ax.axhline(0.0, color=INK, lw=0.5)
+    ax.set_xticks(_BIN_X, [str(i) for i in _BIN_X], fontsize=6)
+    ax.set_xlim(0.3, 16.7)
+    lim = max(10.0, float(np.nanmax(np.abs(v))) * 1.3) if np.any(np.isfinite(v)) else 10.0
+    ax.set_ylim(-lim, lim)
+    ax.set_xlabel("Hue bin [1\u201316]")
+    ax.set_ylabel("Rcs,h [%]")
+
+
+def vector_graphic_chart(analysis, ax, *, index: int = 0) -> None:
+    """TM-30 colour vector graphic: reference circle and test polygon, normalised.
+
+    Each hue bin's reference point sits on the unit circle at the bin-centre hue
+    angle; the test vertex is displaced from it by the library's relative chroma shift
+    Rcs,hj (radially) and hue shift Rhs,hj (tangentially), which are the bin-average
+    a'b' shift divided by the reference chroma and resolved along the bin-centre
+    direction (ANSI/IES TM-30-20 section 5, from memory).  Only a change of basis for
+    drawing happens here.
+    """
+    t = _tm30(analysis, ax, "TM-30 colour vector graphic")
+    if t is None:
+        return
+    rcs = np.asarray(t.Rcs_h[index], dtype=np.float64)
+    rhs = np.asarray(t.Rhs_h[index], dtype=np.float64)
+    th = (np.arange(16) + 0.5) * (2.0 * np.pi / 16.0)  # bin centres
+    c, s = np.cos(th), np.sin(th)
+    tx = c * (1.0 + rcs) - s * rhs
+    ty = s * (1.0 + rcs) + c * rhs
+    circle = np.linspace(0.0, 2.0 * np.pi, 181)
+    for edge in np.arange(16) * (2.0 * np.pi / 16.0):
+        ax.plot([0, 1.45 * np.cos(edge)], [0, 1.45 * np.sin(edge)], color=LIGHT, lw=0.4, zorder=0)
+    for r in (0.8, 1.2):
+        ax.plot(r * np.cos(circle), r * np.sin(circle), color=LIGHT, lw=0.5, linestyle=":", zorder=0)
+    ax.plot(np.cos(circle), np.sin(circle), color=GREY, lw=1.0, linestyle="--", label="reference")
+    if not np.all(np.isfinite(tx)):
+        ax.text(0, 0, "no result", ha="center", va="center", color=GREY)
+    else:
+        ax.plot(np.append(tx, tx[0]), np.append(ty, ty[0]), color=INK, lw=1.1, marker="o", markersize=2.2,
+                label="test")
+        for k in range(16):
+            ax.annotate("", (tx[k], ty[k]), (c[k], s[k]),
+                        arrowprops={"arrowstyle": "-|>", "lw": 0.5, "color": INK, "mutation_scale": 5})
+    for k in range(16):
+        ax.text(1.33 * c[k], 1.33 * s[k], str(k + 1), ha="center", va="center", fontsize=5, color=GREY)
+    ax.set_xlim(-1.45, 1.45)
+    ax.set_ylim(-1.45, 1.45)
+    ax.set_aspect("equal", adjustable="box")
+    ax.set_xticks([-1, 0, 1])
+    ax.set_yticks([-1, 0, 1])
+    ax.set_xlabel("a\u2032 / C\u2032ref [1]")
+    ax.set_ylabel("b\u2032 / C\u2032ref [1]")
+    rf = float(np.asarray(t.Rf)[index])
+    rg = float(np.asarray(t.Rg)[index])
+    ax.text(-1.42, 1.42, f"Rf {rf:.0f}\nRg {rg:.0f}" if np.isfinite(rf) else "", ha="left", va="top", fontsize=6)
+    ax.legend(loc="lower left", fontsize=5, frameon=False, borderpad=0.1, handlelength=1.5)
