@@ -169,8 +169,60 @@ def _extra_measures(g: Spectra, tri, xy, cct: CctResult, *, observer: int, rende
     return parts
 
 
+@dataclass(frozen=True)
+class _CriPart:
+    """CIE 13.3 results and their record fields."""
+
+    result: Any
+
+    def record(self, i: int) -> dict[str, Any]:
+        r = self.result
+        return {
+            "Ra": _f(r.Ra, i),
+            "R": [_f(r.R[i], j) for j in range(r.R.shape[1])],
+            "cri_valid": bool(r.valid[i]),
+            "cri_dc": _f(r.dc, i),
+            "cri_reference": r.reference[i],
+        }
+
+
+@dataclass(frozen=True)
+class _Tm30Part:
+    """CIE 224:2017 / TM-30-20 results and their record fields."""
+
+    result: Any
+
+    def record(self, i: int) -> dict[str, Any]:
+        r = self.result
+        row = lambda a: [_f(a[i], j) for j in range(a.shape[1])]  # noqa: E731
+        return {
+            "Rf": _f(r.Rf, i),
+            "Rg": _f(r.Rg, i),
+            "Rf_h": row(r.Rf_h),
+            "Rcs_h": row(r.Rcs_h),
+            "Rhs_h": row(r.Rhs_h),
+            "Rf_i": row(r.Rf_i),
+            "reference": r.reference[i],
+        }
+
+
 def _rendering(V: np.ndarray, cct: CctResult) -> dict[str, Any]:
-    return {}
+    from .rendering import cie13_3, tm30
+
+    T = np.where(np.isfinite(cct.cct_K) & (np.abs(cct.duv) <= DUV_LIMIT), cct.cct_K, np.nan)
+    cri = cie13_3(V, T)
+    fid = tm30(V, T)
+    flags = []
+    for i in range(V.shape[0]):
+        f: tuple[Flag, ...] = ()
+        if np.isfinite(T[i]) and not bool(cri.valid[i]):
+            f += (Flag("cri-not-meaningful",
+                       f"chromaticity distance DC = {float(cri.dc[i]):.4f} from the reference is >= 0.0054: "
+                       "CIE 13.3 says the index is then not meaningful"),)
+        if not np.isfinite(T[i]):
+            f += (Flag("no-rendering", "no CCT, so no reference illuminant: colour rendering not computed"),)
+        flags.append(f)
+    return {"cri": _CriPart(cri), "tm30": _Tm30Part(fid), "_flags": tuple(flags)}
 
 
 def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True) -> list[dict[str, Any]]:

@@ -293,3 +293,77 @@ def test_shape_errors():
         cie13_3(np.ones((2, 471)), [3000.0])
     with pytest.raises(ValueError, match=r"cct_K must have shape \(2,\)"):
         tm30(np.ones((2, 471)), [3000.0, 3000.0, 1.0])
+
+
+# ----------------------------------------------------------------------- command line (cctkit.cli.compare)
+
+
+@pytest.fixture()
+def cli(tmp_path, monkeypatch):
+    """A typer app with only the compare commands (the main app lists its modules itself)."""
+    import typer
+    from typer.testing import CliRunner
+
+    from cctkit.cli import _OneLineErrors
+    from cctkit.cli import compare
+
+    app = typer.Typer(cls=_OneLineErrors, add_completion=False)
+
+    @app.callback()
+    def _root() -> None:
+        """test root"""
+
+    compare.register(app)
+    monkeypatch.chdir(tmp_path)
+    sd = colour.SDS_ILLUMINANTS["FL2"]
+    (tmp_path / "lamp.csv").write_text(
+        "wavelength_nm,bench lamp\n" + "".join(f"{w:g},{v:g}\n" for w, v in zip(sd.wavelengths, sd.values))
+    )
+    runner = CliRunner()
+    return lambda *args: runner.invoke(app, list(args))
+
+
+def test_cli_versus_json_and_csv(cli, tmp_path):
+    import json
+
+    res = cli("versus", "lamp.csv", "--json", "--output", "cmp.csv")
+    assert res.exit_code == 0, res.output
+    doc = json.loads(res.stdout)  # exactly one JSON document on stdout
+    (rec,) = doc["spectra"]
+    # FL2: Ra 64 (CIE 15:2004, from memory), Rf 70 / Rg 86 (IES TM-30-18 spreadsheet values
+    # carried in colour-science 0.4.7's tests)
+    assert round(rec["Ra"]) == 64 and round(rec["Rf"]) == 70 and round(rec["Rg"]) == 86
+    assert rec["reference"] == "blend" and rec["cri_valid"] is True
+    assert len(rec["ces_dE"]) == 99 and len(rec["tcs_dE"]) == 14 and len(doc["wavelength_nm"]) == 471
+    lines = (tmp_path / "cmp.csv").read_text().splitlines()
+    assert lines[0].startswith("wavelength_nm,bench lamp: test (Y=100)") and len(lines) == 472
+    # refuses to overwrite without --overwrite: one line on stderr, exit 2, file untouched
+    before = (tmp_path / "cmp.csv").read_bytes()
+    res = cli("versus", "lamp.csv", "--output", "cmp.csv")
+    assert res.exit_code == 2 and "pass --overwrite" in res.output and len(res.output.strip().splitlines()) == 1
+    assert (tmp_path / "cmp.csv").read_bytes() == before
+
+
+def test_cli_versus_table_and_bad_method(cli):
+    res = cli("versus", "lamp.csv", "--method", "cie13.3")
+    assert res.exit_code == 0 and "Ra (CIE 13.3)" in res.output and "(planckian)" in res.output
+    res = cli("versus", "lamp.csv", "--method", "cie1964")
+    assert res.exit_code == 2 and res.output.strip() == "cctkit: --method must be cie224 or cie13.3, got 'cie1964'"
+    res = cli("versus", "missing.csv")
+    assert res.exit_code == 2 and "missing.csv" in res.output and "Traceback" not in res.output
+
+
+def test_cli_reference_round_trip(cli, tmp_path):
+    import json
+
+    from cctkit.readers import read_spectra
+
+    res = cli("reference", "6500", "--method", "cie13.3", "--output", "d.json", "--json")
+    assert res.exit_code == 0, res.output
+    doc = json.loads(res.stdout)
+    assert doc["reference"] == "daylight"
+    back = to_working_grid(read_spectra(tmp_path / "d.json"))
+    # CIE 15:2018 section 4.1.2: daylight of CCT T; CCT of the file re-read within a kelvin
+    assert _cct(back.values)[0] == pytest.approx(6500.0, abs=1.0)
+    res = cli("reference", "500")
+    assert res.exit_code == 2 and res.output.strip() == "cctkit: CCT_K must be between 1000 and 25000 K, got 500"

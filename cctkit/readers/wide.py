@@ -88,12 +88,15 @@ class ChunkedInput:
         Number of spectra when known beforehand (else ``None``).
     files
         Every file the chunks come from (an output must not be any of them).
+    chunk_size
+        Largest number of spectra per chunk.
     """
 
     path: str
     layout: str
     total: int | None
     files: tuple[str, ...]
+    chunk_size: int
     _make: Callable[[], Iterator[Spectra]] = field(repr=False, compare=False)
 
     def chunks(self) -> Iterator[Spectra]:
@@ -216,7 +219,7 @@ def _open_single(p: Path, source: str, chunk_size: int, wanted: Quantity | None)
     def make() -> Iterator[Spectra]:
         return _rechunk(iter([read_spectra(p, quantity=wanted)]), chunk_size)
 
-    return ChunkedInput(source, "delimited", None, (source,), make)
+    return ChunkedInput(source, "delimited", None, (source,), chunk_size, make)
 
 
 def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None) -> ChunkedInput:
@@ -251,7 +254,7 @@ def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None)
 
         return _rechunk(each(), chunk_size)
 
-    return ChunkedInput(source, "folder", None, files, make)
+    return ChunkedInput(source, "folder", None, files, chunk_size, make)
 
 
 # --------------------------------------------------------------------------- wide CSV
@@ -362,7 +365,7 @@ def _open_wide(p: Path, source: str, chunk_size: int, wanted: Quantity | None, h
     def make() -> Iterator[Spectra]:
         return _iter_wide(p, source, chunk_size, quantity, head, digest)
 
-    return ChunkedInput(source, "wide-csv", estimate, (source,), make)
+    return ChunkedInput(source, "wide-csv", estimate, (source,), chunk_size, make)
 
 
 def _iter_wide(p: Path, source: str, chunk_size: int, quantity: Quantity, head: _WideHead, digest: str) -> Iterator[Spectra]:
@@ -539,7 +542,7 @@ def _open_parquet(p: Path, source: str, chunk_size: int, wanted: Quantity | None
         if offset == 0:
             raise InputError("holds no rows", source=source)
 
-    return ChunkedInput(source, "parquet", int(pf.metadata.num_rows), (source,), make)
+    return ChunkedInput(source, "parquet", int(pf.metadata.num_rows), (source,), chunk_size, make)
 
 
 def _parquet_values(batch, wl_columns, L: int, source: str, offset: int) -> np.ndarray:
