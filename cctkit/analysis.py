@@ -51,8 +51,8 @@ class Analysis:
     alphaopic: Any = None
     shape: Any = None
     dominant: Any = None
-    cri: Any = None
-    tm30: Any = None
+    cri: Any = None  # cctkit.rendering.Cri13Result
+    tm30: Any = None  # cctkit.rendering.Tm30Result
     flags: tuple[tuple[Flag, ...], ...] = field(default=())
 
     def __len__(self) -> int:
@@ -92,9 +92,13 @@ def _record(a: Analysis, i: int) -> dict[str, Any]:
         "Y": _f(a.XYZ[:, 1], i),
         "Z": _f(a.XYZ[:, 2], i),
     }
-    for part in (a.photometry, a.alphaopic, a.shape, a.dominant, a.cri, a.tm30):
+    for part in (a.photometry, a.alphaopic, a.shape, a.dominant):
         if part is not None:
             r.update(part.record(i))
+    if a.cri is not None:
+        r.update(_cri_record(a.cri, i))
+    if a.tm30 is not None:
+        r.update(_tm30_record(a.tm30, i))
     r["flags"] = [f.as_dict() for f in a.flags[i]]
     return r
 
@@ -169,41 +173,29 @@ def _extra_measures(g: Spectra, tri, xy, cct: CctResult, *, observer: int, rende
     return parts
 
 
-@dataclass(frozen=True)
-class _CriPart:
-    """CIE 13.3 results and their record fields."""
-
-    result: Any
-
-    def record(self, i: int) -> dict[str, Any]:
-        r = self.result
-        return {
-            "Ra": _f(r.Ra, i),
-            "R": [_f(r.R[i], j) for j in range(r.R.shape[1])],
-            "cri_valid": bool(r.valid[i]),
-            "cri_dc": _f(r.dc, i),
-            "cri_reference": r.reference[i],
-        }
+def _cri_record(r, i: int) -> dict[str, Any]:
+    """Record fields of a CIE 13.3 result."""
+    return {
+        "Ra": _f(r.Ra, i),
+        "R": [_f(r.R[i], j) for j in range(r.R.shape[1])],
+        "cri_valid": bool(r.valid[i]),
+        "cri_dc": _f(r.dc, i),
+        "cri_reference": r.reference[i],
+    }
 
 
-@dataclass(frozen=True)
-class _Tm30Part:
-    """CIE 224:2017 / TM-30-20 results and their record fields."""
-
-    result: Any
-
-    def record(self, i: int) -> dict[str, Any]:
-        r = self.result
-        row = lambda a: [_f(a[i], j) for j in range(a.shape[1])]  # noqa: E731
-        return {
-            "Rf": _f(r.Rf, i),
-            "Rg": _f(r.Rg, i),
-            "Rf_h": row(r.Rf_h),
-            "Rcs_h": row(r.Rcs_h),
-            "Rhs_h": row(r.Rhs_h),
-            "Rf_i": row(r.Rf_i),
-            "reference": r.reference[i],
-        }
+def _tm30_record(r, i: int) -> dict[str, Any]:
+    """Record fields of a CIE 224 / TM-30 result."""
+    row = lambda a: [_f(a[i], j) for j in range(a.shape[1])]  # noqa: E731
+    return {
+        "Rf": _f(r.Rf, i),
+        "Rg": _f(r.Rg, i),
+        "Rf_h": row(r.Rf_h),
+        "Rcs_h": [None if v is None else 100.0 * v for v in row(r.Rcs_h)],  # percent, as TM-30 reports it
+        "Rhs_h": row(r.Rhs_h),
+        "Rf_i": row(r.Rf_i),
+        "reference": r.reference[i],
+    }
 
 
 def _rendering(V: np.ndarray, cct: CctResult) -> dict[str, Any]:
@@ -222,7 +214,7 @@ def _rendering(V: np.ndarray, cct: CctResult) -> dict[str, Any]:
         if not np.isfinite(T[i]):
             f += (Flag("no-rendering", "no CCT, so no reference illuminant: colour rendering not computed"),)
         flags.append(f)
-    return {"cri": _CriPart(cri), "tm30": _Tm30Part(fid), "_flags": tuple(flags)}
+    return {"cri": cri, "tm30": fid, "_flags": tuple(flags)}
 
 
 def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True) -> list[dict[str, Any]]:

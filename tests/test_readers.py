@@ -190,6 +190,19 @@ def test_single_generic_header_uses_the_file_stem(tmp_path):
     assert s.quantity is Quantity.IRRADIANCE
 
 
+def test_quoted_cells(tmp_path):
+    text = '"wavelength (nm)","lamp, north (W/nm)","lamp south (W/nm)"\n' + "\n".join(
+        f'"{w:g}","{a:g}",{b:g}' for w, a, b in zip(WL, VA, VB)
+    )
+    s = read_spectra(write(tmp_path, "quoted.csv", text))
+    assert s.names == ("lamp, north", "lamp south")
+    assert s.quantity is Quantity.RADIANT_FLUX
+    np.testing.assert_array_equal(s.values, [VA, VB])
+    text = '"wavelength";"A"\n' + "\n".join(f'{w:g};"{str(a).replace(".", ",")}"' for w, a in zip(WL, VA))
+    s = read_spectra(write(tmp_path, "quoted_semi.csv", text))
+    np.testing.assert_allclose(s.values[0], VA, rtol=0, atol=1e-15)
+
+
 def test_empty_first_header_cell(tmp_path):
     s = read_spectra(write(tmp_path, "blankcorner.csv", table(",", header=",A,B")))
     assert s.names == ("A", "B")

@@ -97,9 +97,15 @@ def versus_cmd(
     ces_labels = [f"CES{i + 1:02d}" for i in range(comp.ces_dE.shape[1])]
     docs: list[dict[str, Any]] = []
     for i in range(n):
+        # Only where the spectrum was measured (and inside 380-780 nm): extrapolated values
+        # beyond the measured range say nothing about the source.
+        lo, hi, _ = spectra.measured_range_nm[i]
+        wl = comp.wavelength_nm
+        measured = (wl >= max(lo, 380.0)) & (wl <= min(hi, 780.0))
+        diff = np.where(measured, np.abs(comp.difference[i]), np.nan)
         with np.errstate(invalid="ignore"):
-            dev = np.nanmax(np.abs(comp.difference[i])) if np.isfinite(comp.difference[i]).any() else np.nan
-            at = int(np.nanargmax(np.abs(comp.difference[i]))) if np.isfinite(dev) else None
+            dev = np.nanmax(diff) if np.isfinite(diff).any() else np.nan
+            at = int(np.nanargmax(diff)) if np.isfinite(dev) else None
         docs.append({
             "name": spectra.names[i],
             "source": spectra.sources[i],

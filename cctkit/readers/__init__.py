@@ -356,9 +356,10 @@ _RELATIVE_UNITS = {
     "arbitrary units", "rel", "rel.", "relative", "relative units", "rel. units", "counts", "count", "cts",
     "%", "norm", "norm.", "normalised", "normalized", "unitless", "dimensionless",
 }
-_PREFIXES = {"p": 1e-12, "n": 1e-9, "u": 1e-6, "m": 1e-3, "c": 1e-2, "d": 1e-1, "k": 1e3, "M": 1e6, "G": 1e9}
-# symbol -> (dimension index, SI factor): dimensions are W, m, sr
-_BASE = {"W": (0, 1.0), "w": (0, 1.0), "m": (1, 1.0), "sr": (2, 1.0), "Å": (1, 1e-10)}
+# Decimal exponents, kept as integers so that a conversion factor is one exact power of ten.
+_PREFIXES = {"p": -12, "n": -9, "u": -6, "m": -3, "c": -2, "d": -1, "k": 3, "M": 6, "G": 9}
+# symbol -> (dimension index, decimal exponent of its SI value): dimensions are W, m, sr
+_BASE = {"W": (0, 0), "w": (0, 0), "m": (1, 0), "sr": (2, 0), "Å": (1, -10)}
 _SUPERSCRIPTS = str.maketrans({"⁻": "-", "⁺": "+", "⁰": "0", "¹": "1", "²": "2", "³": "3", "⁴": "4",
                                "µ": "u", "μ": "u", "·": " ", "⋅": " ", "*": " ", "×": " ", "^": "",
                                "−": "-"})
@@ -370,14 +371,15 @@ _SPECTRAL_DIMENSIONS = {
     (1, -3, -1): Quantity.RADIANCE,
     (1, -1, -1): Quantity.INTENSITY,
 }
-_BASE_UNIT_SI = 1e9  # W/nm = 1e9 W/m; W/(m2 nm) = 1e9 W/m3; likewise with sr^-1
+_BASE_UNIT_EXP = 9  # W/nm = 1e9 W/m; W/(m2 nm) = 1e9 W/m3; likewise with sr^-1
 
 
 class _UnitSyntax(Exception):
     """The text is not a product of powers of known symbols."""
 
 
-def _unit_dimensions(text: str) -> tuple[tuple[int, int, int], float]:
+def _unit_dimensions(text: str) -> tuple[tuple[int, int, int], int]:
+    """(W, m, sr) exponents and the decimal exponent of the unit's SI value."""
     s = text.translate(_SUPERSCRIPTS).strip()
     s = re.sub(r"(?<=[A-Za-z0-9)\]])\.(?=[A-Za-z(\[])", " ", s)  # "W.m-2.nm-1"
     pos = 0
@@ -405,7 +407,7 @@ def _unit_dimensions(text: str) -> tuple[tuple[int, int, int], float]:
 
 def _unit_group(tokens, i):
     dims = [0, 0, 0]
-    factor = 1.0
+    factor = 0
     sign = 1
     seen_any = False
     while i < len(tokens):
@@ -425,12 +427,12 @@ def _unit_group(tokens, i):
             i += 1
             for k in range(3):
                 dims[k] += sign * sub[k]
-            factor *= f**sign
+            factor += sign * f
             seen_any = True
             continue
         dim, f = _symbol(sym)
         dims[dim] += sign * exp
-        factor *= f ** (sign * exp)
+        factor += f * sign * exp
         seen_any = True
         i += 1
     if not seen_any:
@@ -438,12 +440,12 @@ def _unit_group(tokens, i):
     return tuple(dims), factor, i
 
 
-def _symbol(sym: str) -> tuple[int, float]:
+def _symbol(sym: str) -> tuple[int, int]:
     if sym in _BASE:
         return _BASE[sym]
     if len(sym) > 1 and sym[0] in _PREFIXES and sym[1:] in _BASE:
         dim, f = _BASE[sym[1:]]
-        return dim, f * _PREFIXES[sym[0]]
+        return dim, f + _PREFIXES[sym[0]]
     raise _UnitSyntax(sym)
 
 
@@ -495,7 +497,10 @@ def parse_spectral_unit(text: str, *, source: str, line: int | None = None) -> t
             source=source,
             line=line,
         )
-    return q, factor / _BASE_UNIT_SI
+    if abs(factor - _BASE_UNIT_EXP) > 30:
+        raise InputError(f"unit {t!r} is off by a factor of 1e{factor - _BASE_UNIT_EXP}; refused as a typo",
+                         source=source, line=line)
+    return q, 10.0 ** (factor - _BASE_UNIT_EXP)
 
 
 def parse_length_unit(text: str, *, source: str, line: int | None = None) -> float:
@@ -504,10 +509,10 @@ def parse_length_unit(text: str, *, source: str, line: int | None = None) -> flo
     try:
         dims, factor = _unit_dimensions(t)
     except (_UnitSyntax, OverflowError, ZeroDivisionError):
-        dims, factor = None, 0.0
-    if dims != (0, 1, 0):
+        dims, factor = None, 0
+    if dims != (0, 1, 0) or abs(factor + 9) > 30:
         raise InputError(f"unknown wavelength unit {t!r}; expected nm, um (µm) or Å", source=source, line=line)
-    return factor / 1e-9
+    return 10.0 ** (factor + 9)
 
 
 def check_plain_nm(wavelength_nm: np.ndarray, *, source: str, line: int | None = None) -> None:

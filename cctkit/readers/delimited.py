@@ -6,6 +6,7 @@ Layout
   the data rows, in that order of preference).  With tab, semicolon or white
   space a decimal comma is accepted (``380,5;0,012``); a file mixing decimal
   commas and decimal points is refused.
+* Cells may be quoted as spreadsheets write them (``"lamp, north"``).
 * Lines whose first non-blank characters are ``#``, ``//`` or ``%`` are comments;
   blank lines, and lines holding nothing but separators, are skipped.
 * An optional header row (the first non-comment row, when any of its cells is
@@ -29,6 +30,7 @@ with a different number of cells, duplicate or unordered wavelengths.
 
 from __future__ import annotations
 
+import csv
 import re
 
 import numpy as np
@@ -107,8 +109,11 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
     if header is not None and len(header) != ncol and delimiter is None:
         header = _merge_bracketed(header)
     if header is not None and len(header) != ncol:
+        hint = "; notes above the table must be comment lines starting with #" if len(header) == 1 else ""
         raise InputError(
-            f"header has {len(header)} columns but the data rows have {ncol}", source=source, line=header_line
+            f"header has {len(header)} column{'s' if len(header) != 1 else ''} but the data rows have {ncol}{hint}",
+            source=source,
+            line=header_line,
         )
 
     table = _numbers(rows, split, ncol, decimal_comma, source)  # (L, ncol)
@@ -172,7 +177,14 @@ def _splitter(delimiter: str | None):
         return str.split
 
     def split(line: str) -> list[str]:
-        cells = [c.strip() for c in line.split(delimiter)]
+        if '"' in line:
+            try:  # quoted cells, as spreadsheets write them: "lamp, north";"0,5"
+                raw = next(csv.reader([line], delimiter=delimiter, skipinitialspace=True))
+            except (csv.Error, StopIteration):
+                raw = line.split(delimiter)
+        else:
+            raw = line.split(delimiter)
+        cells = [c.strip() for c in raw]
         while len(cells) > 1 and cells[-1] == "":
             cells.pop()
         return cells
@@ -231,8 +243,7 @@ def _numbers(rows, split, ncol: int, decimal_comma: bool, source: str) -> np.nda
 
 
 def _row_error(cells, ncol, line, source, decimal_comma, column=None):
-    texty = [c for c in cells if c and not _NUMBER.fullmatch(c) and not _NUMBER_COMMA.fullmatch(c)
-             and c.lower() not in _MISSING]
+    texty = [c for c in cells if any(ch.isalpha() for ch in c) and c.lower() not in _MISSING]
     if texty and len(texty) == len(cells) or (texty and any(ch.isalpha() for ch in cells[0])):
         raise InputError(
             f"text among the data rows (a second header?): {short(cells[0])}", source=source, line=line

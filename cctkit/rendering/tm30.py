@@ -19,15 +19,19 @@ Procedure (CIE 224:2017 section 4; ANSI/IES TM-30-20 sections 4-6):
    areas of the two 16-gons of bin means.  Rf,hj from the bin's mean dE'.
    Rcs,hj and Rhs,hj: the shift of the bin mean (test minus reference) projected on
    the unit vector of the bin's centre hue angle (j + 1/2) 22.5 deg and on its
-   normal, divided by the chroma of the reference bin mean.  Rcs,hj is returned as a fraction (x 100 for the
-   percent TM-30 prints); Rhs,hj is dimensionless.
+   normal, divided by the chroma of the reference bin mean.  Rcs,hj is returned as
+   a fraction (x 100 for the percent TM-30 prints); Rhs,hj is dimensionless.  (The
+   bin-centre direction, not the bin mean's own hue, reproduces the IES values for
+   FL2 carried in the reference library's tests; see ``tests/test_rendering.py``.)
 
-Editions: CIE 224:2017 defines Rf (and Rf,i).  ANSI/IES TM-30-18 adopted exactly that
-Rf (with c_f = 6.73, the 10 deg observer and the CIE 224 reference) and keeps Rg, the
-hue-bin indices and the colour vector graphic; TM-30-20 changed the document's
-recommendations and annexes, not these calculations.  The first edition, TM-30-15,
-used c_f = 7.54 and a slightly different reference-blend and CES wavelength set-up,
-so its Rf differs by up to about one point; that edition is not implemented.
+Editions (from memory of the documents, not re-read for this module): CIE 224:2017
+defines Rf (and Rf,i).  ANSI/IES TM-30-18 adopted exactly that Rf (c_f = 6.73, the
+10 deg observer, the CIE 224 reference) and keeps Rg, the hue-bin indices and the
+colour vector graphic; TM-30-20 changed the document's recommendations and annexes,
+not these calculations, so this module is TM-30-20 and TM-30-18 alike.  The first
+edition, TM-30-15, used c_f = 7.54 and so gives other Rf values; it is not
+implemented.  Clause numbers in this package are cited from memory.  Checked against the reference library colour-science 0.4.7
+(``method="CIE 2017"`` and ``"ANSI/IES TM-30-18"``) in ``tests/test_rendering.py``.
 """
 
 from __future__ import annotations
@@ -43,7 +47,7 @@ from .reference import reference_cie224
 
 __all__ = ["Tm30Result", "tm30", "tm30_samples", "fidelity_from_dE", "CF_CIE224", "N_BINS", "RANGE_NM"]
 
-#: Scaling factor c_f of CIE 224:2017 eq. (4.x) and ANSI/IES TM-30-18/-20.
+#: Scaling factor c_f of CIE 224:2017 (section 4.6, from memory) and ANSI/IES TM-30-18/-20.
 CF_CIE224 = 6.73
 #: Number of hue-angle bins -- ANSI/IES TM-30-20 section 5.
 N_BINS = 16

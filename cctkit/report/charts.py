@@ -20,6 +20,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any, Sequence
 
+import textwrap
+
 import numpy as np
 
 from ..constants import DUV_LIMIT, VISIBLE_BAND_NM
@@ -41,6 +43,7 @@ __all__ = [
     "hue_fidelity_chart",
     "chroma_shift_chart",
     "vector_graphic_chart",
+    "index_comparison_chart",
 ]
 
 #: Chromaticity diagrams a chart can be drawn in, with their axis names.
@@ -96,7 +99,12 @@ def not_computed(ax, what: str) -> None:
 
 
 def _part(analysis, name: str):
-    return getattr(analysis, name, None)
+    """A part of the analysis (``cri``, ``tm30``, ...) as its result arrays, or None.
+
+    The analysis may hold the result itself or a wrapper carrying it as ``.result``.
+    """
+    part = getattr(analysis, name, None)
+    return getattr(part, "result", part)
 
 
 def _finite(x) -> bool:
@@ -160,7 +168,7 @@ def spectrum_chart(analysis, ax, *, index: int = 0, comparison=None, legend: boo
     ax.set_xlim(wl[0], wl[-1])
     top = np.nanmax(np.concatenate([test, ref if has_ref else test]))
     ax.set_ylim(min(0.0, float(np.nanmin(test))), 1.08 * top if np.isfinite(top) and top > 0 else 1.0)
-    ax.set_ylabel("Spectral power [rel., Y = 100]")
+    ax.set_ylabel("Rel. power [Y = 100]")
     ax.set_xlabel("Wavelength [nm]")
     ax.text(0.5 * sum(VISIBLE_BAND_NM), 0.0, "380\u2013780 nm", transform=ax.get_xaxis_transform(),
             ha="center", va="bottom", fontsize="x-small", color=GREY)
@@ -177,7 +185,7 @@ def difference_chart(analysis, ax, *, index: int = 0, comparison=None) -> None:
     ax.axhline(0.0, color=GREY, lw=0.6)
     ax.set_xlim(wl[0], wl[-1])
     ax.set_xlabel("Wavelength [nm]")
-    ax.set_ylabel("Test \u2212 ref. [rel.]")
+    ax.set_ylabel("\u0394 [Y = 100]")
     if not np.all(np.isfinite(d)):
         ax.text(0.5, 0.5, "no reference: CCT not reported", transform=ax.transAxes, ha="center", va="center",
                 color=GREY, fontsize="small")
@@ -211,7 +219,7 @@ def spectra_overlay_chart(analysis, ax, *, indices: Sequence[int] | None = None,
     ax.set_xlim(wl[0], wl[-1])
     ax.set_ylim(bottom=min(0.0, float(np.nanmin(cmp.test[idx]))))
     ax.set_xlabel("Wavelength [nm]")
-    ax.set_ylabel("Spectral power [rel., Y = 100]")
+    ax.set_ylabel("Rel. power [Y = 100]")
     if legend and not many:
         ax.legend(loc="upper left", fontsize="x-small", frameon=False, ncol=2 if len(idx) > 4 else 1)
     if many:
@@ -292,6 +300,18 @@ def _window(points: np.ndarray, diagram: str) -> tuple[float, float, float, floa
     return float(c[0] - half[0]), float(c[0] + half[0]), float(c[1] - half[1]), float(c[1] + half[1])
 
 
+def _fit_box(ax, win):
+    """Widen the window so one unit is as long on both axes of ``ax`` (no distortion of distances)."""
+    pos = ax.get_position()
+    w_in = pos.width * ax.figure.get_figwidth()
+    h_in = pos.height * ax.figure.get_figheight()
+    x0, x1, y0, y1 = win
+    sx, sy = (x1 - x0) / w_in, (y1 - y0) / h_in  # data units per inch
+    s = max(sx, sy)
+    cx, cy = 0.5 * (x0 + x1), 0.5 * (y0 + y1)
+    return cx - 0.5 * s * w_in, cx + 0.5 * s * w_in, cy - 0.5 * s * h_in, cy + 0.5 * s * h_in
+
+
 def _inside(p: np.ndarray, win) -> np.ndarray:
     return (p[:, 0] >= win[0]) & (p[:, 0] <= win[1]) & (p[:, 1] >= win[2]) & (p[:, 1] <= win[3])
 
@@ -328,7 +348,7 @@ def chromaticity_chart(
         draws the ANSI C78.377 quadrangles of :mod:`cctkit.tolerance` that fall in the
         window; ``()`` draws none.
     annotate
-        Number the points 1, 2, ... (default: when more than one and at most 40 points).
+        Number the points 1, 2, ... (default: when more than one and at most 12 points).
     legend_labels
         Legend text per plotted point (at most 12 points get a legend).
     """
@@ -352,6 +372,7 @@ def chromaticity_chart(
                     zorder=2, bbox={"boxstyle": "square,pad=0.05", "fc": "white", "ec": "none"})
     ax.plot(locus[:, 0], locus[:, 1], color=INK, lw=1.1, zorder=3, label="Planckian locus")
 
+    win = _fit_box(ax, win)
     ax.set_xlim(win[0], win[1])
     ax.set_ylim(win[2], win[3])
     placed: list[float] = []
@@ -365,7 +386,7 @@ def chromaticity_chart(
                 continue
             j = inside[0]  # the low-Duv end inside the window
             fx = (line[j, 0] - win[0]) / span_x
-            if any(abs(fx - p) < 0.11 for p in placed):
+            if any(abs(fx - p) < 0.17 for p in placed):
                 continue  # too close to a line already labelled: leave this level out here
             placed.append(fx)
             ax.plot(line[:, 0], line[:, 1], color=GREY, lw=0.6, zorder=2)
@@ -381,12 +402,13 @@ def chromaticity_chart(
         closed = np.vstack([pts, pts[:1]])
         ax.plot(closed[:, 0], closed[:, 1], color="#4d4d4d", lw=0.7, linestyle=o.linestyle, zorder=2,
                 label=None)
-        c = pts.mean(axis=0)
-        if _inside(c[None], win)[0]:
-            ax.text(c[0], c[1], o.label, fontsize=5, color="#4d4d4d", ha="center", va="center", zorder=2)
+        top = pts[np.argmax(pts[:, 1])]  # label above the highest corner, clear of the centre
+        if _inside(top[None], win)[0]:
+            ax.annotate(o.label, top, xytext=(0, 1.5), textcoords="offset points", fontsize=5, color="#4d4d4d",
+                        ha="center", va="bottom", zorder=2)
         drawn_region = True
 
-    annotate = (1 < len(idx) <= 40) if annotate is None else annotate
+    annotate = (1 < len(idx) <= 12) if annotate is None else annotate
     pts = np.asarray(sample, dtype=np.float64)
     if len(idx) <= 12:
         for k, p in enumerate(pts):
@@ -402,13 +424,15 @@ def chromaticity_chart(
             if np.all(np.isfinite(p)):
                 ax.annotate(str(k + 1), p, xytext=(3, 3), textcoords="offset points", fontsize=5, zorder=6)
 
-    ax.set_aspect("equal", adjustable="datalim")
+    ax.set_aspect("equal", adjustable="box")
     ax.set_xlabel(DIAGRAMS[diagram][0])
     ax.set_ylabel(DIAGRAMS[diagram][1])
-    notes = ["isotemperature lines at round CCTs, dotted: constant Duv"]
+    notes = ["solid: locus and isotemperature lines", "dotted: Duv in steps of 0.01"]
     if drawn_region:
         notes.append("outlines: ANSI C78.377 quadrangles" if regions is None else "outlines: tolerance regions")
-    ax.set_title("; ".join(notes), fontsize=5.5, color=GREY, loc="left")
+    width_in = ax.get_position().width * ax.figure.get_figwidth()
+    ax.set_title(textwrap.fill("; ".join(notes), max(20, int(width_in / 0.037))), fontsize=5.5, color=GREY,
+                 loc="left")
     if legend_labels is not None and len(idx) <= 12:
         ax.legend(loc="lower right", fontsize="x-small", frameon=True, framealpha=0.9, edgecolor=LIGHT)
 
@@ -546,5 +570,40 @@ def vector_graphic_chart(analysis, ax, *, index: int = 0) -> None:
     ax.set_ylabel("b\u2032 / C\u2032ref [1]")
     rf = float(np.asarray(t.Rf)[index])
     rg = float(np.asarray(t.Rg)[index])
-    ax.text(-1.42, 1.42, f"Rf {rf:.0f}\nRg {rg:.0f}" if np.isfinite(rf) else "", ha="left", va="top", fontsize=6)
+    if np.isfinite(rf):
+        ax.set_title(f"Rf {rf:.0f}   Rg {rg:.0f}", fontsize=6.5, loc="right")
     ax.legend(loc="lower left", fontsize=5, frameon=False, borderpad=0.1, handlelength=1.5)
+
+
+def index_comparison_chart(analysis, ax, *, indices: Sequence[int] | None = None) -> None:
+    """Ra, R9, Rf and Rg of several spectra as grouped bars (one hatch per spectrum)."""
+    cri = _part(analysis, "cri")
+    t = _part(analysis, "tm30")
+    if cri is None and t is None:
+        not_computed(ax, "colour rendering")
+        return
+    idx = list(range(len(analysis))) if indices is None else list(indices)
+    nan = np.full(len(analysis), np.nan)
+    series = [
+        ("Ra", np.asarray(cri.Ra) if cri is not None else nan),
+        ("R9", np.asarray(cri.R)[:, 8] if cri is not None else nan),
+        ("Rf", np.asarray(t.Rf) if t is not None else nan),
+        ("Rg", np.asarray(t.Rg) if t is not None else nan),
+    ]
+    hatches = ("", "////", "....", "xxxx", "\\\\", "++", "oo", "--", "||", "**", "OO", "..//")
+    width = 0.8 / len(idx)
+    lo = 0.0
+    for k, i in enumerate(idx):
+        vals = np.array([s[1][i] for s in series], dtype=np.float64)
+        xs = np.arange(len(series)) - 0.4 + (k + 0.5) * width
+        shade = ("#636363", "#bdbdbd", "white")[k % 3]
+        ax.bar(xs, np.nan_to_num(vals), width=width * 0.92, color=shade, edgecolor=INK, lw=0.5,
+               hatch=hatches[k % len(hatches)], label=f"#{k + 1}")
+        if len(idx) <= 6:
+            _bar_labels(ax, xs, vals, fontsize=5)
+        lo = min(lo, float(np.nanmin(vals)) if np.any(np.isfinite(vals)) else 0.0)
+    ax.axhline(0.0, color=INK, lw=0.5)
+    ax.set_xticks(np.arange(len(series)), [s[0] for s in series])
+    ax.set_ylim(min(0.0, lo - 12.0), 125)
+    ax.set_ylabel("Index [1]")
+    ax.legend(loc="upper right", fontsize=5.5, frameon=False, ncol=min(len(idx), 6))

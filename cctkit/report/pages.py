@@ -192,8 +192,8 @@ def _kv_block(page: _Page, x: float, y: float, rows: Sequence[tuple[str, str]], 
     for label, value in rows:
         page.text(x, y, label, fontsize=fontsize, weight="bold")
         lines = textwrap.wrap(value, value_chars, break_long_words=True) or [""]
-        if len(lines) > 3:
-            lines = lines[:2] + [shorten(" ".join(lines[2:]), value_chars)]
+        if len(lines) > 4:
+            lines = lines[:3] + [shorten(" ".join(lines[3:]), value_chars)]
         for k, line in enumerate(lines):
             page.text(x + label_w, y + k * pitch, line, fontsize=fontsize,
                       family="DejaVu Sans Mono" if label.startswith("SHA") else None)
@@ -202,7 +202,7 @@ def _kv_block(page: _Page, x: float, y: float, rows: Sequence[tuple[str, str]], 
 
 
 def provenance_rows(rec: dict[str, Any], meta: dict[str, Any]) -> list[tuple[str, str]]:
-    """Identity and provenance lines of one spectrum (label, text)."""
+    """Identity and provenance lines of one spectrum (label, text); a value wraps to at most four lines."""
     conv = meta["conventions"]
     lo, hi = rec.get("measured_range_nm", [None, None])
     step = rec.get("measured_step_nm")
@@ -291,45 +291,49 @@ def sample_page(analysis, i: int, rec: dict[str, Any], meta: dict[str, Any], *, 
 
     bottom = p.h - p.MARGIN - _FOOTER_H
     avail = bottom - y
-    # Rows: spectrum+difference | chromaticity ; CRI bars | vector graphic ; Rf,h | Rcs,h
-    r1 = avail * 0.37
-    r2 = avail * 0.34
+    # Rows: spectrum+difference | chromaticity ; CRI bars | vector graphic ; Rf,h | Rcs,h.
+    # Each panel: a bold heading, room for the chart's own note line, the plot, its x label.
+    head, note, xlab = 0.14, 0.2, 0.34
+    r1 = avail * 0.38
+    r2 = avail * 0.33
     r3 = avail - r1 - r2
-    lw = p.width * 0.56
     gx = p.left + 0.45
+    lw = p.width * 0.56 - 0.45
+    cx = p.left + p.width * 0.56 + 0.55
+    cw = p.right - cx
     # Row 1
-    top = y + 0.22
-    spec_h = (r1 - 0.22 - 0.38) * 0.68
-    diff_h = (r1 - 0.22 - 0.38) - spec_h - 0.05
-    ax = p.axes(gx, top, lw - 0.45, spec_h)
+    top = y + head + note
+    plot_h = r1 - head - note - xlab
+    spec_h = plot_h * 0.66
+    ax = p.axes(gx, top, lw, spec_h)
     charts.spectrum_chart(analysis, ax, index=i, comparison=comparison)
     ax.set_xlabel("")
     ax.tick_params(labelbottom=False)
-    ax.set_title("Spectrum and reference at the same CCT (equal Y)", fontsize=7, loc="left")
-    ax2 = p.axes(gx, top + spec_h + 0.05, lw - 0.45, diff_h, sharex=ax)
+    p.text(p.left, y, "Spectrum and its reference at the same CCT (equal Y)", fontsize=7, weight="bold")
+    ax2 = p.axes(gx, top + spec_h + 0.05, lw, plot_h - spec_h - 0.05, sharex=ax)
     charts.difference_chart(analysis, ax2, index=i, comparison=comparison)
-    cx = p.left + lw + 0.5
-    cw = p.right - cx
-    ch = min(cw, r1 - 0.6)
-    axc = p.axes(cx + (cw - ch) / 2.0, top, ch, ch)
+    side = min(cw, plot_h)
+    axc = p.axes(cx + (cw - side) / 2.0, top, side, side)
     charts.chromaticity_chart(analysis, axc, indices=[i], diagram=diagram, regions=regions)
-    p.text(cx - 0.4, y, "Chromaticity", fontsize=7, weight="bold")
+    p.text(cx - 0.45, y, "Chromaticity", fontsize=7, weight="bold")
     # Row 2
-    y2 = y + r1 + 0.15
-    ax = p.axes(gx, y2 + 0.2, lw - 0.45, r2 - 0.55)
+    y2 = y + r1
+    plot_h = r2 - head - note - xlab + 0.1
+    ax = p.axes(gx, y2 + head + note, lw, plot_h)
     charts.cri_chart(analysis, ax, index=i)
     p.text(p.left, y2, "CIE 13.3-1995 colour rendering", fontsize=7, weight="bold")
-    vh = min(cw, r2 - 0.45)
-    axv = p.axes(cx + (cw - vh) / 2.0, y2 + 0.2, vh, vh)
+    side = min(cw, plot_h)
+    axv = p.axes(cx + (cw - side) / 2.0, y2 + head + note, side, side)
     charts.vector_graphic_chart(analysis, axv, index=i)
-    p.text(cx - 0.4, y2, "TM-30 colour vector graphic", fontsize=7, weight="bold")
+    p.text(cx - 0.45, y2, "TM-30 colour vector graphic", fontsize=7, weight="bold")
     # Row 3
-    y3 = y2 + r2 + 0.05
+    y3 = y2 + r2
     bw = (p.width - 0.45 - 0.55) / 2.0
-    ax = p.axes(gx, y3 + 0.2, bw, r3 - 0.6)
+    plot_h = r3 - head - 0.05 - xlab
+    ax = p.axes(gx, y3 + head + 0.05, bw, plot_h)
     charts.hue_fidelity_chart(analysis, ax, index=i)
     p.text(p.left, y3, "TM-30 local fidelity Rf,h", fontsize=7, weight="bold")
-    ax = p.axes(gx + bw + 0.55, y3 + 0.2, bw, r3 - 0.6)
+    ax = p.axes(gx + bw + 0.55, y3 + head + 0.05, bw, plot_h)
     charts.chroma_shift_chart(analysis, ax, index=i)
     p.text(gx + bw + 0.1, y3, "TM-30 local chroma shift Rcs,h", fontsize=7, weight="bold")
     _footer(p, meta)
@@ -401,7 +405,7 @@ def comparison_page(analysis, indices: Sequence[int], records, meta, *, paper: s
     bottom = p.h - p.MARGIN - _FOOTER_H
     avail = bottom - y
     labels = [f"#{k + 1} {shorten(records[i]['name'], 18)}" for k, i in enumerate(indices)]
-    side = min(p.width / 2.0 - 0.55, avail - 0.55)
+    side = min(p.width / 2.0 - 0.55, avail * 0.6 - 0.5)
     ax = p.axes(p.left + 0.5, y + 0.15, side, side)
     charts.chromaticity_chart(analysis, ax, indices=indices, diagram=diagram, regions=regions,
                               legend_labels=labels)
@@ -409,12 +413,17 @@ def comparison_page(analysis, indices: Sequence[int], records, meta, *, paper: s
     charts.spectra_overlay_chart(analysis, ax, indices=indices, comparison=comparison,
                                  labels=[f"#{k + 1}" for k in range(n)])
     ax.set_title("Spectra, each scaled to Y = 100", fontsize=7, loc="left")
+    y_bars = y + 0.15 + side + 0.55
+    if bottom - y_bars > 1.0:
+        ax = p.axes(p.left + 0.5, y_bars, p.width - 0.5, bottom - y_bars - 0.35)
+        charts.index_comparison_chart(analysis, ax, indices=indices)
+        ax.set_title("Colour rendering indices by spectrum (bars in the order #1, #2, ...)", fontsize=7, loc="left")
     _footer(p, meta)
     return p.fig
 
 
 _SUMMARY_COLS = (
-    ("#", None, 0.3), ("Name", "name", 1.55), ("CCT [K]", "cct_K", 0.5), ("Duv", "duv", 0.5),
+    ("#", None, 0.3), ("Name", "name", 1.4), ("CCT [K]", "cct_K", 0.5), ("Duv", "duv", 0.5),
     ("x", "x", 0.45), ("y", "y", 0.45), ("lum", "luminous", 0.65), ("LER [lm/W]", "ler_lm_per_W", 0.55),
     ("Ra", "Ra", 0.35), ("R9", "R9", 0.35), ("Rf", "Rf", 0.35), ("Rg", "Rg", 0.35), ("Flags", "flags", 0.0),
 )
@@ -446,9 +455,9 @@ def summary_table_pages(analysis, records, meta, *, paper: str, page_labels: Seq
                 if key is None:
                     text = str(i + 1)
                 elif key == "name":
-                    text = shorten(r["name"], 30)
+                    text = shorten(r["name"], int(w / 0.05))
                 elif key == "flags":
-                    text = shorten(", ".join(f["code"] for f in r.get("flags", [])) or "\u2013", 38)
+                    text = shorten(", ".join(f["code"] for f in r.get("flags", [])) or "\u2013", int(w / 0.047))
                 elif key == "luminous":
                     text = format_value(r, lum) if lum else "\u2013"
                 else:
@@ -466,7 +475,7 @@ def scatter_page(analysis, records, meta, *, paper: str, comparison, diagram: st
     p = _Page(paper)
     n = len(records)
     y = _header(p, f"Batch chromaticity: {n} spectra", "points numbered as in the summary table"
-                if n <= 40 else "one point per spectrum", page_label)
+                if n <= 12 else "one point per spectrum; numbers and names in the summary table", page_label)
     bottom = p.h - p.MARGIN - _FOOTER_H
     side = min(p.width - 0.6, (bottom - y) * 0.62)
     ax = p.axes(p.left + 0.55 + (p.width - 0.6 - side) / 2.0, y + 0.2, side, side)
@@ -512,8 +521,21 @@ def summary_picture(analysis, records, meta, *, comparison, diagram: str, region
         fig.text(0.15 / w_in, 1 - y / h_in, label, fontsize=6.3, va="top")
         fig.text(1.45 / w_in, 1 - y / h_in, shorten(value, 34), fontsize=6.3, va="top", weight="bold")
         y += 0.165 if n == 1 else 0.2
-    fig.text(0.15 / w_in, 0.2 / h_in, shorten(CAUTIONS[0] + " " + CAUTIONS[1], 95), fontsize=4.8, color=GREY)
-    fig.text(0.15 / w_in, 0.1 / h_in, shorten(CAUTIONS[2] + " " + CAUTIONS[3], 95), fontsize=4.8, color=GREY)
+    if n == 1:
+        y += 0.1
+        for label, value in (("File", shorten(rec.get("source") or "(not from a file)", 44, keep="tail")),
+                             ("SHA-256", (rec.get("sha256") or "")[:16] + "\u2026"),
+                             ("Quantity", f"{rec['quantity']} [{rec.get('spectral_unit', '')}]"),
+                             ("Measured", "{:g}\u2013{:g} nm, step {:g} nm".format(*rec["measured_range_nm"],
+                                                                                rec["measured_step_nm"]))):
+            fig.text(0.15 / w_in, 1 - y / h_in, label, fontsize=5.8, va="top", color=GREY)
+            fig.text(1.45 / w_in, 1 - y / h_in, value, fontsize=5.8, va="top", color=GREY)
+            y += 0.14
+    std = textwrap.wrap("Standards: " + "; ".join(STANDARDS), 92)
+    cautions = [c for line in CAUTIONS for c in textwrap.wrap(line, 92)]
+    for k, line in enumerate(std + cautions):
+        fig.text(0.15 / w_in, (0.12 + 0.11 * (len(std) + len(cautions) - 1 - k)) / h_in, line, fontsize=4.8,
+                 color=GREY, va="bottom")
 
     if n == 1:
         ax = box(3.85, 0.5, 3.3, 2.35)
@@ -521,7 +543,7 @@ def summary_picture(analysis, records, meta, *, comparison, diagram: str, region
         ax.set_title("Spectrum and reference (equal Y)", fontsize=7, loc="left")
         ax = box(3.85, 3.6, 3.3, 2.35)
         charts.cri_chart(analysis, ax, index=0)
-        ax = box(7.85, 0.5, 2.6, 2.6)
+        ax = box(7.85, 0.75, 2.5, 2.5)
         charts.chromaticity_chart(analysis, ax, indices=[0], diagram=diagram, regions=regions)
         ax = box(8.0, 3.6, 2.3, 2.3)
         charts.vector_graphic_chart(analysis, ax, index=0)
@@ -531,6 +553,6 @@ def summary_picture(analysis, records, meta, *, comparison, diagram: str, region
         charts.spectra_overlay_chart(analysis, ax, comparison=comparison,
                                      labels=[f"#{k + 1}" for k in idx] if n <= 12 else None)
         ax.set_title("Spectra (Y = 100)", fontsize=7, loc="left")
-        ax = box(7.75, 0.6, 2.75, 4.8)
+        ax = box(7.75, 0.75, 2.75, 4.8)
         charts.chromaticity_chart(analysis, ax, diagram=diagram, regions=regions)
     return fig

@@ -1,0 +1,61 @@
+"""``cctkit report``: a PDF report (or a one-page PNG summary) of measured spectra."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import List, Optional
+
+import typer
+
+from ..errors import InputError
+from .options import OVERWRITE_OPTION, QUANTITY_HELP, info
+
+__all__ = ["report_cmd", "register"]
+
+
+def report_cmd(
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    output: Path = typer.Option(..., "--output", "-o", help="Report file: .pdf (full report) or .png (summary, "
+                                "1600x1000 px at 150 dpi)."),
+    overwrite: bool = OVERWRITE_OPTION,
+    pages: bool = typer.Option(False, "--pages", help="One page per spectrum even for batches of more than 12."),
+    quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
+    paper: str = typer.Option("a4", "--paper", help="Paper size of the PDF: a4 | letter."),
+    diagram: str = typer.Option("uv", "--diagram", help="Chromaticity diagram: uv (CIE 1960) | uvp (CIE 1976 u'v') "
+                                "| xy (CIE 1931)."),
+) -> None:
+    """A report an engineer can sign off: provenance, headline numbers, spectrum, chromaticity, rendering."""
+    from ..safe_io import check_output_path
+    from ..spectra import Quantity
+
+    paper_key = paper.strip().lower()
+    diagram_key = diagram.strip().lower().replace("'", "p").replace("\u2032", "p")
+    if paper_key not in ("a4", "letter"):
+        raise InputError(f"--paper must be a4 or letter, got {paper!r}")
+    if diagram_key not in ("uv", "uvp", "xy"):
+        raise InputError(f"--diagram must be uv, uvp or xy, got {diagram!r}")
+    if output.suffix.lower() not in (".pdf", ".png"):
+        raise InputError(f"--output must end in .pdf or .png, got {output.name!r}")
+    if quantity is not None:
+        Quantity.parse(quantity, source="--quantity")
+    check_output_path(output, overwrite=overwrite, inputs=files)  # before reading and drawing
+
+    from ..analysis import analyse
+    from ..readers import read_spectra
+    from ..report import build_report
+    from ..spectra import concatenate
+
+    if not files:
+        raise InputError("no input files given")
+    # One report holds one quantity: concatenate refuses a mix with a one-line InputError.
+    analysis = analyse(concatenate([read_spectra(f, quantity=quantity) for f in files]))
+    rep = build_report(analysis, output, paper=paper_key, pages=True if pages else None, diagram=diagram_key,
+                       overwrite=overwrite, inputs=files)
+    if rep.kind == "pdf":
+        info(f"wrote {output} ({len(rep.pages)} page{'s' if len(rep.pages) != 1 else ''})")
+    else:
+        info(f"wrote {output} ({rep.size_px[0]}x{rep.size_px[1]} px)")
+
+
+def register(app: typer.Typer) -> None:
+    app.command("report")(report_cmd)

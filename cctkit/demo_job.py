@@ -1,0 +1,115 @@
+"""The demo job: the Harbourside Lantern Hall scenario from spectra to reports.
+
+``python -m cctkit.demo_job [--out reports]`` (what ``make demo`` runs) reads the demo
+spectra in ``spectra/`` (made by :mod:`cctkit.demo`), and writes under ``--out``:
+
+* ``harbourside-shortlist.pdf`` / ``.png`` / ``.json`` / ``.csv`` -- the three candidate
+  downlights, a page each plus a comparison page, the summary picture and every number;
+* ``tw-lab.pdf`` / ``.json`` -- the lab's tunable-white fixture at its five set points;
+* ``nb3000-lot-verdict.json`` / ``.csv`` / ``.txt`` and ``nb3000-lot.pdf`` -- the delivered
+  lot of NB-3000-95 checked against the supplier's claims;
+* ``nb3000-lot-bins.csv`` -- the lot binned by ANSI quadrangle and SDCM step.
+
+The job is a script of library calls, the same ones the command line makes.  It replaces
+its own previous outputs (never the spectra).
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import time
+from pathlib import Path
+
+CANDIDATES = ("northbeam-nb-3000-95.csv", "caldera-cl-2700-80.csv", "vell-vo-4000-90.csv")
+TUNABLE = "tw-lab-setpoints.csv"
+LOT_DIR = "lot-nb3000"
+CLAIMS = "claims/northbeam-3000K.toml"
+
+
+def _say(message: str) -> None:
+    print(message, file=sys.stderr, flush=True)
+
+
+def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, Path]:
+    """Run the whole demo; returns the files written by name."""
+    from .analysis import analyse, provenance
+    from .binning import bin_chromaticities
+    from .claims import load_claims, verify
+    from .cli.core import records_csv
+    from .cli.options import dumps
+    from .cli.verify import format_verdict, verdict_csv
+    from .readers import read_spectra
+    from .report import build_report
+    from .safe_io import atomic_write
+    from .spectra import concatenate
+
+    out.mkdir(parents=True, exist_ok=True)
+    written: dict[str, Path] = {}
+
+    def put(name: str, text: str) -> None:
+        path = atomic_write(out / name, text, overwrite=True)
+        written[name] = path
+        _say(f"  wrote {path}")
+
+    t0 = time.perf_counter()
+    files = [spectra_dir / f for f in CANDIDATES]
+    _say(f"[1/4] candidate downlights: {', '.join(f.name for f in files)}")
+    shortlist = analyse(concatenate([read_spectra(f) for f in files]))
+    recs = shortlist.records()
+    put("harbourside-shortlist.json", dumps({**provenance(), "spectra": recs}))
+    put("harbourside-shortlist.csv", records_csv(recs))
+    for suffix in (".pdf", ".png"):
+        path = out / f"harbourside-shortlist{suffix}"
+        build_report(shortlist, path, overwrite=True, inputs=files, date=date)
+        written[path.name] = path
+        _say(f"  wrote {path}")
+
+    _say(f"[2/4] tunable-white fixture: {TUNABLE}")
+    tw_file = spectra_dir / TUNABLE
+    tw = analyse(read_spectra(tw_file))
+    put("tw-lab.json", dumps({**provenance(), "spectra": tw.records()}))
+    build_report(tw, out / "tw-lab.pdf", overwrite=True, inputs=[tw_file], date=date)
+    written["tw-lab.pdf"] = out / "tw-lab.pdf"
+    _say(f"  wrote {out / 'tw-lab.pdf'}")
+
+    lot_files = [spectra_dir / CANDIDATES[0], *sorted((spectra_dir / LOT_DIR).glob("*.csv"))]
+    _say(f"[3/4] delivered lot against the supplier's claims: {len(lot_files)} samples, {CLAIMS}")
+    claims = load_claims(spectra_dir / CLAIMS)
+    lot = analyse(concatenate([read_spectra(f) for f in lot_files]))
+    lot_recs = lot.records()
+    verdict = verify(lot_recs, claims).as_dict()
+    put("nb3000-lot-verdict.json", dumps({**provenance(), **verdict}))
+    put("nb3000-lot-verdict.csv", verdict_csv(verdict, claims))
+    put("nb3000-lot-verdict.txt", format_verdict(verdict, claims) + "\n")
+    build_report(lot, out / "nb3000-lot.pdf", overwrite=True, inputs=lot_files, date=date)
+    written["nb3000-lot.pdf"] = out / "nb3000-lot.pdf"
+    _say(f"  wrote {out / 'nb3000-lot.pdf'}")
+    failing = [s["name"] for s in verdict["samples"] if s["verdict"] != "pass"]
+    _say(f"  verdict: {verdict['verdict']}; not passing: {', '.join(failing) or 'none'}")
+
+    _say("[4/4] binning the lot (ANSI C78.377 quadrangle, SDCM step)")
+    bins = bin_chromaticities(lot.xy, names=lot.spectra.names)
+    put("nb3000-lot-bins.csv", bins.csv())
+    _say(f"done in {time.perf_counter() - t0:.1f} s")
+    return written
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(prog="python -m cctkit.demo_job", description=__doc__.splitlines()[0])
+    parser.add_argument("--spectra", type=Path, default=Path("spectra"), help="folder of the demo spectra")
+    parser.add_argument("--out", type=Path, default=Path("reports"), help="folder for the reports")
+    parser.add_argument("--date", default=None, help="report date (YYYY-MM-DD; default today)")
+    args = parser.parse_args(argv)
+    from .errors import CctkitError
+
+    try:
+        run(args.spectra, args.out, date=args.date)
+    except CctkitError as exc:
+        print(f"cctkit demo: {exc}", file=sys.stderr)
+        return 2
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
