@@ -122,7 +122,9 @@ def inspect_cmd(
 
 def records_csv(records: list[dict[str, Any]]) -> str:
     """Flatten records to CSV: list fields become numbered columns (R1..R14, Rf_h1..)."""
-    flat = [flatten_record(r) for r in records]
+    from .. import __version__
+
+    flat = [{**flatten_record(r), "cctkit_version": __version__} for r in records]
     header: list[str] = []
     for r in flat:
         for k in r:
