@@ -24,9 +24,10 @@ long delimited text
     (it is limited to ``DEFAULT_MAX_BYTES``) and then cut into chunks.
 folder
     Every regular, non-hidden file in the folder (not its sub-folders) with an
-    extension :func:`cctkit.readers.read_spectra` knows, in sorted name order,
-    each read by it and resampled to the working grid; spectra from several files
-    share a chunk.  All files must hold the same radiometric quantity.
+    extension :func:`cctkit.readers.read_spectra` knows, in sorted name order:
+    wide CSVs as above, every other file by :func:`cctkit.readers.read_spectra`;
+    each is resampled to the working grid and spectra from several files share a
+    chunk.  All files must hold the same radiometric quantity.
 Parquet (``.parquet``, ``.pq``)
     Either one column per wavelength, named by the wavelength in nm (``"380"``,
     ``"380.0"``, ``"380nm"``), or one list column ``values`` whose wavelengths
@@ -241,16 +242,22 @@ def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None)
         def each() -> Iterator[Spectra]:
             first: Quantity | None = None
             for f in files:
-                s = to_working_grid(read_spectra(f, quantity=wanted))
-                if first is None:
-                    first = s.quantity
-                elif s.quantity is not first:
-                    raise InputError(
-                        f"holds {s.quantity.value!r} spectra while earlier files hold {first.value!r}; "
-                        "a batch needs one quantity",
-                        source=f,
-                    )
-                yield s
+                head = _wide_head(Path(f), f) if Path(f).suffix.lower() in _WIDE_SUFFIXES else None
+                if head is not None:
+                    parts: Iterator[Spectra] = _open_wide(Path(f), f, chunk_size, wanted, head).chunks()
+                else:
+                    parts = iter([read_spectra(f, quantity=wanted)])
+                for part in parts:
+                    s = to_working_grid(part)
+                    if first is None:
+                        first = s.quantity
+                    elif s.quantity is not first:
+                        raise InputError(
+                            f"holds {s.quantity.value!r} spectra while earlier files hold {first.value!r}; "
+                            "a batch needs one quantity",
+                            source=f,
+                        )
+                    yield s
 
         return _rechunk(each(), chunk_size)
 
