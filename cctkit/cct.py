@@ -74,11 +74,17 @@ class _Table:
 
 @lru_cache(maxsize=8)
 def _table(observer: int, c2: float) -> _Table:
-    m = np.arange(_M_LO, _M_HI + _H_MIRED, _H_MIRED)
-    T = 1e6 / m
-    uv, duv_dT = planckian_uv_dT(T, observer=observer, c2=c2)
-    d = duv_dT * (-(T**2) / 1e6)[:, None]  # dT/dm = -T^2 / 1e6
-    cols = [np.ascontiguousarray(a) for a in (m, uv[:, 0], uv[:, 1], d[:, 0], d[:, 1])]
+    from .tables import cached_arrays
+
+    def build() -> dict[str, np.ndarray]:
+        m = np.arange(_M_LO, _M_HI + _H_MIRED, _H_MIRED)
+        T = 1e6 / m
+        uv, duv_dT = planckian_uv_dT(T, observer=observer, c2=c2)
+        d = duv_dT * (-(T**2) / 1e6)[:, None]  # dT/dm = -T^2 / 1e6
+        return {"m": m, "u": uv[:, 0], "v": uv[:, 1], "du": d[:, 0], "dv": d[:, 1]}
+
+    arr = cached_arrays(f"cct-locus-{observer}-{c2!r}-h{_H_MIRED}", build)
+    cols = [np.ascontiguousarray(arr[k]) for k in ("m", "u", "v", "du", "dv")]
     for a in cols:
         a.setflags(write=False)
     return _Table(*cols, h=_H_MIRED)

@@ -29,7 +29,7 @@ import numpy as np
 
 from .constants import WAVELENGTH_NM
 
-__all__ = ["table", "cmfs", "cache_path", "TABLE_NAMES"]
+__all__ = ["table", "cmfs", "cache_path", "cached_arrays", "TABLE_NAMES"]
 
 TABLE_NAMES = ("cmf_2", "cmf_10", "v_scotopic", "lms_10", "tcs_1995", "ces_2017", "d_basis")
 _FORMAT = 1
@@ -147,3 +147,28 @@ def cmfs(observer: int | str = 2) -> np.ndarray:
     if key not in ("2", "10"):
         raise ValueError(f"observer must be 2 or 10, got {observer!r}")
     return table(f"cmf_{key}")
+
+
+def cached_arrays(key: str, build) -> dict[str, np.ndarray]:
+    """Arrays derived from the tables (e.g. the CCT solver's locus table), cached beside them.
+
+    ``build()`` returns a dict of arrays; the result is stored as ``<key>.npz`` in the cache
+    folder (keyed by the same versions as the tables) and read back on later runs.
+    """
+    path = cache_path().with_name(f"{key}-{_versions()}.npz")
+    if path.exists():
+        try:
+            with np.load(path, allow_pickle=False) as z:
+                return {k: z[k] for k in z.files}
+        except Exception:  # a corrupt cache is rebuilt
+            pass
+    arrays = build()
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        tmp = path.with_suffix(f".{os.getpid()}.tmp")
+        with open(tmp, "wb") as fh:
+            np.savez(fh, **arrays)
+        os.replace(tmp, path)
+    except OSError:
+        pass
+    return arrays
