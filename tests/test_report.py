@@ -118,7 +118,8 @@ def test_comparison_report_pages_and_long_names(tmp_path):
         assert pages.format_value(r, "Ra") in text[0]
     box = pypdf.PdfReader(str(out)).pages[0].mediabox
     assert (round(float(box.width)), round(float(box.height))) == (612, 792)  # US Letter in points
-    assert "\u2026" in text[0]  # the long names were cut with an ellipsis
+    assert "\u2026" in text[1]  # the long name was cut with an ellipsis in the page title
+    assert recs[0]["name"] in text[0]  # ... and is given in full in the comparison key
 
 
 def test_large_batch_gets_summary_not_hundreds_of_pages(tmp_path):

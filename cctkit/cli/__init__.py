@@ -21,7 +21,7 @@ from ..errors import CctkitError
 
 __all__ = ["app", "main"]
 
-_COMMAND_MODULES = ("core", "compare", "verify")
+_COMMAND_MODULES = ("core", "compare", "verify", "report")
 
 
 class _OneLineErrors(TyperGroup):

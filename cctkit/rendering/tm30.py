@@ -232,3 +232,22 @@ def tm30(values, cct_K, *, cf: float = CF_CIE224, blend_observer: int = 10) -> T
     ref = reference_cie224(T, blend_observer=blend_observer)
     fields = tm30_samples(test, ref.values, cf=cf)
     return Tm30Result(**fields, cct_K=T, reference=ref.kind)
+
+
+def vector_graphic_xy(result: Tm30Result) -> tuple[np.ndarray, np.ndarray]:
+    """Vertices of the TM-30 colour vector graphic, normalised to the reference chroma.
+
+    Returns ``(reference, test)``, each (N, 16, 2): the reference vertices on the unit
+    circle at the bin-centre hue angles, and the test vertices displaced from them by the
+    bin-average a', b' shift divided by the reference bin chroma, i.e.
+    ``(cos th_j + Rcs_j cos th_j - Rhs_j sin th_j, sin th_j + Rcs_j sin th_j + Rhs_j cos th_j)``
+    (ANSI/IES TM-30-20 section 4.3 as recalled, from memory: the normalised graphic makes the
+    reference polygon a circle).
+    """
+    th = (np.arange(16) + 0.5) * (2.0 * np.pi / 16.0)
+    c, s = np.cos(th), np.sin(th)
+    rcs = np.asarray(result.Rcs_h, dtype=np.float64)
+    rhs = np.asarray(result.Rhs_h, dtype=np.float64)
+    test = np.stack([c * (1.0 + rcs) - s * rhs, s * (1.0 + rcs) + c * rhs], axis=-1)
+    ref = np.broadcast_to(np.stack([c, s], axis=-1), test.shape).copy()
+    return ref, test

@@ -529,22 +529,16 @@ def chroma_shift_chart(analysis, ax, *, index: int = 0) -> None:
 def vector_graphic_chart(analysis, ax, *, index: int = 0) -> None:
     """TM-30 colour vector graphic: reference circle and test polygon, normalised.
 
-    Each hue bin's reference point sits on the unit circle at the bin-centre hue
-    angle; the test vertex is displaced from it by the library's relative chroma shift
-    Rcs,hj (radially) and hue shift Rhs,hj (tangentially), which are the bin-average
-    a'b' shift divided by the reference chroma and resolved along the bin-centre
-    direction (ANSI/IES TM-30-20 section 5, from memory).  Only a change of basis for
-    drawing happens here.
+    The vertices come from :func:`cctkit.rendering.tm30.vector_graphic_xy`; this only draws.
     """
+    from ..rendering.tm30 import vector_graphic_xy
+
     t = _tm30(analysis, ax, "TM-30 colour vector graphic")
     if t is None:
         return
-    rcs = np.asarray(t.Rcs_h[index], dtype=np.float64)
-    rhs = np.asarray(t.Rhs_h[index], dtype=np.float64)
-    th = (np.arange(16) + 0.5) * (2.0 * np.pi / 16.0)  # bin centres
-    c, s = np.cos(th), np.sin(th)
-    tx = c * (1.0 + rcs) - s * rhs
-    ty = s * (1.0 + rcs) + c * rhs
+    ref_xy, test_xy = vector_graphic_xy(t)
+    c, s = ref_xy[index, :, 0], ref_xy[index, :, 1]
+    tx, ty = test_xy[index, :, 0], test_xy[index, :, 1]
     circle = np.linspace(0.0, 2.0 * np.pi, 181)
     for edge in np.arange(16) * (2.0 * np.pi / 16.0):
         ax.plot([0, 1.45 * np.cos(edge)], [0, 1.45 * np.sin(edge)], color=LIGHT, lw=0.4, zorder=0)
@@ -572,7 +566,8 @@ def vector_graphic_chart(analysis, ax, *, index: int = 0) -> None:
     rg = float(np.asarray(t.Rg)[index])
     if np.isfinite(rf):
         ax.set_title(f"Rf {rf:.0f}   Rg {rg:.0f}", fontsize=6.5, loc="right")
-    ax.legend(loc="lower left", fontsize=5, frameon=False, borderpad=0.1, handlelength=1.5)
+    ax.legend(loc="lower left", bbox_to_anchor=(1.01, 0.0), fontsize=5, frameon=False, borderpad=0.1,
+              handlelength=1.5)
 
 
 def index_comparison_chart(analysis, ax, *, indices: Sequence[int] | None = None) -> None:

@@ -404,11 +404,9 @@ def comparison_page(analysis, indices: Sequence[int], records, meta, *, paper: s
     y += 0.15
     bottom = p.h - p.MARGIN - _FOOTER_H
     avail = bottom - y
-    labels = [f"#{k + 1} {shorten(records[i]['name'], 18)}" for k, i in enumerate(indices)]
     side = min(p.width / 2.0 - 0.55, avail * 0.6 - 0.5)
     ax = p.axes(p.left + 0.5, y + 0.15, side, side)
-    charts.chromaticity_chart(analysis, ax, indices=indices, diagram=diagram, regions=regions,
-                              legend_labels=labels)
+    charts.chromaticity_chart(analysis, ax, indices=indices, diagram=diagram, regions=regions)  # numbered
     ax = p.axes(p.left + p.width / 2.0 + 0.5, y + 0.15, p.width / 2.0 - 0.5, side)
     charts.spectra_overlay_chart(analysis, ax, indices=indices, comparison=comparison,
                                  labels=[f"#{k + 1}" for k in range(n)])
@@ -545,7 +543,7 @@ def summary_picture(analysis, records, meta, *, comparison, diagram: str, region
         charts.cri_chart(analysis, ax, index=0)
         ax = box(7.85, 0.75, 2.5, 2.5)
         charts.chromaticity_chart(analysis, ax, indices=[0], diagram=diagram, regions=regions)
-        ax = box(8.0, 3.6, 2.3, 2.3)
+        ax = box(7.9, 3.9, 2.1, 2.1)
         charts.vector_graphic_chart(analysis, ax, index=0)
     else:
         idx = list(range(n))
