@@ -110,28 +110,36 @@ def _build() -> dict[str, np.ndarray]:
 @lru_cache(maxsize=1)
 def _all_tables() -> dict[str, np.ndarray]:
     with _LOCK:
-        path = cache_path()
-        if path.exists():
-            try:
-                with np.load(path, allow_pickle=False) as z:
-                    t = {k: z[k] for k in TABLE_NAMES}
-                for v in t.values():
-                    v.setflags(write=False)
-                return t
-            except Exception:  # a corrupt or partial cache is rebuilt, never trusted
-                pass
-        t = _build()
-        try:
-            path.parent.mkdir(parents=True, exist_ok=True)
-            tmp = path.with_suffix(f".{os.getpid()}.tmp")
-            with open(tmp, "wb") as fh:
-                np.savez(fh, **t)
-            os.replace(tmp, path)
-        except OSError:
-            pass  # a read-only home only costs the rebuild next time
+        t = _load_or_build(cache_path(), _build)
+        if set(t) != set(TABLE_NAMES):  # a cache from another layout is rebuilt
+            t = _build()
         for v in t.values():
             v.setflags(write=False)
         return t
+
+
+def _load_or_build(path: Path, build) -> dict[str, np.ndarray]:
+    """Arrays from the ``.npz`` at ``path``, or ``build()`` saved there atomically.
+
+    A corrupt or partial cache is rebuilt, never trusted; a read-only cache folder only
+    costs the rebuild next time.
+    """
+    if path.exists():
+        try:
+            with np.load(path, allow_pickle=False) as z:
+                return {k: z[k] for k in z.files}
+        except Exception:  # noqa: BLE001
+            pass
+    arrays = build()
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        tmp = path.with_suffix(f".{os.getpid()}.tmp")
+        with open(tmp, "wb") as fh:
+            np.savez(fh, **arrays)
+        os.replace(tmp, path)
+    except OSError:
+        pass
+    return arrays
 
 
 def table(name: str) -> np.ndarray:
@@ -152,23 +160,7 @@ def cmfs(observer: int | str = 2) -> np.ndarray:
 def cached_arrays(key: str, build) -> dict[str, np.ndarray]:
     """Arrays derived from the tables (e.g. the CCT solver's locus table), cached beside them.
 
-    ``build()`` returns a dict of arrays; the result is stored as ``<key>.npz`` in the cache
-    folder (keyed by the same versions as the tables) and read back on later runs.
+    ``build()`` returns a dict of arrays; the result is stored as ``<key>-<versions>.npz`` in
+    the cache folder and read back on later runs.
     """
-    path = cache_path().with_name(f"{key}-{_versions()}.npz")
-    if path.exists():
-        try:
-            with np.load(path, allow_pickle=False) as z:
-                return {k: z[k] for k in z.files}
-        except Exception:  # a corrupt cache is rebuilt
-            pass
-    arrays = build()
-    try:
-        path.parent.mkdir(parents=True, exist_ok=True)
-        tmp = path.with_suffix(f".{os.getpid()}.tmp")
-        with open(tmp, "wb") as fh:
-            np.savez(fh, **arrays)
-        os.replace(tmp, path)
-    except OSError:
-        pass
-    return arrays
+    return _load_or_build(cache_path().with_name(f"{key}-{_versions()}.npz"), build)
