@@ -509,6 +509,19 @@ def _limit_check(metric: str, value: float | None, lo: float | None, hi: float |
     return Check(metric, value, lo, hi, margin, _decide(margin, U), U)
 
 
+def sdcm_ellipse(claim: ChromaticityClaim):
+    """The one-step ellipse a chromaticity claim's ``max_sdcm`` is counted on.
+
+    ``sdcm_centre = "iec"``: the IEC 60081 lamp-centre ellipse of the nominal CCT;
+    ``"ansi"``: MacAdam (1942) interpolated to the ANSI C78.377 quadrangle centre.
+    """
+    from . import tolerance as tol
+
+    if claim.sdcm_centre == "iec":
+        return tol.iec60081_ellipse(claim.nominal_cct_K)
+    return tol.macadam1942_ellipse(tol.ansi_quadrangle(claim.nominal_cct_K).centre_xy)
+
+
 def _chroma_checks(records: list[Mapping], claims: Claims) -> list[list[Check]]:
     """Chromaticity checks for every record at once, vectorised over samples."""
     from . import tolerance as tol
@@ -528,11 +541,7 @@ def _chroma_checks(records: list[Mapping], claims: Claims) -> list[list[Check]]:
             m = _finite(margin[i])
             out[i].append(Check("ansi_quadrangle", found[i], None, None, m, _decide(m, U), U))
     if c.max_sdcm is not None:
-        if c.sdcm_centre == "iec":
-            e = tol.iec60081_ellipse(c.nominal_cct_K)
-        else:
-            e = tol.macadam1942_ellipse(tol.ansi_quadrangle(c.nominal_cct_K).centre_xy)
-        steps = e.steps(xy)
+        steps = sdcm_ellipse(c).steps(xy)
         U = claims.uncertainty.get("sdcm")
         for i in range(len(records)):
             s = _finite(steps[i])

@@ -7,7 +7,7 @@ spectra in ``spectra/`` (made by :mod:`cctkit.demo`), and writes under ``--out``
   downlights, a page each plus a comparison page, the summary picture and every number;
 * ``tw-lab.pdf`` / ``.json`` -- the lab's tunable-white fixture at its five set points;
 * ``nb3000-lot-verdict.json`` / ``.csv`` / ``.txt`` and ``nb3000-lot.pdf`` -- the delivered
-  lot of NB-3000-95 checked against the supplier's claims;
+  lot of NB-3000-95 checked against the supplier's claims (the PDF opens with the verdict pages);
 * ``nb3000-lot-bins.csv`` -- the lot binned by ANSI quadrangle and SDCM step.
 
 The job is a script of library calls, the same ones the command line makes.  It replaces
@@ -82,7 +82,8 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     put("nb3000-lot-verdict.json", dumps({**provenance(), **verdict}))
     put("nb3000-lot-verdict.csv", verdict_csv(verdict, claims))
     put("nb3000-lot-verdict.txt", format_verdict(verdict, claims) + "\n")
-    build_report(lot, out / "nb3000-lot.pdf", overwrite=True, inputs=lot_files, date=date)
+    build_report(lot, out / "nb3000-lot.pdf", overwrite=True, inputs=[*lot_files, spectra_dir / CLAIMS], date=date,
+                 verdict=verdict, claims=claims)
     written["nb3000-lot.pdf"] = out / "nb3000-lot.pdf"
     _say(f"  wrote {out / 'nb3000-lot.pdf'}")
     failing = [s["name"] for s in verdict["samples"] if s["verdict"] != "pass"]

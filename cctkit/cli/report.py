@@ -23,6 +23,8 @@ def report_cmd(
     paper: str = typer.Option("a4", "--paper", help="Paper size of the PDF: a4 | letter."),
     diagram: str = typer.Option("uv", "--diagram", help="Chromaticity diagram: uv (CIE 1960) | uvp (CIE 1976 u'v') "
                                 "| xy (CIE 1931)."),
+    claims_file: Optional[Path] = typer.Option(None, "--claims", help="Claims file (TOML): the PDF starts with "
+                                               "the verdict of every spectrum against it."),
 ) -> None:
     """A report an engineer can sign off: provenance, headline numbers, spectrum, chromaticity, rendering."""
     from ..safe_io import check_output_path
@@ -36,9 +38,17 @@ def report_cmd(
         raise InputError(f"--diagram must be uv, uvp or xy, got {diagram!r}")
     if output.suffix.lower() not in (".pdf", ".png"):
         raise InputError(f"--output must end in .pdf or .png, got {output.name!r}")
+    if claims_file is not None and output.suffix.lower() != ".pdf":
+        raise InputError(f"--claims adds verdict pages to a PDF; --output must end in .pdf, got {output.name!r}")
     if quantity is not None:
         Quantity.parse(quantity, source="--quantity")
-    check_output_path(output, overwrite=overwrite, inputs=files)  # before reading and drawing
+    inputs = [*files, claims_file] if claims_file is not None else list(files)
+    check_output_path(output, overwrite=overwrite, inputs=inputs)  # before reading and drawing
+    claims = None
+    if claims_file is not None:
+        from ..claims import load_claims
+
+        claims = load_claims(claims_file)
 
     from ..analysis import analyse
     from ..readers import read_spectra
@@ -49,8 +59,15 @@ def report_cmd(
         raise InputError("no input files given")
     # One report holds one quantity: concatenate refuses a mix with a one-line InputError.
     analysis = analyse(concatenate([read_spectra(f, quantity=quantity) for f in files]))
+    verdict = None
+    if claims is not None:
+        from ..claims import verify
+
+        verdict = verify(analysis.records(), claims).as_dict()
     rep = build_report(analysis, output, paper=paper_key, pages=True if pages else None, diagram=diagram_key,
-                       overwrite=overwrite, inputs=files)
+                       overwrite=overwrite, inputs=inputs, verdict=verdict, claims=claims)
+    if verdict is not None:
+        info(f"claims verdict: {verdict['verdict']}")
     if rep.kind == "pdf":
         info(f"wrote {output} ({len(rep.pages)} page{'s' if len(rep.pages) != 1 else ''})")
     else:

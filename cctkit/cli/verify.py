@@ -30,7 +30,7 @@ EXIT_INCONCLUSIVE = 3
 _OUTPUT_CSV = typer.Option(None, "--output", "-o", help="Write the per-sample table to FILE (.csv or .json).")
 
 
-def _records(files: List[Path], quantity: Optional[str], *, rendering: bool) -> list[dict[str, Any]]:
+def _analysis(files: List[Path], quantity: Optional[str], *, rendering: bool):
     from ..analysis import analyse
     from ..errors import InputError
     from ..readers import read_spectra
@@ -39,7 +39,11 @@ def _records(files: List[Path], quantity: Optional[str], *, rendering: bool) -> 
     if not files:
         raise InputError("no input files given")
     spectra = concatenate([read_spectra(f, quantity=quantity) for f in files])
-    return analyse(spectra, rendering=rendering).records()
+    return analyse(spectra, rendering=rendering)
+
+
+def _records(files: List[Path], quantity: Optional[str], *, rendering: bool) -> list[dict[str, Any]]:
+    return _analysis(files, quantity, rendering=rendering).records()
 
 
 def _needs_rendering(claims) -> bool:
@@ -124,20 +128,39 @@ def verify_cmd(
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     json_out: bool = JSON_OPTION,
     output: Optional[Path] = _OUTPUT_CSV,
+    report: Optional[Path] = typer.Option(None, "--report", help="Also write the PDF report, starting with the "
+                                          "verdict pages, to FILE (.pdf)."),
     overwrite: bool = OVERWRITE_OPTION,
 ) -> None:
     """Check measured spectra against a supplier's claims; exit 0 pass, 1 fail, 3 inconclusive, 2 bad input."""
     from ..claims import load_claims, verify
 
+    inputs = [*files, claims_file]
     if output is not None:
         require_suffix(output, (".csv", ".json"))
+    if report is not None:
+        from ..errors import InputError
+        from ..safe_io import check_output_path
+
+        require_suffix(report, (".pdf",), option="--report")
+        if output is not None and report.resolve() == output.resolve():
+            raise InputError("--report and --output name the same file", source=str(report))
+        check_output_path(report, overwrite=overwrite, inputs=inputs)  # before the slow part
     claims = load_claims(claims_file)
-    records = _records(files, quantity, rendering=_needs_rendering(claims))
+    # The report draws colour rendering, so it needs the full analysis.
+    analysis = _analysis(files, quantity, rendering=report is not None or _needs_rendering(claims))
+    records = analysis.records()
     verdict = verify(records, claims)
     doc = verdict.as_dict()
     if output is not None:
         text = dumps(doc) if output.suffix.lower() == ".json" else verdict_csv(doc, claims)
-        write_output(output, text, overwrite=overwrite, inputs=[*files, claims_file])
+        write_output(output, text, overwrite=overwrite, inputs=inputs)
+    if report is not None:
+        from ..report import build_report
+        from .options import info
+
+        rep = build_report(analysis, report, overwrite=overwrite, inputs=inputs, verdict=doc, claims=claims)
+        info(f"wrote {report} ({len(rep.pages)} pages)")
     if json_out:
         emit_json(doc)
     else:

@@ -120,6 +120,8 @@ def build_report(
     overwrite: bool = False,
     inputs: Iterable = (),
     date: str | None = None,
+    verdict: dict | None = None,
+    claims=None,
 ) -> Report:
     """Write the report of ``analysis`` to ``path`` (``.pdf``: full report, ``.png``: one-page summary).
 
@@ -145,6 +147,10 @@ def build_report(
         Input files, which are never written over.
     date
         Report date printed on every page (ISO ``YYYY-MM-DD``; today by default).
+    verdict, claims
+        A verdict document (:meth:`cctkit.claims.Verdict.as_dict`) of these spectra and the
+        :class:`cctkit.claims.Claims` it was checked against: the PDF then starts with the
+        verdict pages (:mod:`cctkit.report.verdict`).  Give both or neither; PDF only.
 
     Returns
     -------
@@ -155,6 +161,11 @@ def build_report(
     if suffix not in (".pdf", ".png"):
         raise InputError(f"report output must end in .pdf or .png, got {out.name!r}", source=str(out))
     _check_options(paper, diagram)
+    if (verdict is None) != (claims is None):
+        raise InputError("a verdict page needs both the verdict and the claims it was checked against",
+                         source="verdict" if claims is None else "claims")
+    if verdict is not None and suffix != ".pdf":
+        raise InputError(f"the claims verdict is part of the PDF report; got {out.name!r}", source=str(out))
     from ..safe_io import atomic_path, check_output_path
 
     check_output_path(out, overwrite=overwrite, inputs=list(inputs))  # fail before the slow part
@@ -164,6 +175,10 @@ def build_report(
     from matplotlib import rc_context
 
     records = analysis.records()
+    if verdict is not None:
+        from .verdict import check_verdict_matches
+
+        check_verdict_matches(records, verdict)
     meta = report_meta(date=date)
     with rc_context(_RC):
         from .charts import reference_comparison
@@ -174,7 +189,7 @@ def build_report(
                 _write_png(analysis, records, meta, tmp, comparison=comparison, diagram=diagram, regions=regions)
                 return Report(path=out, kind="png", pages=("summary",), size_px=PNG_SIZE_PX)
             titles = _write_pdf(analysis, records, meta, tmp, paper=paper, pages=pages, comparison=comparison,
-                                diagram=diagram, regions=regions)
+                                diagram=diagram, regions=regions, verdict=verdict, claims=claims)
     return Report(path=out, kind="pdf", pages=tuple(titles))
 
 
@@ -186,13 +201,19 @@ def _write_png(analysis, records, meta, tmp: Path, *, comparison, diagram, regio
     fig.savefig(tmp, format="png", dpi=PNG_DPI, metadata={"Software": f"cctkit {meta['cctkit_version']}"})
 
 
-def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, diagram, regions) -> list[str]:
+def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, diagram, regions,
+               verdict=None, claims=None) -> list[str]:
     from matplotlib.backends.backend_pdf import PdfPages
 
     from . import pages as pg
 
     plan = plan_pages(len(records), pages=pages)
-    total = len(plan)
+    n_verdict = 0
+    if verdict is not None:
+        from .verdict import verdict_page_count
+
+        n_verdict = verdict_page_count(verdict)
+    total = n_verdict + len(plan)
     labels = [f"page {k + 1} of {total}" for k in range(total)]
     titles: list[str] = []
     n_summary = sum(1 for kind, _ in plan if kind == "summary")
@@ -203,6 +224,14 @@ def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, 
         "Subject": "CCT, Duv, chromaticity, photometry and colour rendering of measured spectra",
     }
     with PdfPages(tmp, metadata=info) as pdf:
+        if verdict is not None:
+            from .verdict import verdict_pages
+
+            for title, fig in verdict_pages(analysis, verdict, claims, meta, paper=paper, diagram=diagram,
+                                            page_labels=labels[:n_verdict]):
+                titles.append(title)
+                pdf.savefig(fig)
+        labels = labels[n_verdict:]
         for k, (kind, arg) in enumerate(plan):
             common = {"paper": paper}
             if kind == "sample":
