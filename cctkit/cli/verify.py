@@ -152,8 +152,9 @@ def verify_cmd(
     records = analysis.records()
     verdict = verify(records, claims)
     doc = verdict.as_dict()
+    traced = _traceable(doc, records, claims_file)
     if output is not None:
-        text = dumps(doc) if output.suffix.lower() == ".json" else verdict_csv(doc, claims)
+        text = dumps(traced) if output.suffix.lower() == ".json" else verdict_csv(doc, claims)
         write_output(output, text, overwrite=overwrite, inputs=inputs)
     if report is not None:
         from ..report import build_report
@@ -162,12 +163,22 @@ def verify_cmd(
         rep = build_report(analysis, report, overwrite=overwrite, inputs=inputs, verdict=doc, claims=claims)
         info(f"wrote {report} ({len(rep.pages)} pages)")
     if json_out:
-        emit_json(doc)
+        emit_json(traced)
     else:
         typer.echo(format_verdict(doc, claims))
     code = {"pass": 0, "fail": EXIT_FAIL, "inconclusive": EXIT_INCONCLUSIVE}[verdict.verdict]
     if code:
         raise typer.Exit(code)
+
+
+def _traceable(doc: dict, records: list[dict], claims_file: Path) -> dict:
+    """The verdict with what makes it traceable: versions, conventions, every input's SHA-256."""
+    from ..analysis import provenance
+    from ..spectra import sha256_of_file
+
+    samples = [{**s, "source": r.get("source"), "sha256": r.get("sha256")} for s, r in zip(doc["samples"], records)]
+    return {**provenance(), "claims_file": str(claims_file), "claims_sha256": sha256_of_file(claims_file),
+            **doc, "samples": samples}
 
 
 def bin_cmd(
@@ -196,7 +207,11 @@ def bin_cmd(
     for row, rec in zip(rows, records):
         row["cct_K"] = rec.get("cct_K")
         row["duv"] = rec.get("duv")
-    doc = {"ellipses": ellipses, "samples": rows, "counts": result.counts()}
+    for row, rec in zip(rows, records):
+        row["source"], row["sha256"] = rec.get("source"), rec.get("sha256")
+    from ..analysis import provenance
+
+    doc = {**provenance(), "ellipses": ellipses, "samples": rows, "counts": result.counts()}
     if output is not None:
         text = dumps(doc) if output.suffix.lower() == ".json" else result.csv()
         write_output(output, text, overwrite=overwrite, inputs=files)
