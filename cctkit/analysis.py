@@ -9,6 +9,7 @@ records (dicts with unit-bearing keys), JSON or CSV is a separate, dumb step
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import cached_property
 from typing import Any
 
 import numpy as np
@@ -20,7 +21,7 @@ from .constants import C2_M_K, DUV_LIMIT, KM_LM_PER_W
 from .errors import Flag
 from .spectra import Quantity, Spectra, to_working_grid
 
-__all__ = ["Analysis", "analyse", "analyse_groups", "provenance", "CONVENTIONS", "RECORD_KEYS"]
+__all__ = ["Analysis", "analyse", "analyse_groups", "flatten_record", "provenance", "CONVENTIONS", "RECORD_KEYS"]
 
 #: The conventions every number is computed under (written into every output).
 CONVENTIONS = {
@@ -57,6 +58,15 @@ class Analysis:
 
     def __len__(self) -> int:
         return self.XYZ.shape[0]
+
+    @cached_property
+    def _rendering_columns(self) -> tuple[dict[str, list], ...]:
+        cols = []
+        if self.cri is not None:
+            cols.append(_cri_columns(self.cri))
+        if self.tm30 is not None:
+            cols.append(_tm30_columns(self.tm30))
+        return tuple(cols)
 
     def records(self) -> list[dict[str, Any]]:
         """One dict per spectrum with unit-bearing keys (see :data:`RECORD_KEYS`)."""
@@ -95,10 +105,8 @@ def _record(a: Analysis, i: int) -> dict[str, Any]:
     for part in (a.photometry, a.alphaopic, a.shape, a.dominant):
         if part is not None:
             r.update(part.record(i))
-    if a.cri is not None:
-        r.update(_cri_record(a.cri, i))
-    if a.tm30 is not None:
-        r.update(_tm30_record(a.tm30, i))
+    for cols in a._rendering_columns:
+        r.update({k: v[i] for k, v in cols.items()})
     r["flags"] = [f.as_dict() for f in a.flags[i]]
     return r
 
@@ -173,28 +181,41 @@ def _extra_measures(g: Spectra, tri, xy, cct: CctResult, *, observer: int, rende
     return parts
 
 
-def _cri_record(r, i: int) -> dict[str, Any]:
-    """Record fields of a CIE 13.3 result."""
+def _rows(a) -> list:
+    """``a`` (N, k) as nested Python lists with None for NaN (fast: one tolist, then only NaN rows)."""
+    arr = np.asarray(a, dtype=np.float64)
+    rows = arr.tolist()
+    bad = ~np.isfinite(arr)
+    if bad.any():
+        for i in np.flatnonzero(bad.any(axis=tuple(range(1, arr.ndim)))):
+            rows[i] = [None if not np.isfinite(v) else v for v in arr[i].tolist()]
+    return rows
+
+
+def _scalars(a) -> list:
+    arr = np.asarray(a, dtype=np.float64)
+    return [None if not np.isfinite(v) else v for v in arr.tolist()] if not np.isfinite(arr).all() else arr.tolist()
+
+
+def _cri_columns(r) -> dict[str, list]:
     return {
-        "Ra": _f(r.Ra, i),
-        "R": [_f(r.R[i], j) for j in range(r.R.shape[1])],
-        "cri_valid": bool(r.valid[i]),
-        "cri_dc": _f(r.dc, i),
-        "cri_reference": r.reference[i],
+        "Ra": _scalars(r.Ra),
+        "R": _rows(r.R),
+        "cri_valid": [bool(v) for v in np.asarray(r.valid).tolist()],
+        "cri_dc": _scalars(r.dc),
+        "cri_reference": list(r.reference),
     }
 
 
-def _tm30_record(r, i: int) -> dict[str, Any]:
-    """Record fields of a CIE 224 / TM-30 result."""
-    row = lambda a: [_f(a[i], j) for j in range(a.shape[1])]  # noqa: E731
+def _tm30_columns(r) -> dict[str, list]:
     return {
-        "Rf": _f(r.Rf, i),
-        "Rg": _f(r.Rg, i),
-        "Rf_h": row(r.Rf_h),
-        "Rcs_h": [None if v is None else 100.0 * v for v in row(r.Rcs_h)],  # percent, as TM-30 reports it
-        "Rhs_h": row(r.Rhs_h),
-        "Rf_i": row(r.Rf_i),
-        "reference": r.reference[i],
+        "Rf": _scalars(r.Rf),
+        "Rg": _scalars(r.Rg),
+        "Rf_h": _rows(r.Rf_h),
+        "Rcs_h": _rows(np.asarray(r.Rcs_h) * 100.0),  # percent, as TM-30 reports it
+        "Rhs_h": _rows(r.Rhs_h),
+        "Rf_i": _rows(r.Rf_i),
+        "reference": list(r.reference),
     }
 
 
@@ -237,6 +258,24 @@ def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool =
             per_item[i] = recs[pos : pos + n]
             pos += n
     return [r for i in range(len(items)) for r in per_item[i]]
+
+
+def flatten_record(rec: dict[str, Any]) -> dict[str, Any]:
+    """One flat row from a record: lists become numbered columns (R1..R14, Rf_h1..), flags ``;``-joined codes."""
+    out: dict[str, Any] = {}
+    for k, v in rec.items():
+        if k == "flags":
+            out["flags"] = ";".join(f["code"] for f in v)
+        elif k == "R" and isinstance(v, list):
+            out.update({f"R{i + 1}": x for i, x in enumerate(v)})
+        elif isinstance(v, list):
+            if k.startswith("measured_range"):
+                out[f"{k}_lo"], out[f"{k}_hi"] = v
+            else:
+                out.update({f"{k}{i + 1}": x for i, x in enumerate(v)})
+        else:
+            out[k] = v
+    return out
 
 
 def provenance() -> dict[str, Any]:

@@ -14,7 +14,9 @@ chunk, maps the chunk function over the chunks -- inline, on a local
 flight, and writes the tables *in input order* as they arrive: CSV appended to a
 temporary file, Parquet through :class:`pyarrow.parquet.ParquetWriter`, renamed
 into place only when every chunk succeeded (:func:`cctkit.safe_io.atomic_path`).
-Peak memory is therefore a few chunks, whatever the input size.
+Peak memory is therefore a few chunks, whatever the input size.  On a Dask
+cluster every worker must be able to import the same version of cctkit; chunks
+are sent to the workers with ``client.scatter`` and run with ``client.submit``.
 
 Numbers do not depend on how the input is cut into chunks or where a chunk
 runs, up to the last bits of a float: the measures are matrix products, and
@@ -25,6 +27,8 @@ over the same chunks give identical bytes.
 from __future__ import annotations
 
 import csv
+import io
+import itertools
 import json
 import math
 import os
@@ -37,6 +41,7 @@ from typing import Any, Callable, Iterator, Sequence, TextIO
 
 import numpy as np
 
+from .analysis import flatten_record
 from .errors import Flag, InputError
 from .spectra import Quantity, Spectra
 
@@ -53,7 +58,11 @@ __all__ = [
 ]
 
 OUTPUT_SUFFIXES = (".csv", ".parquet")
-_STRING_COLUMNS = frozenset({"name", "source", "sha256", "quantity", "spectral_unit", "reference", "flags"})
+#: How long to try reaching a Dask scheduler before giving up [s].
+SCHEDULER_TIMEOUT_S = 10.0
+_STRING_COLUMNS = frozenset(
+    {"name", "source", "sha256", "quantity", "spectral_unit", "reference", "cri_reference", "flags", "cctkit_version"}
+)
 
 
 # --------------------------------------------------------------------------- the chunk function
@@ -110,63 +119,107 @@ def chunk_results(
 
 
 def spectra_results(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> dict[str, np.ndarray]:
-    """:func:`chunk_results` for spectra already held in a :class:`~cctkit.spectra.Spectra`."""
+    """:func:`chunk_results` for spectra already held in a :class:`~cctkit.spectra.Spectra`.
+
+    The table ends with a ``cctkit_version`` column, as the CSV of ``inspect`` does.
+    """
+    from . import __version__
     from .analysis import analyse
 
     analysis = analyse(spectra, observer=observer, rendering=rendering)
     # Analysis.records() is the one definition of the per-spectrum record; flattening it keeps
-    # batch output and `inspect` output the same by construction.
-    return records_table(analysis.records())
-
-
-def flatten_record(rec: dict[str, Any]) -> dict[str, Any]:
-    """One flat row from a record: lists become numbered columns, flags ``;``-joined codes.
-
-    ``R`` becomes ``R1..R14``; ``measured_range_nm`` becomes ``measured_range_nm_lo/_hi``;
-    any other list ``k`` becomes ``k1..kn`` (``Rf_h1..Rf_h16``).
-    """
-    out: dict[str, Any] = {}
-    for k, v in rec.items():
-        if k == "flags":
-            out["flags"] = ";".join(f["code"] for f in v)
-        elif k == "R" and isinstance(v, list):
-            out.update({f"R{i + 1}": x for i, x in enumerate(v)})
-        elif isinstance(v, list):
-            if k.startswith("measured_range"):
-                out[f"{k}_lo"], out[f"{k}_hi"] = v
-            else:
-                out.update({f"{k}{i + 1}": x for i, x in enumerate(v)})
-        else:
-            out[k] = v
-    return out
+    # batch output and `inspect` output the same by construction.  An Analysis.columns() that
+    # returns records_table(self.records()) without the per-spectrum dicts is used when present
+    # (tests hold the two equal).
+    columns = getattr(analysis, "columns", None)
+    table = dict(columns()) if callable(columns) else records_table(analysis.records())
+    table["cctkit_version"] = np.full(len(spectra), __version__, dtype=object)  # as inspect's CSV has it
+    return table
 
 
 def records_table(records: Sequence[dict[str, Any]]) -> dict[str, np.ndarray]:
-    """Columns from records: float64 (NaN for missing), int64, bool, or object (str/None)."""
-    flat = [flatten_record(r) for r in records]
+    """Columns from records, named and ordered as :func:`flatten_record` names them.
+
+    Column types: float64 (NaN where the record holds ``None``), int64, bool, or
+    object (str/None).  Built column by column rather than row by row, because a
+    chunk has thousands of records of some 250 flattened fields.
+    """
     keys: dict[str, None] = {}
-    for r in flat:
+    for r in records:
         keys.update(dict.fromkeys(r))
-    return {k: _column(k, [r.get(k) for r in flat]) for k in keys}
+    n = len(records)
+    out: dict[str, np.ndarray] = {}
+    for k in keys:
+        vals = [r.get(k, _ABSENT) for r in records]
+        if k == "flags":
+            out[k] = np.array(
+                [None if v is _ABSENT else ";".join(f["code"] for f in v) for v in vals], dtype=object
+            )
+            continue
+        if not any(isinstance(v, list) for v in vals):
+            out[k] = _column(k, [None if v is _ABSENT else v for v in vals])
+            continue
+        widths = {len(v) if isinstance(v, list) else -1 for v in vals}
+        if len(widths) != 1 or -1 in widths:
+            # lists of differing lengths, or lists beside scalars: flatten row by row
+            flat = [flatten_record({k: v}) if v is not _ABSENT else {} for v in vals]
+            sub: dict[str, None] = {}
+            for f in flat:
+                sub.update(dict.fromkeys(f))
+            for name in sub:
+                out[name] = _column(name, [f.get(name) for f in flat])
+            continue
+        width = widths.pop()
+        if k == "R":
+            names = [f"R{j + 1}" for j in range(width)]
+        elif k.startswith("measured_range") and width == 2:
+            names = [f"{k}_lo", f"{k}_hi"]
+        else:
+            names = [f"{k}{j + 1}" for j in range(width)]
+        types = set(map(type, itertools.chain.from_iterable(vals)))
+        if n and types <= {float, type(None)}:
+            block = np.array(vals, dtype=np.float64)  # None -> NaN
+            for j, name in enumerate(names):
+                out[name] = np.ascontiguousarray(block[:, j])
+        else:
+            for j, name in enumerate(names):
+                out[name] = _column(name, [v[j] for v in vals])
+    return out
+
+
+_ABSENT = object()
 
 
 def _column(key: str, items: list[Any]) -> np.ndarray:
-    present = [x for x in items if x is not None]
-    if key in _STRING_COLUMNS or any(isinstance(x, str) for x in present):
+    types = set(map(type, items))
+    present = types - {type(None)}
+    if key in _STRING_COLUMNS or str in present:
         return np.array(items, dtype=object)
-    if present and all(isinstance(x, (bool, np.bool_)) for x in present):
-        return np.array(items, dtype=bool if len(present) == len(items) else object)
-    if present and len(present) == len(items) and all(isinstance(x, (int, np.integer)) for x in present):
+    if present and present <= {bool, np.bool_}:
+        return np.array(items, dtype=bool if type(None) not in types else object)
+    if present and present <= {int} and type(None) not in types:
         return np.array(items, dtype=np.int64)
-    try:
-        return np.array([np.nan if x is None else x for x in items], dtype=np.float64)
-    except (TypeError, ValueError):
-        return np.array(items, dtype=object)
+    if present <= {float, int, np.float64}:
+        return np.array(items, dtype=np.float64)  # None -> NaN
+    return np.array(items, dtype=object)
 
 
-def _work(spectra: Spectra, observer: int, rendering: bool) -> dict[str, np.ndarray]:
-    """What a worker runs: one chunk in, one table out (module level so it pickles)."""
-    return spectra_results(spectra, observer=observer, rendering=rendering)
+@dataclass(frozen=True)
+class _ChunkResult:
+    """A worker's answer: the table, and for CSV output its rows already formatted."""
+
+    table: dict[str, np.ndarray]
+    csv_rows: str | None
+
+
+def _work(spectra: Spectra, observer: int, rendering: bool, csv_rows: bool = False) -> _ChunkResult:
+    """What a worker runs: one chunk in, one table out (module level so it pickles).
+
+    Formatting CSV rows here rather than in the writing process spreads the cost of
+    turning some 250 numbers per spectrum into text over the workers.
+    """
+    table = spectra_results(spectra, observer=observer, rendering=rendering)
+    return _ChunkResult(table, _csv_rows(table, list(table)) if csv_rows else None)
 
 
 # --------------------------------------------------------------------------- writers
@@ -177,21 +230,29 @@ class _CsvWriter:
 
     def __init__(self, path: Path):
         self._fh: TextIO = open(path, "w", encoding="utf-8", newline="")
-        self._w = csv.writer(self._fh, lineterminator="\n")
         self.columns: list[str] | None = None
 
-    def write(self, table: dict[str, np.ndarray]) -> None:
+    def write(self, result: _ChunkResult) -> None:
+        table = result.table
         if self.columns is None:
             self.columns = list(table)
-            self._w.writerow(self.columns)
-        n = _table_rows(table)
-        cols = [_as_cells(table.get(k), n) for k in _checked_columns(self.columns, table)]
-        self._w.writerows(zip(*cols))
+            self._fh.write(_csv_rows({k: np.array([k], dtype=object) for k in self.columns}, self.columns))
+        if result.csv_rows is not None and list(table) == self.columns:
+            self._fh.write(result.csv_rows)
+        else:
+            self._fh.write(_csv_rows(table, _checked_columns(self.columns, table)))
 
     def close(self) -> None:
         self._fh.flush()
         os.fsync(self._fh.fileno())
         self._fh.close()
+
+
+def _csv_rows(table: dict[str, np.ndarray], columns: list[str]) -> str:
+    n = _table_rows(table)
+    buf = io.StringIO()
+    csv.writer(buf, lineterminator="\n").writerows(zip(*[_as_cells(table.get(k), n) for k in columns]))
+    return buf.getvalue()
 
 
 def _table_rows(table: dict[str, np.ndarray]) -> int:
@@ -209,7 +270,9 @@ def _as_cells(col: np.ndarray | None, n: int) -> list[Any]:
     if col is None:
         return [None] * n
     if col.dtype == np.float64:
-        return [None if x != x or x in (math.inf, -math.inf) else x for x in col.tolist()]
+        cells = col.astype(object)
+        cells[~np.isfinite(col)] = None
+        return cells.tolist()
     return col.tolist()
 
 
@@ -223,10 +286,11 @@ class _ParquetWriter:
         self._schema = None
         self.columns: list[str] | None = None
 
-    def write(self, table: dict[str, np.ndarray]) -> None:
+    def write(self, result: _ChunkResult) -> None:
         import pyarrow as pa
         import pyarrow.parquet as pq
 
+        table = result.table
         if self._writer is None:
             self.columns = list(table)
             fields = [pa.field(k, _arrow_type(k, table[k])) for k in self.columns]
@@ -350,8 +414,8 @@ class BatchSummary:
 
 
 def _ordered_map(
-    submit: Callable[[Spectra], Any], result: Callable[[Any], dict], chunks: Iterator[Spectra], window: int
-) -> Iterator[tuple[int, dict]]:
+    submit: Callable[[Spectra], Any], result: Callable[[Any], _ChunkResult], chunks: Iterator[Spectra], window: int
+) -> Iterator[tuple[int, _ChunkResult]]:
     """Submit chunks keeping at most ``window`` in flight; yield (size, table) in input order."""
     pending: deque[tuple[int, Any]] = deque()
     for chunk in chunks:
@@ -364,12 +428,12 @@ def _ordered_map(
         yield n, result(fut)
 
 
-def _inline(chunks: Iterator[Spectra], observer: int, rendering: bool) -> Iterator[tuple[int, dict]]:
+def _inline(chunks: Iterator[Spectra], opts: tuple) -> Iterator[tuple[int, _ChunkResult]]:
     for chunk in chunks:
-        yield len(chunk), _work(chunk, observer, rendering)
+        yield len(chunk), _work(chunk, *opts)
 
 
-def _local_pool(chunks: Iterator[Spectra], workers: int, observer: int, rendering: bool) -> Iterator[tuple[int, dict]]:
+def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> Iterator[tuple[int, _ChunkResult]]:
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
 
@@ -379,19 +443,19 @@ def _local_pool(chunks: Iterator[Spectra], workers: int, observer: int, renderin
     pool = ProcessPoolExecutor(max_workers=workers, mp_context=context)
     try:
         yield from _ordered_map(
-            lambda c: pool.submit(_work, c, observer, rendering), lambda f: f.result(), chunks, 2 * workers
+            lambda c: pool.submit(_work, c, *opts), lambda f: f.result(), chunks, 2 * workers
         )
     finally:
         pool.shutdown(wait=True, cancel_futures=True)
 
 
-def _dask(chunks: Iterator[Spectra], address: str, observer: int, rendering: bool) -> Iterator[tuple[int, dict]]:
+def _dask(chunks: Iterator[Spectra], address: str, opts: tuple) -> Iterator[tuple[int, _ChunkResult]]:
     try:
         from distributed import Client
     except ImportError:  # pragma: no cover - a declared dependency
         raise InputError("--scheduler needs the dask[distributed] package") from None
     try:
-        client = Client(address, timeout="10s", set_as_default=False)
+        client = Client(address, timeout=f"{SCHEDULER_TIMEOUT_S}s", set_as_default=False)
     except (OSError, TimeoutError, ValueError) as exc:
         raise InputError(f"cannot reach the Dask scheduler ({type(exc).__name__}: {str(exc).splitlines()[0] if str(exc) else ''})", source="--scheduler") from None
     futures: list[Any] = []
@@ -400,7 +464,7 @@ def _dask(chunks: Iterator[Spectra], address: str, observer: int, rendering: boo
 
         def submit(chunk: Spectra):
             data = client.scatter(chunk)  # large arguments travel directly to a worker, not in the task graph
-            fut = client.submit(_work, data, observer, rendering, pure=False)
+            fut = client.submit(_work, data, *opts, pure=False)
             futures.append(fut)
             return fut
 
@@ -462,15 +526,16 @@ def run_batch(
     check_output_path(out, overwrite=overwrite, inputs=inputs)
     progress = progress or Progress(source.total, enabled=False)
     chunks = source.chunks()
+    opts = (observer, rendering, suffix == ".csv")
     if scheduler:
         executor = f"dask {scheduler}"
-        results = _dask(chunks, scheduler, observer, rendering)
+        results = _dask(chunks, scheduler, opts)
     elif workers > 1 and not (source.total is not None and source.total <= source.chunk_size):
         executor = f"{workers} local processes"
-        results = _local_pool(_warmed(chunks, observer, rendering), workers, observer, rendering)
+        results = _local_pool(_warmed(chunks, observer, rendering), workers, opts)
     else:
         executor = "this process"
-        results = _inline(chunks, observer, rendering)
+        results = _inline(chunks, opts)
     count = 0
     n_chunks = 0
     t0 = time.perf_counter()
@@ -480,8 +545,8 @@ def run_batch(
         else:
             writer = _ParquetWriter(tmp, {"cctkit": json.dumps(metadata or {}, default=str)})
         try:
-            for n, table in results:
-                writer.write(table)
+            for n, result in results:
+                writer.write(result)
                 count += n
                 n_chunks += 1
                 progress.update(n)

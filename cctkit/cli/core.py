@@ -123,6 +123,7 @@ def inspect_cmd(
 def records_csv(records: list[dict[str, Any]]) -> str:
     """Flatten records to CSV: list fields become numbered columns (R1..R14, Rf_h1..)."""
     from .. import __version__
+    from ..analysis import flatten_record
 
     flat = [{**flatten_record(r), "cctkit_version": __version__} for r in records]
     header: list[str] = []
@@ -131,23 +132,6 @@ def records_csv(records: list[dict[str, Any]]) -> str:
             if k not in header:
                 header.append(k)
     return csv_text(header, ([r.get(k, "") for k in header] for r in flat))
-
-
-def flatten_record(rec: dict[str, Any]) -> dict[str, Any]:
-    out: dict[str, Any] = {}
-    for k, v in rec.items():
-        if k == "flags":
-            out["flags"] = ";".join(f["code"] for f in v)
-        elif k == "R" and isinstance(v, list):
-            out.update({f"R{i + 1}": x for i, x in enumerate(v)})
-        elif isinstance(v, list):
-            if k.startswith("measured_range"):
-                out[f"{k}_lo"], out[f"{k}_hi"] = v
-            else:
-                out.update({f"{k}{i + 1}": x for i, x in enumerate(v)})
-        else:
-            out[k] = v
-    return out
 
 
 def cct_cmd(

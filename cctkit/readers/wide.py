@@ -84,7 +84,7 @@ class ChunkedInput:
     path
         The input as given.
     layout
-        ``"wide-csv"``, ``"delimited"``, ``"folder"`` or ``"parquet"``.
+        ``"wide-csv"``, ``"file"`` (any one file read whole), ``"folder"`` or ``"parquet"``.
     total
         Number of spectra when known beforehand (else ``None``).
     files
@@ -220,7 +220,7 @@ def _open_single(p: Path, source: str, chunk_size: int, wanted: Quantity | None)
     def make() -> Iterator[Spectra]:
         return _rechunk(iter([read_spectra(p, quantity=wanted)]), chunk_size)
 
-    return ChunkedInput(source, "delimited", None, (source,), chunk_size, make)
+    return ChunkedInput(source, "file", None, (source,), chunk_size, make)
 
 
 def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None) -> ChunkedInput:
