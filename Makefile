@@ -24,6 +24,8 @@ test: $(STAMP)
 bench: $(STAMP)
 	$(PY) benchmarks/bench_cct.py
 	$(PY) benchmarks/bench_rendering.py
+	$(PY) benchmarks/bench_full.py
+	$(PY) benchmarks/bench_batch.py
 
 clean:
 	rm -rf $(VENV) build *.egg-info .pytest_cache

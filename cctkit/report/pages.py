@@ -508,17 +508,38 @@ def summary_picture(analysis, records, meta, *, comparison, diagram: str, region
         for label, value, unit, note in headline_rows(rec):
             lines.append((label, f"{value} {unit}".strip() + (f"  \u25b2 {note}" if note else "")))
         lines.append(("Flags", ", ".join(f["code"] for f in rec.get("flags", [])) or "none"))
-    else:
-        for k, r in enumerate(records[:22]):
-            lines.append((f"#{k + 1} {shorten(r['name'], 20)}",
-                          f"{format_value(r, 'cct_K')} K  {format_value(r, 'duv')}  Ra {format_value(r, 'Ra')}"))
-        if n > 22:
-            lines.append(("\u2026", f"and {n - 22} more"))
     y = 0.5
+    if n > 1:
+        # A compact comparison table: the headline numbers side by side, one row per spectrum.
+        lum = _luminous_key(records)
+        lum_unit = {"luminous_flux_lm": "lm", "illuminance_lx": "lx", "luminance_cd_per_m2": "cd/m\u00b2",
+                    "intensity_cd": "cd"}.get(lum or "", "")
+        cols = [("#", None, 0.0), ("name", None, 0.2), ("CCT K", "cct_K", 1.22), ("Duv", "duv", 1.58),
+                (lum_unit or "Y", lum, 2.02), ("Ra", "Ra", 2.42), ("R9", "R9", 2.7), ("Rf", "Rf", 2.98),
+                ("Rg", "Rg", 3.26)]
+        for label, _, x in cols:
+            fig.text((0.15 + x) / w_in, 1 - y / h_in, label, fontsize=6, va="top", weight="bold")
+        y += 0.2
+        shown = records[:22] if n <= 24 else records[:20]
+        for k, r in enumerate(shown):
+            for label, key, x in cols:
+                if key is None:
+                    text = f"{k + 1}" if label == "#" else shorten(r["name"], 16)
+                else:
+                    text = format_value(r, key) if key else "n/a"
+                fig.text((0.15 + x) / w_in, 1 - y / h_in, text, fontsize=6, va="top")
+            y += 0.17
+        if len(shown) < n:
+            fig.text(0.15 / w_in, 1 - y / h_in, f"\u2026 and {n - len(shown)} more (see the PDF report)",
+                     fontsize=6, va="top", color=GREY)
+            y += 0.17
+        if n <= 12:
+            ax = box(0.55, y + 0.35, 3.05, min(2.4, 5.6 - y))
+            charts.index_comparison_chart(analysis, ax)
     for label, value in lines:
         fig.text(0.15 / w_in, 1 - y / h_in, label, fontsize=6.3, va="top")
         fig.text(1.45 / w_in, 1 - y / h_in, shorten(value, 34), fontsize=6.3, va="top", weight="bold")
-        y += 0.165 if n == 1 else 0.2
+        y += 0.165
     if n == 1:
         y += 0.1
         for label, value in (("File", shorten(rec.get("source") or "(not from a file)", 44, keep="tail")),
@@ -547,7 +568,7 @@ def summary_picture(analysis, records, meta, *, comparison, diagram: str, region
         charts.vector_graphic_chart(analysis, ax, index=0)
     else:
         idx = list(range(n))
-        ax = box(4.1, 0.5, 3.0, 5.3)
+        ax = box(4.35, 0.5, 2.85, 5.3)
         charts.spectra_overlay_chart(analysis, ax, comparison=comparison,
                                      labels=[f"#{k + 1}" for k in idx] if n <= 12 else None)
         ax.set_title("Spectra (Y = 100)", fontsize=7, loc="left")
