@@ -128,11 +128,8 @@ def spectra_results(spectra: Spectra, *, observer: int = 2, rendering: bool = Tr
 
     analysis = analyse(spectra, observer=observer, rendering=rendering)
     # Analysis.records() is the one definition of the per-spectrum record; flattening it keeps
-    # batch output and `inspect` output the same by construction.  An Analysis.columns() that
-    # returns records_table(self.records()) without the per-spectrum dicts is used when present
-    # (tests hold the two equal).
-    columns = getattr(analysis, "columns", None)
-    table = dict(columns()) if callable(columns) else records_table(analysis.records())
+    # batch output and `inspect` output the same by construction.
+    table = records_table(analysis.records())
     table["cctkit_version"] = np.full(len(spectra), __version__, dtype=object)  # as inspect's CSV has it
     return table
 

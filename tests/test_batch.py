@@ -488,23 +488,3 @@ def test_wide_unit_directive_and_descending_header(tmp_path):
     np.testing.assert_allclose(got.values, ref.values, rtol=1e-15)  # mW -> W is a factor 1e-3 (SI prefix)
     assert all(f.code == "wavelength-descending" for f in got.flags[0]) and got.flags[0]
     assert got.sources[2] == f"{tmp_path / 'mw.csv'}#c" and len(set(got.sha256)) == 1
-
-
-def test_analysis_columns_equal_the_flattened_records(wide_file):
-    """Guards the fast path: batch uses Analysis.columns() when it exists, so it must equal the records."""
-    from cctkit.analysis import Analysis, analyse
-    from cctkit.batch import records_table
-    from cctkit.readers.wide import open_chunked
-
-    if not hasattr(Analysis, "columns"):
-        pytest.skip("Analysis.columns() not there yet; batch flattens records()")
-    (chunk,) = list(open_chunked(wide_file, chunk_size=1000).chunks())
-    a = analyse(chunk)
-    got, ref = a.columns(), records_table(a.records())
-    assert list(got) == list(ref)
-    for k in ref:
-        assert got[k].dtype == ref[k].dtype, k
-        if ref[k].dtype == np.float64:
-            np.testing.assert_array_equal(got[k], ref[k])
-        else:
-            assert got[k].tolist() == ref[k].tolist(), k
