@@ -535,7 +535,6 @@ def demo_files() -> list[DemoFile]:
     for index, key in enumerate(PRODUCTS):
         spec = PRODUCTS[key]
         wl, values, inst = _product_measurement(key, index)
-        led: WhiteLed = spec["design"]
         comments = [
             "scenario: Harbourside Lantern Hall downlight selection (fictional)",
             f"supplier: {spec['supplier']} (fictional); product: {key}",

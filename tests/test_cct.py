@@ -7,7 +7,6 @@ from hypothesis import strategies as st
 
 from cctkit.cct import cct_duv
 from cctkit.colorimetry import XYZ, XYZ_to_uv, xy_to_uv
-from cctkit.constants import WAVELENGTH_NM
 from cctkit.locus import planckian_uv, uv_from_cct_duv
 
 

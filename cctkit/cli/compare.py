@@ -23,10 +23,10 @@ from .options import (
     OVERWRITE_OPTION,
     QUANTITY_HELP,
     csv_text,
-    dumps,
     emit_json,
     info,
     require_suffix,
+    spectrum_file_text,
     write_output,
 )
 
@@ -185,7 +185,6 @@ def reference_cmd(
 
     from ..cct import cct_duv
     from ..colorimetry import XYZ, XYZ_to_uv, XYZ_to_xy
-    from ..constants import WAVELENGTH_NM
     from ..rendering import reference_for
 
     ref_method = _method(method)
@@ -210,17 +209,10 @@ def reference_cmd(
         "duv_of_spectrum": float(check.duv[0]),
     }
     if output is not None:
-        if suffix == ".csv":
-            text = (
-                f"# {name} ({ref.kind[0]}, Planckian weight {doc['planckian_weight']:g}); relative, Y = 100 (CIE 1931 2 deg)\n"
-                + csv_text(["wavelength (nm)", "relative"], zip(WAVELENGTH_NM.tolist(), values.tolist()))
-            )
-        else:
-            text = dumps({
-                "quantity": "relative",
-                "wavelength_nm": WAVELENGTH_NM.tolist(),
-                "spectra": [{"name": name, "values": values.tolist()}],
-            })
+        text = spectrum_file_text(
+            suffix, name, values, quantity="relative", unit="", column="relative",
+            comment=f"{name} ({ref.kind[0]}, Planckian weight {doc['planckian_weight']:g}); relative, Y = 100 (CIE 1931 2 deg)",
+        )
         write_output(output, text, overwrite=overwrite)
     if json_out:
         emit_json(doc)

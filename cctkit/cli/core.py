@@ -20,6 +20,7 @@ from .options import (
     info,
     parse_observer,
     require_suffix,
+    spectrum_file_text,
     write_output,
 )
 
@@ -237,7 +238,6 @@ def blackbody_cmd(
 
     from ..cct import cct_duv
     from ..colorimetry import uv_to_xy
-    from ..constants import WAVELENGTH_NM
     from ..locus import planckian_uv
     from ..planck import blackbody_efficacy, spectral_exitance, spectral_radiance, total_exitance, wien_peak_nm
 
@@ -264,17 +264,11 @@ def blackbody_cmd(
             values, unit, col = spectral_exitance(T_K), "W/(m2 nm)", "spectral_exitance (W/(m2 nm))"
         else:
             values, unit, col = spectral_radiance(T_K), "W/(sr m2 nm)", "spectral_radiance (W/(sr m2 nm))"
-        if suffix == ".csv":
-            text = f"# blackbody at {T_K:g} K, Planck's law, c2 = 1.4388e-2 m K; unit: {unit}\n" + csv_text(
-                ["wavelength (nm)", col], zip(WAVELENGTH_NM.tolist(), values.tolist())
-            )
-        else:
-            text = dumps({
-                "quantity": "irradiance" if quantity == "exitance" else "radiance",  # exitance shares the unit
-                "unit": unit,
-                "wavelength_nm": WAVELENGTH_NM.tolist(),
-                "spectra": [{"name": f"blackbody {T_K:g} K", "values": values.tolist()}],
-            })
+        # exitance shares the unit of irradiance, which is how the readers take it back
+        text = spectrum_file_text(
+            suffix, f"blackbody {T_K:g} K", values, quantity="irradiance" if quantity == "exitance" else "radiance",
+            unit=unit, column=col, comment=f"blackbody at {T_K:g} K, Planck's law, c2 = 1.4388e-2 m K; unit: {unit}",
+        )
         write_output(output, text, overwrite=overwrite)
     if json_out:
         emit_json(doc)

@@ -90,3 +90,21 @@ def require_suffix(path: Path, allowed: tuple[str, ...], option: str = "--output
     if suffix not in allowed:
         raise InputError(f"{option} must end in {' or '.join(allowed)}, got {path.name!r}")
     return suffix
+
+
+def spectrum_file_text(suffix: str, name: str, values, *, quantity: str, unit: str, column: str, comment: str) -> str:
+    """One spectrum on the working grid as the text of a CSV or JSON file our readers read back.
+
+    ``suffix`` is ``".csv"`` or ``".json"``; ``column`` is the CSV value header (with its unit),
+    ``comment`` the CSV's first line (without ``#``).
+    """
+    from ..constants import WAVELENGTH_NM
+
+    if suffix == ".csv":
+        return f"# {comment}\n" + csv_text(["wavelength (nm)", column], zip(WAVELENGTH_NM.tolist(), values.tolist()))
+    doc: dict[str, Any] = {"quantity": quantity}
+    if unit:
+        doc["unit"] = unit
+    doc["wavelength_nm"] = WAVELENGTH_NM.tolist()
+    doc["spectra"] = [{"name": name, "values": values.tolist()}]
+    return dumps(doc)
