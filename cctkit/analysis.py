@@ -152,33 +152,30 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> A
     uv = XYZ_to_uv(tri)
     cct = cct_duv(uv, observer=observer)
     flags = tuple(g.flags[i] + _cct_flags(cct, i) for i in range(len(g)))
-    parts: dict[str, Any] = {}
-    parts.update(_extra_measures(g, tri, xy, cct, observer=int(observer), rendering=rendering))
-    extra_flags = parts.pop("_flags", None)
-    if extra_flags is not None:
-        flags = tuple(f + e for f, e in zip(flags, extra_flags))
+    parts = _extra_measures(g, xy, observer=int(observer))
+    if rendering:
+        cri, fid, rendering_flags = _rendering(g.values, cct, observer=int(observer))
+        parts.update(cri=cri, tm30=fid)
+        flags = tuple(f + e for f, e in zip(flags, rendering_flags))
     return Analysis(
         spectra=g, observer=int(observer), XYZ=tri, xy=xy, uv=uv, uvp=uv_to_uvp(uv), cct=cct, flags=flags, **parts
     )
 
 
-def _extra_measures(g: Spectra, tri, xy, cct: CctResult, *, observer: int, rendering: bool) -> dict[str, Any]:
-    """Photometry, alpha-opic quantities, spectral shape, dominant wavelength, colour rendering."""
+def _extra_measures(g: Spectra, xy, *, observer: int) -> dict[str, Any]:
+    """Photometry, alpha-opic quantities, spectral shape, dominant wavelength."""
     from .alphaopic import alpha_opic
     from .dominant import dominant_wavelength
     from .photometry import photometry
     from .shape import spectral_shape
 
     V = g.values
-    parts: dict[str, Any] = {
+    return {
         "photometry": photometry(V, g.quantity),
         "alphaopic": alpha_opic(V, g.quantity),
         "shape": spectral_shape(V),
         "dominant": dominant_wavelength(xy, observer=observer),
     }
-    if rendering:
-        parts.update(_rendering(V, cct))
-    return parts
 
 
 def _rows(a) -> list:
@@ -219,23 +216,31 @@ def _tm30_columns(r) -> dict[str, list]:
     }
 
 
-def _rendering(V: np.ndarray, cct: CctResult) -> dict[str, Any]:
-    from .rendering import cie13_3, tm30
+def _rendering(V: np.ndarray, cct: CctResult, *, observer: int):
+    """CIE 13.3 and CIE 224 / TM-30 results and their flags.
 
-    T = np.where(np.isfinite(cct.cct_K) & (np.abs(cct.duv) <= DUV_LIMIT), cct.cct_K, np.nan)
-    cri = cie13_3(V, T)
-    fid = tm30(V, T)
+    Both standards use the CIE 1931 2 deg CCT, so with ``observer=10`` it is computed anew.
+    """
+    from .rendering import DC_LIMIT, REFERENCE_RANGE_K, colour_rendition, rendering_cct
+
+    T, duv = (cct.cct_K, cct.duv) if observer == 2 else rendering_cct(V)
+    r = colour_rendition(V, cct_K=T, duv=duv)
     flags = []
     for i in range(V.shape[0]):
         f: tuple[Flag, ...] = ()
-        if np.isfinite(T[i]) and not bool(cri.valid[i]):
+        if np.isfinite(r.cct_K[i]) and not bool(r.cri.valid[i]):
             f += (Flag("cri-not-meaningful",
-                       f"chromaticity distance DC = {float(cri.dc[i]):.4f} from the reference is >= 0.0054: "
+                       f"chromaticity distance DC = {float(r.cri.dc[i]):.4f} from the reference is >= {DC_LIMIT}: "
                        "CIE 13.3 says the index is then not meaningful"),)
-        if not np.isfinite(T[i]):
-            f += (Flag("no-rendering", "no CCT, so no reference illuminant: colour rendering not computed"),)
+        if not np.isfinite(r.cct_K[i]):
+            if np.isfinite(T[i]) and abs(float(duv[i])) <= DUV_LIMIT and T[i] > REFERENCE_RANGE_K[1]:
+                f += (Flag("cct-above-reference-range",
+                           f"CCT {float(T[i]):.0f} K is above {REFERENCE_RANGE_K[1]:g} K, where the CIE daylight "
+                           "reference is not defined: colour rendering not computed"),)
+            else:
+                f += (Flag("no-rendering", "no CCT, so no reference illuminant: colour rendering not computed"),)
         flags.append(f)
-    return {"cri": cri, "tm30": fid, "_flags": tuple(flags)}
+    return r.cri, r.tm30, tuple(flags)
 
 
 def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True) -> list[dict[str, Any]]:

@@ -111,3 +111,26 @@ def test_unknown_quantity_is_one_line():
     r = runner.invoke(app, ["inspect", str(SPECTRA / "northbeam-nb-3000-95.csv"), "--quantity", "lumens"])
     assert r.exit_code == 2
     assert r.output.strip().count("\n") == 0 and "unknown quantity 'lumens'" in r.output
+
+
+def test_rendering_uses_the_2_degree_cct_whatever_the_observer():
+    # CIE 13.3-1995 and CIE 224:2017 define the reference at the CIE 1931 2 deg CCT.
+    from cctkit.analysis import analyse
+    from cctkit.readers import read_spectra
+
+    s = read_spectra(SPECTRA / "caldera-cl-2700-80.csv")
+    a2, a10 = analyse(s), analyse(s, observer=10)
+    assert a10.cct.cct_K[0] != a2.cct.cct_K[0]  # the 10 deg CCT differs...
+    assert a10.cri.Ra[0] == pytest.approx(a2.cri.Ra[0], abs=1e-9)  # ...the indices do not (to rounding)
+    assert a10.tm30.Rf[0] == pytest.approx(a2.tm30.Rf[0], abs=1e-9)
+
+
+def test_no_reference_above_25000K(tmp_path):
+    # The CIE daylight polynomials are defined to 25000 K (CIE 15:2018 section 4.1.2): no Ra there.
+    from cctkit.constants import WAVELENGTH_NM
+    from cctkit.planck import spectral_exitance
+
+    f = write_csv(tmp_path / "bb40k.csv", WAVELENGTH_NM, spectral_exitance(40000.0) / spectral_exitance(40000.0).max())
+    rec = inspect_json(f)["spectra"][0]
+    assert rec["cct_K"] == pytest.approx(40000, abs=0.01) and rec["Ra"] is None
+    assert "cct-above-reference-range" in [w["code"] for w in rec["flags"]]

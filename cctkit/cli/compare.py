@@ -31,7 +31,6 @@ from .options import (
 )
 
 METHOD_HELP = "Reference illuminant: cie224 (CIE 224:2017 / TM-30: Planckian, blend 4000-5000 K, daylight) or cie13.3 (Planckian below 5000 K, daylight from 5000 K)."
-_T_RANGE_K = (1000.0, 25000.0)
 
 
 def _method(value: str) -> str:
@@ -62,10 +61,9 @@ def versus_cmd(
     """Each spectrum in FILE against the reference illuminant of its CCT, per wavelength and per sample."""
     import numpy as np
 
-    from ..cct import cct_duv
-    from ..colorimetry import XYZ, XYZ_to_uv
+    from ..constants import DUV_LIMIT, VISIBLE_BAND_NM
     from ..readers import read_spectra
-    from ..rendering import cie13_3, compare_to_reference, tm30
+    from ..rendering import REFERENCE_RANGE_K, colour_rendition, compare_to_reference, reference_cct, rendering_cct
     from ..spectra import to_working_grid
 
     ref_method = _method(method)
@@ -74,25 +72,21 @@ def versus_cmd(
     spectra = to_working_grid(read_spectra(file, quantity=quantity))
     values = spectra.values
     n = values.shape[0]
-    res = cct_duv(XYZ_to_uv(XYZ(values)))
-    duv = np.asarray(res.duv, dtype=float)
     if cct is not None:
-        if not np.isfinite(cct) or not (_T_RANGE_K[0] <= cct <= _T_RANGE_K[1]):
-            raise InputError(f"--cct must be between {_T_RANGE_K[0]:g} and {_T_RANGE_K[1]:g} K, got {cct:g}")
-        T = np.full(n, float(cct))
+        if not np.isfinite(reference_cct(cct)[0]):
+            raise InputError(f"--cct must be between {REFERENCE_RANGE_K[0]:g} and {REFERENCE_RANGE_K[1]:g} K, got {cct:g}")
+        T, duv = np.full(n, float(cct)), np.full(n, np.nan)
     else:
-        T = np.asarray(res.cct_K, dtype=float).copy()
-        outside = ~(np.isfinite(T) & (T >= _T_RANGE_K[0]) & (T <= _T_RANGE_K[1]) & (np.abs(duv) <= 0.05))
-        for i in np.flatnonzero(outside):
-            info(
-                f"warning: {spectra.names[i]}: CCT {T[i]:.0f} K / Duv {duv[i]:+.4f} is outside "
-                f"{_T_RANGE_K[0]:g}-{_T_RANGE_K[1]:g} K or |Duv| <= 0.05; no reference, results left empty"
-            )
-        T[outside] = np.nan
-
-    comp = compare_to_reference(values, T, method=ref_method)
-    cri = cie13_3(values, T)
-    t30 = tm30(values, T)
+        T, duv = rendering_cct(values)
+    rendition = colour_rendition(values, cct_K=T, duv=None if cct is not None else duv)
+    for i in np.flatnonzero(~np.isfinite(rendition.cct_K)):
+        info(
+            f"warning: {spectra.names[i]}: CCT {T[i]:.0f} K / Duv {duv[i]:+.4f} is outside "
+            f"{REFERENCE_RANGE_K[0]:g}-{REFERENCE_RANGE_K[1]:g} K or |Duv| > {DUV_LIMIT}; no reference, results left empty"
+        )
+    T = rendition.cct_K
+    comp = compare_to_reference(values, T, method=ref_method, rendition=rendition)
+    cri, t30 = rendition.cri, rendition.tm30
 
     ces_labels = [f"CES{i + 1:02d}" for i in range(comp.ces_dE.shape[1])]
     docs: list[dict[str, Any]] = []
@@ -101,7 +95,7 @@ def versus_cmd(
         # beyond the measured range say nothing about the source.
         lo, hi, _ = spectra.measured_range_nm[i]
         wl = comp.wavelength_nm
-        measured = (wl >= max(lo, 380.0)) & (wl <= min(hi, 780.0))
+        measured = (wl >= max(lo, VISIBLE_BAND_NM[0])) & (wl <= min(hi, VISIBLE_BAND_NM[1]))
         diff = np.where(measured, np.abs(comp.difference[i]), np.nan)
         with np.errstate(invalid="ignore"):
             dev = np.nanmax(diff) if np.isfinite(diff).any() else np.nan
@@ -185,11 +179,11 @@ def reference_cmd(
 
     from ..cct import cct_duv
     from ..colorimetry import XYZ, XYZ_to_uv, XYZ_to_xy
-    from ..rendering import reference_for
+    from ..rendering import REFERENCE_RANGE_K, reference_cct, reference_for
 
     ref_method = _method(method)
-    if not np.isfinite(cct_K) or not (_T_RANGE_K[0] <= cct_K <= _T_RANGE_K[1]):
-        raise InputError(f"CCT_K must be between {_T_RANGE_K[0]:g} and {_T_RANGE_K[1]:g} K, got {cct_K:g}")
+    if not np.isfinite(reference_cct(cct_K)[0]):
+        raise InputError(f"CCT_K must be between {REFERENCE_RANGE_K[0]:g} and {REFERENCE_RANGE_K[1]:g} K, got {cct_K:g}")
     suffix = require_suffix(output, (".csv", ".json")) if output is not None else None
     ref = reference_for([cct_K], method=ref_method)
     values = ref.values[0]

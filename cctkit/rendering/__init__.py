@@ -23,7 +23,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..colorimetry import XYZ, XYZ_to_uv
-from ..tables import cmfs
 from .cie13_3 import DC_LIMIT, Cri13Result, cie13_3, cie13_3_samples
 from .reference import (
     Reference,
@@ -33,6 +32,7 @@ from .reference import (
     planckian_reference,
     reference_cie13_3,
     reference_cie224,
+    _to_Y100,
 )
 from .tm30 import Tm30Result, tm30, tm30_samples
 
@@ -56,6 +56,9 @@ __all__ = [
     "tm30_samples",
     "Rendition",
     "colour_rendition",
+    "rendering_cct",
+    "reference_cct",
+    "REFERENCE_RANGE_K",
     "ReferenceComparison",
     "compare_to_reference",
 ]
@@ -81,18 +84,39 @@ def reference_for(cct_K, *, method: str = "cie224") -> Reference:
     return reference_cie224(cct_K)
 
 
-def _test_cct(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+#: CCT range over which the references are defined [K]: the CIE 15 daylight polynomials hold
+#: to 25000 K (CIE 15:2018 section 4.1.2); beyond, no reference is built.
+REFERENCE_RANGE_K = (1000.0, 25000.0)
+
+
+def rendering_cct(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """CCT [K] and Duv by the CIE 1931 2 deg observer, which both rendering standards use."""
     from ..cct import cct_duv
 
     res = cct_duv(XYZ_to_uv(XYZ(values, observer=2)), observer=2)
     return np.asarray(res.cct_K, dtype=np.float64), np.asarray(res.duv, dtype=np.float64)
 
 
+def reference_cct(cct_K, duv=None) -> np.ndarray:
+    """The CCT a reference is built for: ``cct_K`` where |Duv| <= 0.05 (CIE 15:2018 section 9.5)
+    and 1000 K <= CCT <= 25000 K (:data:`REFERENCE_RANGE_K`), else NaN.  The one rule for every caller."""
+    from ..constants import DUV_LIMIT
+
+    T = np.atleast_1d(np.asarray(cct_K, dtype=np.float64))
+    ok = np.isfinite(T) & (T >= REFERENCE_RANGE_K[0]) & (T <= REFERENCE_RANGE_K[1])
+    if duv is not None:
+        d = np.atleast_1d(np.asarray(duv, dtype=np.float64))
+        with np.errstate(invalid="ignore"):
+            ok &= np.abs(d) <= DUV_LIMIT
+    return np.where(ok, T, np.nan)
+
+
 @dataclass(frozen=True)
 class Rendition:
-    """CIE 13.3 and CIE 224 / TM-30 results of the same N spectra, with the CCT both used.
+    """CIE 13.3 and CIE 224 / TM-30 results of the same N spectra.
 
-    ``duv`` is NaN when the CCT was given rather than computed.
+    ``cct_K`` is the CCT both references were built for (NaN where no reference applies,
+    :func:`reference_cct`); ``duv`` is NaN when the CCT was given without it.
     """
 
     cct_K: np.ndarray
@@ -101,7 +125,7 @@ class Rendition:
     tm30: Tm30Result
 
 
-def colour_rendition(values, *, cct_K=None) -> Rendition:
+def colour_rendition(values, *, cct_K=None, duv=None) -> Rendition:
     """Ra, R1-R14, Rf, Rg and the hue-bin measures of spectra on the working grid, (N, 471).
 
     Parameters
@@ -109,18 +133,21 @@ def colour_rendition(values, *, cct_K=None) -> Rendition:
     values : array_like (N, 471)
         Test spectra [any unit].
     cct_K : array_like (N,), optional
-        CCT of each spectrum [K]; computed (CIE 1931 2 deg, :func:`cctkit.cct.cct_duv`)
-        when omitted.  Where it is NaN every index is NaN.
+        CIE 1931 2 deg CCT of each spectrum [K]; computed (:func:`rendering_cct`) when omitted.
+    duv : array_like (N,), optional
+        Its Duv; with it, spectra with |Duv| > 0.05 get no reference.  Every index is NaN
+        where :func:`reference_cct` gives no CCT.
     """
     v = np.asarray(values, dtype=np.float64)
     if v.ndim == 1:
         v = v[None]
     if cct_K is None:
-        T, duv = _test_cct(v)
+        T, duv = rendering_cct(v)
     else:
         T = np.atleast_1d(np.asarray(cct_K, dtype=np.float64))
-        duv = np.full_like(T, np.nan)
-    return Rendition(cct_K=T, duv=duv, cri=cie13_3(v, T), tm30=tm30(v, T))
+        duv = np.full_like(T, np.nan) if duv is None else np.atleast_1d(np.asarray(duv, dtype=np.float64))
+    T_ref = reference_cct(T, None if np.all(np.isnan(duv)) else duv)
+    return Rendition(cct_K=T_ref, duv=duv, cri=cie13_3(v, T_ref), tm30=tm30(v, T_ref))
 
 
 @dataclass(frozen=True)
@@ -164,7 +191,8 @@ class ReferenceComparison:
     tcs_dE: np.ndarray
 
 
-def compare_to_reference(values, cct_K=None, *, method: str = "cie224") -> ReferenceComparison:
+def compare_to_reference(values, cct_K=None, *, method: str = "cie224",
+                         rendition: Rendition | None = None) -> ReferenceComparison:
     """Test spectra against the reference illuminant of their CCT, per wavelength and per sample.
 
     Parameters
@@ -176,6 +204,9 @@ def compare_to_reference(values, cct_K=None, *, method: str = "cie224") -> Refer
     method
         Reference for the per-wavelength comparison: ``"cie224"`` (default) or ``"cie13.3"``.
         The per-sample figures always use each metric's own reference.
+    rendition
+        The :func:`colour_rendition` of the same spectra, when the caller has it (its CCT is then
+        used and nothing is computed twice).
     """
     from ..constants import WAVELENGTH_NM
 
@@ -184,18 +215,20 @@ def compare_to_reference(values, cct_K=None, *, method: str = "cie224") -> Refer
         v = v[None]
     if v.ndim != 2 or v.shape[1] != WAVELENGTH_NM.shape[0]:
         raise ValueError(f"values must have shape (N, 471) on the working grid, got {v.shape}")
-    T = _test_cct(v)[0] if cct_K is None else np.atleast_1d(np.asarray(cct_K, dtype=np.float64))
+    if rendition is None:
+        rendition = colour_rendition(v, cct_K=cct_K)
+    T = rendition.cct_K
     if T.shape != (v.shape[0],):
         raise ValueError(f"cct_K must have shape ({v.shape[0]},) to match values, got {T.shape}")
     ref = reference_for(T, method=method)
     with np.errstate(divide="ignore", invalid="ignore"):
-        test = v * (100.0 / (v @ cmfs(2)[:, 1]))[:, None]
+        test = _to_Y100(v)
         ratio = np.where(ref.values > 0, test / np.where(ref.values > 0, ref.values, 1.0), np.nan)
-    t = tm30(v, T)
+    t = rendition.tm30
     ht = np.arctan2(t.Jab_test_i[..., 2], t.Jab_test_i[..., 1])
     hr = np.arctan2(t.Jab_ref_i[..., 2], t.Jab_ref_i[..., 1])
     shift = np.degrees(np.angle(np.exp(1j * (ht - hr))))  # wrapped to (-180, 180]
-    dE_tcs, _ = cie13_3_samples(v, reference_cie13_3(T).values)
+    dE_tcs = rendition.cri.dE
     return ReferenceComparison(
         wavelength_nm=WAVELENGTH_NM.copy(),
         test=test,

@@ -116,10 +116,7 @@ def _finite(x) -> bool:
 
 def reported_cct_K(analysis) -> np.ndarray:
     """The CCT of each spectrum where the analysis reports one (|Duv| <= 0.05), else NaN [K]."""
-    cct = np.asarray(analysis.cct.cct_K, dtype=np.float64)
-    duv = np.asarray(analysis.cct.duv, dtype=np.float64)
-    with np.errstate(invalid="ignore"):
-        return np.where(np.abs(duv) <= DUV_LIMIT, cct, np.nan)
+    return np.where(analysis.cct.in_domain, np.asarray(analysis.cct.cct_K, dtype=np.float64), np.nan)
 
 
 def reference_comparison(analysis):
@@ -128,10 +125,13 @@ def reference_comparison(analysis):
     The reference is built at the reported CCT; where no CCT is reported (|Duv| > 0.05)
     the reference row is NaN and charts say "no reference".
     """
-    from ..rendering import compare_to_reference
+    from ..rendering import Rendition, compare_to_reference
 
+    rendition = None
+    if analysis.cri is not None and analysis.tm30 is not None:  # reuse what analyse() computed
+        rendition = Rendition(cct_K=analysis.tm30.cct_K, duv=analysis.cct.duv, cri=analysis.cri, tm30=analysis.tm30)
     with np.errstate(all="ignore"):
-        return compare_to_reference(analysis.spectra.values, reported_cct_K(analysis))
+        return compare_to_reference(analysis.spectra.values, reported_cct_K(analysis), rendition=rendition)
 
 
 # ---------------------------------------------------------------- spectra
