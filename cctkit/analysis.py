@@ -21,7 +21,7 @@ from .constants import C2_M_K, DUV_LIMIT, KM_LM_PER_W
 from .errors import Flag
 from .spectra import Quantity, Spectra, to_working_grid
 
-__all__ = ["Analysis", "analyse", "analyse_groups", "flatten_record", "provenance", "CONVENTIONS", "RECORD_KEYS"]
+__all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "records_csv", "provenance", "CONVENTIONS", "RECORD_KEYS"]
 
 #: The conventions every number is computed under (written into every output).
 CONVENTIONS = {
@@ -243,6 +243,23 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int):
     return r.cri, r.tm30, tuple(flags)
 
 
+def read_files(files, *, quantity=None) -> list[Spectra]:
+    """Read every file (each may hold several spectra) with :func:`cctkit.readers.read_spectra`, in order."""
+    from .errors import InputError
+    from .readers import read_spectra
+
+    if not files:
+        raise InputError("no input files given")
+    return [read_spectra(f, quantity=quantity) for f in files]
+
+
+def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True) -> Analysis:
+    """:func:`analyse` of the spectra of ``files`` as one batch (they must share one quantity)."""
+    from .spectra import concatenate
+
+    return analyse(concatenate(read_files(files, quantity=quantity)), observer=observer, rendering=rendering)
+
+
 def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True) -> list[dict[str, Any]]:
     """Records for several Spectra that may differ in quantity, in input order.
 
@@ -271,8 +288,6 @@ def flatten_record(rec: dict[str, Any]) -> dict[str, Any]:
     for k, v in rec.items():
         if k == "flags":
             out["flags"] = ";".join(f["code"] for f in v)
-        elif k == "R" and isinstance(v, list):
-            out.update({f"R{i + 1}": x for i, x in enumerate(v)})
         elif isinstance(v, list):
             if k.startswith("measured_range"):
                 out[f"{k}_lo"], out[f"{k}_hi"] = v
@@ -281,6 +296,20 @@ def flatten_record(rec: dict[str, Any]) -> dict[str, Any]:
         else:
             out[k] = v
     return out
+
+
+def records_csv(records: list[dict[str, Any]]) -> str:
+    """Records as CSV text: list fields become numbered columns (R1..R14, Rf_h1..), plus the version."""
+    from . import __version__
+    from .formats import csv_text
+
+    flat = [{**flatten_record(r), "cctkit_version": __version__} for r in records]
+    header: list[str] = []
+    for r in flat:
+        for k in r:
+            if k not in header:
+                header.append(k)
+    return csv_text(header, ([r.get(k, "") for k in header] for r in flat))
 
 
 def provenance() -> dict[str, Any]:

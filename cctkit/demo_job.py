@@ -33,16 +33,14 @@ def _say(message: str) -> None:
 
 def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, Path]:
     """Run the whole demo; returns the files written by name."""
-    from .analysis import analyse, provenance
+    from .analysis import analyse, analyse_files, provenance, records_csv
     from .binning import bin_chromaticities
     from .claims import load_claims, verify
-    from .cli.core import records_csv
-    from .cli.options import dumps
+    from .formats import dumps
     from .cli.verify import format_verdict, verdict_csv
     from .readers import read_spectra
     from .report import build_report
     from .safe_io import atomic_write
-    from .spectra import concatenate
 
     out.mkdir(parents=True, exist_ok=True)
     written: dict[str, Path] = {}
@@ -55,7 +53,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     t0 = time.perf_counter()
     files = [spectra_dir / f for f in CANDIDATES]
     _say(f"[1/4] candidate downlights: {', '.join(f.name for f in files)}")
-    shortlist = analyse(concatenate([read_spectra(f) for f in files]))
+    shortlist = analyse_files(files)
     recs = shortlist.records()
     put("harbourside-shortlist.json", dumps({**provenance(), "spectra": recs}))
     put("harbourside-shortlist.csv", records_csv(recs))
@@ -76,7 +74,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     lot_files = [spectra_dir / CANDIDATES[0], *sorted((spectra_dir / LOT_DIR).glob("*.csv"))]
     _say(f"[3/4] delivered lot against the supplier's claims: {len(lot_files)} samples, {CLAIMS}")
     claims = load_claims(spectra_dir / CLAIMS)
-    lot = analyse(concatenate([read_spectra(f) for f in lot_files]))
+    lot = analyse_files(lot_files)
     lot_recs = lot.records()
     verdict = verify(lot_recs, claims).as_dict()
     put("nb3000-lot-verdict.json", dumps({**provenance(), **verdict}))

@@ -82,15 +82,6 @@ def format_records(records: list[dict[str, Any]]) -> str:
     return "\n".join(lines)
 
 
-def load_many(files: List[Path], quantity: Optional[str]):
-    """Read every file (each may hold several spectra); a list of Spectra in input order."""
-    from ..readers import read_spectra
-
-    if not files:
-        raise InputError("no input files given")
-    return [read_spectra(f, quantity=quantity) for f in files]
-
-
 def inspect_cmd(
     files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
@@ -100,7 +91,7 @@ def inspect_cmd(
     overwrite: bool = OVERWRITE_OPTION,
 ) -> None:
     """Every measure for each spectrum: CCT, Duv, chromaticity, photometry, colour rendering."""
-    from ..analysis import analyse_groups, provenance
+    from ..analysis import analyse_groups, provenance, read_files, records_csv
     from ..spectra import Quantity
 
     obs = parse_observer(observer)
@@ -108,7 +99,7 @@ def inspect_cmd(
         Quantity.parse(quantity, source="--quantity")
     if output is not None:
         require_suffix(output, (".json", ".csv"))
-    records = analyse_groups(load_many(files, quantity), observer=obs)
+    records = analyse_groups(read_files(files, quantity=quantity), observer=obs)
     doc = {**provenance(), "spectra": records}
     if output is not None:
         if output.suffix.lower() == ".json":
@@ -119,20 +110,6 @@ def inspect_cmd(
         emit_json(doc)
     else:
         typer.echo(format_records(records).rstrip("\n"))
-
-
-def records_csv(records: list[dict[str, Any]]) -> str:
-    """Flatten records to CSV: list fields become numbered columns (R1..R14, Rf_h1..)."""
-    from .. import __version__
-    from ..analysis import flatten_record
-
-    flat = [{**flatten_record(r), "cctkit_version": __version__} for r in records]
-    header: list[str] = []
-    for r in flat:
-        for k in r:
-            if k not in header:
-                header.append(k)
-    return csv_text(header, ([r.get(k, "") for k in header] for r in flat))
 
 
 def cct_cmd(

@@ -8,8 +8,6 @@
 
 from __future__ import annotations
 
-import json
-import math
 import sys
 from pathlib import Path
 from typing import Any, Iterable
@@ -17,6 +15,7 @@ from typing import Any, Iterable
 import typer
 
 from ..errors import InputError
+from ..formats import csv_text, dumps  # noqa: F401  (re-exported for the commands)
 from ..safe_io import atomic_write
 
 JSON_OPTION = typer.Option(False, "--json", help="Print one JSON document on stdout instead of a table.")
@@ -24,30 +23,6 @@ OUTPUT_OPTION = typer.Option(None, "--output", "-o", help="Write the result to F
 OVERWRITE_OPTION = typer.Option(False, "--overwrite", help="Allow replacing an existing output file.")
 QUANTITY_HELP = "Radiometric quantity of the values: radiant-flux | irradiance | radiance | intensity | relative."
 OBSERVER_HELP = "CIE standard observer for colorimetry: 2 (CIE 1931) or 10 (CIE 1964)."
-
-
-def clean(obj: Any) -> Any:
-    """Make ``obj`` JSON-safe: numpy scalars/arrays to Python, NaN/inf to None."""
-    try:
-        import numpy as np
-    except ImportError:  # pragma: no cover
-        np = None
-    if isinstance(obj, dict):
-        return {str(k): clean(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [clean(v) for v in obj]
-    if np is not None and isinstance(obj, np.ndarray):
-        return clean(obj.tolist())
-    if np is not None and isinstance(obj, np.generic):
-        return clean(obj.item())
-    if isinstance(obj, float):
-        return obj if math.isfinite(obj) else None
-    return obj
-
-
-def dumps(doc: Any) -> str:
-    """Deterministic JSON text (same input, same bytes)."""
-    return json.dumps(clean(doc), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
 def emit_json(doc: Any) -> None:
@@ -63,19 +38,6 @@ def info(message: str) -> None:
 def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iterable = ()) -> None:
     atomic_write(path, text, overwrite=overwrite, inputs=list(inputs))
     info(f"wrote {path}")
-
-
-def csv_text(header: list[str], rows: Iterable[Iterable[Any]]) -> str:
-    """CSV text with a header; floats written with repr precision, NaN empty."""
-    import csv
-    import io
-
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
-    w.writerow(header)
-    for row in rows:
-        w.writerow(["" if (isinstance(v, float) and not math.isfinite(v)) else (repr(v) if isinstance(v, float) else v) for v in row])
-    return buf.getvalue()
 
 
 def parse_observer(value: str) -> int:

@@ -50,15 +50,11 @@ def report_cmd(
 
         claims = load_claims(claims_file)
 
-    from ..analysis import analyse
-    from ..readers import read_spectra
+    from ..analysis import analyse_files
     from ..report import build_report
-    from ..spectra import concatenate
 
-    if not files:
-        raise InputError("no input files given")
-    # One report holds one quantity: concatenate refuses a mix with a one-line InputError.
-    analysis = analyse(concatenate([read_spectra(f, quantity=quantity) for f in files]))
+    # One report holds one quantity: a mix is refused with a one-line InputError.
+    analysis = analyse_files(files, quantity=quantity)
     verdict = None
     if claims is not None:
         from ..claims import verify

@@ -30,22 +30,6 @@ EXIT_INCONCLUSIVE = 3
 _OUTPUT_CSV = typer.Option(None, "--output", "-o", help="Write the per-sample table to FILE (.csv or .json).")
 
 
-def _analysis(files: List[Path], quantity: Optional[str], *, rendering: bool):
-    from ..analysis import analyse
-    from ..errors import InputError
-    from ..readers import read_spectra
-    from ..spectra import concatenate
-
-    if not files:
-        raise InputError("no input files given")
-    spectra = concatenate([read_spectra(f, quantity=quantity) for f in files])
-    return analyse(spectra, rendering=rendering)
-
-
-def _records(files: List[Path], quantity: Optional[str], *, rendering: bool) -> list[dict[str, Any]]:
-    return _analysis(files, quantity, rendering=rendering).records()
-
-
 def _needs_rendering(claims) -> bool:
     rendering = {"Ra", "Rf", "Rg"} | {f"R{i}" for i in range(1, 15)}
     return any(lim.metric in rendering for lim in claims.limits)
@@ -148,7 +132,9 @@ def verify_cmd(
         check_output_path(report, overwrite=overwrite, inputs=inputs)  # before the slow part
     claims = load_claims(claims_file)
     # The report draws colour rendering, so it needs the full analysis.
-    analysis = _analysis(files, quantity, rendering=report is not None or _needs_rendering(claims))
+    from ..analysis import analyse_files
+
+    analysis = analyse_files(files, quantity=quantity, rendering=report is not None or _needs_rendering(claims))
     records = analysis.records()
     verdict = verify(records, claims)
     doc = verdict.as_dict()
@@ -200,7 +186,9 @@ def bin_cmd(
         raise InputError(f"--ellipses must be one of {', '.join(ELLIPSE_SETS)}, got {ellipses!r}")
     if output is not None:
         require_suffix(output, (".csv", ".json"))
-    records = _records(files, quantity, rendering=False)
+    from ..analysis import analyse_files
+
+    records = analyse_files(files, quantity=quantity, rendering=False).records()
     xy = np.array([[np.nan if r["x"] is None else r["x"], np.nan if r["y"] is None else r["y"]] for r in records])
     result = bin_chromaticities(xy, names=[r["name"] for r in records], ellipses=ellipses)
     rows = result.records()

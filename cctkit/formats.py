@@ -1,0 +1,50 @@
+"""Plain-text output formats shared by the library and the command line: JSON and CSV.
+
+Both are deterministic (same input, same bytes): JSON with a fixed key order and
+NaN/inf written as null; CSV with floats at repr precision and NaN as an empty cell.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from typing import Any, Iterable
+
+__all__ = ["clean", "dumps", "csv_text"]
+
+
+def clean(obj: Any) -> Any:
+    """Make ``obj`` JSON-safe: numpy scalars/arrays to Python, NaN/inf to None."""
+    try:
+        import numpy as np
+    except ImportError:  # pragma: no cover
+        np = None
+    if isinstance(obj, dict):
+        return {str(k): clean(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [clean(v) for v in obj]
+    if np is not None and isinstance(obj, np.ndarray):
+        return clean(obj.tolist())
+    if np is not None and isinstance(obj, np.generic):
+        return clean(obj.item())
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    return obj
+
+
+def dumps(doc: Any) -> str:
+    """Deterministic JSON text (same input, same bytes)."""
+    return json.dumps(clean(doc), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+
+
+def csv_text(header: list[str], rows: Iterable[Iterable[Any]]) -> str:
+    """CSV text with a header; floats written with repr precision, NaN empty."""
+    import csv
+    import io
+
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(header)
+    for row in rows:
+        w.writerow(["" if (isinstance(v, float) and not math.isfinite(v)) else (repr(v) if isinstance(v, float) else v) for v in row])
+    return buf.getvalue()
