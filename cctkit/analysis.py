@@ -21,7 +21,7 @@ from .constants import C2_M_K, DUV_LIMIT, KM_LM_PER_W
 from .errors import Flag
 from .spectra import Quantity, Spectra, to_working_grid
 
-__all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "records_csv", "provenance", "CONVENTIONS", "RECORD_KEYS"]
+__all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "records_csv", "provenance", "CONVENTIONS"]
 
 #: The conventions every number is computed under (written into every output).
 CONVENTIONS = {
@@ -69,7 +69,7 @@ class Analysis:
         return tuple(cols)
 
     def records(self) -> list[dict[str, Any]]:
-        """One dict per spectrum with unit-bearing keys (see :data:`RECORD_KEYS`)."""
+        """One dict per spectrum with unit-bearing keys (the keys `cctkit inspect --json` prints)."""
         return [_record(self, i) for i in range(len(self))]
 
 
@@ -90,7 +90,7 @@ def _record(a: Analysis, i: int) -> dict[str, Any]:
         "measured_range_nm": [lo, hi],
         "measured_step_nm": step,
         "observer": a.observer,
-        "cct_K": _f(a.cct.cct_K, i) if abs(float(a.cct.duv[i])) <= DUV_LIMIT else None,
+        "cct_K": _f(a.cct.cct_K, i) if a.cct.in_domain[i] else None,
         "duv": _f(a.cct.duv, i),
         "x": _f(a.xy[:, 0], i),
         "y": _f(a.xy[:, 1], i),
@@ -321,9 +321,3 @@ def provenance() -> dict[str, Any]:
     except metadata.PackageNotFoundError:  # pragma: no cover
         colour_v = None
     return {"cctkit_version": __version__, "colour_science_version": colour_v, "conventions": CONVENTIONS}
-
-
-RECORD_KEYS = (
-    "name", "source", "sha256", "quantity", "cct_K", "duv", "x", "y", "u", "v", "u_prime", "v_prime",
-    "X", "Y", "Z",
-)

@@ -87,7 +87,7 @@ def _table(observer: int, c2: float) -> _Table:
         d = duv_dT * (-(T**2) / 1e6)[:, None]  # dT/dm = -T^2 / 1e6
         return {"m": m, "u": uv[:, 0], "v": uv[:, 1], "du": d[:, 0], "dv": d[:, 1]}
 
-    arr = cached_arrays(f"cct-locus-{observer}-{c2!r}-h{_H_MIRED}", build)
+    arr = cached_arrays(f"cct-locus-{observer}-{c2!r}-h{_H_MIRED}", build, ("m", "u", "v", "du", "dv"))
     cols = [np.ascontiguousarray(arr[k]) for k in ("m", "u", "v", "du", "dv")]
     for a in cols:
         a.setflags(write=False)

@@ -10,7 +10,7 @@ import json
 import math
 from typing import Any, Iterable
 
-__all__ = ["clean", "dumps", "csv_text"]
+__all__ = ["clean", "dumps", "csv_text", "format_number"]
 
 
 def clean(obj: Any) -> Any:
@@ -48,3 +48,11 @@ def csv_text(header: list[str], rows: Iterable[Iterable[Any]]) -> str:
     for row in rows:
         w.writerow(["" if (isinstance(v, float) and not math.isfinite(v)) else (repr(v) if isinstance(v, float) else v) for v in row])
     return buf.getvalue()
+
+
+def format_number(value: float, fmt: str) -> str:
+    """``fmt.format(value)`` without a negative zero ("-0.0000" becomes "+0.0000" or "0.0000")."""
+    text = fmt.format(value)
+    if text.startswith("-") and float(text) == 0.0:
+        text = ("+" if "+" in fmt else "") + text[1:]
+    return text

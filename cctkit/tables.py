@@ -46,14 +46,16 @@ def _versions() -> str:
     return f"{__version__}-{colour_v}-f{_FORMAT}"
 
 
-def cache_path() -> Path:
-    """Where the table cache lives (``$CCTKIT_CACHE_DIR`` or the XDG cache directory)."""
+def _cache_dir() -> Path:
     base = os.environ.get("CCTKIT_CACHE_DIR")
     if base:
-        root = Path(base)
-    else:
-        root = Path(os.environ.get("XDG_CACHE_HOME") or Path.home() / ".cache") / "cctkit"
-    return root / f"tables-{_versions()}.npz"
+        return Path(base)
+    return Path(os.environ.get("XDG_CACHE_HOME") or Path.home() / ".cache") / "cctkit"
+
+
+def cache_path() -> Path:
+    """Where the table cache lives (``$CCTKIT_CACHE_DIR`` or the XDG cache directory)."""
+    return _cache_dir() / f"tables-{_versions()}.npz"
 
 
 def _build() -> dict[str, np.ndarray]:
@@ -110,34 +112,35 @@ def _build() -> dict[str, np.ndarray]:
 @lru_cache(maxsize=1)
 def _all_tables() -> dict[str, np.ndarray]:
     with _LOCK:
-        t = _load_or_build(cache_path(), _build)
-        if set(t) != set(TABLE_NAMES):  # a cache from another layout is rebuilt
-            t = _build()
+        t = _load_or_build(cache_path(), _build, TABLE_NAMES)
         for v in t.values():
             v.setflags(write=False)
         return t
 
 
-def _load_or_build(path: Path, build) -> dict[str, np.ndarray]:
-    """Arrays from the ``.npz`` at ``path``, or ``build()`` saved there atomically.
+def _load_or_build(path: Path, build, keys) -> dict[str, np.ndarray]:
+    """Arrays ``keys`` from the ``.npz`` at ``path``, or ``build()`` saved there atomically.
 
-    A corrupt or partial cache is rebuilt, never trusted; a read-only cache folder only
-    costs the rebuild next time.
+    A corrupt, partial or differently laid-out cache (any of ``keys`` missing) is rebuilt
+    and rewritten, never trusted; a read-only cache folder only costs the rebuild next time.
     """
     if path.exists():
         try:
             with np.load(path, allow_pickle=False) as z:
-                return {k: z[k] for k in z.files}
-        except Exception:  # noqa: BLE001
+                if set(keys) <= set(z.files):
+                    return {k: z[k] for k in keys}
+        except Exception:  # noqa: BLE001 - whatever is wrong with the file, it is rebuilt
             pass
     arrays = build()
+    from .errors import InputError
+    from .safe_io import atomic_path
+
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
-        tmp = path.with_suffix(f".{os.getpid()}.tmp")
-        with open(tmp, "wb") as fh:
-            np.savez(fh, **arrays)
-        os.replace(tmp, path)
-    except OSError:
+        with atomic_path(path, overwrite=True) as tmp:
+            with open(tmp, "wb") as fh:
+                np.savez(fh, **arrays)
+    except (OSError, InputError):  # an unwritable cache only costs the rebuild next time
         pass
     return arrays
 
@@ -157,10 +160,10 @@ def cmfs(observer: int | str = 2) -> np.ndarray:
     return table(f"cmf_{key}")
 
 
-def cached_arrays(key: str, build) -> dict[str, np.ndarray]:
+def cached_arrays(key: str, build, keys) -> dict[str, np.ndarray]:
     """Arrays derived from the tables (e.g. the CCT solver's locus table), cached beside them.
 
-    ``build()`` returns a dict of arrays; the result is stored as ``<key>-<versions>.npz`` in
+    ``build()`` returns a dict holding at least ``keys``; the result is stored as ``<key>-<versions>.npz`` in
     the cache folder and read back on later runs.
     """
-    return _load_or_build(cache_path().with_name(f"{key}-{_versions()}.npz"), build)
+    return _load_or_build(_cache_dir() / f"{key}-{_versions()}.npz", build, keys)

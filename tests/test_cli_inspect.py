@@ -8,6 +8,7 @@ import pytest
 from typer.testing import CliRunner
 
 from cctkit.cli import app
+from cctkit.constants import KM_LM_PER_W
 
 SPECTRA = Path(__file__).resolve().parent.parent / "spectra"
 runner = CliRunner()
@@ -27,12 +28,13 @@ def write_csv(path, wl, values, header="wavelength_nm,value"):
 
 def test_json_document_has_the_promised_keys():
     doc = inspect_json(SPECTRA / "northbeam-nb-3000-95.csv")
-    assert doc["cctkit_version"] and doc["conventions"]["c2_m_K"] == 1.4388e-2
+    assert doc["cctkit_version"] and doc["conventions"]["c2_m_K"] == 1.4388e-2  # CIE 15:2018 section 9.1
     (rec,) = doc["spectra"]
     for key in ("name", "cct_K", "duv", "x", "y", "u", "v", "u_prime", "v_prime", "luminous_flux_lm",
                 "ler_lm_per_W", "sp_ratio", "melanopic_der", "peak_nm", "centroid_nm", "fwhm_nm",
                 "dominant_wavelength_nm", "purity", "Ra", "R", "Rf", "Rg", "Rf_h", "Rcs_h", "Rhs_h", "sha256"):
         assert key in rec, key
+    # 14 test colour samples (CIE 13.3-1995), 16 hue bins (ANSI/IES TM-30-20), 99 CES (CIE 224:2017)
     assert len(rec["R"]) == 14 and len(rec["Rf_h"]) == 16 and len(rec["Rf_i"]) == 99
     assert rec["quantity"] == "radiant-flux"
 
@@ -47,7 +49,7 @@ def test_numbers_match_the_reference_library():
     s = to_working_grid(read_spectra(SPECTRA / "vell-vo-4000-90.csv"))
     sd = colour.SpectralDistribution(s.values[0], s.wavelength_nm)
     rec = inspect_json(SPECTRA / "vell-vo-4000-90.csv")["spectra"][0]
-    XYZ = colour.sd_to_XYZ(sd, method="Integration", k=683.002)
+    XYZ = colour.sd_to_XYZ(sd, method="Integration", k=KM_LM_PER_W)
     assert rec["luminous_flux_lm"] == pytest.approx(XYZ[1], rel=1e-8)
     ref = colour.temperature.uv_to_CCT_Ohno2013(colour.UCS_to_uv(colour.XYZ_to_UCS(XYZ)))
     assert rec["cct_K"] == pytest.approx(ref[0], abs=1.0) and rec["duv"] == pytest.approx(ref[1], abs=1e-4)

@@ -8,6 +8,7 @@ from typing import Any, List, Optional
 import typer
 
 from ..errors import InputError
+from ..formats import format_number
 from .options import (
     JSON_OPTION,
     OBSERVER_HELP,
@@ -58,10 +59,7 @@ def _fmt(value: Any, fmt: str) -> str:
     if value is None:
         return "n/a"
     if isinstance(value, float):
-        text = fmt.format(value)
-        if text.startswith("-") and float(text) == 0.0:
-            text = ("+" if "+" in fmt else "") + text[1:]  # no "-0.0000"
-        return text
+        return format_number(value, fmt)
     return str(value)
 
 
@@ -144,7 +142,7 @@ def cct_cmd(
         p = uvp_to_uv(p)
     r = cct_duv(p, method=method, observer=parse_observer(observer))
     cct, duv = float(r.cct_K), float(r.duv)
-    meaningful = bool(np.isfinite(cct) and abs(duv) <= DUV_LIMIT)
+    meaningful = bool(r.in_domain)
     doc = {"cct_K": cct if meaningful else None, "duv": duv, "method": method, "u": float(p[0]), "v": float(p[1])}
     if not meaningful:
         doc["warning"] = (
@@ -158,7 +156,7 @@ def cct_cmd(
             info(f"warning: {doc['warning']}")
         return
     typer.echo(f"CCT  {cct:.1f} K" if meaningful else "CCT  n/a")
-    typer.echo(f"Duv  {duv:+.5f}")
+    typer.echo(f"Duv  {format_number(duv, '{:+.5f}')}")
     typer.echo(f"method  {method}; CIE 1960 uv = ({p[0]:.5f}, {p[1]:.5f})")
     if "warning" in doc:
         info(f"warning: {doc['warning']}")
@@ -216,6 +214,7 @@ def blackbody_cmd(
     from ..cct import cct_duv
     from ..colorimetry import uv_to_xy
     from ..locus import planckian_uv
+    from ..constants import C2_M_K
     from ..planck import blackbody_efficacy, spectral_exitance, spectral_radiance, total_exitance, wien_peak_nm
 
     if not np.isfinite(T_K) or not (100.0 <= T_K <= 1e6):
@@ -244,7 +243,7 @@ def blackbody_cmd(
         # exitance shares the unit of irradiance, which is how the readers take it back
         text = spectrum_file_text(
             suffix, f"blackbody {T_K:g} K", values, quantity="irradiance" if quantity == "exitance" else "radiance",
-            unit=unit, column=col, comment=f"blackbody at {T_K:g} K, Planck's law, c2 = 1.4388e-2 m K; unit: {unit}",
+            unit=unit, column=col, comment=f"blackbody at {T_K:g} K, Planck's law, c2 = {C2_M_K:g} m K; unit: {unit}",
         )
         write_output(output, text, overwrite=overwrite)
     if json_out:
