@@ -46,8 +46,10 @@ from typing import Any
 
 import numpy as np
 
-from .constants import KE_MEL_D65_W_PER_LM, KM_LM_PER_W, WAVELENGTH_NM
-from .photometry import grid_values
+from .colorimetry import safe_divide
+from .constants import KE_MEL_D65_W_PER_LM, WAVELENGTH_NM
+from .formats import finite_or_none as _num
+from .photometry import _quantity, grid_values, luminous_total
 from .spectra import Quantity
 
 __all__ = [
@@ -86,13 +88,6 @@ CIRCADIAN_CAUTION = (
     "photoreceptors per CIE S 026/E:2018; they are not a measure of health effects and are not medical advice."
 )
 
-_QUANTITY_UNIT = {
-    Quantity.RADIANT_FLUX: ("W", "lm"),
-    Quantity.IRRADIANCE: ("W/m^2", "lx"),
-    Quantity.RADIANCE: ("W/(sr m^2)", "cd/m^2"),
-    Quantity.INTENSITY: ("W/sr", "cd"),
-    Quantity.RELATIVE: ("1", "1"),
-}
 
 
 def govardovskii2000(wavelength_nm: Any, lambda_max_nm: float) -> np.ndarray:
@@ -193,14 +188,6 @@ class AlphaOpic:
     der: np.ndarray
 
     @property
-    def radiant_unit(self) -> str:
-        return _QUANTITY_UNIT[self.quantity][0]
-
-    @property
-    def edi_unit(self) -> str:
-        return _QUANTITY_UNIT[self.quantity][1]
-
-    @property
     def melanopic_der(self) -> np.ndarray:
         return self.der[..., 4]
 
@@ -214,11 +201,6 @@ class AlphaOpic:
         if self.quantity is Quantity.IRRADIANCE:
             out["melanopic_edi_lx"] = _num(self.edi[i, 4])
         return out
-
-
-def _num(x) -> float | None:
-    v = float(x)
-    return v if np.isfinite(v) else None
 
 
 def alpha_opic(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> AlphaOpic:
@@ -241,14 +223,10 @@ def alpha_opic(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> Alp
     CIE S 026/E:2018: definitions of alpha-opic irradiance, ELR, EDI and DER, and Table 2
     (D65 efficacies).
     """
-    q = quantity if isinstance(quantity, Quantity) else Quantity.parse(quantity, source="quantity")
-    from .tables import table
-
+    q = _quantity(quantity)
     v = np.atleast_2d(grid_values(values))
     radiant = v @ action_spectra()
-    luminous = KM_LM_PER_W * (v @ table("cmf_2")[:, 1])
-    with np.errstate(divide="ignore", invalid="ignore"):
-        elr = np.where(luminous[:, None] != 0, radiant / np.where(luminous != 0, luminous, 1.0)[:, None], np.nan)
+    elr = safe_divide(radiant, luminous_total(v)[:, None])
     return AlphaOpic(
         quantity=q,
         radiant=radiant,

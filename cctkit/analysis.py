@@ -19,6 +19,7 @@ from .cct import CctResult, cct_duv
 from .colorimetry import XYZ, XYZ_to_uv, XYZ_to_xy, uv_to_uvp
 from .constants import C2_M_K, DUV_LIMIT, KM_LM_PER_W
 from .errors import Flag
+from .formats import finite_or_none
 from .spectra import Quantity, Spectra, to_working_grid
 
 __all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "records_csv", "provenance", "CONVENTIONS"]
@@ -74,8 +75,7 @@ class Analysis:
 
 
 def _f(a, i):
-    v = float(a[i])
-    return v if np.isfinite(v) else None
+    return finite_or_none(a[i])
 
 
 def _record(a: Analysis, i: int) -> dict[str, Any]:

@@ -14,6 +14,7 @@ import numpy as np
 from .tables import cmfs
 
 __all__ = [
+    "safe_divide",
     "XYZ",
     "XYZ_to_xy",
     "XYZ_to_uv",
@@ -35,7 +36,8 @@ def XYZ(values: np.ndarray, *, observer: int = 2) -> np.ndarray:
     return values @ cmfs(observer)
 
 
-def _safe_div(a, b):
+def safe_divide(a, b):
+    """a / b, NaN where b is 0 (no warnings)."""
     with np.errstate(divide="ignore", invalid="ignore"):
         return np.where(b != 0, a / np.where(b != 0, b, 1.0), np.nan)
 
@@ -44,14 +46,14 @@ def XYZ_to_xy(XYZ: np.ndarray) -> np.ndarray:
     """CIE 1931 x, y (CIE 15:2018 eq. 7.3), (..., 3) -> (..., 2)."""
     XYZ = np.asarray(XYZ, dtype=np.float64)
     s = XYZ.sum(axis=-1)
-    return np.stack([_safe_div(XYZ[..., 0], s), _safe_div(XYZ[..., 1], s)], axis=-1)
+    return np.stack([safe_divide(XYZ[..., 0], s), safe_divide(XYZ[..., 1], s)], axis=-1)
 
 
 def XYZ_to_uv(XYZ: np.ndarray) -> np.ndarray:
     """CIE 1960 UCS u, v (CIE 15:2018 section 8.1, note), (..., 3) -> (..., 2)."""
     XYZ = np.asarray(XYZ, dtype=np.float64)
     d = XYZ[..., 0] + 15.0 * XYZ[..., 1] + 3.0 * XYZ[..., 2]
-    return np.stack([_safe_div(4.0 * XYZ[..., 0], d), _safe_div(6.0 * XYZ[..., 1], d)], axis=-1)
+    return np.stack([safe_divide(4.0 * XYZ[..., 0], d), safe_divide(6.0 * XYZ[..., 1], d)], axis=-1)
 
 
 def XYZ_to_uvp(XYZ: np.ndarray) -> np.ndarray:
@@ -76,20 +78,20 @@ def xy_to_uv(xy: np.ndarray) -> np.ndarray:
     """CIE 1931 xy -> CIE 1960 uv: u = 4x/(-2x+12y+3), v = 6y/(-2x+12y+3)."""
     xy = np.asarray(xy, dtype=np.float64)
     d = -2.0 * xy[..., 0] + 12.0 * xy[..., 1] + 3.0
-    return np.stack([_safe_div(4.0 * xy[..., 0], d), _safe_div(6.0 * xy[..., 1], d)], axis=-1)
+    return np.stack([safe_divide(4.0 * xy[..., 0], d), safe_divide(6.0 * xy[..., 1], d)], axis=-1)
 
 
 def uv_to_xy(uv: np.ndarray) -> np.ndarray:
     """CIE 1960 uv -> CIE 1931 xy: x = 3u/(2u-8v+4), y = 2v/(2u-8v+4)."""
     uv = np.asarray(uv, dtype=np.float64)
     d = 2.0 * uv[..., 0] - 8.0 * uv[..., 1] + 4.0
-    return np.stack([_safe_div(3.0 * uv[..., 0], d), _safe_div(2.0 * uv[..., 1], d)], axis=-1)
+    return np.stack([safe_divide(3.0 * uv[..., 0], d), safe_divide(2.0 * uv[..., 1], d)], axis=-1)
 
 
 def xy_to_XYZ(xy: np.ndarray, Y: np.ndarray | float = 1.0) -> np.ndarray:
     """xy and luminance factor Y -> XYZ, (..., 2) -> (..., 3)."""
     xy = np.asarray(xy, dtype=np.float64)
     Y = np.broadcast_to(np.asarray(Y, dtype=np.float64), xy.shape[:-1])
-    X = _safe_div(xy[..., 0] * Y, xy[..., 1])
-    Z = _safe_div((1.0 - xy[..., 0] - xy[..., 1]) * Y, xy[..., 1])
+    X = safe_divide(xy[..., 0] * Y, xy[..., 1])
+    Z = safe_divide((1.0 - xy[..., 0] - xy[..., 1]) * Y, xy[..., 1])
     return np.stack([X, Y, Z], axis=-1)

@@ -56,11 +56,10 @@ _EPS = 1e-12
 @lru_cache(maxsize=2)
 def spectral_locus_xy(observer: int = 2) -> np.ndarray:
     """xy of the spectral locus 360-830 nm at 1 nm, (471, 2), for the 2 deg or 10 deg observer."""
+    from .colorimetry import XYZ_to_xy
     from .tables import cmfs
 
-    c = cmfs(observer)
-    s = c.sum(axis=1)
-    xy = c[:, :2] / s[:, None]
+    xy = XYZ_to_xy(cmfs(observer))
     xy.setflags(write=False)
     return xy
 
@@ -126,11 +125,11 @@ class DominantWavelength:
     boundary_xy: np.ndarray
 
     def record(self, i: int) -> dict[str, float | None]:
-        d = float(self.dominant_wavelength_nm[i])
-        p = float(self.purity[i])
+        from .formats import finite_or_none
+
         return {
-            "dominant_wavelength_nm": d if np.isfinite(d) else None,
-            "purity": p if np.isfinite(p) else None,
+            "dominant_wavelength_nm": finite_or_none(self.dominant_wavelength_nm[i]),
+            "purity": finite_or_none(self.purity[i]),
         }
 
 

@@ -10,7 +10,7 @@ import json
 import math
 from typing import Any, Iterable
 
-__all__ = ["clean", "dumps", "csv_text", "format_number"]
+__all__ = ["clean", "dumps", "csv_text", "format_number", "finite_or_none"]
 
 
 def clean(obj: Any) -> Any:
@@ -56,3 +56,9 @@ def format_number(value: float, fmt: str) -> str:
     if text.startswith("-") and float(text) == 0.0:
         text = ("+" if "+" in fmt else "") + text[1:]
     return text
+
+
+def finite_or_none(x) -> float | None:
+    """``float(x)``, or None where it is NaN or infinite (the JSON-ready value of a record)."""
+    v = float(x)
+    return v if math.isfinite(v) else None

@@ -30,8 +30,10 @@ from typing import Any
 
 import numpy as np
 
+from .colorimetry import safe_divide
 from .constants import C_M_PER_S, H_J_S, KM_LM_PER_W, KM_SCOTOPIC_LM_PER_W, WAVELENGTH_NM
 from .errors import InputError
+from .formats import finite_or_none as _num
 from .spectra import Quantity
 
 __all__ = [
@@ -55,13 +57,6 @@ N_A_PER_MOL = 6.02214076e23
 #: Photosynthetically active band [nm], inclusive -- ANSI/ASABE S640 (from memory).
 PAR_BAND_NM = (400.0, 700.0)
 
-_RADIANT_UNIT = {
-    Quantity.RADIANT_FLUX: "W",
-    Quantity.IRRADIANCE: "W/m^2",
-    Quantity.RADIANCE: "W/(sr m^2)",
-    Quantity.INTENSITY: "W/sr",
-    Quantity.RELATIVE: "1",
-}
 _LUMINOUS_UNIT = {
     Quantity.RADIANT_FLUX: "lm",
     Quantity.IRRADIANCE: "lx",
@@ -117,11 +112,6 @@ def grid_values(values: Any, *, name: str = "values") -> np.ndarray:
 
 def _quantity(quantity: Quantity | str) -> Quantity:
     return quantity if isinstance(quantity, Quantity) else Quantity.parse(quantity, source="quantity")
-
-
-def _divide(a: np.ndarray, b: np.ndarray) -> np.ndarray:
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(b != 0, a / np.where(b != 0, b, 1.0), np.nan)
 
 
 def _V() -> np.ndarray:
@@ -180,7 +170,7 @@ def luminous_efficacy_of_radiation(values: Any) -> np.ndarray:
     CIE S 017 (ILV), term 'luminous efficacy of radiation'; CIE 15:2018 section 7.1.
     """
     v = grid_values(values)
-    return _divide(luminous_total(v), radiant_total(v))
+    return safe_divide(luminous_total(v), radiant_total(v))
 
 
 def scotopic_total(values: Any) -> np.ndarray:
@@ -201,7 +191,7 @@ def scotopic_total(values: Any) -> np.ndarray:
 def sp_ratio(values: Any) -> np.ndarray:
     """S/P ratio: scotopic over photopic luminous total (dimensionless); NaN if photopic is zero."""
     v = grid_values(values)
-    return _divide(scotopic_total(v), luminous_total(v))
+    return safe_divide(scotopic_total(v), luminous_total(v))
 
 
 def photon_total_umol(values: Any) -> np.ndarray:
@@ -247,10 +237,6 @@ class Photometry:
         return _LUMINOUS_UNIT[self.quantity]
 
     @property
-    def radiant_unit(self) -> str:
-        return _RADIANT_UNIT[self.quantity]
-
-    @property
     def photon_unit(self) -> str:
         return _PHOTON_UNIT[self.quantity]
 
@@ -266,11 +252,6 @@ class Photometry:
             out[PHOTON_KEY[self.quantity]] = _num(self.photon_umol[i])
             out[PPF_KEY[self.quantity]] = _num(self.ppf_umol[i])
         return out
-
-
-def _num(x) -> float | None:
-    v = float(x)
-    return v if np.isfinite(v) else None
 
 
 def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> Photometry:
@@ -297,8 +278,8 @@ def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> Pho
         luminous=lum,
         scotopic=sco,
         radiant=rad,
-        ler_lm_per_W=_divide(lum, rad),
-        sp_ratio=_divide(sco, lum),
+        ler_lm_per_W=safe_divide(lum, rad),
+        sp_ratio=safe_divide(sco, lum),
         photon_umol=photon_total_umol(v),
         ppf_umol=ppf_umol(v),
     )

@@ -13,6 +13,7 @@ from typing import Any
 import numpy as np
 
 from .constants import WAVELENGTH_NM
+from .formats import finite_or_none as _num
 from .photometry import grid_values
 
 __all__ = ["ShapeMeasures", "spectral_shape", "peak_wavelength_nm", "centroid_wavelength_nm", "fwhm_nm"]
@@ -109,11 +110,6 @@ class ShapeMeasures:
             "centroid_nm": _num(self.centroid_nm[i]),
             "fwhm_nm": _num(self.fwhm_nm[i]),
         }
-
-
-def _num(x) -> float | None:
-    v = float(x)
-    return v if np.isfinite(v) else None
 
 
 def spectral_shape(values: Any) -> ShapeMeasures:
