@@ -45,7 +45,8 @@ from ..tables import cmfs, table
 from .cam import xyz_to_cam02ucs
 from .reference import reference_cie224
 
-__all__ = ["Tm30Result", "tm30", "tm30_samples", "fidelity_from_dE", "CF_CIE224", "N_BINS", "RANGE_NM"]
+__all__ = [
+    "vector_graphic_xy","Tm30Result", "tm30", "tm30_samples", "fidelity_from_dE", "CF_CIE224", "N_BINS", "RANGE_NM"]
 
 #: Scaling factor c_f of CIE 224:2017 (section 4.6, from memory) and ANSI/IES TM-30-18/-20.
 CF_CIE224 = 6.73
@@ -244,8 +245,7 @@ def vector_graphic_xy(result: Tm30Result) -> tuple[np.ndarray, np.ndarray]:
     (ANSI/IES TM-30-20 section 4.3 as recalled, from memory: the normalised graphic makes the
     reference polygon a circle).
     """
-    th = (np.arange(16) + 0.5) * (2.0 * np.pi / 16.0)
-    c, s = np.cos(th), np.sin(th)
+    c, s = _COS_CENTRE, _SIN_CENTRE
     rcs = np.asarray(result.Rcs_h, dtype=np.float64)
     rhs = np.asarray(result.Rhs_h, dtype=np.float64)
     test = np.stack([c * (1.0 + rcs) - s * rhs, s * (1.0 + rcs) + c * rhs], axis=-1)
