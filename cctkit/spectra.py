@@ -64,14 +64,14 @@ class Quantity(str, Enum):
         return _LUMINOUS_NAME[self]
 
     @classmethod
-    def parse(cls, text: str, *, source: str | None = None) -> "Quantity":
+    def parse(cls, text: str, *, source: str | None = None, line: int | None = None) -> "Quantity":
         key = str(text).strip().lower().replace("_", "-").replace(" ", "-")
         key = _QUANTITY_ALIASES.get(key, key)
         try:
             return cls(key)
         except ValueError:
             allowed = ", ".join(q.value for q in cls)
-            raise InputError(f"unknown quantity {text!r}; expected one of {allowed}", source=source) from None
+            raise InputError(f"unknown quantity {text!r}; expected one of {allowed}", source=source, line=line) from None
 
 
 _SPECTRAL_UNIT = {

@@ -83,8 +83,17 @@ CASES: list[tuple[str, str, str | bytes, int | None, str]] = [
     ("unknown-unit", "unit.csv", "wavelength (nm),A (furlong/fortnight)\n" + GOOD, 1, r"unknown unit 'furlong/fortnight'"),
     ("not-spectral-unit", "w.csv", "wavelength (nm),A (W/m2)\n" + GOOD, 1, r"'W/m2' is not a spectral power unit"),
     ("photometric-unit", "lm.csv", "wavelength (nm),A (lm/nm)\n" + GOOD, 1, r"'lm/nm' is a photometric unit"),
+    # W/nm Gm1000 m-1000: every symbol after '/' divides.  Decimal exponents: W 0, nm -9 (divided: +9),
+    # Gm1000 = (9 + 0) * 1000 (divided: -9000), m-1000 = 0, so 10^(9 - 9000) W/m^3 against the base unit
+    # W/(m^2 nm) = 10^9 W/m^3: off by 10^(9 - 9000 - 9) = 1e-9000.  # unit arithmetic, SI
     ("absurd-prefix-powers", "gm.csv", "wavelength (nm),A (W/nm Gm1000 m-1000)\n" + GOOD, 1,
      r"unit 'W/nm Gm1000 m-1000' is off by a factor of 1e-9000"),
+    ("huge-unit-exponent", "exp.csv", "wavelength (nm),A (W" + "9" * 5000 + "/nm)\n" + GOOD, 1,
+     r"unknown unit 'W9{5000}/nm'"),
+    ("huge-wavelength-unit-exponent", "wexp.csv", "wavelength / nm" + "9" * 5000 + ",A\n" + GOOD, 1,
+     r"unknown wavelength unit 'nm9{5000}'"),
+    ("deeply-nested-unit", "nest.csv", "wavelength (nm),A (" + "(" * 5000 + "W/nm" + ")" * 5000 + ")\n" + GOOD, 1,
+     r"unknown unit '\({5000}W/nm\){5000}'"),
     ("photon-unit", "ph.csv", "wavelength (nm),A (umol/m2/s/nm)\n" + GOOD, 1, r"photon units are not supported"),
     ("wavelength-unit", "wlu.csv", "wavelength (cm/s),A\n" + GOOD, 1, r"unknown wavelength unit 'cm/s'"),
     ("mixed-quantities", "mixq.csv", rows("wl (nm),A (W/nm),B (W/m2/nm)", *[f"{w},1,2" for w in WL]), 1,
@@ -107,7 +116,7 @@ CASES: list[tuple[str, str, str | bytes, int | None, str]] = [
     ("bad-utf16", "u16.csv", codecs.BOM_UTF16_LE + "380,1\n".encode("utf-16-le") + b"\x00\xd8", None,
      r"not valid UTF-16 text"),
     ("directive-contradicts", "dq.csv", "# quantity: irradiance\nwl (nm),A (W/nm)\n" + GOOD, 1,
-     r"'# quantity: irradiance' contradicts the unit"),
+     r"the stated quantity 'irradiance' contradicts the unit, which is one of 'radiant-flux'$"),
     ("directive-unknown", "du.csv", "# quantity: brightness\n" + GOOD, 1, r"unknown quantity 'brightness'"),
     ("directive-conflict", "dd.csv", "# unit: W/nm\n# unit: mW/nm\n" + GOOD, 2, r"conflicting '# unit:' lines"),
     # ---- JSON
@@ -144,8 +153,8 @@ CASES: list[tuple[str, str, str | bytes, int | None, str]] = [
      r"spectrum name 'A' appears twice"),
     ("json-empty-name", "en.json", jdoc(wavelength_nm=WL, values=[1] * 6, name=" "), 4,
      r"key 'name' must be a non-empty string"),
-    ("json-quantity-vs-unit", "qu.json", jdoc(quantity="radiance", unit="W/nm", wavelength_nm=WL, values=[1] * 6), 3,
-     r"key 'quantity' says 'radiance' but key 'unit' is one of 'radiant-flux'"),
+    ("json-quantity-vs-unit", "qu.json", jdoc(quantity="radiance", unit="W/nm", wavelength_nm=WL, values=[1] * 6), 2,
+     r"the stated quantity 'radiance' contradicts the unit, which is one of 'radiant-flux'$"),
     ("json-unknown-unit", "uu.json", jdoc(unit="W/(m2 parsec)", wavelength_nm=WL, values=[1] * 6), 2,
      r"unknown unit 'W/\(m2 parsec\)'"),
     ("json-unknown-quantity", "uq.json", jdoc(quantity="glow", wavelength_nm=WL, values=[1] * 6), 2,
@@ -205,6 +214,55 @@ def test_malformed_corpus(tmp_path, case):
     assert p.read_bytes() == before
 
 
+# ---- wide CSV, read in chunks: (id, content, expected line or None, regex of the reason); chunk size 2
+WIDE_HEAD = "name," + ",".join(str(w) for w in WL)
+WIDE_ROWS = [f"r{k}," + ",".join(f"0.{k}{i}" for i in range(len(WL))) for k in range(1, 6)]
+
+
+def wide(*lines: str) -> str:
+    return "\n".join(lines) + "\n"
+
+
+WIDE_CASES = [
+    ("wide-unit-conflict", wide("# unit: W/m2/nm", "# unit: mW/m2/nm", WIDE_HEAD, *WIDE_ROWS), 2,
+     r"conflicting '# unit:' lines$"),
+    ("wide-unit-conflict-percent", wide("% unit: W/m2/nm", "// unit: mW/m2/nm", WIDE_HEAD, *WIDE_ROWS), 2,
+     r"conflicting '# unit:' lines$"),
+    ("wide-quantity-contradicts-unit", wide("# quantity: radiance", "# unit: W/m2/nm", WIDE_HEAD, *WIDE_ROWS), 1,
+     r"the stated quantity 'radiance' contradicts the unit, which is one of 'irradiance'$"),
+    ("wide-unknown-quantity", wide("# quantity: glow", WIDE_HEAD, *WIDE_ROWS), 1, r"unknown quantity 'glow'"),
+    ("wide-underscore-cell", wide(WIDE_HEAD, *WIDE_ROWS[:3], WIDE_ROWS[3].replace("0.43", "4_3"), WIDE_ROWS[4]), 5,
+     r"expected a number, got '4_3' in value column 4$"),
+    ("wide-short-row", wide(WIDE_HEAD, *WIDE_ROWS[:2], "r3,0.1,0.2", *WIDE_ROWS[3:]), 4,
+     r"row has 2 values, the header has 6 wavelengths$"),
+    ("wide-empty-last-cell", wide(WIDE_HEAD, WIDE_ROWS[0], WIDE_ROWS[1].rsplit(",", 1)[0] + ","), 3,
+     r"empty cell in value column 6$"),
+    ("wide-na-cell", wide(WIDE_HEAD, WIDE_ROWS[0], WIDE_ROWS[1].replace("0.22", "n/a")), 3,
+     r"missing or non-finite value at 390 nm$"),
+    ("wide-late-directive", wide(WIDE_HEAD, *WIDE_ROWS[:3], "# quantity: irradiance", *WIDE_ROWS[3:]), 5,
+     r"'# quantity:' after the header; directives must come before it$"),
+    ("wide-control-char", wide(WIDE_HEAD, *WIDE_ROWS[:2], WIDE_ROWS[2] + "\x07", *WIDE_ROWS[3:]), 4,
+     r"binary file, not text \(control character 0x07\)$"),
+    ("wide-header-only", wide("# quantity: irradiance", WIDE_HEAD), 2, r"header but no data rows$"),
+]
+
+
+@pytest.mark.parametrize("case", WIDE_CASES, ids=[c[0] for c in WIDE_CASES])
+def test_malformed_wide_corpus(tmp_path, case):
+    from cctkit.readers.wide import open_chunked
+
+    _, content, line, reason = case
+    p = tmp_path / "bays.csv"
+    p.write_bytes(content.encode("utf-8"))
+    before = p.read_bytes()
+    with pytest.raises(InputError, match=_expect(p, line, reason)) as info:
+        for _ in open_chunked(p, chunk_size=2).chunks():
+            pass
+    assert "\n" not in str(info.value)
+    assert info.value.line == line
+    assert p.read_bytes() == before
+
+
 def test_corpus_is_large_enough():
     assert len(CASES) >= 40
     assert len({c[0] for c in CASES}) == len(CASES)
@@ -213,67 +271,79 @@ def test_corpus_is_large_enough():
 # --------------------------------------------------------------------------- files and arguments
 
 
-def test_missing_file(tmp_path):
-    p = tmp_path / "absent.csv"
-    with pytest.raises(InputError, match=rf"^{re.escape(str(p))}: file not found$"):
-        read_spectra(p)
+def _plain(folder: Path, name: str = "plain.csv", text: str = GOOD) -> Path:
+    p = folder / name
+    p.write_text(text)
+    return p
 
 
-def test_path_through_a_file(tmp_path):
-    f = tmp_path / "plain.csv"
-    f.write_text(GOOD)
-    with pytest.raises(InputError, match=r"a part of the path is not a folder"):
-        read_spectra(f / "inner.csv")
-    assert f.read_text() == GOOD
+def _folder(path: Path) -> Path:
+    path.mkdir()
+    return path
 
 
-def test_directory(tmp_path):
-    d = tmp_path / "folder.csv"
-    d.mkdir()
-    with pytest.raises(InputError, match=rf"^{re.escape(str(d))}: is a folder, not a file$"):
-        read_spectra(d)
+def _fifo(path: Path) -> Path:
+    os.mkfifo(path)
+    return path
 
 
-def test_over_max_bytes(tmp_path):
-    p = tmp_path / "big.csv"
-    p.write_text(GOOD)
-    with pytest.raises(InputError, match=rf"^{re.escape(str(p))}: file is {len(GOOD)} bytes, over the limit of 20 bytes"):
-        read_spectra(p, max_bytes=20)
-    assert p.read_text() == GOOD
-    with pytest.raises(InputError, match=r"max_bytes must be a positive number of bytes, got 0"):
-        read_spectra(p, max_bytes=0)
-
-
-@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="needs named pipes")
-def test_named_pipe_is_refused_without_blocking(tmp_path):
-    p = tmp_path / "pipe.csv"
-    os.mkfifo(p)
-    with pytest.raises(InputError, match=rf"^{re.escape(str(p))}: is not a regular file"):
-        read_spectra(p)
-
-
-@pytest.mark.skipif(hasattr(os, "geteuid") and os.geteuid() == 0, reason="root reads files whatever their mode")
-def test_permission_denied(tmp_path):
-    p = tmp_path / "locked.csv"
-    p.write_text(GOOD)
+def _locked(folder: Path) -> Path:
+    p = _plain(folder, "locked.csv")
     p.chmod(0)
+    return p
+
+
+_UNIT_FILE = "wavelength (nm),A (W/nm)\n" + GOOD
+
+# (id, make(tmp_path) -> (path to read, the file whose bytes must not change, or None), read_spectra keywords,
+#  expected line, regex of the reason)
+FILE_CASES = [
+    ("missing-file", lambda t: (t / "absent.csv", None), {}, None, r"file not found$"),
+    ("path-through-a-file", lambda t: (_plain(t) / "inner.csv", t / "plain.csv"), {}, None,
+     r"file not found \(a part of the path is not a folder\)$"),
+    ("directory", lambda t: (_folder(t / "folder.csv"), None), {}, None, r"is a folder, not a file$"),
+    ("over-max-bytes", lambda t: (_plain(t, "big.csv"),) * 2, {"max_bytes": 20}, None,
+     rf"file is {len(GOOD)} bytes, over the limit of 20 bytes$"),
+    ("max-bytes-zero", lambda t: (_plain(t, "big.csv"),) * 2, {"max_bytes": 0}, None,
+     r"max_bytes must be a positive number of bytes, got 0$"),
+    pytest.param(("named-pipe", lambda t: (_fifo(t / "pipe.csv"), None), {}, None,
+                  r"is not a regular file \(device, pipe or socket\)$"),
+                 marks=pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="needs named pipes")),
+    pytest.param(("permission-denied", lambda t: (_locked(t), None), {}, None, r"permission denied$"),
+                 marks=pytest.mark.skipif(hasattr(os, "geteuid") and os.geteuid() == 0,
+                                          reason="root reads files whatever their mode")),
+    ("unknown-quantity-argument", lambda t: (_plain(t, "q.csv", _UNIT_FILE),) * 2, {"quantity": "lumens"}, None,
+     r"unknown quantity 'lumens'"),
+    ("quantity-argument-conflict", lambda t: (_plain(t, "q.csv", _UNIT_FILE),) * 2, {"quantity": "irradiance"},
+     None, r"the file states quantity 'radiant-flux' but 'irradiance' was asked for$"),
+]
+
+
+@pytest.mark.parametrize("case", FILE_CASES, ids=[(c.values[0] if hasattr(c, "values") else c)[0] for c in FILE_CASES])
+def test_file_and_argument_problems(tmp_path, case):
+    _, make, kwargs, line, reason = case
+    path, watched = make(tmp_path)
+    before = watched.read_bytes() if watched is not None else None
     try:
-        with pytest.raises(InputError, match=rf"^{re.escape(str(p))}: permission denied$"):
-            read_spectra(p)
+        with pytest.raises(InputError, match=_expect(path, line, reason)) as info:
+            read_spectra(path, **kwargs)
     finally:
-        p.chmod(0o644)
+        for q in tmp_path.iterdir():
+            if q.is_file():
+                q.chmod(0o644)
+    assert "\n" not in str(info.value)
+    assert info.value.line == line
+    if watched is not None:
+        assert watched.read_bytes() == before
 
 
-def test_bad_quantity_argument_and_conflict(tmp_path):
-    p = tmp_path / "q.csv"
-    p.write_text("wavelength (nm),A (W/nm)\n" + GOOD)
-    with pytest.raises(InputError, match=rf"^{re.escape(str(p))}: unknown quantity 'lumens'"):
-        read_spectra(p, quantity="lumens")
-    with pytest.raises(InputError, match=rf"^{re.escape(str(p))}: the file states quantity 'radiant-flux' but "
-                                         r"'irradiance' was asked for"):
-        read_spectra(p, quantity="irradiance")
-    with pytest.raises(InputError, match=r"expected a file path, got int"):
-        read_spectra(3)
+def test_path_of_the_wrong_type():
+    from cctkit.readers.wide import open_chunked
+
+    for read in (read_spectra, open_chunked):
+        with pytest.raises(InputError, match=r"^path: expected a file path, got int$") as info:
+            read(3)
+        assert info.value.line is None
 
 
 # --------------------------------------------------------------------------- the command line

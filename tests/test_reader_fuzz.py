@@ -19,7 +19,7 @@ from hypothesis import strategies as st
 
 from cctkit.errors import InputError
 from cctkit.readers import read_spectra
-from cctkit.spectra import Quantity, Spectra
+from cctkit.spectra import MIN_POINTS, Quantity, Spectra
 
 # CCTKIT_FUZZ_EXAMPLES raises the count for a longer local hunt; CI keeps the file under ~20 s.
 SETTINGS = settings(max_examples=int(os.environ.get("CCTKIT_FUZZ_EXAMPLES", "60")), deadline=None, suppress_health_check=[HealthCheck.too_slow])
@@ -51,7 +51,7 @@ def outcome(path: Path, **kw) -> Spectra | None:
         assert "\n" not in text and "\r" not in text
         return None
     assert isinstance(s, Spectra)
-    assert s.values.ndim == 2 and s.values.shape[1] == s.wavelength_nm.shape[0] >= 5
+    assert s.values.ndim == 2 and s.values.shape[1] == s.wavelength_nm.shape[0] >= MIN_POINTS
     assert np.all(np.isfinite(s.values)) and np.all(np.diff(s.wavelength_nm) > 0)
     assert len(s.names) == len(s.sources) == len(s.sha256) == len(s)
     assert all(src.startswith(str(path)) for src in s.sources)
@@ -62,6 +62,25 @@ def write(folder: Path, name: str, data: bytes) -> Path:
     p = folder / name
     p.write_bytes(data)
     return p
+
+
+def read_generated(folder: Path, name: str, data: bytes, *, valid: bool, n_points: int,
+                   refused: bool = False) -> Spectra | None:
+    """Write and read a generated file; its Spectra when it must be read, else None.
+
+    ``refused`` files must raise InputError.  A ``valid`` file must be read when it
+    has at least MIN_POINTS wavelengths and refused when it has fewer.
+    """
+    s = outcome(write(folder, name, data))
+    if refused:
+        assert s is None
+    if not valid:
+        return None
+    if n_points < MIN_POINTS:
+        assert s is None
+        return None
+    assert s is not None
+    return s
 
 
 def damage(draw, text: str) -> str:
@@ -129,14 +148,9 @@ def delimited_files(draw):
 @given(delimited_files())
 def test_delimited_property(folder, case):
     data, ext, wl, values, n_cols, unit, broken = case
-    p = write(folder, "gen" + ext, data)
-    s = outcome(p)
-    if broken:
+    s = read_generated(folder, "gen" + ext, data, valid=not broken, n_points=len(wl))
+    if s is None:
         return
-    if len(wl) < 5:
-        assert s is None
-        return
-    assert s is not None
     quantity, factor = UNITS[unit]
     assert s.quantity is (quantity or Quantity.RELATIVE)
     np.testing.assert_allclose(s.wavelength_nm, wl, rtol=0, atol=1e-9)
@@ -180,14 +194,9 @@ def json_files(draw):
 @given(json_files())
 def test_json_property(folder, case):
     data, doc, wl, values, mode = case
-    p = write(folder, "gen.json", data)
-    s = outcome(p)
-    if mode != "valid":
+    s = read_generated(folder, "gen.json", data, valid=mode == "valid", n_points=len(wl))
+    if s is None:
         return
-    if len(wl) < 5:
-        assert s is None
-        return
-    assert s is not None
     quantity, factor = UNITS[doc.get("unit")]
     assert s.quantity is (quantity or Quantity.RELATIVE)
     np.testing.assert_array_equal(s.wavelength_nm, wl)
@@ -236,16 +245,10 @@ QUANTITY_OF = {"irradiance": Quantity.IRRADIANCE, "flux": Quantity.RADIANT_FLUX,
 @given(xml_files())
 def test_tm27_property(folder, case):
     data, wl, vals, quantity, mode = case
-    p = write(folder, "gen.spdx", data)
-    s = outcome(p)
-    if mode == "dtd":
-        assert s is None
-    if mode != "valid":
+    s = read_generated(folder, "gen.spdx", data, valid=mode == "valid", n_points=len(wl), refused=mode == "dtd")
+    if s is None:
         return
-    if len(wl) < 5:
-        assert s is None
-        return
-    assert s is not None and s.quantity is QUANTITY_OF[quantity]
+    assert s.quantity is QUANTITY_OF[quantity]
     np.testing.assert_array_equal(s.wavelength_nm, wl)
     np.testing.assert_array_equal(s.values[0], vals)
 

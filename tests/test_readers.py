@@ -11,6 +11,7 @@ import pytest
 
 from cctkit.errors import InputError
 from cctkit.readers import parse_length_unit, parse_spectral_unit, read_spectra
+from cctkit.constants import WAVELENGTH_NM
 from cctkit.spectra import Quantity, sha256_of_file, to_working_grid
 
 DATA = Path(__file__).parent / "data"
@@ -25,11 +26,29 @@ def write(tmp_path: Path, name: str, text: str | bytes, encoding: str = "utf-8")
     return p
 
 
-def table(sep: str = ",", header: str | None = "wavelength (nm),A,B", decimal: str = ".") -> str:
-    rows = [header.replace(",", sep)] if header else []
-    for w, a, b in zip(WL, VA, VB):
-        cells = [f"{w:g}", f"{a:g}", f"{b:g}"]
-        rows.append(sep.join(c.replace(".", decimal) for c in cells))
+def table(
+    sep: str = ",",
+    header: str | list[str] | None = "wavelength (nm),A,B",
+    decimal: str = ".",
+    *,
+    columns: tuple = (VA, VB),
+    wl: list[float] = WL,
+    quote: tuple[int, ...] = (),
+) -> str:
+    """Delimited text: a header, then one row per wavelength of ``wl`` and one value column per ``columns``.
+
+    A header string has its commas replaced by ``sep``; a list of cells is joined by ``sep`` as given.
+    Data cells whose 0-based column is in ``quote`` are written in double quotes.
+    """
+    if header is None:
+        rows = []
+    elif isinstance(header, str):
+        rows = [header.replace(",", sep)]
+    else:
+        rows = [sep.join(header)]
+    for w, *vals in zip(wl, *columns):
+        cells = [f"{c:g}".replace(".", decimal) for c in (w, *vals)]
+        rows.append(sep.join(f'"{c}"' if i in quote else c for i, c in enumerate(cells)))
     return "\n".join(rows) + "\n"
 
 
@@ -128,9 +147,7 @@ def test_length_units(unit, factor):
 
 
 def test_unit_conversion_applied_per_column(tmp_path):
-    text = "wavelength [nm];A [mW/nm];B [W/nm]\n" + "\n".join(
-        f"{w:g};{a:g};{b:g}" for w, a, b in zip(WL, VA, VB)
-    )
+    text = table(";", header="wavelength [nm];A [mW/nm];B [W/nm]")
     s = read_spectra(write(tmp_path, "flux.csv", text))
     assert s.quantity is Quantity.RADIANT_FLUX
     np.testing.assert_allclose(s.values[0], np.array(VA) * 1e-3, rtol=1e-12)  # mW -> W, unit arithmetic, SI
@@ -138,36 +155,34 @@ def test_unit_conversion_applied_per_column(tmp_path):
 
 
 def test_unit_after_slash_and_after_space(tmp_path):
-    text = "λ / nm,E / (W m-2 nm-1)\n" + "\n".join(f"{w:g},{a:g}" for w, a in zip(WL, VA))
+    text = table(header="λ / nm,E / (W m-2 nm-1)", columns=(VA,))
     s = read_spectra(write(tmp_path, "slash.csv", text))
     assert s.quantity is Quantity.IRRADIANCE and s.names == ("E",)
-    text = "wavelength nm,lamp W/m2/nm\n" + "\n".join(f"{w:g},{a:g}" for w, a in zip(WL, VA))
+    text = table(header="wavelength nm,lamp W/m2/nm", columns=(VA,))
     s = read_spectra(write(tmp_path, "space_unit.csv", text))
     assert s.quantity is Quantity.IRRADIANCE and s.names == ("lamp",)
 
 
 def test_whitespace_header_with_bracketed_units(tmp_path):
-    text = "wavelength (nm)  north lamp (mW/m2/nm)\n" + "\n".join(f"{w:g}  {a:g}" for w, a in zip(WL, VA))
+    text = table("  ", header="wavelength (nm)  north lamp (mW/m2/nm)", columns=(VA,))
     with pytest.raises(InputError, match="header has"):
         # 'north lamp' has a space in a space-separated file: ambiguous, refused
         read_spectra(write(tmp_path, "ambiguous.txt", text))
-    text = "wavelength (nm)  north_lamp (mW/m2/nm)\n" + "\n".join(f"{w:g}  {a:g}" for w, a in zip(WL, VA))
+    text = table("  ", header="wavelength (nm)  north_lamp (mW/m2/nm)", columns=(VA,))
     s = read_spectra(write(tmp_path, "ws.txt", text))
     assert s.names == ("north_lamp",)
     np.testing.assert_allclose(s.values[0], np.array(VA) * 1e-3)  # unit arithmetic, SI
 
 
 def test_bracket_text_that_is_not_a_unit_stays_in_the_name(tmp_path):
-    text = "wavelength,lamp (2700 K),lamp (4000 K)\n" + "\n".join(
-        f"{w:g},{a:g},{b:g}" for w, a, b in zip(WL, VA, VB)
-    )
+    text = table(header="wavelength,lamp (2700 K),lamp (4000 K)")
     s = read_spectra(write(tmp_path, "names.csv", text))
     assert s.names == ("lamp (2700 K)", "lamp (4000 K)")
     assert s.quantity is Quantity.RELATIVE
 
 
 def test_descending_rows_are_reversed_and_flagged(tmp_path):
-    text = "wavelength,A\n" + "\n".join(f"{w:g},{a:g}" for w, a in reversed(list(zip(WL, VA))))
+    text = table(header="wavelength,A", wl=WL[::-1], columns=(VA[::-1],))
     s = read_spectra(write(tmp_path, "desc.csv", text))
     np.testing.assert_array_equal(s.wavelength_nm, WL)
     np.testing.assert_array_equal(s.values[0], VA)
@@ -175,7 +190,8 @@ def test_descending_rows_are_reversed_and_flagged(tmp_path):
 
 
 def test_headerless_files_are_named_after_the_file(tmp_path):
-    one = read_spectra(write(tmp_path, "bench_lamp.csv", "\n".join(f"{w:g},{a:g}" for w, a in zip(WL, VA))))
+    headerless = table(header=None, columns=(VA,)).rstrip("\n")  # and no line end after the last row
+    one = read_spectra(write(tmp_path, "bench_lamp.csv", headerless))
     assert one.names == ("bench_lamp",)
     assert one.sources == (str(tmp_path / "bench_lamp.csv"),)
     two = read_spectra(write(tmp_path, "pair.csv", table(",", header=None)))
@@ -184,21 +200,19 @@ def test_headerless_files_are_named_after_the_file(tmp_path):
 
 
 def test_single_generic_header_uses_the_file_stem(tmp_path):
-    text = "wavelength (nm),irradiance (W/m2/nm)\n" + "\n".join(f"{w:g},{a:g}" for w, a in zip(WL, VA))
+    text = table(header="wavelength (nm),irradiance (W/m2/nm)", columns=(VA,))
     s = read_spectra(write(tmp_path, "dock7.csv", text))
     assert s.names == ("dock7",)
     assert s.quantity is Quantity.IRRADIANCE
 
 
 def test_quoted_cells(tmp_path):
-    text = '"wavelength (nm)","lamp, north (W/nm)","lamp south (W/nm)"\n' + "\n".join(
-        f'"{w:g}","{a:g}",{b:g}' for w, a, b in zip(WL, VA, VB)
-    )
+    text = table(header=['"wavelength (nm)"', '"lamp, north (W/nm)"', '"lamp south (W/nm)"'], quote=(0, 1))
     s = read_spectra(write(tmp_path, "quoted.csv", text))
     assert s.names == ("lamp, north", "lamp south")
     assert s.quantity is Quantity.RADIANT_FLUX
     np.testing.assert_array_equal(s.values, [VA, VB])
-    text = '"wavelength";"A"\n' + "\n".join(f'{w:g};"{str(a).replace(".", ",")}"' for w, a in zip(WL, VA))
+    text = table(";", header=['"wavelength"', '"A"'], decimal=",", columns=(VA,), quote=(1,))
     s = read_spectra(write(tmp_path, "quoted_semi.csv", text))
     np.testing.assert_allclose(s.values[0], VA, rtol=0, atol=1e-15)
 
@@ -219,7 +233,7 @@ def test_fixture_file_provenance_and_values():
     # kept as measured: no resampling
     np.testing.assert_array_equal(s.wavelength_nm, [380, 390, 400, 410, 420, 430])
     assert not s.on_working_grid
-    assert to_working_grid(s).values.shape == (2, 471)
+    assert to_working_grid(s).values.shape == (2, WAVELENGTH_NM.size)  # 360-830 nm at 1 nm: 471 points
 
 
 def test_several_hundred_columns(tmp_path):
@@ -372,3 +386,55 @@ def test_inputs_are_not_modified(tmp_path):
     before = p.read_bytes(), p.stat().st_mtime_ns
     read_spectra(p)
     assert (p.read_bytes(), p.stat().st_mtime_ns) == before
+
+
+# --------------------------------------------------------------------------- wide CSV (chunked reading)
+
+WIDE_HEAD = "name," + ",".join(f"{w:g}" for w in WL)
+
+
+def wide_text(*lines: str, sep: str = ",") -> str:
+    """A wide CSV: the given lines, then rows 'a' (VA) and 'b' (VB)."""
+    rows = [f"a{sep}" + sep.join(f"{v:g}" for v in VA), f"b{sep}" + sep.join(f"{v:g}" for v in VB)]
+    return "\n".join([*lines, *rows]) + "\n"
+
+
+def read_wide(path: Path, **kw):
+    from cctkit.readers.wide import open_chunked
+
+    src = open_chunked(path, **kw)
+    chunks = list(src.chunks())
+    assert src.layout == "wide-csv"
+    assert src.total is not None and src.total >= sum(len(c) for c in chunks)  # an upper bound
+    return src, chunks
+
+
+def test_wide_reads_comments_encodings_and_quotes_as_delimited_does(tmp_path):
+    variants = {
+        "comments.csv": wide_text("// bench 3", "% run 12", "# unit: mW/m2/nm", "", WIDE_HEAD, "% between rows"),
+        "latin1.csv": wide_text("# unit: mW/m2/nm", WIDE_HEAD.replace("name", "lampe µ")).encode("latin-1"),
+        "utf16.csv": codecs.BOM_UTF16_LE + wide_text("# unit: mW/m2/nm", WIDE_HEAD).encode("utf-16-le"),
+        "trailing.csv": "# unit: mW/m2/nm\n" + wide_text(WIDE_HEAD + ",").replace("\n", ",\n"),
+        "quoted.csv": wide_text("# unit: mW/m2/nm", WIDE_HEAD).replace("a,0.1,", '"a",0.1,"').replace(",0.2,", '",0.2,'),
+        "cr.csv": wide_text("# unit: mW/m2/nm", WIDE_HEAD).replace("\n", "\r"),
+        "semicolon.csv": wide_text("# unit: mW/m2/nm", WIDE_HEAD.replace(",", ";"), sep=";"),
+    }
+    for name, text in variants.items():
+        p = write(tmp_path, name, text)
+        before = p.read_bytes()
+        _, chunks = read_wide(p, chunk_size=1)
+        assert [len(c) for c in chunks] == [1, 1], name
+        assert chunks[1].names == ("b",)
+        for chunk, expected in zip(chunks, (VA, VB)):
+            assert chunk.quantity is Quantity.IRRADIANCE, name
+            np.testing.assert_array_equal(chunk.wavelength_nm, WL)
+            np.testing.assert_allclose(chunk.values[0], np.array(expected) * 1e-3, rtol=1e-15, err_msg=name)  # SI
+        assert p.read_bytes() == before
+    _, (latin,) = read_wide(tmp_path / "latin1.csv")
+    assert "text-encoding" in [f.code for f in latin.flags[0]]
+
+
+def test_wide_total_counts_lines_after_the_header(tmp_path):
+    p = write(tmp_path, "notes.csv", wide_text(WIDE_HEAD, "# a note", "", "# another"))
+    src, (chunk,) = read_wide(p)
+    assert len(chunk) == 2 and src.total == 5  # 2 rows + 3 comment/blank lines after the header

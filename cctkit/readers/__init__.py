@@ -35,12 +35,13 @@ from __future__ import annotations
 
 import codecs
 import hashlib
+import itertools
 import os
 import re
 import stat
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Sequence
+from typing import Iterable, Iterator, Sequence
 
 import numpy as np
 
@@ -54,14 +55,20 @@ __all__ = [
     "parse_spectral_unit",
     "parse_length_unit",
     "decode_text",
+    "stream_codec",
+    "content_lines",
+    "combine_quantity",
+    "SPECTRUM_SUFFIXES",
 ]
 
 #: Largest file :func:`read_spectra` reads unless told otherwise [bytes] (256 MiB).
 DEFAULT_MAX_BYTES = 256 * 1024 * 1024
 
-_DELIMITED = {".csv", ".tsv", ".txt", ".dat", ".prn"}
-_JSON = {".json"}
-_XML = {".xml", ".spdx"}
+_DELIMITED = (".csv", ".tsv", ".txt", ".dat", ".prn")
+_JSON = (".json",)
+_XML = (".xml", ".spdx")
+#: Every extension :func:`read_spectra` reads by its format (others are sniffed).
+SPECTRUM_SUFFIXES = _DELIMITED + _JSON + _XML
 
 
 @dataclass(frozen=True)
@@ -111,14 +118,8 @@ def read_spectra(
     InputError
         For every problem with the file or the arguments; the text starts with the path.
     """
-    try:
-        fspath = os.fspath(path)
-    except TypeError:
-        raise InputError(f"expected a file path, got {type(path).__name__}", source="path") from None
-    if isinstance(fspath, bytes):
-        fspath = os.fsdecode(fspath)
-    source = str(fspath)
-    p = Path(fspath)
+    source = _source_of(path)
+    p = Path(source)
     wanted = _quantity_argument(quantity, source)
     if isinstance(max_bytes, bool) or not isinstance(max_bytes, (int, np.integer)) or max_bytes <= 0:
         raise InputError(f"max_bytes must be a positive number of bytes, got {max_bytes!r}", source=source)
@@ -134,6 +135,17 @@ def read_spectra(
     return _to_spectra(parsed, data, source, wanted)
 
 
+def _source_of(path) -> str:
+    """``path`` (str, bytes or os.PathLike) as the text messages and ``sources`` use."""
+    try:
+        fspath = os.fspath(path)
+    except TypeError:
+        raise InputError(f"expected a file path, got {type(path).__name__}", source="path") from None
+    if isinstance(fspath, bytes):
+        fspath = os.fsdecode(fspath)
+    return str(fspath)
+
+
 def _quantity_argument(quantity, source: str) -> Quantity | None:
     if quantity is None:
         return None
@@ -144,13 +156,33 @@ def _quantity_argument(quantity, source: str) -> Quantity | None:
     return Quantity.parse(quantity, source=source)
 
 
-def _to_spectra(parsed: ParsedSpectra, data: bytes, source: str, wanted: Quantity | None) -> Spectra:
-    stated = parsed.quantity
+def resolve_quantity(stated: Quantity | None, wanted: Quantity | None, *, source: str) -> Quantity:
+    """The file's quantity, else the asked-for one, else relative; refuses the two disagreeing."""
     if stated is not None and wanted is not None and stated is not wanted:
         raise InputError(
             f"the file states quantity {stated.value!r} but {wanted.value!r} was asked for", source=source
         )
-    q = stated or wanted or Quantity.RELATIVE
+    return stated or wanted or Quantity.RELATIVE
+
+
+def combine_quantity(
+    stated: Quantity | None, unit_q: Quantity | None, *, source: str, line: int | None
+) -> Quantity | None:
+    """The quantity a file states and the one its unit gives, which must agree; either may be absent.
+
+    ``line`` is where the quantity is stated, for the message.
+    """
+    if stated is not None and unit_q is not None and stated is not unit_q:
+        raise InputError(
+            f"the stated quantity {stated.value!r} contradicts the unit, which is one of {unit_q.value!r}",
+            source=source,
+            line=line,
+        )
+    return stated or unit_q
+
+
+def _to_spectra(parsed: ParsedSpectra, data: bytes, source: str, wanted: Quantity | None) -> Spectra:
+    q = resolve_quantity(parsed.quantity, wanted, source=source)
     n = parsed.values.shape[0]
     if parsed.columns is None:
         sources = (source,) * n
@@ -218,15 +250,21 @@ _BOMS = (
 _CONTROL = re.compile(r"[\x00-\x08\x0e-\x1f\x7f]")
 
 
-def _strip_bom(data: bytes) -> tuple[bytes, str | None, str | None]:
+_LATIN1 = Flag("text-encoding", "file is not UTF-8; read as Latin-1 (ISO 8859-1)")
+_SNIFF_BYTES = 4096
+
+
+def _bom_codec(head: bytes) -> tuple[str | None, str | None, int]:
+    """Codec, label and BOM length told by the first bytes: a BOM, or the NUL pattern of BOM-less UTF-16."""
     for bom, codec, label in _BOMS:
-        if data.startswith(bom):
-            return data[len(bom):], codec, label
-    return data, None, None
+        if head.startswith(bom):
+            return codec, label, len(bom)
+    codec = _utf16_without_bom(head)
+    return codec, ("UTF-16 (no BOM)" if codec else None), 0
 
 
 def _utf16_without_bom(data: bytes) -> str | None:
-    head = data[:4096]
+    head = data[:_SNIFF_BYTES]
     if len(head) < 4:
         return None
     if len(head) % 2:
@@ -239,41 +277,104 @@ def _utf16_without_bom(data: bytes) -> str | None:
     return None
 
 
-def decode_text(data: bytes, source: str) -> tuple[str, tuple[Flag, ...]]:
-    """Text of ``data``: UTF-8 (with or without BOM), UTF-16/32 with BOM, BOM-less UTF-16.
+def stream_codec(blocks: Iterable[bytes], source: str) -> tuple[str, str, int, tuple[Flag, ...]]:
+    """How to read text arriving as ``blocks`` of bytes: ``(codec, label, BOM length, flags)``.
 
-    Bytes that are not UTF-8 are read as Latin-1 (older instrument exports write
-    ``µ`` as byte 0xB5) and a ``text-encoding`` flag says so.  Text holding NUL or
-    other control characters is refused as binary.
+    UTF-8 (with or without BOM), UTF-16/32 with BOM and BOM-less UTF-16 are
+    recognised from the first bytes.  Other bytes that are not all UTF-8 are read
+    as Latin-1 (older instrument exports write ``µ`` as byte 0xB5), with a
+    ``text-encoding`` flag; a NUL byte there is refused as binary.  Every block
+    is consumed, in order, so a caller can hash them on the way.
     """
-    body, codec, label = _strip_bom(data)
-    flags: tuple[Flag, ...] = ()
-    if codec is None:
-        codec = _utf16_without_bom(data)
-        label = "UTF-16 (no BOM)" if codec else None
+    it = iter(blocks)
+    head = b""
+    for block in it:
+        head += block
+        if len(head) >= _SNIFF_BYTES:
+            break
+    codec, label, skip = _bom_codec(head)
     if codec is not None:
+        for _ in it:
+            pass
+        return codec, label, skip, ()
+    check = codecs.getincrementaldecoder("utf-8")()
+    utf8 = True
+    offset = 0
+    for block in itertools.chain([head], it):
+        nul = block.find(b"\x00")
+        if nul >= 0:
+            raise InputError(f"binary file, not text (NUL byte at offset {offset + nul})", source=source)
+        offset += len(block)
+        if utf8:
+            try:
+                check.decode(block)
+            except UnicodeDecodeError:
+                utf8 = False
+    if utf8:
         try:
-            text = body.decode(codec)
-        except UnicodeDecodeError as exc:
-            raise InputError(f"not valid {label} text (bad bytes at offset {exc.start})", source=source) from None
-    else:
-        if b"\x00" in body:
-            offset = body.index(b"\x00")
-            raise InputError(f"binary file, not text (NUL byte at offset {offset})", source=source)
-        try:
-            text = body.decode("utf-8")
+            check.decode(b"", final=True)
         except UnicodeDecodeError:
-            text = body.decode("latin-1")
-            flags = (Flag("text-encoding", "file is not UTF-8; read as Latin-1 (ISO 8859-1)"),)
-    if not text.strip():
-        raise InputError("file is empty", source=source)
+            utf8 = False
+    return ("utf-8", "UTF-8", 0, ()) if utf8 else ("latin-1", "Latin-1", 0, (_LATIN1,))
+
+
+def check_controls(text: str, *, source: str, first_line: int = 1) -> None:
+    """Refuse text holding NUL or other control characters as binary (naming the line)."""
     m = _CONTROL.search(text)
     if m is not None:
-        line = text.count("\n", 0, m.start()) + 1
+        line = first_line + text.count("\n", 0, m.start())
         raise InputError(
             f"binary file, not text (control character 0x{ord(m.group()):02x})", source=source, line=line
         )
+
+
+def decode_text(data: bytes, source: str) -> tuple[str, tuple[Flag, ...]]:
+    """Text of ``data``, decoded as :func:`stream_codec` decides, with its flags.
+
+    Text holding NUL or other control characters is refused as binary.
+    """
+    codec, label, skip, flags = stream_codec([data], source)
+    try:
+        text = data[skip:].decode(codec)
+    except UnicodeDecodeError as exc:
+        raise InputError(f"not valid {label} text (bad bytes at offset {exc.start})", source=source) from None
+    if not text.strip():
+        raise InputError("file is empty", source=source)
+    check_controls(text, source=source)
     return text, flags
+
+
+# --------------------------------------------------------------------------- comment lines and directives
+
+#: Lines whose first non-blank characters are one of these are comments.
+COMMENT_PREFIXES = ("#", "//", "%")
+_SEPARATORS_ONLY = re.compile(r"[,;\t ]*")
+_DIRECTIVE = re.compile(r"^(?:#|//|%)\s*(quantity|unit)\s*[:=]\s*(.*?)\s*$", re.IGNORECASE)
+
+
+def content_lines(
+    lines: Iterable[str], directives: dict[str, tuple[str, int]], *, source: str, start: int = 1
+) -> Iterator[tuple[int, str]]:
+    """``(line number, stripped text)`` of each line holding data, numbered from ``start``.
+
+    Blank lines, lines of nothing but separators and comment lines are skipped;
+    a comment directive (``# quantity: irradiance``, ``# unit: W/m2/nm``) is
+    recorded in ``directives`` as ``key -> (text, line)``, and a second one with
+    other text is refused.
+    """
+    for number, raw in enumerate(lines, start=start):
+        s = raw.strip()
+        if not s or _SEPARATORS_ONLY.fullmatch(s):
+            continue
+        if s.startswith(COMMENT_PREFIXES):
+            m = _DIRECTIVE.match(s)
+            if m:
+                key = m.group(1).lower()
+                if key in directives and directives[key][0] != m.group(2):
+                    raise InputError(f"conflicting '# {key}:' lines", source=source, line=number)
+                directives[key] = (m.group(2), number)
+            continue
+        yield number, s
 
 
 def _format_of(p: Path, data: bytes) -> str:
@@ -284,12 +385,8 @@ def _format_of(p: Path, data: bytes) -> str:
         return "xml"
     if ext in _DELIMITED:
         return "delimited"
-    body, codec, _ = _strip_bom(data)
-    codec = codec or _utf16_without_bom(data) or "utf-8"
-    try:
-        head = body[:256].decode(codec, errors="ignore").lstrip()
-    except LookupError:  # pragma: no cover - codecs above all exist
-        head = ""
+    codec, _, skip = _bom_codec(data[:_SNIFF_BYTES])
+    head = data[skip : skip + 256].decode(codec or "utf-8", errors="ignore").lstrip()
     if head.startswith(("{", "[")):
         return "json"
     if head.startswith("<"):
@@ -306,7 +403,6 @@ def order_axis(
     *,
     source: str,
     lines: Sequence[int] | None = None,
-    what: str = "wavelength",
 ) -> tuple[np.ndarray, np.ndarray, tuple[Flag, ...]]:
     """Check the axis is strictly monotonic; reverse a descending one (with a flag).
 
@@ -323,7 +419,7 @@ def order_axis(
     bad = np.flatnonzero(~(wl > 0))
     if bad.size:
         i = int(bad[0])
-        raise InputError(f"{what} {wl[i]:g} nm is not positive", source=source, line=line_of(i))
+        raise InputError(f"wavelength {wl[i]:g} nm is not positive", source=source, line=line_of(i))
     if wl.size == 1:
         return wl, vals, ()
     steps = np.diff(wl)
@@ -331,14 +427,14 @@ def order_axis(
     dup = np.flatnonzero(steps == 0)
     if dup.size:
         i = int(dup[0]) + 1
-        raise InputError(f"duplicate {what} {wl[i]:g} nm", source=source, line=line_of(i))
+        raise InputError(f"duplicate wavelength {wl[i]:g} nm", source=source, line=line_of(i))
     descending = steps[0] < 0
     wrong = np.flatnonzero(steps > 0) if descending else np.flatnonzero(steps < 0)
     if wrong.size:
         i = int(wrong[0]) + 1
         order = "descending" if descending else "ascending"
         raise InputError(
-            f"{what}s out of order: {wl[i]:g} nm follows {wl[i - 1]:g} nm in an {order} list",
+            f"wavelengths out of order: {wl[i]:g} nm follows {wl[i - 1]:g} nm in an {order} list",
             source=source,
             line=line_of(i),
         )
@@ -363,7 +459,10 @@ _BASE = {"W": (0, 0), "w": (0, 0), "m": (1, 0), "sr": (2, 0), "Å": (1, -10)}
 _SUPERSCRIPTS = str.maketrans({"⁻": "-", "⁺": "+", "⁰": "0", "¹": "1", "²": "2", "³": "3", "⁴": "4",
                                "µ": "u", "μ": "u", "·": " ", "⋅": " ", "*": " ", "×": " ", "^": "",
                                "−": "-"})
-_TOKEN = re.compile(r"\s*(?:(?P<open>[(\[])|(?P<close>[)\]])|(?P<div>/)|(?P<sym>[A-Za-zÅ]+)(?P<exp>[+-]?\d+)?)")
+# Exponents have at most 6 digits (a longer one is a syntax error, not a huge int), groups nest
+# at most _MAX_DEPTH deep (so the recursive reading of groups stays shallow).
+_TOKEN = re.compile(r"\s*(?:(?P<open>[(\[])|(?P<close>[)\]])|(?P<div>/)|(?P<sym>[A-Za-zÅ]+)(?P<exp>[+-]?\d{1,6}(?!\d))?)")
+_MAX_DEPTH = 16
 #: (W, m, sr) exponents -> quantity; the base unit of each is W (sr) m^-2? nm^-1 = 1e9 in SI.
 _SPECTRAL_DIMENSIONS = {
     (1, -1, 0): Quantity.RADIANT_FLUX,
@@ -383,6 +482,7 @@ def _unit_dimensions(text: str) -> tuple[tuple[int, int, int], int]:
     s = text.translate(_SUPERSCRIPTS).strip()
     s = re.sub(r"(?<=[A-Za-z0-9)\]])\.(?=[A-Za-z(\[])", " ", s)  # "W.m-2.nm-1"
     pos = 0
+    depth = 0
     tokens: list[tuple[str, str, int]] = []
     while pos < len(s):
         m = _TOKEN.match(s, pos)
@@ -392,8 +492,12 @@ def _unit_dimensions(text: str) -> tuple[tuple[int, int, int], int]:
             raise _UnitSyntax(s[pos:])
         pos = m.end()
         if m.group("open"):
+            depth += 1
+            if depth > _MAX_DEPTH:
+                raise _UnitSyntax("parentheses nested too deeply")
             tokens.append(("(", "", 0))
         elif m.group("close"):
+            depth -= 1
             tokens.append((")", "", 0))
         elif m.group("div"):
             tokens.append(("/", "", 0))
@@ -461,7 +565,7 @@ def looks_like_unit(text: str) -> bool:
         return True
     try:
         _unit_dimensions(t)
-    except (_UnitSyntax, OverflowError, ZeroDivisionError):
+    except _UnitSyntax:
         return False
     return True
 
@@ -484,7 +588,7 @@ def parse_spectral_unit(text: str, *, source: str, line: int | None = None) -> t
         )
     try:
         dims, factor = _unit_dimensions(t)
-    except (_UnitSyntax, OverflowError, ZeroDivisionError):
+    except _UnitSyntax:
         raise InputError(
             f"unknown unit {t!r}; expected e.g. W/nm, W/(m2 nm), W/(sr m2 nm), W/(sr nm) or a.u.",
             source=source,
@@ -508,7 +612,7 @@ def parse_length_unit(text: str, *, source: str, line: int | None = None) -> flo
     t = text.strip()
     try:
         dims, factor = _unit_dimensions(t)
-    except (_UnitSyntax, OverflowError, ZeroDivisionError):
+    except _UnitSyntax:
         dims, factor = None, 0
     if dims != (0, 1, 0) or abs(factor + 9) > 30:
         raise InputError(f"unknown wavelength unit {t!r}; expected nm, um (µm) or Å", source=source, line=line)

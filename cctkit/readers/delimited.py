@@ -40,6 +40,8 @@ from ..spectra import Quantity
 from . import (
     ParsedSpectra,
     check_plain_nm,
+    combine_quantity,
+    content_lines,
     decode_text,
     is_relative_unit,
     looks_like_unit,
@@ -52,9 +54,6 @@ from . import (
 __all__ = ["parse"]
 
 _LINES = re.compile(r"\r\n|\r|\n")
-_COMMENT_PREFIXES = ("#", "//", "%")
-_SEPARATORS_ONLY = re.compile(r"[,;\t ]*")
-_DIRECTIVE = re.compile(r"^(?:#|//|%)\s*(quantity|unit)\s*[:=]\s*(.*?)\s*$", re.IGNORECASE)
 _NUMBER = re.compile(r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
 _NUMBER_COMMA = re.compile(r"[+-]?(?:[0-9]+,?[0-9]*|,[0-9]+)(?:[eE][+-]?[0-9]+)?")
 _DECIMAL_COMMA_CELL = re.compile(r"[+-]?[0-9]*,[0-9]+(?:[eE][+-]?[0-9]+)?")
@@ -69,21 +68,8 @@ _GENERIC_NAMES = {"value", "values", "irradiance", "radiance", "intensity", "flu
 def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
     """Parse delimited text (see the module docstring) into spectra in base units."""
     text, flags = decode_text(data, source)
-    rows: list[tuple[int, str]] = []
     directives: dict[str, tuple[str, int]] = {}
-    for number, raw in enumerate(_LINES.split(text), start=1):
-        s = raw.strip()
-        if not s or _SEPARATORS_ONLY.fullmatch(s):
-            continue
-        if s.startswith(_COMMENT_PREFIXES):
-            m = _DIRECTIVE.match(s)
-            if m:
-                key = m.group(1).lower()
-                if key in directives and directives[key][0] != m.group(2):
-                    raise InputError(f"conflicting '# {key}:' lines", source=source, line=number)
-                directives[key] = (m.group(2), number)
-            continue
-        rows.append((number, s))
+    rows = list(content_lines(_LINES.split(text), directives, source=source))
     if not rows:
         raise InputError("no data rows (only comments or blank lines)", source=source)
 
@@ -121,11 +107,7 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
     wl = table[:, 0]
     values = table[:, 1:].T
 
-    # wavelength unit
-    wl_factor = 1.0
-    wl_unit = None
-    if header is not None:
-        _, wl_unit = _name_and_unit(header[0], source=source, line=header_line)
+    wl_unit = None if header is None else _name_and_unit(header[0])[1]
     if wl_unit is not None:
         wl_factor = parse_length_unit(wl_unit, source=source, line=header_line)
         wl = np.round(wl * wl_factor, 9)  # 0.395 um * 1000 is 395.00000000000006 in binary
@@ -276,7 +258,7 @@ def _check_finite(values: np.ndarray, source: str) -> None:
 # --------------------------------------------------------------------------- names and units
 
 
-def _name_and_unit(cell: str, *, source: str, line: int | None) -> tuple[str, str | None]:
+def _name_and_unit(cell: str) -> tuple[str, str | None]:
     """Split ``'lamp A (mW/m2/nm)'`` into name and unit text (None when there is no unit)."""
     text = cell.strip()
     if text.endswith((")", "]")):
@@ -309,12 +291,10 @@ def _columns(header, header_line, ncol, directives, stem, source):
     count = ncol - 1
     default_unit = directives.get("unit")
     stated_q = None
+    quantity_line = None
     if "quantity" in directives:
-        text, line = directives["quantity"]
-        try:
-            stated_q = Quantity.parse(text)
-        except InputError as exc:
-            raise InputError(exc.reason, source=source, line=line) from None
+        text, quantity_line = directives["quantity"]
+        stated_q = Quantity.parse(text, source=source, line=quantity_line)
 
     names: list[str] = []
     units: list[tuple[str | None, int | None]] = []
@@ -322,7 +302,7 @@ def _columns(header, header_line, ncol, directives, stem, source):
         column_number = k + 2
         name, unit = ("", None)
         if header is not None:
-            name, unit = _name_and_unit(header[k + 1], source=source, line=header_line)
+            name, unit = _name_and_unit(header[k + 1])
         line = header_line
         if unit is None and default_unit is not None:
             unit, line = default_unit
@@ -368,13 +348,7 @@ def _columns(header, header_line, ncol, directives, stem, source):
             line=header_line,
         )
     unit_q = next(iter(stated_units)) if stated_units else None
-    if stated_q is not None and unit_q is not None and stated_q is not unit_q:
-        raise InputError(
-            f"'# quantity: {stated_q.value}' contradicts the unit, which is one of {unit_q.value}",
-            source=source,
-            line=directives["quantity"][1],
-        )
-    quantity = stated_q or unit_q
+    quantity = combine_quantity(stated_q, unit_q, source=source, line=quantity_line)
 
     if count == 1:
         columns = None

@@ -37,7 +37,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..spectra import Quantity
-from . import ParsedSpectra, decode_text, order_axis, parse_spectral_unit, short
+from . import ParsedSpectra, combine_quantity, decode_text, order_axis, parse_spectral_unit, short
 
 __all__ = ["parse"]
 
@@ -148,22 +148,18 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
             fail(f"spectrum name {short(name)} appears twice", "name")
         seen.add(name)
 
-    quantity = None
+    quantity = unit_q = None
+    quantity_line = _line_of_key(text, "quantity")
     if "quantity" in doc:
         if not isinstance(doc["quantity"], str):
             fail("key 'quantity' must be a string", "quantity")
-        try:
-            quantity = Quantity.parse(doc["quantity"])
-        except InputError as exc:
-            fail(exc.reason, "quantity")
+        quantity = Quantity.parse(doc["quantity"], source=source, line=quantity_line)
     factor = 1.0
     if "unit" in doc:
         if not isinstance(doc["unit"], str):
             fail("key 'unit' must be a string", "unit")
         unit_q, factor = parse_spectral_unit(doc["unit"], source=source, line=_line_of_key(text, "unit"))
-        if quantity is not None and quantity is not unit_q:
-            fail(f"key 'quantity' says {quantity.value!r} but key 'unit' is one of {unit_q.value!r}", "unit")
-        quantity = unit_q
+    quantity = combine_quantity(quantity, unit_q, source=source, line=quantity_line)
 
     values = np.vstack(rows) * factor
     if not np.all(np.isfinite(values)):
@@ -180,20 +176,21 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
 
 
 def _numbers(obj, key: str, fail) -> np.ndarray:
+    leaf = key.rsplit(".", 1)[-1]  # "spectra[0].values" is found in the text as key "values"
     if not isinstance(obj, list):
-        fail(f"key {key!r} must be a list of numbers, got {_kind(obj)}", key.rsplit(".", 1)[-1])
+        fail(f"key {key!r} must be a list of numbers, got {_kind(obj)}", leaf)
     if not obj:
-        fail(f"key {key!r} is an empty list", key.rsplit(".", 1)[-1])
+        fail(f"key {key!r} is an empty list", leaf)
     for j, v in enumerate(obj):
         if isinstance(v, bool) or not isinstance(v, (int, float)):
-            fail(f"{key}[{j}] must be a number, got {_kind(v)}", key.rsplit(".", 1)[-1])
+            fail(f"{key}[{j}] must be a number, got {_kind(v)}", leaf)
     try:
         arr = np.array([float(v) for v in obj], dtype=np.float64)
     except OverflowError:
-        fail(f"key {key!r} holds a number beyond floating-point range", key.rsplit(".", 1)[-1])
+        fail(f"key {key!r} holds a number beyond floating-point range", leaf)
     if not np.all(np.isfinite(arr)):
         j = int(np.flatnonzero(~np.isfinite(arr))[0])
-        fail(f"{key}[{j}] is beyond floating-point range", key.rsplit(".", 1)[-1])
+        fail(f"{key}[{j}] is beyond floating-point range", leaf)
     return arr
 
 

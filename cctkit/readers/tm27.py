@@ -96,7 +96,7 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
         line, column = getattr(exc, "position", (None, None))
         reason = str(exc).split(":", 1)[0] or "syntax error"
         raise InputError(f"not well-formed XML: {reason} (column {column})", source=source, line=line) from None
-    except (ValueError, LookupError, UnicodeError) as exc:
+    except (ValueError, LookupError) as exc:  # UnicodeError is a ValueError
         raise InputError(f"not readable XML: {str(exc).splitlines()[0] if str(exc) else type(exc).__name__}",
                          source=source) from None
     except RecursionError:
@@ -112,14 +112,15 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
     if not distributions:
         raise InputError("no <SpectralDistribution> element", source=source, line=line_of(root))
 
-    axes, rows, stated = [], [], []
+    axes, rows, stated, point_lines = [], [], [], []
     for dist in distributions:
-        wl, vals, q = _distribution(dist, source, line_of)
+        wl, vals, q, lines = _distribution(dist, source, line_of)
         axes.append(wl)
         rows.append(vals)
         stated.append(q)
+        point_lines.append(lines)
     for k in range(1, len(axes)):
-        if axes[k].shape != axes[0].shape or not np.array_equal(axes[k], axes[0]):
+        if not np.array_equal(axes[k], axes[0]):
             raise InputError(
                 f"<SpectralDistribution> {k + 1} has a wavelength axis different from the first",
                 source=source, line=line_of(distributions[k]),
@@ -130,7 +131,7 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
             + ", ".join(sorted({q.value if q else "unstated" for q in stated})),
             source=source,
         )
-    lines = [line_of(el) or 0 for el in _data_elements(distributions[0])]
+    lines = point_lines[0]
     wl, values, flags = order_axis(axes[0], np.vstack(rows), source=source,
                                    lines=lines if all(lines) else None)
     n = len(rows)
@@ -175,7 +176,7 @@ def _distribution(dist, source, line_of):
             raise InputError("<SpectralData> without a 'wavelength' attribute", source=source, line=line_of(el))
         wl[i] = _number(attr, "wavelength attribute", source, line_of(el))
         vals[i] = _number(el.text or "", f"value at {attr.strip()} nm", source, line_of(el))
-    return wl, vals[np.newaxis, :], quantity
+    return wl, vals[np.newaxis, :], quantity, [line_of(el) or 0 for el in data]
 
 
 def _number(text: str, what: str, source: str, line: int | None) -> float:

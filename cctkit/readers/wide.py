@@ -9,15 +9,17 @@ Layouts
 -------
 wide CSV (``.csv``, ``.tsv``, ``.txt``)
     One spectrum per row.  The header row holds the wavelengths in nm (plain
-    numbers, optionally written ``380nm``), strictly monotonic, at least five;
-    an optional first column (any non-numeric header, e.g. ``name``) names the
-    spectra.  Cells are separated by tab, semicolon or comma (whichever the
-    header uses, in that order of preference).  Lines starting with ``#`` are
-    comments; the directives ``# quantity: irradiance`` and ``# unit: mW/m2/nm``
-    (before the header) state the quantity and the unit of every value, with
-    the same unit grammar as :mod:`cctkit.readers`.  Rows without a name are
-    named ``<stem>#<k>`` (``k`` = 1-based spectrum number).  Every malformed
-    row is an :class:`~cctkit.errors.InputError` naming the file and its line.
+    numbers, optionally written ``380nm``), strictly monotonic, at least
+    :data:`~cctkit.spectra.MIN_POINTS`; an optional first column (any
+    non-numeric header, e.g. ``name``) names the spectra.  Cells are separated
+    by tab, semicolon or comma (whichever the header uses, in that order of
+    preference) and may be quoted.  Text encodings, comment lines (``#``,
+    ``//``, ``%``) and the directives ``# quantity: irradiance`` and
+    ``# unit: mW/m2/nm`` are those of :mod:`cctkit.readers.delimited`, except
+    that the directives must come before the header (a conflicting repeat is
+    refused).  Rows without a name are named ``<stem>#<k>`` (``k`` = 1-based
+    spectrum number).  Every malformed row is an
+    :class:`~cctkit.errors.InputError` naming the file and its line.
 long delimited text
     A file whose header is not a row of wavelengths (a wavelength column and
     one column per spectrum) is read whole by :func:`cctkit.readers.read_spectra`
@@ -51,28 +53,40 @@ import re
 import stat
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Callable, Iterator
+from typing import Callable, Iterable, Iterator
 
 import numpy as np
 
 from ..errors import Flag, InputError
-from ..spectra import Quantity, Spectra, concatenate, to_working_grid
-from . import check_plain_nm, order_axis, parse_spectral_unit, short
+from ..spectra import MIN_POINTS, Quantity, Spectra, sha256_of_file, to_working_grid
+from . import (
+    SPECTRUM_SUFFIXES,
+    _oserror_text,
+    _quantity_argument,
+    _source_of,
+    check_controls,
+    check_plain_nm,
+    combine_quantity,
+    content_lines,
+    order_axis,
+    parse_spectral_unit,
+    resolve_quantity,
+    short,
+    stream_codec,
+)
+from .delimited import _MISSING, _NUMBER, _splitter
 
 __all__ = ["ChunkedInput", "open_chunked", "DEFAULT_CHUNK_SIZE", "SPECTRUM_SUFFIXES"]
 
 #: Spectra per chunk unless told otherwise: 4096 x 471 float64 values are 15 MB.
 DEFAULT_CHUNK_SIZE = 4096
 
-#: Extensions a folder member must have to be read (those :func:`cctkit.readers.read_spectra` knows).
-SPECTRUM_SUFFIXES = (".csv", ".tsv", ".txt", ".dat", ".prn", ".json", ".xml", ".spdx")
 _WIDE_SUFFIXES = (".csv", ".tsv", ".txt")
 _PARQUET_SUFFIXES = (".parquet", ".pq")
-_DIRECTIVE = re.compile(r"^#\s*(quantity|unit)\s*[:=]\s*(.*?)\s*$", re.IGNORECASE)
 _WAVELENGTH_CELL = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(?:nm)?\s*$")
 #: Plausible wavelengths for a wide header [nm]: anything else is not a header of wavelengths.
 _HEADER_RANGE_NM = (100.0, 3000.0)
-_MIN_WAVELENGTHS = 5
+_BLOCK_BYTES = 1 << 22
 
 
 @dataclass(frozen=True)
@@ -86,7 +100,10 @@ class ChunkedInput:
     layout
         ``"wide-csv"``, ``"file"`` (any one file read whole), ``"folder"`` or ``"parquet"``.
     total
-        Number of spectra when known beforehand (else ``None``).
+        Number of spectra, or an upper bound on it, when known beforehand (else
+        ``None``).  For a wide CSV it counts the lines after the header, so
+        comment and blank lines make it larger than the number of spectra; for
+        Parquet it is exact.
     files
         Every file the chunks come from (an output must not be any of them).
     chunk_size
@@ -128,20 +145,18 @@ def open_chunked(
     InputError
         When the input cannot be read; the text names the file (and line).
     """
-    source = os.fspath(path)
-    if isinstance(source, bytes):
-        source = os.fsdecode(source)
+    source = _source_of(path)
     if isinstance(chunk_size, bool) or not isinstance(chunk_size, (int, np.integer)) or chunk_size < 1:
         raise InputError(f"chunk size must be a positive number of spectra, got {chunk_size!r}", source="--chunk-size")
     chunk_size = int(chunk_size)
-    wanted = None if quantity is None else (quantity if isinstance(quantity, Quantity) else Quantity.parse(quantity, source="--quantity"))
+    wanted = _quantity_argument(quantity, source)
     p = Path(source)
     try:
         st = os.stat(p)
     except FileNotFoundError:
         raise InputError("file or folder not found", source=source) from None
-    except OSError as exc:
-        raise InputError(f"cannot read ({exc.strerror or exc})", source=source) from None
+    except (OSError, ValueError) as exc:
+        raise InputError(f"cannot read ({_oserror_text(exc)})", source=source) from None
     if stat.S_ISDIR(st.st_mode):
         return _open_folder(p, source, chunk_size, wanted)
     if not stat.S_ISREG(st.st_mode):
@@ -162,12 +177,6 @@ def open_chunked(
             source=source,
         )
     return _open_single(p, source, chunk_size, wanted)
-
-
-def _stated_quantity(stated: Quantity | None, wanted: Quantity | None, source: str) -> Quantity:
-    if stated is not None and wanted is not None and stated is not wanted:
-        raise InputError(f"the file states quantity {stated.value!r} but {wanted.value!r} was asked for", source=source)
-    return stated or wanted or Quantity.RELATIVE
 
 
 def _rechunk(items: Iterator[Spectra], chunk_size: int) -> Iterator[Spectra]:
@@ -193,14 +202,16 @@ def _chain(seqs) -> tuple:
 
 
 def _join(parts: list[Spectra]) -> Spectra:
-    """One Spectra from several; parts on one wavelength axis are joined as measured."""
+    """One Spectra from several, joined as measured.
+
+    Every layout yields parts on one wavelength axis with one quantity: a wide
+    CSV and a Parquet file have one axis, folder members are resampled to the
+    working grid and checked to share a quantity.
+    """
     if len(parts) == 1:
         return parts[0]
-    wl = parts[0].wavelength_nm
-    if not all(s.quantity is parts[0].quantity and np.array_equal(s.wavelength_nm, wl) for s in parts[1:]):
-        return concatenate(parts)
     return Spectra(
-        wavelength_nm=wl,
+        wavelength_nm=parts[0].wavelength_nm,
         values=np.concatenate([s.values for s in parts]),
         names=_chain(s.names for s in parts),
         quantity=parts[0].quantity,
@@ -227,7 +238,7 @@ def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None)
     try:
         entries = sorted(os.scandir(p), key=lambda e: e.name)
     except OSError as exc:
-        raise InputError(f"cannot list the folder ({exc.strerror or exc})", source=source) from None
+        raise InputError(f"cannot list the folder ({_oserror_text(exc)})", source=source) from None
     files = tuple(
         str(p / e.name)
         for e in entries
@@ -277,51 +288,75 @@ class _WideHead:
     quantity: Quantity | None
     factor: float
     header_line: int
-    ncells: int
+    directives: dict[str, tuple[str, int]]
+    codec: str
+    label: str
+    bom: int
+    sha256: str
+    line_ends: int
 
 
-def _open_text(p: Path, source: str):
+def _scan(p: Path, source: str) -> tuple[tuple[str, str, int, tuple[Flag, ...]], str, int]:
+    """The text codec (see :func:`cctkit.readers.stream_codec`), SHA-256 and line count of the file, in one pass.
+
+    The count is of line ends (LF, CR LF or a lone CR) plus an unterminated last
+    line: at least the number of lines.
+    """
+    h = hashlib.sha256()
+    ends = 0
+    last = b""
+
+    def blocks() -> Iterator[bytes]:
+        nonlocal ends, last
+        for block in iter(lambda: fh.read(_BLOCK_BYTES), b""):
+            h.update(block)
+            ends += block.count(b"\n") + block.count(b"\r") - block.count(b"\r\n")
+            if last.endswith(b"\r") and block.startswith(b"\n"):
+                ends -= 1
+            last = block
+            yield block
+
     try:
-        return open(p, "r", encoding="utf-8-sig", newline=None)
+        with open(p, "rb") as fh:
+            codec = stream_codec(blocks(), source)
     except OSError as exc:
-        raise InputError(f"cannot read the file ({exc.strerror or exc})", source=source) from None
+        raise InputError(f"cannot read the file ({_oserror_text(exc)})", source=source) from None
+    return codec, h.hexdigest(), ends + (0 if last.endswith((b"\n", b"\r")) else 1)
 
 
-def _split(line: str, delimiter: str) -> list[str]:
-    if '"' in line:
-        import csv
+def _open_text(p: Path, source: str, codec: str, bom: int):
+    try:
+        fh = open(p, "rb")
+        fh.seek(bom)
+    except OSError as exc:
+        raise InputError(f"cannot read the file ({_oserror_text(exc)})", source=source) from None
+    return io.TextIOWrapper(fh, encoding=codec, newline=None)
 
-        return [c.strip() for c in next(csv.reader([line], delimiter=delimiter))]
-    return [c.strip() for c in line.split(delimiter)]
+
+def _checked(lines: Iterable[str], source: str) -> Iterator[str]:
+    """The lines, refusing control characters as :func:`cctkit.readers.decode_text` does."""
+    for number, raw in enumerate(lines, start=1):
+        check_controls(raw, source=source, first_line=number)
+        yield raw
 
 
 def _wide_head(p: Path, source: str) -> _WideHead | None:
     """The header of a wide CSV, or ``None`` when the file is not one (a long layout)."""
+    (codec, label, bom, text_flags), digest, line_ends = _scan(p, source)
     directives: dict[str, tuple[str, int]] = {}
-    with _open_text(p, source) as fh:
+    with _open_text(p, source, codec, bom) as fh:
         try:
-            for number, raw in enumerate(fh, start=1):
-                s = raw.strip()
-                if not s:
-                    continue
-                if s.startswith("#"):
-                    m = _DIRECTIVE.match(s)
-                    if m:
-                        directives[m.group(1).lower()] = (m.group(2), number)
-                    continue
-                header, header_line = s, number
-                break
-            else:
-                raise InputError("no data rows (only comments or blank lines)", source=source)
+            first = next(content_lines(_checked(fh, source), directives, source=source), None)
         except UnicodeDecodeError:
             return None  # let the general reader report the encoding
+    if first is None:
+        raise InputError("no data rows (only comments or blank lines)", source=source)
+    header_line, header = first
     delimiter = "\t" if "\t" in header else ";" if ";" in header else ","
-    cells = _split(header, delimiter)
-    while len(cells) > 1 and cells[-1] == "":
-        cells.pop()
+    cells = _splitter(delimiter)(header)
     named = _WAVELENGTH_CELL.match(cells[0]) is None
     wl_cells = cells[1:] if named else cells
-    if len(wl_cells) < _MIN_WAVELENGTHS:
+    if len(wl_cells) < MIN_POINTS:
         return None
     matches = [_WAVELENGTH_CELL.match(c) for c in wl_cells]
     if any(m is None for m in matches):
@@ -332,86 +367,77 @@ def _wide_head(p: Path, source: str) -> _WideHead | None:
     steps = np.diff(wl)
     if not (np.all(steps > 0) or np.all(steps < 0)):
         return None  # a long layout's first data row, not a header of wavelengths
-    check_plain_nm(wl, source=source, line=header_line)
-    ordered, _, flags = order_axis(wl, np.zeros((0, wl.size)), source=source)
-    stated = None
-    factor = 1.0
+    ordered, _, order_flags = order_axis(wl, np.zeros((0, wl.size)), source=source)
+    unit_q, factor = None, 1.0
     if "unit" in directives:
         text, line = directives["unit"]
-        stated, factor = parse_spectral_unit(text, source=source, line=line)
+        unit_q, factor = parse_spectral_unit(text, source=source, line=line)
+    stated, quantity_line = None, None
     if "quantity" in directives:
-        text, line = directives["quantity"]
-        q = Quantity.parse(text, source=f"{source}:{line}")
-        if stated is not None and q is not stated:
-            raise InputError(f"'# quantity: {q.value}' contradicts the unit {directives['unit'][0]!r}", source=source, line=line)
-        stated = q
-    return _WideHead(delimiter, named, ordered, bool(steps[0] < 0), flags, stated, factor, header_line, len(cells))
-
-
-def _digest_and_rows(p: Path, source: str) -> tuple[str, int]:
-    """SHA-256 of the file and its number of line ends (an upper bound on its rows)."""
-    h = hashlib.sha256()
-    lines = 0
-    try:
-        with open(p, "rb") as fh:
-            last = b""
-            for block in iter(lambda: fh.read(1 << 22), b""):
-                h.update(block)
-                lines += block.count(b"\n")
-                last = block
-    except OSError as exc:
-        raise InputError(f"cannot read the file ({exc.strerror or exc})", source=source) from None
-    return h.hexdigest(), lines + (0 if last.endswith(b"\n") else 1)
+        text, quantity_line = directives["quantity"]
+        stated = Quantity.parse(text, source=source, line=quantity_line)
+    quantity = combine_quantity(stated, unit_q, source=source, line=quantity_line)
+    return _WideHead(
+        delimiter, named, ordered, bool(steps[0] < 0), text_flags + order_flags, quantity, factor, header_line,
+        directives, codec, label, bom, digest, line_ends,
+    )
 
 
 def _open_wide(p: Path, source: str, chunk_size: int, wanted: Quantity | None, head: _WideHead) -> ChunkedInput:
-    quantity = _stated_quantity(head.quantity, wanted, source)
-    digest, line_count = _digest_and_rows(p, source)
-    estimate = max(line_count - head.header_line, 0)
+    quantity = resolve_quantity(head.quantity, wanted, source=source)
+    estimate = max(head.line_ends - head.header_line, 0)
 
     def make() -> Iterator[Spectra]:
-        return _iter_wide(p, source, chunk_size, quantity, head, digest)
+        return _iter_wide(p, source, chunk_size, quantity, head)
 
     return ChunkedInput(source, "wide-csv", estimate, (source,), chunk_size, make)
 
 
-def _iter_wide(p: Path, source: str, chunk_size: int, quantity: Quantity, head: _WideHead, digest: str) -> Iterator[Spectra]:
+def _iter_wide(p: Path, source: str, chunk_size: int, quantity: Quantity, head: _WideHead) -> Iterator[Spectra]:
     stem = p.stem or source
     count = 0
-    with _open_text(p, source) as fh:
-        lines: list[tuple[int, str]] = []
-        number = 0
+    directives = dict(head.directives)
+
+    def no_late_directive() -> None:
+        late = [(line, key) for key, (_, line) in directives.items() if key not in head.directives]
+        if late:
+            line, key = min(late)
+            raise InputError(f"'# {key}:' after the header; directives must come before it", source=source,
+                             line=line)
+
+    rows: list[tuple[int, str]] = []
+    with _open_text(p, source, head.codec, head.bom) as fh:
         try:
-            for number, raw in enumerate(fh, start=1):
+            for number, s in content_lines(_checked(fh, source), directives, source=source):
                 if number <= head.header_line:
                     continue
-                s = raw.strip()
-                if not s or s.startswith("#"):
-                    continue
-                lines.append((number, s))
-                if len(lines) == chunk_size:
-                    yield _wide_chunk(lines, source, stem, count, quantity, head, digest)
-                    count += len(lines)
-                    lines = []
+                rows.append((number, s))
+                if len(rows) == chunk_size:
+                    no_late_directive()
+                    yield _wide_chunk(rows, source, stem, count, quantity, head)
+                    count += len(rows)
+                    rows = []
         except UnicodeDecodeError:
-            raise InputError("not valid UTF-8 text", source=source, line=number + 1) from None
-        if lines:
-            yield _wide_chunk(lines, source, stem, count, quantity, head, digest)
-            count += len(lines)
+            raise InputError(f"not valid {head.label} text", source=source) from None
+    no_late_directive()
+    if rows:
+        yield _wide_chunk(rows, source, stem, count, quantity, head)
+        count += len(rows)
     if count == 0:
         raise InputError("header but no data rows", source=source, line=head.header_line)
 
 
 def _wide_chunk(
-    lines: list[tuple[int, str]], source: str, stem: str, offset: int, quantity: Quantity, head: _WideHead, digest: str
+    rows: list[tuple[int, str]], source: str, stem: str, offset: int, quantity: Quantity, head: _WideHead
 ) -> Spectra:
     d = head.delimiter
+    split = _splitter(d)
     if head.named:
         names: list[str] = []
         bodies: list[str] = []
-        for number, s in lines:
+        for _, s in rows:
             if '"' in s:
-                cells = _split(s, d)
+                cells = split(s)
                 names.append(cells[0])
                 bodies.append(d.join(cells[1:]))
             else:
@@ -419,24 +445,20 @@ def _wide_chunk(
                 names.append(name.strip())
                 bodies.append(body)
     else:
-        names = [f"{stem}#{offset + k + 1}" for k in range(len(lines))]
-        bodies = [s for _, s in lines]
+        names = [f"{stem}#{offset + k + 1}" for k in range(len(rows))]
+        bodies = [s for _, s in rows]
     L = head.wavelength_nm.size
-    try:
+    try:  # the fast path; what it refuses is read (or refused) cell by cell by the delimited rules
         values = np.loadtxt(io.StringIO("\n".join(bodies)), delimiter=d, dtype=np.float64, ndmin=2, comments=None)
-        if values.shape != (len(lines), L):
+        if values.shape != (len(rows), L):
             raise ValueError("shape")
     except ValueError:
-        _diagnose(lines, bodies, L, source, d)
-        raise  # _diagnose always raises; kept for the reader of this code
+        values = _cell_by_cell(rows, head, source)
     bad = ~np.isfinite(values)
     if bad.any():
         r, c = np.argwhere(bad)[0]
-        raise InputError(
-            f"missing or non-finite value at {head.wavelength_nm[::-1][c] if head.reverse else head.wavelength_nm[c]:g} nm",
-            source=source,
-            line=lines[r][0],
-        )
+        raise InputError(f"missing or non-finite value at {_file_wavelength(head, c):g} nm", source=source,
+                         line=rows[r][0])
     if head.reverse:
         values = values[:, ::-1]
     if head.factor != 1.0:
@@ -444,31 +466,48 @@ def _wide_chunk(
     empty = [k for k, n in enumerate(names) if not n]
     for k in empty:
         names[k] = f"{stem}#{offset + k + 1}"
-    sources = tuple(f"{source}#{n}" for n in names) if head.named else tuple(f"{source}#{offset + k + 1}" for k in range(len(lines)))
+    sources = tuple(f"{source}#{n}" for n in names) if head.named else tuple(f"{source}#{offset + k + 1}" for k in range(len(rows)))
     return Spectra(
         wavelength_nm=head.wavelength_nm,
         values=values,
         names=tuple(names),
         quantity=quantity,
         sources=sources,
-        sha256=(digest,),
+        sha256=(head.sha256,),
         flags=(head.flags,),
     )
 
 
-def _diagnose(lines: list[tuple[int, str]], bodies: list[str], L: int, source: str, d: str) -> None:
-    """Find the first malformed row of a chunk and raise an InputError naming its line."""
-    for (number, _), body in zip(lines, bodies):
-        cells = _split(body, d)
+def _file_wavelength(head: _WideHead, column: int) -> float:
+    """Wavelength of value column ``column`` (0-based) in the file's order [nm]."""
+    return float(head.wavelength_nm[::-1][column] if head.reverse else head.wavelength_nm[column])
+
+
+def _cell_by_cell(rows: list[tuple[int, str]], head: _WideHead, source: str) -> np.ndarray:
+    """The values of ``rows`` split and checked as the delimited reader does; an InputError names a bad row."""
+    split = _splitter(head.delimiter)
+    L = head.wavelength_nm.size
+    out = np.empty((len(rows), L), dtype=np.float64)
+    for r, (number, s) in enumerate(rows):
+        cells = split(s)  # trailing empty cells are dropped
+        if head.named:
+            cells = cells[1:]
+        if len(cells) < L and s.endswith(head.delimiter):
+            raise InputError(f"empty cell in value column {len(cells) + 1}", source=source, line=number)
         if len(cells) != L:
             raise InputError(f"row has {len(cells)} values, the header has {L} wavelengths", source=source, line=number)
         for c, cell in enumerate(cells):
-            try:
-                float(cell)
-            except ValueError:
-                what = "empty cell" if cell == "" else f"expected a number, got {short(cell)}"
-                raise InputError(f"{what} in value column {c + 1}", source=source, line=number) from None
-    raise InputError("cannot parse the rows of this chunk", source=source, line=lines[0][0])
+            if _NUMBER.fullmatch(cell):
+                continue
+            if cell == "":
+                raise InputError(f"empty cell in value column {c + 1}", source=source, line=number)
+            if cell.lower() in _MISSING:
+                raise InputError(f"missing or non-finite value at {_file_wavelength(head, c):g} nm", source=source,
+                                 line=number)
+            raise InputError(f"expected a number, got {short(cell)} in value column {c + 1}", source=source,
+                             line=number)
+        out[r] = [float(cell) for cell in cells]
+    return out
 
 
 # --------------------------------------------------------------------------- Parquet
@@ -487,7 +526,7 @@ def _open_parquet(p: Path, source: str, chunk_size: int, wanted: Quantity | None
     meta = {k.decode(): v.decode() for k, v in (schema.metadata or {}).items() if not k.startswith(b"ARROW")}
     names_col = "name" if "name" in schema.names else None
     stated = Quantity.parse(meta["quantity"], source=f"{source}: metadata 'quantity'") if "quantity" in meta else None
-    quantity = _stated_quantity(stated, wanted, source)
+    quantity = resolve_quantity(stated, wanted, source=source)
     if "values" in schema.names and "wavelength_nm" in meta:
         try:
             wl = np.asarray(json.loads(meta["wavelength_nm"]), dtype=np.float64)
@@ -502,23 +541,21 @@ def _open_parquet(p: Path, source: str, chunk_size: int, wanted: Quantity | None
             if m:
                 wl_columns.append(name)
                 wl_list.append(float(m.group(1)))
-        if len(wl_columns) < _MIN_WAVELENGTHS:
+        if len(wl_columns) < MIN_POINTS:
             raise InputError(
                 "Parquet input needs columns named by wavelength in nm, or a list column 'values' "
                 "with metadata 'wavelength_nm'",
                 source=source,
             )
         wl = np.asarray(wl_list)
-    if wl.ndim != 1 or wl.size < _MIN_WAVELENGTHS:
-        raise InputError(f"needs at least {_MIN_WAVELENGTHS} wavelengths, got {wl.size}", source=source)
+    if wl.ndim != 1 or wl.size < MIN_POINTS:
+        raise InputError(f"needs at least {MIN_POINTS} wavelengths, got {wl.size}", source=source)
     check_plain_nm(wl, source=source)
     order = np.argsort(wl, kind="stable")
     ordered, _, _ = order_axis(wl[order], np.zeros((0, wl.size)), source=source)  # refuses duplicates
     flags = () if np.array_equal(order, np.arange(wl.size)) else (
         Flag("wavelength-reordered", "wavelength columns were not in ascending order in the file; sorted"),
     )
-    from ..spectra import sha256_of_file
-
     digest = sha256_of_file(p)
     stem = p.stem or source
 
@@ -572,11 +609,7 @@ def _parquet_values(batch, wl_columns, L: int, source: str, offset: int) -> np.n
     if col.null_count:
         r = int(np.flatnonzero(np.asarray(col.is_null()))[0])
         raise InputError(f"row {offset + r + 1}: missing spectrum in column 'values'", source=source)
-    lengths = np.asarray(col.value_lengths()) if hasattr(col, "value_lengths") else None
-    if lengths is None:
-        import pyarrow.compute as pc
-
-        lengths = np.asarray(pc.list_value_length(col))
+    lengths = np.asarray(col.value_lengths())
     wrong = np.flatnonzero(lengths != L)
     if wrong.size:
         r = int(wrong[0])
