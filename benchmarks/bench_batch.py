@@ -24,34 +24,10 @@ import time
 from pathlib import Path
 
 import numpy as np
+from _synthetic import led_spectra  # benchmarks/ is on sys.path when this file runs as a script
 
 ROOT = Path(__file__).resolve().parents[1]
-_RUNNER = (
-    "import sys\n"
-    "from cctkit.cli import app\n"
-    "from cctkit.cli import batch\n"
-    "if 'batch' not in [c.name for c in app.registered_commands]:\n"
-    "    batch.register(app)\n"
-    "app(sys.argv[1:])\n"
-)
-
-
-def led_spectra(n: int, wavelength_nm: np.ndarray, seed: int = 7) -> np.ndarray:
-    """n distinct phosphor-converted white LEDs: a blue Gaussian plus a broad phosphor band [W/nm]."""
-    rng = np.random.default_rng(seed)
-    blue = rng.uniform(438.0, 465.0, (n, 1))
-    blue_w = rng.uniform(8.0, 12.0, (n, 1))
-    ratio = rng.uniform(0.35, 1.8, (n, 1))
-    peak = rng.uniform(540.0, 615.0, (n, 1))
-    width = rng.uniform(45.0, 70.0, (n, 1))
-    red = rng.uniform(0.0, 0.4, (n, 1))  # some have a narrow red phosphor too
-    wl = wavelength_nm[None, :]
-    v = (
-        np.exp(-0.5 * ((wl - blue) / blue_w) ** 2)
-        + ratio * np.exp(-0.5 * ((wl - peak) / width) ** 2)
-        + red * np.exp(-0.5 * ((wl - 631.0) / 6.0) ** 2)
-    )
-    return 0.01 * v
+_RUNNER = "import sys\nfrom cctkit.cli import app\napp(sys.argv[1:])\n"
 
 
 def write_wide_csv(path: Path, n: int, *, block: int = 5_000) -> None:

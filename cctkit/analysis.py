@@ -205,11 +205,13 @@ def _cri_columns(r) -> dict[str, list]:
 
 
 def _tm30_columns(r) -> dict[str, list]:
+    from .rendering.tm30 import chroma_shift_percent
+
     return {
         "Rf": _scalars(r.Rf),
         "Rg": _scalars(r.Rg),
         "Rf_h": _rows(r.Rf_h),
-        "Rcs_h": _rows(np.asarray(r.Rcs_h) * 100.0),  # percent, as TM-30 reports it
+        "Rcs_h": _rows(chroma_shift_percent(r)),  # percent, as TM-30 reports it
         "Rhs_h": _rows(r.Rhs_h),
         "Rf_i": _rows(r.Rf_i),
         "reference": list(r.reference),

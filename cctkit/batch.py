@@ -1,8 +1,8 @@
 """Batch runs over many spectra: one chunk function, streamed input, ordered output.
 
-The unit of work is a chunk of spectra.  :func:`chunk_results` (arrays in) and
-:func:`spectra_results` (a :class:`~cctkit.spectra.Spectra` in) run
-:func:`cctkit.analysis.analyse` on one chunk and return a *table*: a dict of
+The unit of work is a chunk of spectra.  :func:`spectra_results` runs
+:func:`cctkit.analysis.analyse` on one chunk (a :class:`~cctkit.spectra.Spectra`)
+and returns a *table*: a dict of
 column name -> 1-D array, one row per spectrum, with the same columns and
 numbers as the CSV that ``cctkit inspect --output x.csv`` writes (list fields
 numbered ``R1..R14``, ``Rf_h1..Rf_h16``, flags as ``;``-joined codes).
@@ -26,8 +26,6 @@ over the same chunks give identical bytes.
 
 from __future__ import annotations
 
-import csv
-import io
 import itertools
 import json
 import math
@@ -41,12 +39,12 @@ from typing import Any, Callable, Iterator, Sequence, TextIO
 
 import numpy as np
 
-from .analysis import flatten_record
-from .errors import Flag, InputError
-from .spectra import Quantity, Spectra
+from .analysis import flatten_record  # re-exported: the flattening rule records_table follows
+from .errors import InputError
+from .formats import csv_text
+from .spectra import Spectra
 
 __all__ = [
-    "chunk_results",
     "spectra_results",
     "flatten_record",
     "records_table",
@@ -68,60 +66,10 @@ _STRING_COLUMNS = frozenset(
 # --------------------------------------------------------------------------- the chunk function
 
 
-def chunk_results(
-    values: np.ndarray,
-    wavelength_nm: np.ndarray,
-    quantity: Quantity | str,
-    names: Sequence[str],
-    *,
-    sources: Sequence[str] = (),
-    sha256: Sequence[str] = (),
-    flags: Sequence[Sequence[Flag]] = (),
-    measured_range_nm: Sequence[tuple[float, float, float]] = (),
-    observer: int = 2,
-    rendering: bool = True,
-) -> dict[str, np.ndarray]:
-    """Every measure for a chunk of spectra, as a table of columns.
-
-    Parameters
-    ----------
-    values
-        Spectral values, shape (n, L) [unit of ``quantity``].
-    wavelength_nm
-        Wavelength axis, shape (L,) [nm].
-    quantity
-        Radiometric quantity of ``values``.
-    names
-        One name per spectrum.
-    sources, sha256, flags, measured_range_nm
-        Provenance per spectrum (as in :class:`~cctkit.spectra.Spectra`).
-    observer
-        2 or 10 (see :func:`cctkit.analysis.analyse`).
-    rendering
-        Compute CIE 13.3 and CIE 224 / TM-30 colour rendering.
-
-    Returns
-    -------
-    dict[str, numpy.ndarray]
-        One 1-D array of length n per column (see :func:`records_table`).
-    """
-    spectra = Spectra(
-        wavelength_nm=wavelength_nm,
-        values=values,
-        names=tuple(names),
-        quantity=quantity,
-        sources=tuple(sources),
-        sha256=tuple(sha256),
-        flags=tuple(tuple(f) for f in flags),
-        measured_range_nm=tuple(measured_range_nm),
-    )
-    return spectra_results(spectra, observer=observer, rendering=rendering)
-
-
 def spectra_results(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> dict[str, np.ndarray]:
-    """:func:`chunk_results` for spectra already held in a :class:`~cctkit.spectra.Spectra`.
+    """Every measure for a chunk of spectra, as a table of columns (see :func:`records_table`).
 
-    The table ends with a ``cctkit_version`` column, as the CSV of ``inspect`` does.
+    ``observer`` and ``rendering`` are passed to :func:`cctkit.analysis.analyse`.  The table ends with a ``cctkit_version`` column, as the CSV of ``inspect`` does.
     """
     from . import __version__
     from .analysis import analyse
@@ -223,7 +171,8 @@ def _work(spectra: Spectra, observer: int, rendering: bool, csv_rows: bool = Fal
 
 
 class _CsvWriter:
-    """CSV rows appended chunk by chunk; numbers as ``inspect`` writes them (repr, empty for missing)."""
+    """CSV rows appended chunk by chunk, in the cell format of :func:`cctkit.formats.csv_text`
+    (the one ``inspect`` writes: floats at repr precision, empty for missing)."""
 
     def __init__(self, path: Path):
         self._fh: TextIO = open(path, "w", encoding="utf-8", newline="")
@@ -233,7 +182,7 @@ class _CsvWriter:
         table = result.table
         if self.columns is None:
             self.columns = list(table)
-            self._fh.write(_csv_rows({k: np.array([k], dtype=object) for k in self.columns}, self.columns))
+            self._fh.write(csv_text(self.columns, ()))  # the header, once
         if result.csv_rows is not None and list(table) == self.columns:
             self._fh.write(result.csv_rows)
         else:
@@ -246,10 +195,10 @@ class _CsvWriter:
 
 
 def _csv_rows(table: dict[str, np.ndarray], columns: list[str]) -> str:
+    """The rows of ``table`` (no header) in ``columns`` order; a column the table lacks is empty."""
     n = _table_rows(table)
-    buf = io.StringIO()
-    csv.writer(buf, lineterminator="\n").writerows(zip(*[_as_cells(table.get(k), n) for k in columns]))
-    return buf.getvalue()
+    cells = [table[k].tolist() if k in table else [None] * n for k in columns]  # numpy -> Python scalars
+    return csv_text(columns, zip(*cells), write_header=False)
 
 
 def _table_rows(table: dict[str, np.ndarray]) -> int:
@@ -261,16 +210,6 @@ def _checked_columns(columns: list[str], table: dict[str, np.ndarray]) -> list[s
     if extra:
         raise RuntimeError(f"a chunk produced columns the first chunk did not: {', '.join(extra)}")
     return columns
-
-
-def _as_cells(col: np.ndarray | None, n: int) -> list[Any]:
-    if col is None:
-        return [None] * n
-    if col.dtype == np.float64:
-        cells = col.astype(object)
-        cells[~np.isfinite(col)] = None
-        return cells.tolist()
-    return col.tolist()
 
 
 class _ParquetWriter:

@@ -23,7 +23,6 @@ Two sets of centres and ellipses, chosen by ``ellipses``:
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -77,18 +76,11 @@ class BinResult:
         ]
 
     def csv(self) -> str:
-        """CSV text, one row per sample."""
-        import csv
-        import io
+        """CSV text, one row per sample (:func:`cctkit.formats.csv_text`: floats at repr precision)."""
+        from .formats import csv_text
 
-        buf = io.StringIO()
-        w = csv.writer(buf, lineterminator="\n")
         cols = ["name", "x", "y", "quadrangle", "centre", "sdcm_steps", "sdcm_bin", "extrapolated"]
-        w.writerow(cols)
-        for r in self.records():
-            w.writerow(["" if r[c] is None or (isinstance(r[c], float) and not math.isfinite(r[c]))
-                        else (f"{r[c]:.6f}" if isinstance(r[c], float) else r[c]) for c in cols])
-        return buf.getvalue()
+        return csv_text(cols, ([r[c] for c in cols] for r in self.records()))
 
 
 def _order(name: str) -> tuple[int, str]:

@@ -67,6 +67,7 @@ from typing import Any, Mapping
 import numpy as np
 
 from .errors import InputError
+from .photometry import PHOTON_KEY, PPF_KEY, RADIANT_KEY
 
 __all__ = [
     "Limit",
@@ -79,6 +80,10 @@ __all__ = [
     "load_claims",
     "parse_claims",
     "verify",
+    "sdcm_ellipse",
+    "format_verdict",
+    "verdict_csv",
+    "cell_text",
 ]
 
 # Scalar keys of the per-spectrum record (the lead's record contract), plus names
@@ -86,11 +91,11 @@ __all__ = [
 _RECORD_METRICS = (
     "cct_K", "duv", "x", "y", "u", "v", "u_prime", "v_prime", "X", "Y", "Z",
     "luminous_flux_lm", "illuminance_lx", "luminance_cd_per_m2", "intensity_cd",
-    "radiant_total_W", "radiant_total_W_per_m2", "radiant_total_W_per_sr_m2", "radiant_total_W_per_sr",
+    *RADIANT_KEY.values(),
     "ler_lm_per_W", "sp_ratio", "melanopic_der", "melanopic_edi_lx",
     "peak_nm", "centroid_nm", "fwhm_nm", "dominant_wavelength_nm", "purity",
-    "photon_flux_umol_per_s", "photon_flux_umol_per_m2_s", "photon_flux_umol_per_sr_m2_s", "photon_flux_umol_per_sr_s",
-    "ppf_umol_per_s", "ppfd_umol_per_m2_s", "ppf_umol_per_sr_m2_s", "ppf_umol_per_sr_s",
+    *PHOTON_KEY.values(),
+    *PPF_KEY.values(),
     "Ra", "Rf", "Rg",
 )
 _DERIVED = ("efficacy_lm_per_W", "power_W")
@@ -101,7 +106,13 @@ _SECTIONS = ("claims", "limits", "chromaticity", "uncertainty", "samples")
 _CLAIMS_KEYS = ("supplier", "product", "description", "reference", "date")
 _CHROMA_KEYS = ("nominal_cct_K", "ansi_quadrangle", "max_sdcm", "sdcm_centre")
 _SAMPLES_KEYS = ("power_W", "sidecar")
-_IEC_NOMINALS = (2700, 3000, 3500, 4000, 5000, 6500)
+
+
+def _iec_nominals() -> tuple[int, ...]:
+    """Nominal CCTs [K] with an IEC 60081 lamp ellipse ("F3000" -> 3000)."""
+    from .tolerance import IEC60081_ELLIPSES
+
+    return tuple(int(name[1:]) for name in IEC60081_ELLIPSES)
 
 
 @dataclass(frozen=True)
@@ -290,11 +301,12 @@ def _parse_chromaticity(table: Mapping, source: str) -> ChromaticityClaim | None
         max_sdcm = _number(table["max_sdcm"], "[chromaticity] max_sdcm", source)
         if max_sdcm <= 0:
             raise InputError(f"[chromaticity] max_sdcm: must be positive, got {max_sdcm:g}", source=source)
-    default_centre = "iec" if int(nominal) in _IEC_NOMINALS else "ansi"
+    iec_nominals = _iec_nominals()
+    default_centre = "iec" if int(nominal) in iec_nominals else "ansi"
     centre = table.get("sdcm_centre", default_centre)
     if centre not in ("iec", "ansi"):
         raise InputError(f"[chromaticity] sdcm_centre: expected \"iec\" or \"ansi\", got {centre!r}", source=source)
-    if centre == "iec" and int(nominal) not in _IEC_NOMINALS:
+    if centre == "iec" and int(nominal) not in iec_nominals:
         raise InputError(f"[chromaticity] sdcm_centre: IEC 60081 has no {int(nominal)} K lamp ellipse; "
                          f"use \"ansi\"", source=source)
     if not quad and max_sdcm is None:
@@ -378,6 +390,9 @@ class Check:
     to the nearest quadrangle edge and ``value`` is the quadrangle found.
     ``result`` is "pass", "fail" or "inconclusive"; ``uncertainty`` the U of a
     guard band (None under simple acceptance).
+
+    :meth:`as_dict` always writes ``result``; ``pass`` (true, false, or null when
+    inconclusive) is kept beside it for readers of earlier documents.
     """
 
     metric: str
@@ -395,6 +410,7 @@ class Check:
             "min": self.min,
             "max": self.max,
             "margin": self.margin,
+            "result": self.result,
             "pass": None if self.result == "inconclusive" else self.result == "pass",
         }
         if self.uncertainty is not None:
@@ -410,8 +426,8 @@ class SampleVerdict:
     declared_id: str | None = None
 
     def as_dict(self) -> dict[str, Any]:
-        d: dict[str, Any] = {"name": self.name, "verdict": self.verdict, "checks": [c.as_dict() for c in self.checks]}
-        return d
+        return {"name": self.name, "verdict": self.verdict, "declared_id": self.declared_id,
+                "checks": [c.as_dict() for c in self.checks]}
 
 
 @dataclass(frozen=True)
@@ -422,7 +438,6 @@ class Verdict:
     samples: tuple[SampleVerdict, ...]
     summary: Mapping[str, Mapping[str, float | int | None]]
     guard_band: bool
-    claims: Claims
 
     def as_dict(self) -> dict[str, Any]:
         d: dict[str, Any] = {
@@ -613,5 +628,80 @@ def verify(records: list[Mapping[str, Any]], claims: Claims) -> Verdict:
         samples=tuple(samples),
         summary=_summary(samples, claims.metrics),
         guard_band=bool(claims.uncertainty),
-        claims=claims,
     )
+
+
+# ------------------------------------------------------------------ text and CSV of a verdict document
+
+
+def cell_text(v: Any) -> str:
+    """A value of a verdict or bin table as text: "n/a" for missing, 4/2/1 decimals by size."""
+    if v is None:
+        return "n/a"
+    if isinstance(v, float):
+        if not math.isfinite(v):
+            return "n/a"
+        a = abs(v)
+        return f"{v:.4f}" if a < 1 else (f"{v:.2f}" if a < 100 else f"{v:.1f}")
+    return str(v)
+
+
+def _limit_text(c: Mapping[str, Any]) -> str:
+    if c["metric"] == "ansi_quadrangle":
+        return "inside"
+    lo, hi = c["min"], c["max"]
+    if lo is not None and hi is not None:
+        return f"{cell_text(lo)}..{cell_text(hi)}"
+    return f">={cell_text(lo)}" if lo is not None else f"<={cell_text(hi)}"
+
+
+def format_verdict(doc: Mapping[str, Any], claims: Claims) -> str:
+    """A verdict document (:meth:`Verdict.as_dict`) as a text table.
+
+    One row per sample, one column per claim (value [limit] margin result), then
+    the per-metric summary, the decision rule and the overall verdict.
+    """
+    metrics = list(claims.metrics)
+    head = ["sample", "verdict"] + metrics
+    rows = []
+    for s in doc["samples"]:
+        cells = [s["name"], s["verdict"].upper() if s["verdict"] != "pass" else "pass"]
+        for c in s["checks"]:
+            mark = c["result"].upper() if c["result"] == "fail" else c["result"]
+            cells.append(f"{cell_text(c['value'])} [{_limit_text(c)}] {cell_text(c['margin'])} {mark}")
+        rows.append(cells)
+    widths = [max(len(str(r[i])) for r in [head] + rows) for i in range(len(head))]
+    lines = []
+    who = " / ".join(p for p in (claims.supplier, claims.product) if p)
+    lines.append(f"claims: {claims.source}" + (f" ({who})" if who else ""))
+    lines.append("cell: value [limit] margin result")
+    lines.append("  ".join(h.ljust(w) for h, w in zip(head, widths)))
+    lines.append("  ".join("-" * w for w in widths))
+    for r in rows:
+        lines.append("  ".join(str(c).ljust(w) for c, w in zip(r, widths)))
+    lines.append("")
+    lines.append("summary (over samples): metric  passed/total  mean  std  min  max")
+    n = len(doc["samples"])
+    for m, st in doc["summary"].items():
+        lines.append(f"  {m:<20} {st['count_pass']}/{n}  {cell_text(st['mean'])}  {cell_text(st['std'])}  "
+                     f"{cell_text(st['min'])}  {cell_text(st['max'])}")
+    if "decision" in doc:
+        lines.append(f"decision rule: {doc['decision']}")
+    lines.append(f"verdict: {doc['verdict'].upper()}")
+    return "\n".join(lines)
+
+
+def verdict_csv(doc: Mapping[str, Any], claims: Claims) -> str:
+    """A verdict document as CSV: one row per sample; per claim its value, limits, margin and result."""
+    from .formats import csv_text
+
+    header = ["name", "verdict"]
+    for m in claims.metrics:
+        header += [f"{m}_value", f"{m}_min", f"{m}_max", f"{m}_margin", f"{m}_result"]
+    rows = []
+    for s in doc["samples"]:
+        row: list[Any] = [s["name"], s["verdict"]]
+        for c in s["checks"]:
+            row += [c["value"], c["min"], c["max"], c["margin"], c["result"]]
+        rows.append(["" if v is None else v for v in row])
+    return csv_text(header, rows)

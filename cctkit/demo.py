@@ -487,6 +487,7 @@ def _lot_units() -> list[tuple[str, np.ndarray, str]]:
 
 def _tunable_measurement() -> tuple[np.ndarray, dict[str, np.ndarray], Instrument]:
     """TW-Lab at its set points: irradiance on axis at 2 m [W/(m^2 nm)]."""
+    from .colorimetry import uv_to_xy, xy_to_XYZ
     from .locus import uv_from_cct_duv
 
     inst = INSTRUMENTS["lab-0.5nm"]
@@ -496,10 +497,7 @@ def _tunable_measurement() -> tuple[np.ndarray, dict[str, np.ndarray], Instrumen
     M = _working_XYZ(channels, inst).T  # (3 tristimulus, 3 channels)
     uv = uv_from_cct_duv(np.asarray(TUNABLE_SET_POINTS_K, dtype=np.float64), TUNABLE_DUV)
     Y = np.asarray(TUNABLE_ILLUMINANCE_LX) / KM_LM_PER_W
-    # XYZ from uv and Y: x = 3u / (2u - 8v + 4), y = 2v / (2u - 8v + 4) (CIE 15:2018 section 8.1).
-    d = 2.0 * uv[:, 0] - 8.0 * uv[:, 1] + 4.0
-    x, y = 3.0 * uv[:, 0] / d, 2.0 * uv[:, 1] / d
-    target = np.stack([x / y * Y, Y, (1.0 - x - y) / y * Y])  # (3, S)
+    target = xy_to_XYZ(uv_to_xy(uv), Y).T  # (3, S)
     drive = np.linalg.solve(M, target)  # channel drives, (3 channels, S)
     if np.any(drive < 0):
         raise CctkitError("TW-Lab: a set point lies outside the channel gamut")

@@ -35,9 +35,8 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     """Run the whole demo; returns the files written by name."""
     from .analysis import analyse, analyse_files, provenance, records_csv
     from .binning import bin_chromaticities
-    from .claims import load_claims, verify
+    from .claims import format_verdict, load_claims, verdict_csv, verify
     from .formats import dumps
-    from .cli.verify import format_verdict, verdict_csv
     from .readers import read_spectra
     from .report import build_report
     from .safe_io import atomic_write
@@ -59,15 +58,16 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     put("harbourside-shortlist.csv", records_csv(recs))
     for suffix in (".pdf", ".png"):
         path = out / f"harbourside-shortlist{suffix}"
-        build_report(shortlist, path, overwrite=True, inputs=files, date=date)
+        build_report(shortlist, path, overwrite=True, inputs=files, date=date, records=recs)
         written[path.name] = path
         _say(f"  wrote {path}")
 
     _say(f"[2/4] tunable-white fixture: {TUNABLE}")
     tw_file = spectra_dir / TUNABLE
     tw = analyse(read_spectra(tw_file))
-    put("tw-lab.json", dumps({**provenance(), "spectra": tw.records()}))
-    build_report(tw, out / "tw-lab.pdf", overwrite=True, inputs=[tw_file], date=date)
+    tw_recs = tw.records()
+    put("tw-lab.json", dumps({**provenance(), "spectra": tw_recs}))
+    build_report(tw, out / "tw-lab.pdf", overwrite=True, inputs=[tw_file], date=date, records=tw_recs)
     written["tw-lab.pdf"] = out / "tw-lab.pdf"
     _say(f"  wrote {out / 'tw-lab.pdf'}")
 
@@ -81,7 +81,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     put("nb3000-lot-verdict.csv", verdict_csv(verdict, claims))
     put("nb3000-lot-verdict.txt", format_verdict(verdict, claims) + "\n")
     build_report(lot, out / "nb3000-lot.pdf", overwrite=True, inputs=[*lot_files, spectra_dir / CLAIMS], date=date,
-                 verdict=verdict, claims=claims)
+                 verdict=verdict, claims=claims, records=lot_recs)
     written["nb3000-lot.pdf"] = out / "nb3000-lot.pdf"
     _say(f"  wrote {out / 'nb3000-lot.pdf'}")
     failing = [s["name"] for s in verdict["samples"] if s["verdict"] != "pass"]

@@ -37,16 +37,20 @@ def dumps(doc: Any) -> str:
     return json.dumps(clean(doc), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
-def csv_text(header: list[str], rows: Iterable[Iterable[Any]]) -> str:
-    """CSV text with a header; floats written with repr precision, NaN empty."""
+def csv_text(header: list[str], rows: Iterable[Iterable[Any]], *, write_header: bool = True) -> str:
+    """CSV text with a header; floats written with repr precision, NaN empty.
+
+    ``write_header=False`` leaves the header line out (rows appended to a file that has it).
+    """
     import csv
     import io
 
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
-    w.writerow(header)
+    if write_header:
+        w.writerow(header)
     for row in rows:
-        w.writerow(["" if (isinstance(v, float) and not math.isfinite(v)) else (repr(v) if isinstance(v, float) else v) for v in row])
+        w.writerow(["" if (isinstance(v, float) and not math.isfinite(v)) else (repr(float(v)) if isinstance(v, float) else v) for v in row])
     return buf.getvalue()
 
 

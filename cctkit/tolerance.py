@@ -80,6 +80,7 @@ import numpy as np
 
 from .colorimetry import uv_to_xy, xy_to_uv
 from .errors import InputError
+from .locus import uv_from_cct_duv
 
 __all__ = [
     "ANSI_EDITION",
@@ -131,12 +132,6 @@ DUV_TOLERANCE = 0.006
 FLEXIBLE_RANGE_K = (2580.0, 7040.0)
 
 
-def _uv_from_cct_duv(cct_K: np.ndarray, duv: np.ndarray) -> np.ndarray:
-    from .cct import uv_from_cct_duv
-
-    return uv_from_cct_duv(cct_K, duv)
-
-
 @dataclass(frozen=True)
 class Quadrangle:
     """One ANSI C78.377 chromaticity quadrangle.
@@ -161,7 +156,7 @@ def _build(name: str, nominal: float, T: float, dT: float, duv: float) -> Quadra
     tol = DUV_TOLERANCE
     Ts = np.array([T - dT, T + dT, T + dT, T - dT, T])
     Ds = np.array([duv + tol, duv + tol, duv - tol, duv - tol, duv])
-    uv = _uv_from_cct_duv(Ts, Ds)
+    uv = uv_from_cct_duv(Ts, Ds)
     xy = uv_to_xy(uv)
     for a in (uv, xy):
         a.setflags(write=False)

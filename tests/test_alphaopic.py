@@ -19,14 +19,7 @@ from cctkit.errors import InputError
 from cctkit.photometry import luminous_total
 from cctkit.spectra import Quantity, Spectra, to_working_grid
 
-
-def _cie_illuminant(name: str) -> np.ndarray:
-    """CIE illuminant from the reference library (colour-science 0.4.7), brought to 1 nm by its own
-    interpolator, which for the CIE D65 / A datasets is linear (CIE 15:2018 practice for D65)."""
-    colour = pytest.importorskip("colour")
-    sd = colour.SDS_ILLUMINANTS[name].copy().align(colour.SpectralShape(360, 830, 1))
-    return np.asarray(sd.values)
-
+from conftest import cie_illuminant_1nm as _cie_illuminant
 
 # CIE S 026/E:2018 Table 2, alpha-opic ELR of D65 [mW/lm] (from memory), published to 4 decimals
 PUBLISHED_D65_ELR_mW_PER_LM = [

@@ -23,18 +23,14 @@ def _fl_records() -> tuple[dict, ...]:
 
     reference library: colour-science 0.4.7 (colour_rendering_index, sd_to_XYZ).
     """
-    import warnings
-
     import colour
 
     out = []
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        for i in range(1, 13):
-            sd = colour.SDS_ILLUMINANTS[f"FL{i}"]
-            xy = colour.XYZ_to_xy(colour.sd_to_XYZ(sd))
-            out.append({"name": f"FL{i}", "quantity": "relative", "x": float(xy[0]), "y": float(xy[1]),
-                        "Ra": float(colour.colour_rendering_index(sd))})
+    for i in range(1, 13):
+        sd = colour.SDS_ILLUMINANTS[f"FL{i}"]
+        xy = colour.XYZ_to_xy(colour.sd_to_XYZ(sd))
+        out.append({"name": f"FL{i}", "quantity": "relative", "x": float(xy[0]), "y": float(xy[1]),
+                    "Ra": float(colour.colour_rendering_index(sd))})
     return tuple(out)
 
 
@@ -44,8 +40,9 @@ def _claims(doc: dict, tmp_path: Path | None = None) -> cl.Claims:
 
 def test_reference_ra_matches_published_values():
     for rec, (i, ra) in zip(_fl_records(), PUBLISHED_RA.items()):
-        # Published values are integers; FL8 computes to 95.53 against a published 95.
-        assert abs(rec["Ra"] - ra) < 0.6, rec["name"]
+        # Published values are integers (0.5 rounding); FL8 computes to 95.534 against a published 95
+        # (reference library: colour-science 0.4.7 at 5 nm; measured max over FL1-FL12: 0.534, FL8).
+        assert abs(rec["Ra"] - ra) < 0.55, rec["name"]
 
 
 @pytest.mark.parametrize("index", range(12))
@@ -83,8 +80,12 @@ def test_chromaticity_claims_on_illuminants():
     c = _claims({"chromaticity": {"nominal_cct_K": 3000, "ansi_quadrangle": True, "max_sdcm": 1}})
     v = cl.verify(recs, c)
     by = {s.name: s for s in v.samples}
-    # FL4 (warm white, CIE 15:2004: 2940 K) sits on the IEC F3000 lamp centre; FL12 (3000 K) is
-    # in the 3000 K quadrangle but farther than one step from F3000; FL3 (3450 K) is neither.
+    # CCTs: CIE 15:2004 Table T.8.1 (from memory) FL4 2940 K, FL12 3000 K, FL3 3450 K; the reference
+    # library colour-science 0.4.7 (Ohno 2013, its 5 nm spectra) gives 2938 K, 3000 K, 3446 K, all with
+    # |Duv| < 0.001, so FL4 and FL12 fall in the ANSI C78.377 3000 K range 2870-3220 K (Table 1, from
+    # memory) and FL3 in the 3500 K one.  FL4 sits on the IEC 60081 F3000 centre (0.440, 0.403; from
+    # memory): 0.09 steps of the F3000 ellipse; FL12 is 2.3 steps from it (computed with cctkit.tolerance
+    # from the reference library's xy), farther than the one step allowed here.
     assert by["FL4"].verdict == "pass"
     assert by["FL12"].checks[0].result == "pass" and by["FL12"].checks[1].result == "fail"
     assert by["FL3"].checks[0].value == "3500K" and by["FL3"].verdict == "fail"
@@ -113,8 +114,8 @@ def test_as_dict_layout():
                   _claims({"limits": {"Ra": {"min": 90}, "R9": {"min": 50}}}))
     d = v.as_dict()
     assert set(d) == {"verdict", "samples", "summary"}
-    assert set(d["samples"][0]) == {"name", "verdict", "checks"}
-    assert set(d["samples"][0]["checks"][1]) == {"metric", "value", "min", "max", "margin", "pass"}
+    assert set(d["samples"][0]) == {"name", "verdict", "declared_id", "checks"}
+    assert set(d["samples"][0]["checks"][1]) == {"metric", "value", "min", "max", "margin", "result", "pass"}
     assert d["samples"][0]["checks"][1]["value"] == 55.0  # R9 taken from the list R
     assert set(d["summary"]["R9"]) == {"count_pass", "mean", "std", "min", "max"}
     assert d["summary"]["R9"]["std"] is None  # one sample
@@ -229,22 +230,6 @@ def test_demo_claims_file_parses():
 # ---------------------------------------------------------------- command line
 
 
-def _app():
-    import typer
-
-    from cctkit.cli import _OneLineErrors
-    from cctkit.cli import verify as verify_cli
-
-    app = typer.Typer(cls=_OneLineErrors, add_completion=False, pretty_exceptions_enable=False)
-
-    @app.callback()
-    def _root() -> None:
-        """test root"""
-
-    verify_cli.register(app)
-    return app
-
-
 def _write_fl_csv(tmp_path: Path, names=("FL4", "FL12", "FL3")) -> Path:
     import colour
 
@@ -264,7 +249,9 @@ def _run(args):
         runner = CliRunner(mix_stderr=False)
     except TypeError:  # click >= 8.2 keeps stderr apart by default
         runner = CliRunner()
-    return runner.invoke(_app(), args)
+    from cctkit.cli import app  # registers every command, verify and bin included
+
+    return runner.invoke(app, args)
 
 
 def test_cli_verify_and_bin(tmp_path):
@@ -291,7 +278,10 @@ def test_cli_verify_and_bin(tmp_path):
     assert r.exit_code == 0, r.stderr
     b = json.loads(r.stdout)
     assert [s["quadrangle"] for s in b["samples"]] == ["3000K", "3000K", "3500K"]
-    # FL4 lies 4.0 steps and FL12 1.7 steps from the ANSI 3000 K centre (MacAdam 1942 ellipse).
+    # Steps from the ANSI 3000 K centre by the MacAdam 1942 metric (W&S Table 2(5.4.1) via colour-science,
+    # interpolated to that centre by cctkit.tolerance, checked in test_tolerance.py), for the reference
+    # library's xy of the 5 nm spectra: FL4 4.09, FL12 1.77 -> bins 5 and 2 (the next whole step up).
+    # These step counts are our own computation, not a published figure.
     assert b["counts"]["3000K"] == {"2": 1, "5": 1}
 
 

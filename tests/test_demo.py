@@ -8,7 +8,6 @@ and solves CCT), never with cctkit's measures.
 from __future__ import annotations
 
 import json
-import warnings
 from pathlib import Path
 
 import numpy as np
@@ -32,18 +31,16 @@ def _reference(wavelength_nm: np.ndarray, values: np.ndarray) -> dict[str, float
     """CCT, Duv, luminous total, xy, Ra and R9 by colour-science (reference library: colour-science 0.4.7)."""
     import colour
 
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        sd = colour.SpectralDistribution(dict(zip(wavelength_nm, values)))
-        step = float(wavelength_nm[1] - wavelength_nm[0])
-        if step != 1.0:
-            sd = sd.interpolate(colour.SpectralShape(wavelength_nm[0], wavelength_nm[-1], 1))
-        sd = sd.align(colour.SpectralShape(360, 830, 1))  # constant extrapolation to the working range
-        cmfs = colour.MSDS_CMFS["CIE 1931 2 Degree Standard Observer"]
-        XYZ = colour.sd_to_XYZ(sd, cmfs, k=KM, method="Integration")
-        uv = colour.UCS_to_uv(colour.XYZ_to_UCS(XYZ))
-        cct, duv = colour.temperature.uv_to_CCT_Ohno2013(uv)
-        cri = colour.colour_rendering_index(sd, additional_data=True)
+    sd = colour.SpectralDistribution(dict(zip(wavelength_nm, values)))
+    step = float(wavelength_nm[1] - wavelength_nm[0])
+    if step != 1.0:
+        sd = sd.interpolate(colour.SpectralShape(wavelength_nm[0], wavelength_nm[-1], 1))
+    sd = sd.align(colour.SpectralShape(360, 830, 1))  # constant extrapolation to the working range
+    cmfs = colour.MSDS_CMFS["CIE 1931 2 Degree Standard Observer"]
+    XYZ = colour.sd_to_XYZ(sd, cmfs, k=KM, method="Integration")
+    uv = colour.UCS_to_uv(colour.XYZ_to_UCS(XYZ))
+    cct, duv = colour.temperature.uv_to_CCT_Ohno2013(uv)
+    cri = colour.colour_rendering_index(sd, additional_data=True)
     x, y = colour.XYZ_to_xy(XYZ)
     return {"cct_K": float(cct), "duv": float(duv), "Y": float(XYZ[1]), "x": float(x), "y": float(y),
             "Ra": float(cri.Q_a), "R9": float(cri.Q_as[9].Q_a)}
@@ -146,9 +143,13 @@ def test_products_land_on_their_targets(key):
     names, wl, values = _load_csv(SPECTRA / spec["file"])
     assert names == [key]
     ref = _reference(wl, values[:, 0])  # reference library: colour-science 0.4.7
-    assert abs(ref["cct_K"] - led.cct_K) <= 50.0
-    assert abs(ref["duv"] - led.duv) <= 0.002
-    assert ref["Y"] == pytest.approx(spec["flux_lm"], rel=0.01)
+    # Targets are the demo's own design.  Measured off-target by the reference library, over the three
+    # products and five set points: CCT 1.1 K, Duv 1.0e-5, flux/illuminance 8.6e-5 relative (noise,
+    # instrument sampling and the reference library's Ohno 2013 CCT); tolerances are these rounded
+    # out about 5x (common practice, no source).
+    assert abs(ref["cct_K"] - led.cct_K) <= 5.0
+    assert abs(ref["duv"] - led.duv) <= 1e-4
+    assert ref["Y"] == pytest.approx(spec["flux_lm"], rel=1e-3)
 
 
 def test_product_names_keep_their_colour_rendering_promise():
@@ -165,9 +166,10 @@ def test_tunable_set_points_land_on_target(j, set_point_K):
     names, wl, values = _load_csv(SPECTRA / "tw-lab-setpoints.csv")
     assert names[j] == f"TW-Lab {set_point_K}K"
     ref = _reference(wl, values[:, j])  # reference library: colour-science 0.4.7
-    assert abs(ref["cct_K"] - set_point_K) <= 50.0
-    assert abs(ref["duv"] - demo.TUNABLE_DUV) <= 0.002
-    assert ref["Y"] == pytest.approx(demo.TUNABLE_ILLUMINANCE_LX[j], rel=0.01)  # lx at 2 m
+    # the same measured figures and tolerances as test_products_land_on_their_targets
+    assert abs(ref["cct_K"] - set_point_K) <= 5.0
+    assert abs(ref["duv"] - demo.TUNABLE_DUV) <= 1e-4
+    assert ref["Y"] == pytest.approx(demo.TUNABLE_ILLUMINANCE_LX[j], rel=1e-3)  # lx at 2 m
 
 
 # --------------------------------------------------------------------------- the procurement lot
@@ -230,7 +232,8 @@ def test_blue_die_shape_has_the_requested_peak_and_width():
     assert s.sum() * 0.1 == pytest.approx(1.0)  # 1 W
     assert wl[np.argmax(s)] == pytest.approx(450.0, abs=0.5)
     above = wl[s >= s.max() / 2]
-    assert above[-1] - above[0] == pytest.approx(20.0, abs=1.0)
+    # requested 20 nm; measured 19.8 nm on the 0.1 nm grid (samples at or above half maximum)
+    assert above[-1] - above[0] == pytest.approx(20.0, abs=0.5)
     # Asymmetry: the long-wavelength half width is the larger one.
     assert above[-1] - 450.0 > 450.0 - above[0]
 
@@ -241,7 +244,11 @@ def test_phosphor_conversion_loses_energy_to_the_stokes_shift():
     blue_W = basis[0].sum() * 0.1
     for row in basis[1:]:
         gained = (row + basis[0]).sum() * 0.1  # converted power per unit absorbed blue power
-        assert 0.5 < gained < blue_W  # a photon re-emitted at longer wavelength carries less energy
+        # A photon re-emitted at a longer wavelength carries less energy (E = hc / lambda), so
+        # gained = QE * <E_phosphor> / <E_blue> < 1 W.  Lower bound by hand for the worst band of this
+        # design, the red (QE 0.90, peak 630 nm) pumped at 450 nm: 0.90 * 450 / 630 = 0.643; measured
+        # 0.646 (red), 0.750 (yellow), 0.776 (green).
+        assert 0.6 < gained < blue_W
 
 
 @pytest.mark.parametrize("cct_K, duv", [(2700.0, 0.04), (20000.0, 0.0)])

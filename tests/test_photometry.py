@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from cctkit.constants import WAVELENGTH_NM
+from cctkit.constants import KM_LM_PER_W, WAVELENGTH_NM
 from cctkit.errors import InputError
 from cctkit.photometry import (
     luminous_efficacy_of_radiation,
@@ -18,12 +18,12 @@ from cctkit.photometry import (
 )
 from cctkit.spectra import Quantity
 
+from conftest import cie_illuminant_1nm as _cie_illuminant
 
-def _cie_illuminant(name: str) -> np.ndarray:
-    """A CIE illuminant from the reference library, at 1 nm by its own (CIE 15 linear) interpolation."""
-    colour = pytest.importorskip("colour")
-    sd = colour.SDS_ILLUMINANTS[name].copy().align(colour.SpectralShape(360, 830, 1))
-    return np.asarray(sd.values)
+# Sum of the CIE 1931 2 deg y-bar at 1 nm over 360-830 nm (plain summation, CIE 15:2018 convention).
+# reference library: colour-science 0.4.7 data (MSDS_CMFS "CIE 1931 2 Degree Standard Observer",
+# summed: 106.85691710117); 106.857 is also the usual value (from memory).
+YBAR_SUM_1NM = 106.856917
 
 
 def _sd(values: np.ndarray):
@@ -38,16 +38,19 @@ def test_equal_energy_luminous_total_matches_reference_library():
     cmfs = colour.MSDS_CMFS["CIE 1931 2 Degree Standard Observer"]
     ybar_sum = float(np.sum(cmfs.copy().align(colour.SpectralShape(360, 830, 1)).values[:, 1]))
     # reference library: colour-science 0.4.7, CIE 1931 y-bar summed at 1 nm over 360-830 nm
-    # 106.857 is the usual 1 nm sum of y-bar over 360-830 nm (from memory); the fourth decimal is this table's
-    assert ybar_sum == pytest.approx(106.8569, abs=1e-3)
-    assert luminous_total(flat) == pytest.approx(683.002 * ybar_sum, rel=1e-12)
-    xyz = colour.sd_to_XYZ(_sd(flat), cmfs, method="Integration", k=683.002)
+    # (YBAR_SUM_1NM, to the 6 decimals written there)
+    assert ybar_sum == pytest.approx(YBAR_SUM_1NM, abs=1e-6)
+    assert ybar_sum == pytest.approx(106.857, abs=5e-4)  # the usual value, 3 decimals (from memory)
+    assert luminous_total(flat) == pytest.approx(KM_LM_PER_W * ybar_sum, rel=1e-12)
+    xyz = colour.sd_to_XYZ(_sd(flat), cmfs, method="Integration", k=KM_LM_PER_W)
     assert luminous_total(flat) == pytest.approx(xyz[1], rel=1e-9)  # reference library: colour-science 0.4.7
 
 
 def test_ler_of_equal_energy_spectrum():
     # Km * sum(y-bar) / 471 over 360-830 nm at 1 nm: hand arithmetic from the CIE 1931 table sum above
-    assert luminous_efficacy_of_radiation(np.full(471, 2.5)) == pytest.approx(683.002 * 106.856917 / 471, rel=1e-7)
+    assert luminous_efficacy_of_radiation(np.full(471, 2.5)) == pytest.approx(
+        KM_LM_PER_W * YBAR_SUM_1NM / 471, rel=1e-7)
+    # 683.002 * 106.856917 / 471 = 154.954 (hand arithmetic)
     assert luminous_efficacy_of_radiation(np.full(471, 2.5)) == pytest.approx(154.95, abs=0.01)
 
 
@@ -78,7 +81,7 @@ def test_scotopic_and_photopic_totals_match_reference_library(name):
     phot = colour.colorimetry.SDS_LEFS_PHOTOPIC["CIE 1924 Photopic Standard Observer"]
     # reference library: colour-science 0.4.7 luminous_flux (trapezoidal; the end points carry ~0 weight)
     ref_s = colour.luminous_flux(sd, scot, K_m=1700.06)
-    ref_p = colour.luminous_flux(sd, phot, K_m=683.002)
+    ref_p = colour.luminous_flux(sd, phot, K_m=KM_LM_PER_W)
     p = photometry(e, Quantity.IRRADIANCE)
     assert p.scotopic[0] == pytest.approx(ref_s, rel=1e-6)
     assert p.luminous[0] == pytest.approx(ref_p, rel=1e-6)
@@ -132,7 +135,8 @@ def test_record_keys_follow_the_quantity():
         "photon_flux_umol_per_m2_s", "ppfd_umol_per_m2_s",
     }
     flux = photometry(flat, "radiant-flux").record(0)
-    assert flux["luminous_flux_lm"] == pytest.approx(683.002 * 106.856917, rel=1e-7)
+    # Km (CIE 15:2018 section 7.1) times the y-bar sum of the reference library (YBAR_SUM_1NM)
+    assert flux["luminous_flux_lm"] == pytest.approx(KM_LM_PER_W * YBAR_SUM_1NM, rel=1e-7)
     assert flux["radiant_total_W"] == pytest.approx(471.0)
     assert "ppf_umol_per_s" in flux and "photon_flux_umol_per_s" in flux
     rel = photometry(flat, Quantity.RELATIVE).record(0)

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import warnings
-
 import numpy as np
 import pytest
 
@@ -19,6 +17,8 @@ from cctkit.spectra import Spectra, to_working_grid
 colour = pytest.importorskip("colour")
 
 TM30_BAND = slice(20, 421)  # 380-780 nm on the working grid
+# The cases compared one by one with the reference library (see the `cases` fixture).
+LIBRARY_CASES = ["A", "D65", "FL2", "FL11", "led-warm", "led-neutral", "led-cool"]
 
 
 def _illuminant(name: str) -> np.ndarray:
@@ -80,29 +80,42 @@ def test_published_ra_of_fluorescent_illuminants():
         # rounding (0.5) plus the effect of Sprague-resampling the 5 nm tables to 1 nm over
         # 360-830 nm, measured against the reference library at 5 nm: up to 0.13 in Ra.
         assert abs(got[n] - PUBLISHED_RA[n]) <= 0.5 + 0.15, (n, got[n])
-    assert {n for n in names if round(got[n]) != PUBLISHED_RA[n]} <= {"FL8"}  # FL8 is 95.497
+    # FL8 computes to 95.497 on our 1 nm grid (reference library colour-science 0.4.7 at 5 nm:
+    # 95.534), 0.003 from the rounding edge, so its rounded value may fall on either side of 95.5.
+    assert {n for n in names if round(got[n]) != PUBLISHED_RA[n]} <= {"FL8"}
 
 
 def test_illuminant_a_renders_perfectly():
     # CIE 13.3-1995 section 5.1: a Planckian source is its own reference, so Ra = Ri = 100.
-    # (Illuminant A is Planckian at 2856 K with c2 = 1.435e-2; CIE 15:2018 section 4.1.1.)
+    # Illuminant A is defined (CIE 15:2018 section 4.1.1, eq. 4.1) as Planck's law at 2848 K with
+    # the old c2 = 1.435e-2 m K.  Planck's law depends on c2 / T only, so that is exactly the
+    # Planckian of c2 = 1.4388e-2 m K at 2848 * 1.4388 / 1.435 = 2855.54 K (hand arithmetic): A is
+    # its own reference, and from its defining formula Ra = Ri = 100 to rounding error.
+    from conftest import illuminant_A_spd
+
+    exact = illuminant_A_spd(WAVELENGTH_NM)[None]
+    res = cie13_3(exact, _cct(exact))
+    assert _cct(exact)[0] == pytest.approx(2848 * 1.4388 / 1.435, abs=1e-3)
+    assert res.Ra[0] == pytest.approx(100.0, abs=1e-9)
+    np.testing.assert_allclose(res.R[0], 100.0, atol=1e-9)
+    # The reference library's table of A (colour-science 0.4.7) stops at 780 nm, to 6 significant
+    # digits; to_working_grid holds the 780 nm value out to 830 nm (up to 7.6 % off the formula
+    # there).  Measured: |Ra - 100| = 6.3e-5, max |Ri - 100| = 6.3e-4, hence 1e-3 and 5e-3.
     v = _illuminant("A")[None]
     res = cie13_3(v, _cct(v))
-    assert res.Ra[0] == pytest.approx(100.0, abs=0.01)
-    np.testing.assert_allclose(res.R[0], 100.0, atol=0.02)
+    assert res.Ra[0] == pytest.approx(100.0, abs=1e-3)
+    np.testing.assert_allclose(res.R[0], 100.0, atol=5e-3)
     assert res.reference == ("planckian",)
 
 
-@pytest.mark.parametrize("name", ["A", "D65", "FL2", "FL11", "led-warm", "led-neutral", "led-cool"])
+@pytest.mark.parametrize("name", LIBRARY_CASES)
 def test_cri_against_reference_library(cases, name):
     # reference library: colour-science 0.4.7 colour_rendering_index(sd, additional_data=True),
     # fed the same 1 nm samples.  Measured agreement: Ra 0.005, Ri 0.03 (its CCT method and its
     # Sprague-interpolated daylight basis differ slightly from ours).
     v = cases[name]
     ours = cie13_3(v[None], _cct(v))
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        lib = colour.colour_rendering_index(_lib_sd(v), additional_data=True)
+    lib = colour.colour_rendering_index(_lib_sd(v), additional_data=True)
     lib_R = np.array([lib.Q_as[i].Q_a for i in range(1, 15)])
     assert ours.Ra[0] == pytest.approx(lib.Q_a, abs=0.05)
     np.testing.assert_allclose(ours.R[0], lib_R, atol=0.05)
@@ -111,23 +124,26 @@ def test_cri_against_reference_library(cases, name):
 def test_cri_sampling_effect_is_bounded():
     # reference library at the published 5 nm sampling, against our 1 nm working grid:
     # the documented sampling effect, measured up to 0.13 in Ra for the line-spectrum FLs.
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        for name in ("FL2", "FL4", "FL10"):
-            v = _illuminant(name)[None]
-            lib = colour.colour_rendering_index(colour.SDS_ILLUMINANTS[name])
-            assert cie13_3(v, _cct(v)).Ra[0] == pytest.approx(lib, abs=0.2)
+    for name in ("FL2", "FL4", "FL10"):
+        v = _illuminant(name)[None]
+        lib = colour.colour_rendering_index(colour.SDS_ILLUMINANTS[name])
+        assert cie13_3(v, _cct(v)).Ra[0] == pytest.approx(lib, abs=0.2)
 
 
 def test_dc_is_distance_to_planckian_reference_and_flags_validity():
     # For a Planckian reference, DC is the distance from the locus, i.e. |Duv|.  Duv from the
     # reference library colour-science 0.4.7 (Ohno 2013); limit 5.4e-3 from CIE 13.3-1995 section 5.3.
-    names = ["FL2", "FL6", "FL11", "FL4"]  # FL6 lies 6e-3 above the locus
+    # FL6 lies above the limit: Duv = +6.036e-3 by the reference library on its 5 nm table
+    # (+6.034e-3 ours at 1 nm), so it alone is flagged invalid.
+    names = ["FL2", "FL6", "FL11", "FL4"]
     values = np.stack([_illuminant(n) for n in names])
     res = cie13_3(values, _cct(values))
     assert res.reference == ("planckian",) * 4
     duv_lib = np.array([colour.temperature.uv_to_CCT_Ohno2013(uv)[1] for uv in XYZ_to_uv(XYZ(values))])
-    np.testing.assert_allclose(res.dc, np.abs(duv_lib), atol=3e-5)
+    # Measured: max ||Duv| - DC| = 5.6e-7 (FL2, FL4), between our nearest-point solution and the
+    # reference library's Ohno (2013) cascade on the same 1 nm uv; tolerance 5e-6 leaves 10x for a
+    # change of CCT method.
+    np.testing.assert_allclose(res.dc, np.abs(duv_lib), atol=5e-6)
     np.testing.assert_array_equal(res.valid, [True, False, True, True])
 
 
@@ -165,7 +181,7 @@ def test_ciecam02_against_reference_library():
 # ----------------------------------------------------------------------- CIE 224:2017 / TM-30
 
 
-@pytest.mark.parametrize("name", ["A", "D65", "FL2", "FL11", "led-warm", "led-neutral", "led-cool"])
+@pytest.mark.parametrize("name", LIBRARY_CASES)
 def test_tm30_against_reference_library(cases, name):
     # reference library: colour-science 0.4.7 colour_fidelity_index(sd, method="CIE 2017") and
     # method="ANSI/IES TM-30-18", fed the same 1 nm samples over 380-780 nm.  Measured: Rf and
@@ -173,10 +189,8 @@ def test_tm30_against_reference_library(cases, name):
     # within 0.035, Rcs,hj and Rhs,hj within 1e-4.
     v = cases[name]
     ours = tm30(v[None], _cct(v))
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        cie = colour.colour_fidelity_index(_lib_sd(v, TM30_BAND), additional_data=True, method="CIE 2017")
-        ies = colour.colour_fidelity_index(_lib_sd(v, TM30_BAND), additional_data=True, method="ANSI/IES TM-30-18")
+    cie = colour.colour_fidelity_index(_lib_sd(v, TM30_BAND), additional_data=True, method="CIE 2017")
+    ies = colour.colour_fidelity_index(_lib_sd(v, TM30_BAND), additional_data=True, method="ANSI/IES TM-30-18")
     assert ours.Rf[0] == pytest.approx(cie.R_f, abs=0.05)
     assert ours.Rf[0] == pytest.approx(ies.R_f, abs=0.05)
     assert ours.Rg[0] == pytest.approx(ies.R_g, abs=0.05)
@@ -245,10 +259,8 @@ def test_compare_to_reference_matches_library_per_sample(cases):
     # and CIE 1995 per-sample Ri, on the same 1 nm samples.
     v = cases["led-neutral"]
     comp = compare_to_reference(v[None])
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        cie = colour.colour_fidelity_index(_lib_sd(v, TM30_BAND), additional_data=True)
-        cri = colour.colour_rendering_index(_lib_sd(v), additional_data=True)
+    cie = colour.colour_fidelity_index(_lib_sd(v, TM30_BAND), additional_data=True)
+    cri = colour.colour_rendering_index(_lib_sd(v), additional_data=True)
     np.testing.assert_allclose(comp.ces_dE[0], cie.delta_E_s, atol=0.01)
     h_t, h_r = cie.colorimetry_data[0].JMh[:, 2], cie.colorimetry_data[1].JMh[:, 2]
     lib_shift = (h_t - h_r + 180.0) % 360.0 - 180.0
@@ -270,7 +282,9 @@ def test_colour_rendition_computes_cct():
     # colour-science 0.4.7's tests (test_tm3018.py); ours at 1 nm: 4224.6 K, 0.00178.
     assert r.cct_K[0] == pytest.approx(4225.0, abs=1.0)
     assert r.duv[0] == pytest.approx(0.0019, abs=2e-4)
-    assert r.cri.Ra[0] == pytest.approx(64.2, abs=0.1)  # PUBLISHED_RA FL2 = 64
+    # reference library: colour-science 0.4.7 gives Ra 64.23 for FL2 at 5 nm (ours 64.16 at 1 nm;
+    # the sampling effect, 0.078 here, measured up to 0.13 over FL1-FL12); PUBLISHED_RA FL2 = 64.
+    assert r.cri.Ra[0] == pytest.approx(64.23, abs=0.1)
 
 
 # ----------------------------------------------------------------------- bad input
@@ -300,20 +314,11 @@ def test_shape_errors():
 
 @pytest.fixture()
 def cli(tmp_path, monkeypatch):
-    """A typer app with only the compare commands (the main app lists its modules itself)."""
-    import typer
+    """The ``cctkit`` app (it registers the compare commands itself), run in a scratch folder."""
     from typer.testing import CliRunner
 
-    from cctkit.cli import _OneLineErrors
-    from cctkit.cli import compare
+    from cctkit.cli import app
 
-    app = typer.Typer(cls=_OneLineErrors, add_completion=False)
-
-    @app.callback()
-    def _root() -> None:
-        """test root"""
-
-    compare.register(app)
     monkeypatch.chdir(tmp_path)
     sd = colour.SDS_ILLUMINANTS["FL2"]
     (tmp_path / "lamp.csv").write_text(
@@ -363,7 +368,9 @@ def test_cli_reference_round_trip(cli, tmp_path):
     doc = json.loads(res.stdout)
     assert doc["reference"] == "daylight"
     back = to_working_grid(read_spectra(tmp_path / "d.json"))
-    # CIE 15:2018 section 4.1.2: daylight of CCT T; CCT of the file re-read within a kelvin
+    # CIE 15:2018 section 4.1.2: daylight of CCT T.  The x_D(T) polynomial only approximates the
+    # Planckian CCT (from memory); measured: the file re-read has CCT 6500.39 K, so within a kelvin
+    # (common practice, no source).
     assert _cct(back.values)[0] == pytest.approx(6500.0, abs=1.0)
     res = cli("reference", "500")
     assert res.exit_code == 2 and res.output.strip() == "cctkit: CCT_K must be between 1000 and 25000 K, got 500"

@@ -12,12 +12,16 @@ import pytest
 pypdf = pytest.importorskip("pypdf")
 
 from cctkit.analysis import analyse  # noqa: E402
+from cctkit.cli import app  # noqa: E402  (registers every command, report included)
 from cctkit.errors import InputError  # noqa: E402
 from cctkit.planck import spectral_exitance  # noqa: E402
 from cctkit.readers import read_spectra  # noqa: E402
 from cctkit.report import BATCH_PAGE_LIMIT, PNG_SIZE_PX, build_report, plan_pages  # noqa: E402
 from cctkit.report import charts, pages  # noqa: E402
+from cctkit.constants import DUV_LIMIT  # noqa: E402
 from cctkit.spectra import Quantity, Spectra, concatenate  # noqa: E402
+
+from conftest import build_report_strict as _build, pdf_page_texts as _text  # noqa: E402
 
 WL = np.arange(380.0, 781.0, 5.0)
 
@@ -52,16 +56,6 @@ def _spectra(n: int, *, long_names: bool = False) -> Spectra:
     values = np.stack([_led_like(t, 445.0 + (k % 5), 0.3 + 0.05 * (k % 4)) for k, t in enumerate(T)])
     base = "Pier lantern with an exceptionally long descriptive catalogue name and options " if long_names else "unit "
     return Spectra(WL, values, tuple(f"{base}{k + 1:03d}" for k in range(n)), quantity=Quantity.RADIANT_FLUX)
-
-
-def _build(analysis, path, **kw):
-    with warnings.catch_warnings():
-        warnings.simplefilter("error")  # any matplotlib (or numpy) warning fails the test
-        return build_report(analysis, path, date="2026-01-15", **kw)
-
-
-def _text(path: Path) -> list[str]:
-    return [p.extract_text() for p in pypdf.PdfReader(str(path)).pages]
 
 
 def test_single_spectrum_pdf_has_one_page_and_the_library_numbers(one, tmp_path):
@@ -117,7 +111,8 @@ def test_comparison_report_pages_and_long_names(tmp_path):
         assert pages.format_value(r, "cct_K") in text[0]
         assert pages.format_value(r, "Ra") in text[0]
     box = pypdf.PdfReader(str(out)).pages[0].mediabox
-    assert (round(float(box.width)), round(float(box.height))) == (612, 792)  # US Letter in points
+    # US Letter is 8.5 x 11 in; a PDF point is 1/72 in (ISO 32000-1 section 8.3.2.3, from memory)
+    assert (round(float(box.width)), round(float(box.height))) == (round(8.5 * 72), round(11 * 72))
     assert "\u2026" in text[1]  # the long name was cut with an ellipsis in the page title
     assert recs[0]["name"] in text[0]  # ... and is given in full in the comparison key
 
@@ -147,11 +142,11 @@ def test_out_of_range_duv_is_drawn_as_not_reported(tmp_path):
     green = np.exp(-0.5 * ((WL - 530.0) / 15.0) ** 2)  # far off the locus: |Duv| > 0.05
     a = analyse(Spectra(WL, green[None], ("green filter",), quantity=Quantity.RELATIVE))
     rec = a.records()[0]
-    assert rec["cct_K"] is None and abs(rec["duv"]) > 0.05
+    assert rec["cct_K"] is None and abs(rec["duv"]) > DUV_LIMIT  # CIE 15:2018 section 9.5
     out = tmp_path / "g.pdf"
     _build(a, out)
     text = _text(out)[0]
-    assert "|Duv| > 0.05" in text and "CCT not reported" in text
+    assert f"|Duv| > {DUV_LIMIT:g}" in text and "CCT not reported" in text
 
 
 def test_existing_output_is_not_overwritten(one, tmp_path):
@@ -201,7 +196,7 @@ def test_charts_draw_on_a_users_own_axes(one):
     x0, x1 = ax1.get_xlim()
     assert x0 < float(one.xy[0, 0]) < x1
     heights = [p.get_height() for p in ax2.patches]
-    np.testing.assert_allclose(heights[1:], np.asarray(charts._part(one, "cri").R[0]))
+    np.testing.assert_allclose(heights[1:], np.asarray(one.cri.R[0]))  # bars are the analysis numbers
 
 
 def test_shorten():
@@ -210,28 +205,9 @@ def test_shorten():
     assert charts.shorten("short", 10) == "short"
 
 
-def _cli_app():
-    import typer
-
-    from cctkit.cli import _OneLineErrors, app
-    from cctkit.cli import report as report_cli
-
-    if any(getattr(c, "name", None) == "report" for c in app.registered_commands):
-        return app
-    test_app = typer.Typer(cls=_OneLineErrors, add_completion=False, pretty_exceptions_enable=False)
-
-    @test_app.callback()
-    def _root() -> None:
-        """test root"""
-
-    report_cli.register(test_app)
-    return test_app
-
-
 def test_cli_writes_and_refuses_overwrite(one_file, tmp_path):
     from typer.testing import CliRunner
 
-    app = _cli_app()
     runner = CliRunner()
     out = tmp_path / "cli.pdf"
     r = runner.invoke(app, ["report", str(one_file), "--output", str(out), "--quantity", "relative"])
@@ -243,16 +219,16 @@ def test_cli_writes_and_refuses_overwrite(one_file, tmp_path):
     assert "exists; pass --overwrite" in r.output and "Traceback" not in r.output
     assert out.read_bytes() == before
     r = runner.invoke(app, ["report", str(one_file), "--output", str(tmp_path / "x.pdf"), "--paper", "a5"])
-    assert r.exit_code == 2 and "--paper must be a4 or letter" in r.output
+    assert r.exit_code == 2 and "paper must be one of a4, letter" in r.output
 
 
 def test_cli_refuses_to_write_over_an_input(one_file):
     from typer.testing import CliRunner
 
-    r = CliRunner().invoke(_cli_app(), ["report", str(one_file), "--output", str(one_file.with_suffix(".png")),
+    r = CliRunner().invoke(app, ["report", str(one_file), "--output", str(one_file.with_suffix(".png")),
                                         "--overwrite"])
     assert r.exit_code == 0  # a different file is fine
-    r = CliRunner().invoke(_cli_app(), ["report", str(one_file.with_suffix(".png")), "--output",
+    r = CliRunner().invoke(app, ["report", str(one_file.with_suffix(".png")), "--output",
                                         str(one_file.with_suffix(".png")), "--overwrite"])
     assert r.exit_code == 2 and "over an input" in r.output
 

@@ -28,6 +28,8 @@ from cctkit.readers import read_spectra  # noqa: E402
 from cctkit.report import build_report, verdict as vd  # noqa: E402
 from cctkit.spectra import Quantity, Spectra, concatenate  # noqa: E402
 
+from conftest import build_report_strict as _build, pdf_page_texts as _text  # noqa: E402
+
 ROOT = Path(__file__).resolve().parents[1]
 SPECTRA = ROOT / "spectra"
 CLAIMS = SPECTRA / "claims" / "northbeam-3000K.toml"
@@ -47,16 +49,6 @@ def lot():
     analysis = analyse(concatenate([read_spectra(f) for f in _lot_files()]))
     doc = verify(analysis.records(), claims).as_dict()
     return analysis, claims, doc
-
-
-def _build(analysis, path, **kw):
-    with warnings.catch_warnings():
-        warnings.simplefilter("error")  # any matplotlib (or numpy) warning fails the test
-        return build_report(analysis, path, date="2026-01-15", **kw)
-
-
-def _text(path: Path) -> list[str]:
-    return [p.extract_text() for p in pypdf.PdfReader(str(path)).pages]
 
 
 @pytest.fixture(scope="module")

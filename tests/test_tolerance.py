@@ -23,8 +23,8 @@ PUBLISHED_XY = {
     5700: ((0.3287, 0.3417), ((0.3376, 0.3616), (0.3207, 0.3462), (0.3222, 0.3243), (0.3366, 0.3369))),
     6500: ((0.3123, 0.3282), ((0.3205, 0.3481), (0.3028, 0.3304), (0.3068, 0.3113), (0.3221, 0.3261))),
 }
-# Half a unit of the table's 4th decimal, plus 1e-5 for differences in locus computation.
-TABLE_ATOL = 6e-5
+# Half a unit of the table's 4th decimal (measured max difference: 4.7e-5).
+TABLE_ATOL = 5e-5
 
 
 @pytest.mark.parametrize("nominal", sorted(PUBLISHED_XY))
@@ -37,6 +37,9 @@ def test_quadrangle_matches_published_table(nominal):
 
 def test_neighbouring_quadrangles_meet_on_an_isotemperature_line():
     # ANSI C78.377: the CCT ranges of neighbouring nominal CCTs are contiguous (2580 K, 2870 K, ...).
+    # The Table 1 target and tolerance values (from memory) meet exactly except for 1 K overlaps:
+    # 4500 K (4503 +/- 243 -> 4746 K) against 5000 K (5028 +/- 283 -> 4745 K), and 5000 K (5311 K)
+    # against 5700 K (5665 +/- 355 -> 5310 K); hence abs=1.0 (measured: 0 K elsewhere, 1 K there).
     quads = tol.ansi_quadrangles()
     for lo, hi in zip(quads[:-1], quads[1:]):
         assert lo.target_cct_K + lo.cct_tolerance_K == pytest.approx(hi.target_cct_K - hi.cct_tolerance_K, abs=1.0)
@@ -51,8 +54,9 @@ def test_flexible_duv_polynomial_reproduces_tabulated_targets(nominal):
 
 @pytest.mark.parametrize("T, dT", [(2725.0, 145.0), (6530.0, 510.0)])
 def test_flexible_cct_tolerance_at_the_ends_of_the_range(T, dT):
-    # ANSI C78.377 Table 1 (from memory): the polynomial meets the 2700 K and 6500 K tolerances.
-    assert float(tol.flexible_cct_tolerance_K(T)) == pytest.approx(dT, abs=4.0)
+    # ANSI C78.377 Table 1 (from memory): the polynomial meets the 2700 K and 6500 K tolerances,
+    # published as whole kelvins (0.5 K rounding); measured 145.45 K and 510.45 K.
+    assert float(tol.flexible_cct_tolerance_K(T)) == pytest.approx(dT, abs=0.5)
 
 
 def test_flexible_quadrangle_near_nominal_centre():
@@ -172,26 +176,31 @@ def test_bad_arguments():
 
 # IEC 60081 lamp centres against the CIE fluorescent illuminants of the same colour
 # (CIE 15:2004 Table T.8.1: FL1 daylight, FL3 white, FL4 warm white, FL8 D50 simulator),
-# computed here from colour-science's spectra.  The IEC centres are given to 3 decimals.
+# computed here from colour-science's spectra.  The IEC centres are given to 3 decimals (half a unit:
+# 5e-4).  The FL illuminants are typical lamps, not the centres themselves, yet measured they agree to
+# 3.9e-4 (FL8 y; F3000/FL4 1.8e-4), so the rounding bound 5e-4 is the tolerance.
 @pytest.mark.parametrize("lamp, illuminant", [("F6500", "FL1"), ("F3500", "FL3"), ("F3000", "FL4"), ("F5000", "FL8")])
 def test_iec_lamp_centres_match_cie_fluorescent_illuminants(lamp, illuminant):
     import colour
 
     sd = colour.SDS_ILLUMINANTS[illuminant]
     xy = colour.XYZ_to_xy(colour.sd_to_XYZ(sd))
-    np.testing.assert_allclose(tol.iec60081_ellipse(lamp).centre_xy, xy, atol=7e-4, rtol=0)
+    np.testing.assert_allclose(tol.iec60081_ellipse(lamp).centre_xy, xy, atol=5e-4, rtol=0)
 
 
 @pytest.mark.parametrize("lamp", list(tol.IEC60081_ELLIPSES))
 def test_iec_ellipses_agree_with_macadam_1942_at_the_same_centre(lamp):
-    # Two sources (IEC 60081 Annex D, from memory; MacAdam 1942 via colour-science) for the
-    # same quantity.  Measured: areas within 17 %, major-axis angles within 12 degrees.
+    # Two sources (IEC 60081 Annex D, from memory; MacAdam 1942 via colour-science, interpolated
+    # to the IEC centre by cctkit.tolerance) for the same quantity.  Neither states how well it
+    # agrees with the other, so the bounds are the measurement rounded outwards (common practice,
+    # no source).  Measured, IEC area / MacAdam area: 0.83 (F2700, extrapolated past MacAdam's
+    # centres) to 1.25 (F5000); major-axis angle difference at most 11.8 degrees (F4000).
     e = tol.iec60081_ellipse(lamp)
     m = tol.macadam1942_ellipse(e.centre_xy)
     a1, b1, t1 = tol.axes_from_metric(e.g)
     a2, b2, t2 = tol.axes_from_metric(m.g)
-    assert 0.75 < (a1 * b1) / (a2 * b2) < 1.33
-    assert abs(t1 - t2) < 15.0
+    assert 0.8 < (a1 * b1) / (a2 * b2) < 1.3
+    assert abs(t1 - t2) < 13.0
 
 
 @pytest.mark.parametrize("lamp", list(tol.IEC60081_ELLIPSES))
@@ -272,7 +281,15 @@ def test_binning_at_centres_and_along_an_axis():
     assert (r.sdcm_bin[:10] == 1).all()
     assert r.sdcm_steps[10] == pytest.approx(2.5, rel=1e-9) and r.sdcm_bin[10] == 3
     assert r.sdcm_bin[11] == -1 and r.quadrangle[11] is None
+    # MacAdam's 25 centres (W&S Table 2(5.4.1) via colour-science 0.4.7) do not reach the 2200 K and
+    # 2500 K ANSI centres; the 2700 K one lies inside their hull.  Cross-checked with scipy's Delaunay
+    # triangulation of those centres.
     assert list(r.extrapolated[:3]) == [True, True, False]
+    from colour.models.datasets.macadam_ellipses import DATA_MACADAM_1942_ELLIPSES
+    from scipy.spatial import Delaunay
+
+    hull = Delaunay(np.asarray(DATA_MACADAM_1942_ELLIPSES)[:, :2])
+    np.testing.assert_array_equal(r.extrapolated[:10], hull.find_simplex(centres) < 0)
     counts = r.counts()
     assert counts["3000K"] == {"1": 1, "3": 1}
     assert counts["none"] == {"undefined": 1}
@@ -283,7 +300,14 @@ def test_binning_at_centres_and_along_an_axis():
 
 
 def test_binning_with_iec_centres():
+    # The IEC 60081 F3000 centre (0.440, 0.403; from memory) has CCT 2940 K and Duv -0.0008 by the
+    # reference library colour-science 0.4.7 (Ohno 2013): inside the ANSI C78.377 3000 K quadrangle,
+    # 3045 +/- 175 K and Duv 0 +/- 0.006 (Table 1, from memory).
+    import colour
+
     e = tol.iec60081_ellipse("F3000")
+    cct, duv = colour.temperature.uv_to_CCT_Ohno2013(colour.xy_to_UCS_uv(e.centre_xy))
+    assert 3045 - 175 <= cct <= 3045 + 175 and abs(duv) <= 0.006
     r = bin_chromaticities(e.centre_xy[None], ellipses="iec60081")
     assert r.centre[0] == "F3000" and r.sdcm_bin[0] == 1 and r.quadrangle[0] == "3000K"
     with pytest.raises(InputError, match="ellipses must be one of"):

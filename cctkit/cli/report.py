@@ -7,7 +7,6 @@ from typing import List, Optional
 
 import typer
 
-from ..errors import InputError
 from .options import OVERWRITE_OPTION, QUANTITY_HELP, info
 
 __all__ = ["report_cmd", "register"]
@@ -27,19 +26,13 @@ def report_cmd(
                                                "the verdict of every spectrum against it."),
 ) -> None:
     """A report an engineer can sign off: provenance, headline numbers, spectrum, chromaticity, rendering."""
+    from ..report.build import check_options
     from ..safe_io import check_output_path
     from ..spectra import Quantity
 
     paper_key = paper.strip().lower()
     diagram_key = diagram.strip().lower().replace("'", "p").replace("\u2032", "p")
-    if paper_key not in ("a4", "letter"):
-        raise InputError(f"--paper must be a4 or letter, got {paper!r}")
-    if diagram_key not in ("uv", "uvp", "xy"):
-        raise InputError(f"--diagram must be uv, uvp or xy, got {diagram!r}")
-    if output.suffix.lower() not in (".pdf", ".png"):
-        raise InputError(f"--output must end in .pdf or .png, got {output.name!r}")
-    if claims_file is not None and output.suffix.lower() != ".pdf":
-        raise InputError(f"--claims adds verdict pages to a PDF; --output must end in .pdf, got {output.name!r}")
+    check_options(output, paper=paper_key, diagram=diagram_key, verdict=claims_file is not None)
     if quantity is not None:
         Quantity.parse(quantity, source="--quantity")
     inputs = [*files, claims_file] if claims_file is not None else list(files)
@@ -55,13 +48,14 @@ def report_cmd(
 
     # One report holds one quantity: a mix is refused with a one-line InputError.
     analysis = analyse_files(files, quantity=quantity)
+    records = analysis.records()
     verdict = None
     if claims is not None:
         from ..claims import verify
 
-        verdict = verify(analysis.records(), claims).as_dict()
+        verdict = verify(records, claims).as_dict()
     rep = build_report(analysis, output, paper=paper_key, pages=True if pages else None, diagram=diagram_key,
-                       overwrite=overwrite, inputs=inputs, verdict=verdict, claims=claims)
+                       overwrite=overwrite, inputs=inputs, verdict=verdict, claims=claims, records=records)
     if verdict is not None:
         info(f"claims verdict: {verdict['verdict']}")
     if rep.kind == "pdf":

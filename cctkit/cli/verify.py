@@ -7,9 +7,8 @@ claim is neither shown nor refuted); 2 for bad input.
 
 from __future__ import annotations
 
-import math
 from pathlib import Path
-from typing import Any, List, Optional
+from typing import List, Optional
 
 import typer
 
@@ -17,7 +16,6 @@ from .options import (
     JSON_OPTION,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
-    csv_text,
     dumps,
     emit_json,
     require_suffix,
@@ -35,77 +33,6 @@ def _needs_rendering(claims) -> bool:
     return any(lim.metric in rendering for lim in claims.limits)
 
 
-def _fmt(v: Any) -> str:
-    if v is None:
-        return "n/a"
-    if isinstance(v, float):
-        if not math.isfinite(v):
-            return "n/a"
-        a = abs(v)
-        return f"{v:.4f}" if a < 1 else (f"{v:.2f}" if a < 100 else f"{v:.1f}")
-    return str(v)
-
-
-def _limit_text(c: dict) -> str:
-    if c["metric"] == "ansi_quadrangle":
-        return "inside"
-    lo, hi = c["min"], c["max"]
-    if lo is not None and hi is not None:
-        return f"{_fmt(lo)}..{_fmt(hi)}"
-    return f">={_fmt(lo)}" if lo is not None else f"<={_fmt(hi)}"
-
-
-def _mark(c: dict) -> str:
-    return {True: "pass", False: "FAIL", None: "inconclusive"}[c["pass"]]
-
-
-def format_verdict(doc: dict, claims) -> str:
-    """The terminal table: one row per sample, one column per claim (value / limit / margin / result)."""
-    metrics = list(claims.metrics)
-    head = ["sample", "verdict"] + metrics
-    rows = []
-    for s in doc["samples"]:
-        cells = [s["name"], s["verdict"].upper() if s["verdict"] != "pass" else "pass"]
-        for c in s["checks"]:
-            cells.append(f"{_fmt(c['value'])} [{_limit_text(c)}] {_fmt(c['margin'])} {_mark(c)}")
-        rows.append(cells)
-    widths = [max(len(str(r[i])) for r in [head] + rows) for i in range(len(head))]
-    lines = []
-    who = " / ".join(p for p in (claims.supplier, claims.product) if p)
-    lines.append(f"claims: {claims.source}" + (f" ({who})" if who else ""))
-    lines.append("cell: value [limit] margin result")
-    lines.append("  ".join(h.ljust(w) for h, w in zip(head, widths)))
-    lines.append("  ".join("-" * w for w in widths))
-    for r in rows:
-        lines.append("  ".join(str(c).ljust(w) for c, w in zip(r, widths)))
-    lines.append("")
-    lines.append("summary (over samples): metric  passed/total  mean  std  min  max")
-    n = len(doc["samples"])
-    for m, st in doc["summary"].items():
-        lines.append(f"  {m:<20} {st['count_pass']}/{n}  {_fmt(st['mean'])}  {_fmt(st['std'])}  "
-                     f"{_fmt(st['min'])}  {_fmt(st['max'])}")
-    if "decision" in doc:
-        lines.append(f"decision rule: {doc['decision']}")
-    lines.append(f"verdict: {doc['verdict'].upper()}")
-    return "\n".join(lines)
-
-
-def verdict_csv(doc: dict, claims) -> str:
-    """One row per sample; for each claimed metric its value, limits, margin and result."""
-    metrics = list(claims.metrics)
-    header = ["name", "verdict"]
-    for m in metrics:
-        header += [f"{m}_value", f"{m}_min", f"{m}_max", f"{m}_margin", f"{m}_result"]
-    rows = []
-    for s in doc["samples"]:
-        row: list[Any] = [s["name"], s["verdict"]]
-        for c in s["checks"]:
-            result = c["decision"]["result"] if "decision" in c else ("pass" if c["pass"] else "fail")
-            row += [c["value"], c["min"], c["max"], c["margin"], result]
-        rows.append(["" if v is None else v for v in row])
-    return csv_text(header, rows)
-
-
 def verify_cmd(
     files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
     claims_file: Path = typer.Option(..., "--claims", help="Claims file (TOML) to check the spectra against."),
@@ -117,7 +44,7 @@ def verify_cmd(
     overwrite: bool = OVERWRITE_OPTION,
 ) -> None:
     """Check measured spectra against a supplier's claims; exit 0 pass, 1 fail, 3 inconclusive, 2 bad input."""
-    from ..claims import load_claims, verify
+    from ..claims import format_verdict, load_claims, verdict_csv, verify
 
     inputs = [*files, claims_file]
     if output is not None:
@@ -146,7 +73,8 @@ def verify_cmd(
         from ..report import build_report
         from .options import info
 
-        rep = build_report(analysis, report, overwrite=overwrite, inputs=inputs, verdict=doc, claims=claims)
+        rep = build_report(analysis, report, overwrite=overwrite, inputs=inputs, verdict=doc, claims=claims,
+                           records=records)
         info(f"wrote {report} ({len(rep.pages)} pages)")
     if json_out:
         emit_json(traced)
@@ -180,6 +108,7 @@ def bin_cmd(
     import numpy as np
 
     from ..binning import ELLIPSE_SETS, bin_chromaticities
+    from ..claims import cell_text as _fmt
     from ..errors import InputError
 
     if ellipses not in ELLIPSE_SETS:

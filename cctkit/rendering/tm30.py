@@ -46,7 +46,8 @@ from .cam import xyz_to_cam02ucs
 from .reference import reference_cie224
 
 __all__ = [
-    "vector_graphic_xy","Tm30Result", "tm30", "tm30_samples", "fidelity_from_dE", "CF_CIE224", "N_BINS", "RANGE_NM"]
+    "vector_graphic_xy",
+    "chroma_shift_percent","Tm30Result", "tm30", "tm30_samples", "fidelity_from_dE", "CF_CIE224", "N_BINS", "RANGE_NM"]
 
 #: Scaling factor c_f of CIE 224:2017 (section 4.6, from memory) and ANSI/IES TM-30-18/-20.
 CF_CIE224 = 6.73
@@ -251,3 +252,8 @@ def vector_graphic_xy(result: Tm30Result) -> tuple[np.ndarray, np.ndarray]:
     test = np.stack([c * (1.0 + rcs) - s * rhs, s * (1.0 + rcs) + c * rhs], axis=-1)
     ref = np.broadcast_to(np.stack([c, s], axis=-1), test.shape).copy()
     return ref, test
+
+
+def chroma_shift_percent(result: Tm30Result) -> np.ndarray:
+    """Rcs,hj in percent, as TM-30 reports it, (N, 16) (``Tm30Result.Rcs_h`` is a fraction)."""
+    return np.asarray(result.Rcs_h, dtype=np.float64) * 100.0

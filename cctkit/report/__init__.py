@@ -10,6 +10,6 @@ functions it and the charts call.  Importing this package does not import matplo
 
 from __future__ import annotations
 
-from .build import BATCH_PAGE_LIMIT, PNG_DPI, PNG_SIZE_PX, Report, build_report, plan_pages
+from .build import BATCH_PAGE_LIMIT, PNG_DPI, PNG_SIZE_PX, Report, build_report, check_options, plan_pages
 
-__all__ = ["build_report", "plan_pages", "Report", "BATCH_PAGE_LIMIT", "PNG_SIZE_PX", "PNG_DPI"]
+__all__ = ["build_report", "check_options", "plan_pages", "Report", "BATCH_PAGE_LIMIT", "PNG_SIZE_PX", "PNG_DPI"]

@@ -3,8 +3,8 @@
 :func:`build_report` writes through :func:`cctkit.safe_io.atomic_path`: the file
 appears complete or not at all, an existing file is kept unless ``overwrite``,
 and an input is never written over.  matplotlib is imported here, inside the
-functions, with the Agg backend and report settings held in an ``rc_context``
-(nothing global changes).
+functions; pages are :class:`matplotlib.figure.Figure` objects drawn without
+pyplot, with the report settings held in an ``rc_context`` (nothing global changes).
 """
 
 from __future__ import annotations
@@ -18,13 +18,16 @@ from typing import Any, Iterable, Sequence
 
 from ..errors import InputError
 
-__all__ = ["BATCH_PAGE_LIMIT", "PNG_SIZE_PX", "PNG_DPI", "Report", "plan_pages", "build_report", "report_meta"]
+__all__ = ["BATCH_PAGE_LIMIT", "PNG_SIZE_PX", "PNG_DPI", "REPORT_SUFFIXES", "Report", "plan_pages", "build_report",
+           "check_options", "report_meta"]
 
 #: Batches larger than this get a summary table and a scatter instead of a page per spectrum.
 BATCH_PAGE_LIMIT = 12
 #: Pixel size of the PNG summary picture (width, height) and its resolution [dpi].
 PNG_SIZE_PX = (1600, 1000)
 PNG_DPI = 150
+#: Output suffixes a report can be written as.
+REPORT_SUFFIXES = (".pdf", ".png")
 
 _RC = {
     "pdf.fonttype": 42,  # TrueType, embedded
@@ -87,26 +90,36 @@ def plan_pages(n: int, *, pages: bool | None = None) -> list[tuple[str, Any]]:
 def report_meta(*, date: str | None = None) -> dict[str, Any]:
     """Provenance of the report itself: versions, conventions, date (ISO, today by default)."""
     from ..analysis import provenance
+    from ..tolerance import ANSI_EDITION
 
     meta = dict(provenance())
     meta["date"] = date or _dt.date.today().isoformat()
-    try:
-        from ..tolerance import ANSI_EDITION
-
-        meta["tolerance_edition"] = f"{ANSI_EDITION} (quadrangles)"
-    except ImportError:
-        meta["tolerance_edition"] = None
+    meta["tolerance_edition"] = f"{ANSI_EDITION} (quadrangles)"
     return meta
 
 
-def _check_options(paper: str, diagram: str) -> None:
+def check_options(path: str | os.PathLike, *, paper: str = "a4", diagram: str = "uv", verdict: bool = False) -> None:
+    """Raise :class:`cctkit.errors.InputError` unless :func:`build_report` accepts these options.
+
+    ``path`` must end in one of :data:`REPORT_SUFFIXES`, ``paper`` be a key of
+    :data:`cctkit.report.pages.PAPER_IN` and ``diagram`` one of
+    :data:`cctkit.report.charts.DIAGRAMS`; a ``verdict`` needs a PDF.  Cheap: callers
+    run it before reading any input.
+    """
     from .charts import DIAGRAMS
     from .pages import PAPER_IN
 
+    out = Path(path)
+    if out.suffix.lower() not in REPORT_SUFFIXES:
+        raise InputError(f"report output must end in {' or '.join(REPORT_SUFFIXES)}, got {out.name!r}",
+                         source=str(out))
     if paper not in PAPER_IN:
         raise InputError(f"paper must be one of {', '.join(PAPER_IN)}, got {paper!r}", source="--paper")
     if diagram not in DIAGRAMS:
         raise InputError(f"diagram must be one of {', '.join(DIAGRAMS)}, got {diagram!r}", source="--diagram")
+    if verdict and out.suffix.lower() != ".pdf":
+        raise InputError(f"the claims verdict is part of the PDF report: the output must end in .pdf, "
+                         f"got {out.name!r}", source=str(out))
 
 
 def build_report(
@@ -122,6 +135,7 @@ def build_report(
     date: str | None = None,
     verdict: dict | None = None,
     claims=None,
+    records: Sequence[dict] | None = None,
 ) -> Report:
     """Write the report of ``analysis`` to ``path`` (``.pdf``: full report, ``.png``: one-page summary).
 
@@ -151,6 +165,8 @@ def build_report(
         A verdict document (:meth:`cctkit.claims.Verdict.as_dict`) of these spectra and the
         :class:`cctkit.claims.Claims` it was checked against: the PDF then starts with the
         verdict pages (:mod:`cctkit.report.verdict`).  Give both or neither; PDF only.
+    records
+        ``analysis.records()`` when the caller already has them (computed here otherwise).
 
     Returns
     -------
@@ -158,23 +174,18 @@ def build_report(
     """
     out = Path(path)
     suffix = out.suffix.lower()
-    if suffix not in (".pdf", ".png"):
-        raise InputError(f"report output must end in .pdf or .png, got {out.name!r}", source=str(out))
-    _check_options(paper, diagram)
+    check_options(out, paper=paper, diagram=diagram, verdict=verdict is not None)
     if (verdict is None) != (claims is None):
         raise InputError("a verdict page needs both the verdict and the claims it was checked against",
                          source="verdict" if claims is None else "claims")
-    if verdict is not None and suffix != ".pdf":
-        raise InputError(f"the claims verdict is part of the PDF report; got {out.name!r}", source=str(out))
     from ..safe_io import atomic_path, check_output_path
 
     check_output_path(out, overwrite=overwrite, inputs=list(inputs))  # fail before the slow part
-    import matplotlib
-
-    matplotlib.use("Agg")
     from matplotlib import rc_context
 
-    records = analysis.records()
+    records = analysis.records() if records is None else list(records)
+    if len(records) != len(analysis):
+        raise InputError(f"{len(records)} records for an analysis of {len(analysis)} spectra", source="records")
     if verdict is not None:
         from .verdict import check_verdict_matches
 

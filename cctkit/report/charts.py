@@ -98,15 +98,6 @@ def not_computed(ax, what: str) -> None:
             color=GREY, fontsize="small")
 
 
-def _part(analysis, name: str):
-    """A part of the analysis (``cri``, ``tm30``, ...) as its result arrays, or None.
-
-    The analysis may hold the result itself or a wrapper carrying it as ``.result``.
-    """
-    part = getattr(analysis, name, None)
-    return getattr(part, "result", part)
-
-
 def _finite(x) -> bool:
     try:
         return bool(np.isfinite(float(x)))
@@ -259,11 +250,9 @@ def _convert(points, space: str, diagram: str) -> np.ndarray:
 
 
 def ansi_outlines() -> tuple[Outline, ...]:
-    """The ANSI C78.377 quadrangles of :mod:`cctkit.tolerance` as outlines (empty if unavailable)."""
-    try:
-        from ..tolerance import ansi_quadrangles
-    except ImportError:  # the tolerance module is optional for charts
-        return ()
+    """The ANSI C78.377 quadrangles of :mod:`cctkit.tolerance` as outlines."""
+    from ..tolerance import ansi_quadrangles
+
     return tuple(Outline(q.name, np.asarray(q.corners_xy), "xy", "-") for q in ansi_quadrangles())
 
 
@@ -286,13 +275,13 @@ _DUV_LINES = (-0.05, -0.04, -0.03, -0.02, -0.01, 0.01, 0.02, 0.03, 0.04, 0.05)
 _MIN_HALF_SPAN = {"uv": (0.022, 0.016), "uvp": (0.022, 0.024), "xy": (0.035, 0.03)}
 
 
-def _window(points: np.ndarray, diagram: str) -> tuple[float, float, float, float]:
+def _window(points: np.ndarray, diagram: str, *, observer: int = 2) -> tuple[float, float, float, float]:
     pts = points[np.all(np.isfinite(points), axis=1)]
     hu, hv = _MIN_HALF_SPAN[diagram]
     if pts.size == 0:
         from ..locus import planckian_uv
 
-        pts = _convert(planckian_uv(np.array([4000.0])), "uv", diagram)
+        pts = _convert(planckian_uv(np.array([4000.0]), observer=observer), "uv", diagram)
     lo = pts.min(axis=0)
     hi = pts.max(axis=0)
     c = 0.5 * (lo + hi)
@@ -325,13 +314,17 @@ def chromaticity_chart(
     regions: Sequence[Outline] | None = None,
     annotate: bool | None = None,
     legend_labels: Sequence[str] | None = None,
+    mark_samples: bool = True,
+    window: tuple[float, float, float, float] | None = None,
 ) -> None:
     """The region around the Planckian locus with the sample point(s).
 
     Draws the Planckian locus (:func:`cctkit.locus.planckian_locus`), isotemperature
     lines at round CCTs (:func:`cctkit.locus.isotemperature_line`, Duv -0.05...+0.05),
     lines of constant Duv every 0.01 (:func:`cctkit.locus.uv_from_cct_duv`) and the
-    chromaticity of each spectrum.
+    chromaticity of each spectrum.  Locus and lines are those of the analysis's observer
+    (``analysis.observer``: CIE 1931 2 deg or CIE 1964 10 deg), the observer its
+    chromaticities are in.
 
     Parameters
     ----------
@@ -346,24 +339,31 @@ def chromaticity_chart(
     regions
         Extra outlines (:class:`Outline`: tolerance quadrangles, SDCM ellipses).  ``None``
         draws the ANSI C78.377 quadrangles of :mod:`cctkit.tolerance` that fall in the
-        window; ``()`` draws none.
+        window (2 deg observer only: they are defined for it); ``()`` draws none.
     annotate
         Number the points 1, 2, ... (default: when more than one and at most 12 points).
     legend_labels
         Legend text per plotted point (at most 12 points get a legend).
+    mark_samples
+        Draw the sample points (False: the caller marks them in its own style).
+    window
+        The view (x0, x1, y0, y1) in ``diagram`` coordinates, before it is widened to equal
+        scales on both axes (default: around the points).
     """
     from ..locus import isotemperature_line, planckian_locus, uv_from_cct_duv
 
     if diagram not in DIAGRAMS:
         raise ValueError(f"diagram must be one of {', '.join(DIAGRAMS)}, got {diagram!r}")
+    observer = int(analysis.observer)
     idx = list(range(len(analysis))) if indices is None else list(indices)
     sample = {"uv": analysis.uv, "uvp": analysis.uvp, "xy": analysis.xy}[diagram][idx]
-    win = _window(np.asarray(sample, dtype=np.float64), diagram)
+    win = _window(np.asarray(sample, dtype=np.float64), diagram, observer=observer) if window is None else \
+        tuple(float(w) for w in window)
 
     T = np.geomspace(1000.0, 100000.0, 700)
-    locus = _convert(planckian_locus(T).uv, "uv", diagram)
+    locus = _convert(planckian_locus(T, observer=observer).uv, "uv", diagram)
     for duv in _DUV_LINES:
-        line = _convert(uv_from_cct_duv(T, np.full_like(T, duv)), "uv", diagram)
+        line = _convert(uv_from_cct_duv(T, np.full_like(T, duv), observer=observer), "uv", diagram)
         ax.plot(line[:, 0], line[:, 1], color=GREY, lw=0.5, linestyle=":", zorder=1)
         inside = np.flatnonzero(_inside(line, win))
         if inside.size:
@@ -380,7 +380,7 @@ def chromaticity_chart(
     duv_grid = np.linspace(-DUV_LIMIT, DUV_LIMIT, 41)
     for level in _ISO_LEVELS:
         for t in level:
-            line = _convert(isotemperature_line(float(t), duv_grid), "uv", diagram)
+            line = _convert(isotemperature_line(float(t), duv_grid, observer=observer), "uv", diagram)
             inside = np.flatnonzero(_inside(line, win))
             if inside.size < 2:
                 continue
@@ -393,7 +393,8 @@ def chromaticity_chart(
             ax.text(line[j, 0], line[j, 1], f"{t} K", fontsize=5.5, color=INK, ha="center", va="bottom",
                     zorder=4, bbox={"boxstyle": "square,pad=0.1", "fc": "white", "ec": "none"})
 
-    outlines = ansi_outlines() if regions is None else tuple(regions)
+    # ANSI C78.377 quadrangles are defined for the 2 deg observer: not drawn by default on a 10 deg diagram.
+    outlines = (ansi_outlines() if observer == 2 else ()) if regions is None else tuple(regions)
     drawn_region = False
     for o in outlines:
         pts = _convert(o.points, o.space, diagram)
@@ -410,7 +411,9 @@ def chromaticity_chart(
 
     annotate = (1 < len(idx) <= 12) if annotate is None else annotate
     pts = np.asarray(sample, dtype=np.float64)
-    if len(idx) <= 12:
+    if not mark_samples:
+        pass
+    elif len(idx) <= 12:
         for k, p in enumerate(pts):
             st = series_style(k)
             lab = legend_labels[k] if legend_labels is not None else None
@@ -419,7 +422,7 @@ def chromaticity_chart(
     else:
         ax.plot(pts[:, 0], pts[:, 1], linestyle="none", marker="o", markersize=2.5, mfc="white", mec=INK,
                 mew=0.6, zorder=5)
-    if annotate:
+    if annotate and mark_samples:
         for k, p in enumerate(pts):
             if np.all(np.isfinite(p)):
                 ax.annotate(str(k + 1), p, xytext=(3, 3), textcoords="offset points", fontsize=5, zorder=6)
@@ -428,12 +431,14 @@ def chromaticity_chart(
     ax.set_xlabel(DIAGRAMS[diagram][0])
     ax.set_ylabel(DIAGRAMS[diagram][1])
     notes = ["solid: locus and isotemperature lines", "dotted: Duv in steps of 0.01"]
+    if observer != 2:
+        notes.insert(0, "CIE 1964 10\u00b0 observer")
     if drawn_region:
         notes.append("outlines: ANSI C78.377 quadrangles" if regions is None else "outlines: tolerance regions")
     width_in = ax.get_position().width * ax.figure.get_figwidth()
     ax.set_title(textwrap.fill("; ".join(notes), max(20, int(width_in / 0.037))), fontsize=5.5, color=GREY,
                  loc="left")
-    if legend_labels is not None and len(idx) <= 12:
+    if legend_labels is not None and len(idx) <= 12 and mark_samples:
         ax.legend(loc="lower right", fontsize="x-small", frameon=True, framealpha=0.9, edgecolor=LIGHT)
 
 
@@ -448,7 +453,9 @@ def _bar_labels(ax, xs, values, fmt="{:.0f}", fontsize=5.5) -> None:
 
 def cri_chart(analysis, ax, *, index: int = 0) -> None:
     """CIE 13.3-1995 Ra and R1-R14 as bars; R9 (strong red) hatched and named."""
-    cri = _part(analysis, "cri")
+    from ..rendering import DC_LIMIT
+
+    cri = analysis.cri
     if cri is None:
         not_computed(ax, "CIE 13.3 colour rendering")
         return
@@ -472,16 +479,16 @@ def cri_chart(analysis, ax, *, index: int = 0) -> None:
     ax.set_ylim(lo, 112)
     ax.set_ylabel("Index [1]")
     ax.set_xlim(xs[0] - 0.7, xs[-1] + 0.7)
-    valid = bool(np.asarray(cri.valid)[index]) if getattr(cri, "valid", None) is not None else True
+    valid = bool(np.asarray(cri.valid)[index])
     note = "R1\u2013R8 average to Ra; R9 (strong red) hatched"
     if not valid:
         dc = float(np.asarray(cri.dc)[index])
-        note += f"; NOT VALID: DC = {dc:.4f} > 0.0054"
+        note += f"; NOT VALID: DC = {dc:.4f} \u2265 {DC_LIMIT:g}"
     ax.set_title(note, fontsize=6, loc="left", color=INK if not valid else GREY)
 
 
 def _tm30(analysis, ax, what: str):
-    t = _part(analysis, "tm30")
+    t = analysis.tm30
     if t is None:
         not_computed(ax, what)
     return t
@@ -510,7 +517,9 @@ def chroma_shift_chart(analysis, ax, *, index: int = 0) -> None:
     t = _tm30(analysis, ax, "TM-30 chroma shift")
     if t is None:
         return
-    v = 100.0 * np.asarray(t.Rcs_h[index], dtype=np.float64)  # fraction -> percent (a unit change)
+    from ..rendering.tm30 import chroma_shift_percent
+
+    v = chroma_shift_percent(t)[index]
     bars = ax.bar(_BIN_X, v, width=0.75, color="#bdbdbd", edgecolor=INK, lw=0.5)
     for b, x in zip(bars, v):
         if x < 0:
@@ -572,8 +581,8 @@ def vector_graphic_chart(analysis, ax, *, index: int = 0) -> None:
 
 def index_comparison_chart(analysis, ax, *, indices: Sequence[int] | None = None) -> None:
     """Ra, R9, Rf and Rg of several spectra as grouped bars (one hatch per spectrum)."""
-    cri = _part(analysis, "cri")
-    t = _part(analysis, "tm30")
+    cri = analysis.cri
+    t = analysis.tm30
     if cri is None and t is None:
         not_computed(ax, "colour rendering")
         return

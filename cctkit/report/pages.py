@@ -119,8 +119,8 @@ def headline_rows(rec: dict[str, Any]) -> list[tuple[str, str, str, str]]:
             note = "|Duv| > 0.05"
         elif key == "cct_K" and "cct-out-of-range" in codes:
             note = "outside locus"
-        elif key == "duv" and _value(rec, "duv") is not None and abs(rec["duv"]) > 0.05:
-            note = "> 0.05"
+        elif key == "duv" and "duv-out-of-range" in codes:
+            note = "|Duv| > 0.05"
         elif key in ("Ra", "R9") and rec.get("cri_valid") is False:
             note = "CRI not valid"
         elif key in ("x", "y") and "range-short" in codes:
@@ -264,10 +264,8 @@ def _flags_block(page: _Page, x: float, y: float, rec: dict[str, Any], *, max_li
 
 
 def _ansi_text(analysis, i: int) -> tuple[tuple[str, str], ...]:
-    try:
-        from ..tolerance import classify_ansi
-    except ImportError:
-        return ()
+    from ..tolerance import classify_ansi
+
     name = classify_ansi(np.asarray(analysis.uv[i]), space="uv")
     name = name.item() if hasattr(name, "item") else name
     return (("ANSI C78.377 quadrangle", name or "none"),)

@@ -72,13 +72,6 @@ _LABELS.update({"Ra": ("Ra", "1", "{:.1f}"), "Rf": ("Rf", "1", "{:.1f}"), "Rg": 
                 "luminous_flux_lm": ("Flux", "lm", "{:.1f}")})
 
 
-def _result(check: dict) -> str:
-    """"pass" | "fail" | "inconclusive" of one check of the verdict document."""
-    if "decision" in check:
-        return check["decision"]["result"]
-    return {True: "pass", False: "fail", None: "inconclusive"}[check["pass"]]
-
-
 def _label(metric: str) -> tuple[str, str]:
     label, unit, _ = _LABELS.get(metric, (metric, "", "{:g}"))
     return label, ("" if unit == "1" else unit)
@@ -109,14 +102,6 @@ def _limit_text(check: dict, quadrangle: str | None) -> str:
     return f"\u2265 {_num(lo)}" if lo is not None else f"\u2264 {_num(hi)}"
 
 
-def _uncertainty(doc: dict, metric: str) -> float | None:
-    for s in doc["samples"]:
-        for c in s["checks"]:
-            if c["metric"] == metric and "decision" in c:
-                return c["decision"]["U"]
-    return None
-
-
 def check_verdict_matches(records: Sequence[dict], doc: dict) -> None:
     """Raise :class:`cctkit.errors.InputError` unless ``doc`` holds the samples of ``records``, in order."""
     from ..errors import InputError
@@ -131,16 +116,10 @@ def check_verdict_matches(records: Sequence[dict], doc: dict) -> None:
 # ---------------------------------------------------------------- chart
 
 
-def _sdcm_ellipse(chroma):
-    """The ellipse the claim's ``max_sdcm`` is measured with (the rule of :func:`cctkit.claims.verify`)."""
-    from ..claims import sdcm_ellipse
-
-    return sdcm_ellipse(chroma)
-
-
 def claim_outlines(claims) -> tuple[charts.Outline, ...]:
     """The claimed ANSI quadrangle (solid) and ``max_sdcm``-step ellipse (dashed) as chart outlines."""
     from .. import tolerance as tol
+    from ..claims import sdcm_ellipse
 
     c = claims.chromaticity
     if c is None:
@@ -150,14 +129,16 @@ def claim_outlines(claims) -> tuple[charts.Outline, ...]:
         q = tol.ansi_quadrangle(c.nominal_cct_K)
         out.append(charts.Outline(f"ANSI {q.name}", np.asarray(q.corners_xy), "xy", "-"))
     if c.max_sdcm is not None:
-        e = _sdcm_ellipse(c)
+        e = sdcm_ellipse(c)
         out.append(charts.ellipse_outline(e, c.max_sdcm, label=f"{e.name} {c.max_sdcm:g} SDCM"))
     return tuple(out)
 
 
 def _ellipse_text(claims) -> str:
+    from ..claims import sdcm_ellipse
+
     c = claims.chromaticity
-    e = _sdcm_ellipse(c)
+    e = sdcm_ellipse(c)
     where = ("IEC 60081 Annex D lamp ellipse" if c.sdcm_centre == "iec"
              else "MacAdam (1942) ellipse interpolated at the ANSI quadrangle centre")
     extra = " (outside MacAdam's data: nearest ellipse)" if e.extrapolated else ""
@@ -165,9 +146,12 @@ def _ellipse_text(claims) -> str:
             f"{where}{extra}")
 
 
-def _zoom_window(claims, diagram: str, half_min: float) -> tuple[float, float, float, float] | None:
-    """A square window around the claim's SDCM ellipse (else its quadrangle), in ``diagram`` coordinates."""
-    outlines = claim_outlines(claims)
+def _zoom_window(outlines: Sequence[charts.Outline], diagram: str,
+                 half_min: float) -> tuple[float, float, float, float] | None:
+    """A square window around the claimed SDCM ellipse (else the quadrangle), in ``diagram`` coordinates.
+
+    ``outlines`` are those of :func:`claim_outlines` (the ellipse, when claimed, comes last).
+    """
     if not outlines:
         return None
     target = outlines[-1]  # the ellipse when claimed: the smaller region
@@ -194,7 +178,8 @@ def _count_numbered(pts, verdicts, win, outside) -> int:
 
 
 def verdict_chart(analysis, ax, doc: dict, claims, *, diagram: str = "uv", zoom: bool = False,
-                  legend: bool = True, number_outside=None) -> list:
+                  legend: bool = True, number_outside=None,
+                  outlines: Sequence[charts.Outline] | None = None) -> list:
     """Chromaticity chart of the verdict: claimed regions and every sample, marker by sample verdict.
 
     Draws :func:`cctkit.report.charts.chromaticity_chart` with the outlines of
@@ -203,20 +188,19 @@ def verdict_chart(analysis, ax, doc: dict, claims, *, diagram: str = "uv", zoom:
     their number in the verdict table (up to ten numbers in one view).  ``zoom`` narrows the view to the claimed SDCM
     ellipse (or the quadrangle when no ellipse is claimed); ``number_outside`` (a window
     x0, x1, y0, y1) numbers only the points outside it, where a zoom shows the others.
+    ``outlines`` are :func:`claim_outlines` of ``claims`` when the caller has them already.
     Returns the legend handles (drawn on ``ax`` when ``legend``).
     """
     from matplotlib.lines import Line2D
 
-    charts.chromaticity_chart(analysis, ax, diagram=diagram, regions=claim_outlines(claims), annotate=False)
-    # The chart marks its points in one style; the verdict marks them by result instead.
-    for line in list(ax.lines):
-        if line.get_marker() not in (None, "None", "none", "") and line.get_linestyle() in ("None", "none", ""):
-            line.remove()
-    win = _zoom_window(claims, diagram, 0.002) if zoom else None
+    outlines = claim_outlines(claims) if outlines is None else tuple(outlines)
+    win = _zoom_window(outlines, diagram, 0.002) if zoom else None
+    # The chart draws the locus, lines and regions; the verdict marks the samples by result.
+    charts.chromaticity_chart(analysis, ax, diagram=diagram, regions=outlines, annotate=False, mark_samples=False,
+                              window=win)
     if win is not None:
-        ax.set_xlim(win[0], win[1])
-        ax.set_ylim(win[2], win[3])
-        for t in ax.texts:  # labels placed for the wide view: keep those inside the zoomed box, clipped
+        win = (*ax.get_xlim(), *ax.get_ylim())  # the window as widened to equal scales
+        for t in ax.texts:  # labels: keep those inside the zoomed box, clipped
             x, y = t.xy if hasattr(t, "xy") else t.get_position()
             if win[0] <= x <= win[1] and win[2] <= y <= win[3]:
                 t.set_clip_path(ax.patch)
@@ -246,7 +230,7 @@ def verdict_chart(analysis, ax, doc: dict, claims, *, diagram: str = "uv", zoom:
                     ax.annotate(f"#{k + 1}", pts[k], xytext=(4, 3), textcoords="offset points", fontsize=5.5,
                                 weight="bold", zorder=7,
                                 bbox={"boxstyle": "square,pad=0.05", "fc": "white", "ec": "none", "alpha": 0.8})
-    for o in claim_outlines(claims):
+    for o in outlines:
         handles.append(Line2D([], [], color="#4d4d4d", lw=0.7, linestyle=o.linestyle, label=o.label))
     if legend:
         ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=6, frameon=False,
@@ -281,8 +265,7 @@ def _counts(doc: dict) -> dict[str, int]:
 
 def _decision_rows(doc: dict, claims) -> list[tuple[str, str]]:
     metrics = _metrics(doc)
-    with_u = [(m, _uncertainty(doc, m)) for m in metrics]
-    with_u = [(m, u) for m, u in with_u if u is not None]
+    with_u = [(m, claims.uncertainty[m]) for m in metrics if m in claims.uncertainty]
     if "decision" in doc and with_u:
         us = "; ".join(f"{_label(m)[0]} U = {_num(u)}" + (f" {_label(m)[1]}" if _label(m)[1] else "")
                        for m, u in with_u)
@@ -328,8 +311,9 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
     n = len(doc["samples"])
     cnt = _counts(doc)
     who = " \u2014 ".join(t for t in (claims.supplier, claims.product) if t)
-    y = _header(p, f"Claims verdict — {claims.supplier or claims.product or 'supplier not named'}",
-                f"{n} sample{'s' if n != 1 else ''} checked against {who or claims.source}", page_label)
+    header_y = _header(p, f"Claims verdict — {claims.supplier or claims.product or 'supplier not named'}",
+                       f"{n} sample{'s' if n != 1 else ''} checked against {who or claims.source}", page_label)
+    outlines = claim_outlines(claims)
     quad = None
     if claims.chromaticity is not None and claims.chromaticity.ansi_quadrangle:
         quad = f"{claims.chromaticity.nominal_cct_K}K"
@@ -347,8 +331,8 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
             chroma.append(_ellipse_text(claims))
         rows.append(("Chromaticity", f"nominal {c.nominal_cct_K} K: " + "; ".join(chroma)))
     rows += _decision_rows(doc, claims)
-    y = _kv(p, p.left, y + 0.02, rows, label_w=1.05, chars=92)
-    _verdict_badge(p, p.right - 1.6, _header_y(p), doc["verdict"])
+    y = _kv(p, p.left, header_y + 0.02, rows, label_w=1.05, chars=92)
+    _verdict_badge(p, p.right - 1.6, header_y, doc["verdict"])
     y += 0.05
     p.text(p.left, y, f"Samples: {cnt['pass']} pass, {cnt['inconclusive']} inconclusive, {cnt['fail']} FAIL "
            f"(of {n}). A sample fails if any check fails; it is inconclusive if none fails and any is "
@@ -357,7 +341,7 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
     nonpass = [(k + 1, s) for k, s in enumerate(doc["samples"]) if s["verdict"] != "pass"]
     if nonpass:
         text = "; ".join(f"#{k} {s['name']} {VERDICT_STYLE[s['verdict']]['word']} "
-                         f"({', '.join(_label(ch['metric'])[0] for ch in s['checks'] if _result(ch) != 'pass')})"
+                         f"({', '.join(_label(ch['metric'])[0] for ch in s['checks'] if ch['result'] != 'pass')})"
                          for k, s in nonpass)
         lines = textwrap.wrap("Not passing: " + text, 150)
         if len(lines) > 4:
@@ -383,7 +367,7 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
         m = check["metric"]
         st = doc["summary"][m]
         label, unit = _label(m)
-        U = _uncertainty(doc, m)
+        U = claims.uncertainty.get(m)
         stat = (lambda v: "n/a" if v is None else f"{v:+.4f}") if m == "ansi_quadrangle" else \
             (lambda v, m=m: _value_text(m, v))
         cells = [label, _limit_text(check, quad), "\u2013" if U is None else _num(U),
@@ -403,32 +387,31 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
     gap = 0.78
     side = min((p.width - 2 * gap + 0.2) / 2.0, bottom - y - 0.95)
     x0 = p.left + gap - 0.2
-    zoom_win = _zoom_window(claims, diagram, 0.002) if claims.chromaticity is not None else None
     ax = p.axes(x0, y + 0.25, side, side)
-    handles = verdict_chart(analysis, ax, doc, claims, diagram=diagram, legend=False, number_outside=zoom_win)
+    axz = p.axes(x0 + side + gap, y + 0.25, side, side) if outlines else None
+    zoom_win = None
+    if axz is not None:  # drawn first: the whole-batch view numbers only the points outside the zoom
+        verdict_chart(analysis, axz, doc, claims, diagram=diagram, zoom=True, legend=False, outlines=outlines)
+        zoom_win = (*axz.get_xlim(), *axz.get_ylim())
+    handles = verdict_chart(analysis, ax, doc, claims, diagram=diagram, legend=False, number_outside=zoom_win,
+                            outlines=outlines)
     ax.set_title("whole batch; " + ax.get_title(loc="left"), fontsize=5.5, color=GREY, loc="left")
-    if claims.chromaticity is not None:
+    if axz is not None:
         from matplotlib.patches import Rectangle
 
-        axz = p.axes(x0 + side + gap, y + 0.25, side, side)
-        verdict_chart(analysis, axz, doc, claims, diagram=diagram, zoom=True, legend=False)
         x_lo, x_hi = axz.get_xlim()
         y_lo, y_hi = axz.get_ylim()
         ax.add_patch(Rectangle((x_lo, y_lo), x_hi - x_lo, y_hi - y_lo, fill=False, ec=GREY, lw=0.6,
                                linestyle=(0, (1, 1)), zorder=4))
         ax.annotate("zoom →", (x_hi, y_hi), xytext=(2, 2), textcoords="offset points", fontsize=5.5,
                     color=GREY, ha="left", va="bottom")
-        axz.set_title(f"zoom (dotted box at left) on {claim_outlines(claims)[-1].label}", fontsize=5.5,
+        axz.set_title(f"zoom (dotted box at left) on {outlines[-1].label}", fontsize=5.5,
                       color=GREY, loc="left")
     p.fig.legend(handles=handles, loc="upper center", ncol=len(handles), fontsize=6.3, frameon=False,
                  bbox_to_anchor=(0.5, 1.0 - (y + 0.25 + side + 0.42) / p.h), handlelength=2.4,
                  title=None)
     _footer(p, meta)
     return p.fig
-
-
-def _header_y(p: _Page) -> float:
-    return p.MARGIN + 0.5
 
 
 def _cell_hatch(p: _Page, x: float, y: float, w: float, h: float, hatch: str) -> None:
@@ -477,7 +460,7 @@ def verdict_table_pages(doc: dict, claims, meta: dict, *, paper: str,
             x_cols = p.left + num_w + name_w + verdict_w + col_w * np.arange(len(metrics))
             p.text(p.left, y, "#", fontsize=6.5, weight="bold")
             p.text(p.left + num_w, y, "Sample", fontsize=6.5, weight="bold")
-            if claims.declared_id:
+            if any(s.get("declared_id") for s in samples[start:stop]):
                 p.text(p.left + num_w, y + 0.12, "declared id", fontsize=5.8, color=GREY)
             p.text(p.left + num_w + name_w, y, "Verdict", fontsize=6.5, weight="bold")
             first = samples[0]["checks"]
@@ -489,7 +472,7 @@ def verdict_table_pages(doc: dict, claims, meta: dict, *, paper: str,
                 if unit_below:
                     head = label
                 p.text(x + 0.05, y, shorten(head, int((col_w - 0.05) / 0.056)), fontsize=6.5, weight="bold")
-                U = _uncertainty(doc, m)
+                U = claims.uncertainty.get(m)
                 lim = _limit_text(by_metric[m], quad if m != "ansi_quadrangle" else None)
                 if m == "ansi_quadrangle" and quad:
                     lim = f"inside {quad}"
@@ -507,7 +490,7 @@ def verdict_table_pages(doc: dict, claims, meta: dict, *, paper: str,
                     _band(p, top, pitch)
                 p.text(p.left, y, str(i + 1), fontsize=6.3)
                 p.text(p.left + num_w, y, shorten(s["name"], int(name_w / 0.048)), fontsize=6.3)
-                did = claims.declared_id.get(s["name"])
+                did = s.get("declared_id")
                 if did:
                     p.text(p.left + num_w, y + 0.1, shorten(did, int(name_w / 0.042)), fontsize=5.5, color=GREY)
                 _marker(p, p.left + num_w + name_w + 0.06, y + 0.06, s["verdict"])
@@ -517,7 +500,7 @@ def verdict_table_pages(doc: dict, claims, meta: dict, *, paper: str,
                 checks = {c["metric"]: c for c in s["checks"]}
                 for m, x in zip(metrics, x_cols):
                     c = checks[m]
-                    r = _result(c)
+                    r = c["result"]
                     st = VERDICT_STYLE[r]
                     if st["hatch"]:
                         _cell_hatch(p, x + 0.02, top, col_w - 0.04, pitch - 0.01, st["hatch"])
