@@ -120,6 +120,9 @@ class Spectra:
         SHA-256 of each spectrum's source file, or ``""`` when not from a file.
     flags
         Per spectrum, the doubtful conditions found so far (see :class:`~cctkit.errors.Flag`).
+    metadata
+        Per spectrum, the ``(key, value)`` text pairs its file carried (instrument,
+        operator, ...), in the file's order; ``()`` when there were none.
     """
 
     wavelength_nm: np.ndarray
@@ -130,6 +133,7 @@ class Spectra:
     sha256: tuple[str, ...] = ()
     flags: tuple[tuple[Flag, ...], ...] = ()
     measured_range_nm: tuple[tuple[float, float, float], ...] = field(default=())
+    metadata: tuple[tuple[tuple[str, str], ...], ...] = ()
 
     def __post_init__(self) -> None:
         source = self.sources[0] if self.sources else None
@@ -190,6 +194,11 @@ class Spectra:
         else:
             object.__setattr__(self, "measured_range_nm", _per_spectrum(self.measured_range_nm, n, None))
         object.__setattr__(self, "flags", flags)
+        object.__setattr__(self, "metadata", _per_spectrum(self.metadata, n, ()))
+
+    def metadata_of(self, i: int) -> dict[str, str]:
+        """The metadata of spectrum ``i`` as an ordered ``{key: value}`` dict."""
+        return dict(self.metadata[i])
 
     def __len__(self) -> int:
         return self.values.shape[0]
@@ -212,6 +221,7 @@ class Spectra:
             sha256=tuple(self.sha256[i] for i in idx),
             flags=tuple(self.flags[i] for i in idx),
             measured_range_nm=tuple(self.measured_range_nm[i] for i in idx),
+            metadata=tuple(self.metadata[i] for i in idx),
         )
 
     def scaled(self, factor: float, quantity: Quantity | None = None) -> "Spectra":
@@ -359,6 +369,7 @@ def to_working_grid(spectra: Spectra) -> Spectra:
         sha256=spectra.sha256,
         flags=flags,
         measured_range_nm=spectra.measured_range_nm,
+        metadata=spectra.metadata,
     )
 
 
@@ -385,6 +396,7 @@ def concatenate(items: Iterable[Spectra]) -> Spectra:
         sha256=sum((s.sha256 for s in items), ()),
         flags=sum((s.flags for s in items), ()),
         measured_range_nm=sum((s.measured_range_nm for s in items), ()),
+        metadata=sum((s.metadata for s in items), ()),
     )
 
 

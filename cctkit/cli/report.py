@@ -7,13 +7,25 @@ from typing import List, Optional
 
 import typer
 
-from .options import OVERWRITE_OPTION, QUANTITY_HELP, info
+from .options import (
+    OVERWRITE_OPTION,
+    QUANTITY_HELP,
+    RECURSIVE_OPTION,
+    SKIP_ROWS_OPTION,
+    DELIMITER_OPTION,
+    DECIMAL_OPTION,
+    WAVELENGTH_COLUMN_OPTION,
+    COLUMNS_OPTION,
+    input_files,
+    table_layout,
+    info,
+)
 
 __all__ = ["report_cmd", "register"]
 
 
 def report_cmd(
-    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of them."),
     output: Path = typer.Option(..., "--output", "-o", help="Report file: .pdf (full report) or .png (summary, "
                                 "1600x1000 px at 150 dpi)."),
     overwrite: bool = OVERWRITE_OPTION,
@@ -24,6 +36,12 @@ def report_cmd(
                                 "| xy (CIE 1931)."),
     claims_file: Optional[Path] = typer.Option(None, "--claims", help="Claims file (TOML): the PDF starts with "
                                                "the verdict of every spectrum against it."),
+    recursive: bool = RECURSIVE_OPTION,
+    skip_rows: Optional[int] = SKIP_ROWS_OPTION,
+    delimiter: Optional[str] = DELIMITER_OPTION,
+    decimal: Optional[str] = DECIMAL_OPTION,
+    wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
+    columns: Optional[str] = COLUMNS_OPTION,
 ) -> None:
     """A report an engineer can sign off: provenance, headline numbers, spectrum, chromaticity, rendering."""
     from ..report.build import check_options
@@ -35,6 +53,8 @@ def report_cmd(
     check_options(output, paper=paper_key, diagram=diagram_key, verdict=claims_file is not None)
     if quantity is not None:
         Quantity.parse(quantity, source="--quantity")
+    layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
+    files = input_files(files, recursive=recursive)
     inputs = [*files, claims_file] if claims_file is not None else list(files)
     check_output_path(output, overwrite=overwrite, inputs=inputs)  # before reading and drawing
     claims = None
@@ -46,8 +66,8 @@ def report_cmd(
     from ..analysis import analyse_files
     from ..report import build_report
 
-    # One report holds one quantity: a mix is refused with a one-line InputError.
-    analysis = analyse_files(files, quantity=quantity)
+    # Spectra of different quantities share one report: colour results for all, totals each in its unit.
+    analysis = analyse_files(files, quantity=quantity, layout=layout)
     records = analysis.records()
     verdict = None
     if claims is not None:

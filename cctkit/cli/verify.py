@@ -13,6 +13,14 @@ from typing import List, Optional
 import typer
 
 from .options import (
+    RECURSIVE_OPTION,
+    SKIP_ROWS_OPTION,
+    DELIMITER_OPTION,
+    DECIMAL_OPTION,
+    WAVELENGTH_COLUMN_OPTION,
+    COLUMNS_OPTION,
+    input_files,
+    table_layout,
     JSON_OPTION,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
@@ -34,7 +42,7 @@ def _needs_rendering(claims) -> bool:
 
 
 def verify_cmd(
-    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of them."),
     claims_file: Path = typer.Option(..., "--claims", help="Claims file (TOML) to check the spectra against."),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     json_out: bool = JSON_OPTION,
@@ -42,10 +50,18 @@ def verify_cmd(
     report: Optional[Path] = typer.Option(None, "--report", help="Also write the PDF report, starting with the "
                                           "verdict pages, to FILE (.pdf)."),
     overwrite: bool = OVERWRITE_OPTION,
+    recursive: bool = RECURSIVE_OPTION,
+    skip_rows: Optional[int] = SKIP_ROWS_OPTION,
+    delimiter: Optional[str] = DELIMITER_OPTION,
+    decimal: Optional[str] = DECIMAL_OPTION,
+    wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
+    columns: Optional[str] = COLUMNS_OPTION,
 ) -> None:
     """Check measured spectra against a supplier's claims; exit 0 pass, 1 fail, 3 inconclusive, 2 bad input."""
     from ..claims import format_verdict, load_claims, verdict_csv, verify
 
+    layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
+    files = input_files(files, recursive=recursive)
     inputs = [*files, claims_file]
     if output is not None:
         require_suffix(output, (".csv", ".json"))
@@ -61,7 +77,8 @@ def verify_cmd(
     # The report draws colour rendering, so it needs the full analysis.
     from ..analysis import analyse_files
 
-    analysis = analyse_files(files, quantity=quantity, rendering=report is not None or _needs_rendering(claims))
+    analysis = analyse_files(files, quantity=quantity, rendering=report is not None or _needs_rendering(claims),
+                             layout=layout)
     records = analysis.records()
     verdict = verify(records, claims)
     doc = verdict.as_dict()
@@ -96,13 +113,19 @@ def _traceable(doc: dict, records: list[dict], claims_file: Path) -> dict:
 
 
 def bin_cmd(
-    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of them."),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     ellipses: str = typer.Option("macadam1942", "--ellipses",
                                  help="SDCM centres and ellipses: macadam1942 (ANSI centres) | iec60081 (lamp centres)."),
     json_out: bool = JSON_OPTION,
     output: Optional[Path] = _OUTPUT_CSV,
     overwrite: bool = OVERWRITE_OPTION,
+    recursive: bool = RECURSIVE_OPTION,
+    skip_rows: Optional[int] = SKIP_ROWS_OPTION,
+    delimiter: Optional[str] = DELIMITER_OPTION,
+    decimal: Optional[str] = DECIMAL_OPTION,
+    wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
+    columns: Optional[str] = COLUMNS_OPTION,
 ) -> None:
     """ANSI C78.377 quadrangle and SDCM step of each spectrum, with counts per bin."""
     import numpy as np
@@ -117,7 +140,9 @@ def bin_cmd(
         require_suffix(output, (".csv", ".json"))
     from ..analysis import analyse_files
 
-    records = analyse_files(files, quantity=quantity, rendering=False).records()
+    layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
+    files = input_files(files, recursive=recursive)
+    records = analyse_files(files, quantity=quantity, rendering=False, layout=layout).records()
     xy = np.array([[np.nan if r["x"] is None else r["x"], np.nan if r["y"] is None else r["y"]] for r in records])
     result = bin_chromaticities(xy, names=[r["name"] for r in records], ellipses=ellipses)
     rows = result.records()
