@@ -763,7 +763,8 @@ def parse_spectral_unit(text: str, *, source: str, line: int | None = None) -> t
         raise InputError(f"photon units are not supported: {t!r}; give the values in W", source=source, line=line)
     if re.search(r"\b(lm|lx|cd|lux|nit)\b", low):
         raise InputError(
-            f"{t!r} is a photometric unit; spectral radiometric values (W per nm) are needed", source=source, line=line
+            f"{t!r} is a photometric unit; spectral radiometric values are needed, e.g. W/nm, W/(m2 nm), "
+            "W/(sr m2 nm), W/(sr nm) or a.u.", source=source, line=line
         )
     try:
         dims, factor = _unit_dimensions(t)

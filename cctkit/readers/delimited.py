@@ -233,16 +233,25 @@ def find_table(rows, split, decimal_comma: bool, wcol: int, *, source: str) -> T
     first, last = segments[primary]
     merged = {primary}
 
-    def continues(before_key: float | None, after_key: float | None) -> bool:
-        return before_key is not None and after_key is not None and (after_key - before_key) * direction > 0
+    run_keys = np.array([keys[i] for i in range(run_start, run_start + length)], dtype=np.float64)
+    step = float(np.max(np.abs(np.diff(run_keys)))) if length >= 2 else np.inf
+
+    def continues(before_key: float | None, after_key: float | None, gap: int) -> bool:
+        """Whether ``after_key`` carries on from ``before_key`` across ``gap`` lines, at the table's step."""
+        if before_key is None or after_key is None:
+            return False
+        jump = (after_key - before_key) * direction
+        return 0 < jump <= 1.5 * step * (gap + 1) + 1e-9
 
     k = primary + 1  # later segments that carry on the wavelengths
-    while k < len(segments) and segments[k][0] - last - 1 <= _MAX_GAP and continues(keys[last], keys[segments[k][0]]):
+    while (k < len(segments) and segments[k][0] - last - 1 <= _MAX_GAP
+           and continues(keys[last], keys[segments[k][0]], segments[k][0] - last - 1)):
         last = segments[k][1]
         merged.add(k)
         k += 1
     k = primary - 1  # earlier ones
-    while k >= 0 and first - segments[k][1] - 1 <= _MAX_GAP and continues(keys[segments[k][1]], keys[first]):
+    while (k >= 0 and first - segments[k][1] - 1 <= _MAX_GAP
+           and continues(keys[segments[k][1]], keys[first], first - segments[k][1] - 1)):
         first = segments[k][0]
         merged.add(k)
         k -= 1
@@ -298,10 +307,13 @@ def _unit_only(cell: str) -> bool:
     inner = t[1:-1] if t[:1] in "([" and t[-1:] in ")]" else t
     if not inner.strip():
         return False
+    if is_relative_unit(inner):
+        return True
     try:
-        return looks_like_unit(normalise_unit(inner))
-    except Exception:  # noqa: BLE001 - a cell that trips the unit parser is not a unit
+        unit_dimensions(inner)
+    except ValueError:
         return False
+    return True
 
 
 def _value_columns(layout: TableLayout, wcol: int, ncol: int, source: str, line: int) -> list[int]:

@@ -59,7 +59,7 @@ def _split_pair(line: str) -> tuple[str, str] | None:
         if sep not in line:
             continue
         key, value = line.split(sep, 1)
-        key = key.strip()
+        key = key.strip().strip('"').strip().rstrip(":").strip()
         if sep == ":" and value[:1].isdigit() and key[-1:].isdigit():
             continue  # a time of day such as 10:05, not a separator
         if _KEY.match(key):
