@@ -18,6 +18,7 @@ from typing import Any, List, Optional
 import typer
 
 from ..errors import InputError
+from ..spreadsheet import check_dialect
 from .options import (
     RECURSIVE_OPTION,
     SKIP_ROWS_OPTION,
@@ -27,6 +28,7 @@ from .options import (
     COLUMNS_OPTION,
     input_files,
     table_layout,
+    CSV_DIALECT_OPTION,
     JSON_OPTION,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
@@ -63,7 +65,7 @@ def versus_cmd(
     method: str = typer.Option("cie224", "--method", "-m", help=METHOD_HELP),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     cct: Optional[float] = typer.Option(None, "--cct", help="Use this CCT [K] for every spectrum instead of computing it."),
-    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the per-wavelength comparison to FILE (.csv)."),
+    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the per-wavelength comparison to FILE (.csv or .xlsx)."),
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
     recursive: bool = RECURSIVE_OPTION,
@@ -72,6 +74,7 @@ def versus_cmd(
     decimal: Optional[str] = DECIMAL_OPTION,
     wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
     columns: Optional[str] = COLUMNS_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """Each spectrum in FILES against the reference illuminant of its CCT, per wavelength and per sample."""
     import numpy as np
@@ -83,7 +86,8 @@ def versus_cmd(
 
     ref_method = _method(method)
     if output is not None:
-        require_suffix(output, (".csv",))
+        require_suffix(output, (".csv", ".xlsx"))
+        check_dialect(csv_dialect)
     files = input_files(files, recursive=recursive)
     items = read_files(files, quantity=quantity, layout=table_layout(skip_rows, delimiter, decimal,
                                                                      wavelength_column, columns))
@@ -149,7 +153,7 @@ def versus_cmd(
             header += [f"{name}: test (Y=100)", f"{name}: reference (Y=100)", f"{name}: difference", f"{name}: ratio"]
             columns += [comp.test[i], comp.reference[i], comp.difference[i], comp.ratio[i]]
         rows = zip(*[c.tolist() for c in columns])
-        write_output(output, csv_text(header, rows), overwrite=overwrite, inputs=files)
+        write_output(output, csv_text(header, rows), overwrite=overwrite, inputs=files, dialect=csv_dialect)
 
     if json_out:
         emit_json({"method": ref_method, "wavelength_nm": comp.wavelength_nm, "spectra": [
@@ -190,9 +194,10 @@ def versus_cmd(
 def reference_cmd(
     cct_K: float = typer.Argument(..., help="Correlated colour temperature [K] (1000-25000)."),
     method: str = typer.Option("cie224", "--method", "-m", help=METHOD_HELP),
-    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the spectrum to FILE (.csv or .json)."),
+    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the spectrum to FILE (.csv, .xlsx or .json)."),
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """The reference illuminant of a CCT (relative spectrum, Y = 100), optionally written to a file."""
     import numpy as np
@@ -204,7 +209,8 @@ def reference_cmd(
     ref_method = _method(method)
     if not np.isfinite(reference_cct(cct_K)[0]):
         raise InputError(f"CCT_K must be between {REFERENCE_RANGE_K[0]:g} and {REFERENCE_RANGE_K[1]:g} K, got {cct_K:g}")
-    suffix = require_suffix(output, (".csv", ".json")) if output is not None else None
+    suffix = require_suffix(output, (".csv", ".json", ".xlsx")) if output is not None else None
+    check_dialect(csv_dialect)
     ref = reference_for([cct_K], method=ref_method)
     values = ref.values[0]
     tri = XYZ(values[None])
@@ -224,10 +230,10 @@ def reference_cmd(
     }
     if output is not None:
         text = spectrum_file_text(
-            suffix, name, values, quantity="relative", unit="", column="relative",
+            ".json" if suffix == ".json" else ".csv", name, values, quantity="relative", unit="", column="relative",
             comment=f"{name} ({ref.kind[0]}, Planckian weight {doc['planckian_weight']:g}); relative, Y = 100 (CIE 1931 2 deg)",
         )
-        write_output(output, text, overwrite=overwrite)
+        write_output(output, text, overwrite=overwrite, dialect=csv_dialect)
     if json_out:
         emit_json(doc)
         return

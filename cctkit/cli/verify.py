@@ -12,6 +12,7 @@ from typing import List, Optional
 
 import typer
 
+from ..spreadsheet import check_dialect
 from .options import (
     RECURSIVE_OPTION,
     SKIP_ROWS_OPTION,
@@ -21,6 +22,7 @@ from .options import (
     COLUMNS_OPTION,
     input_files,
     table_layout,
+    CSV_DIALECT_OPTION,
     JSON_OPTION,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
@@ -33,7 +35,7 @@ from .options import (
 EXIT_FAIL = 1
 EXIT_INCONCLUSIVE = 3
 
-_OUTPUT_CSV = typer.Option(None, "--output", "-o", help="Write the per-sample table to FILE (.csv or .json).")
+_OUTPUT_CSV = typer.Option(None, "--output", "-o", help="Write the per-sample table to FILE (.csv, .xlsx or .json).")
 
 
 def _needs_rendering(claims) -> bool:
@@ -56,6 +58,7 @@ def verify_cmd(
     decimal: Optional[str] = DECIMAL_OPTION,
     wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
     columns: Optional[str] = COLUMNS_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """Check measured spectra against a supplier's claims; exit 0 pass, 1 fail, 3 inconclusive, 2 bad input."""
     from ..claims import format_verdict, load_claims, verdict_csv, verify
@@ -63,8 +66,9 @@ def verify_cmd(
     layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
     files = input_files(files, recursive=recursive)
     inputs = [*files, claims_file]
+    check_dialect(csv_dialect)
     if output is not None:
-        require_suffix(output, (".csv", ".json"))
+        require_suffix(output, (".csv", ".json", ".xlsx"))
     if report is not None:
         from ..errors import InputError
         from ..safe_io import check_output_path
@@ -85,7 +89,7 @@ def verify_cmd(
     traced = _traceable(doc, records, claims_file)
     if output is not None:
         text = dumps(traced) if output.suffix.lower() == ".json" else verdict_csv(doc, claims)
-        write_output(output, text, overwrite=overwrite, inputs=inputs)
+        write_output(output, text, overwrite=overwrite, inputs=inputs, dialect=csv_dialect)
     if report is not None:
         from ..report import build_report
         from .options import info
@@ -126,6 +130,7 @@ def bin_cmd(
     decimal: Optional[str] = DECIMAL_OPTION,
     wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
     columns: Optional[str] = COLUMNS_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """ANSI C78.377 quadrangle and SDCM step of each spectrum, with counts per bin."""
     import numpy as np
@@ -136,8 +141,9 @@ def bin_cmd(
 
     if ellipses not in ELLIPSE_SETS:
         raise InputError(f"--ellipses must be one of {', '.join(ELLIPSE_SETS)}, got {ellipses!r}")
+    check_dialect(csv_dialect)
     if output is not None:
-        require_suffix(output, (".csv", ".json"))
+        require_suffix(output, (".csv", ".json", ".xlsx"))
     from ..analysis import analyse_files
 
     layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
@@ -156,7 +162,7 @@ def bin_cmd(
     doc = {**provenance(), "ellipses": ellipses, "samples": rows, "counts": result.counts()}
     if output is not None:
         text = dumps(doc) if output.suffix.lower() == ".json" else result.csv()
-        write_output(output, text, overwrite=overwrite, inputs=files)
+        write_output(output, text, overwrite=overwrite, inputs=files, dialect=csv_dialect)
     if json_out:
         emit_json(doc)
         return
