@@ -74,6 +74,8 @@ def metadata_from_lines(lines: Iterable[str]) -> tuple[tuple[str, str], ...]:
     texts = 0
     for raw in lines:
         line = _COMMENT.sub("", raw.strip()).strip()
+        if len(line) >= 2 and line[0] == line[-1] == '"' and line.count('"') == 2:
+            line = line[1:-1].strip()  # a quoted cell on its own
         if not line or not any(ch.isalnum() for ch in line):
             continue
         section = _SECTION.match(line)
@@ -114,7 +116,7 @@ IDENTITY_KEYS: tuple[tuple[str, tuple[str, ...]], ...] = (
     ("Serial", ("serial", "s/n", "sn")),
     ("Date/time", ("date", "time of", "timestamp", "measured at", "datum", "zeit")),
     ("Operator", ("operator", "user", "measured by", "technician", "bediener", "laboratory")),
-    ("Integration time", ("integration", "exposure", "integrationszeit")),
+    ("Integration", ("integration", "exposure", "integrationszeit")),
 )
 
 
