@@ -202,6 +202,13 @@ class AlphaOpic:
             out["melanopic_edi_lx"] = _num(self.edi[i, 4])
         return out
 
+    def columns(self) -> dict[str, np.ndarray]:
+        """The fields of :meth:`record` for every spectrum at once (NaN where a record has None)."""
+        cols = {"melanopic_der": self.der[:, 4]}
+        if self.quantity is Quantity.IRRADIANCE:
+            cols["melanopic_edi_lx"] = self.edi[:, 4]
+        return cols
+
 
 def alpha_opic(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> AlphaOpic:
     """alpha-opic irradiance, ELR, EDI and DER of spectra on the working grid.
