@@ -83,6 +83,17 @@ class Analysis:
         """
         return _columns(self)
 
+    def to_frame(self):
+        """A pandas DataFrame, one row per spectrum, values as :meth:`records` (:func:`cctkit.interop.analysis_to_frame`)."""
+        from .interop import analysis_to_frame
+
+        return analysis_to_frame(self)
+
+    def _repr_html_(self) -> str:
+        from .interop import analysis_html
+
+        return analysis_html(self)
+
 
 def _f(a, i):
     return finite_or_none(a[i])
