@@ -217,3 +217,12 @@ def test_average_refuses_mixed_quantities_and_single_scan(tmp_path):
     with pytest.raises(InputError, match=r"at least 2 scans, got 1"):
         average_repeats(flux)
     assert isinstance(flux, Spectra) and flux.quantity is Quantity.RADIANT_FLUX
+
+
+def test_mixed_table_cells_mark_relative_and_other_totals():
+    from cctkit.report.pages import format_value
+
+    assert format_value({"quantity": "relative"}, "luminous_flux_lm") == "rel."
+    assert format_value({"quantity": "irradiance", "illuminance_lx": 32.84}, "luminous_flux_lm") == "32.8 lx"
+    assert format_value({"quantity": "radiance", "luminance_cd_per_m2": 32822.6}, "luminous_flux_lm") == "32.8k cd/m²"
+    assert format_value({"quantity": "radiant-flux", "luminous_flux_lm": 810.04}, "luminous_flux_lm") == "810.0"

@@ -102,8 +102,10 @@ def format_value(rec: dict[str, Any], key: str) -> str:
             if rec.get("quantity") == "relative":
                 return "rel."
             own = next((k for k in _LUMINOUS_KEYS if rec.get(k) is not None), None)
-            if own is not None:
-                return f"{_ROW[own][3].format(float(rec[own]))} {_ROW[own][2]}"
+            if own is not None:  # short enough for a narrow column: 32.8 lx, 32.8k lx
+                v = float(rec[own])
+                unit = {"luminance_cd_per_m2": "cd/m\u00b2"}.get(own, _ROW[own][2])
+                return f"{v / 1000:.1f}k {unit}" if abs(v) >= 1000 else f"{v:.1f} {unit}"
         return "not computed"
     v = _value(rec, key)
     if v is None:
