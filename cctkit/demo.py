@@ -412,8 +412,8 @@ TUNABLE_DUV = 0.0
 #: drive in the sphere.  Per channel: (name, kind, design, radiant output of the die at full drive [W],
 #: wall-plug efficiency of the die [1]).  Direct emitters use the split-Gaussian die model; the
 #: phosphor-converted ones are WhiteLed designs (the lime one with a fixed, nearly full conversion).
-WASH_FILE = "hl-wash5-channels.csv"
-WASH_POWER_FILE = "hl-wash5-channels-power.csv"
+WASH_FILE = "hl-wash5/hl-wash5-channels.csv"
+WASH_POWER_FILE = "hl-wash5/hl-wash5-power.csv"
 _LIME = WhiteLed("HL-Wash5 lime", 0.0, 0.0, BlueDie(450.0, 20.0),
                  Phosphor("LuAG/YAG:Ce-type green-yellow garnet", 552.0, 0.30, 0.95, doublet_ratio=0.55),
                  _NITRIDE_DEEP)

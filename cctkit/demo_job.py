@@ -28,8 +28,8 @@ CANDIDATES = ("northbeam-nb-3000-95.csv", "caldera-cl-2700-80.csv", "vell-vo-400
 TUNABLE = "tw-lab-setpoints.csv"
 LOT_DIR = "lot-nb3000"
 CLAIMS = "claims/northbeam-3000K.toml"
-WASH = "hl-wash5-channels.csv"
-WASH_POWER = "hl-wash5-channels-power.csv"
+WASH = "hl-wash5/hl-wash5-channels.csv"
+WASH_POWER = "hl-wash5/hl-wash5-power.csv"
 
 
 def _say(message: str) -> None:

@@ -21,8 +21,8 @@ from cctkit.errors import InputError
 from cctkit.readers import read_spectra
 
 SPECTRA = Path(__file__).resolve().parents[1] / "spectra"
-CHANNELS = SPECTRA / "hl-wash5-channels.csv"
-POWER = SPECTRA / "hl-wash5-channels-power.csv"
+CHANNELS = SPECTRA / "hl-wash5" / "hl-wash5-channels.csv"
+POWER = SPECTRA / "hl-wash5" / "hl-wash5-power.csv"
 runner = CliRunner()
 
 

@@ -104,7 +104,7 @@ def test_module_entry_point(tmp_path, capsys):
         ("caldera-cl-2700-80.csv", 360, 830, 5.0, "radiant-flux"),
         ("vell-vo-4000-90.csv", 380, 780, 1.0, "radiant-flux"),
         ("tw-lab-setpoints.csv", 350, 800, 0.5, "irradiance"),
-        ("hl-wash5-channels.csv", 380, 780, 1.0, "radiant-flux"),
+        ("hl-wash5/hl-wash5-channels.csv", 380, 780, 1.0, "radiant-flux"),
         ("lot-nb3000/nb-3000-95-u01.csv", 380, 780, 1.0, "radiant-flux"),
     ],
 )
