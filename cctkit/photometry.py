@@ -343,6 +343,21 @@ class Photometry:
                 out[key] = [_num(r[i, 0]), _num(r[i, 1])]
         return out
 
+    def columns(self) -> dict[str, np.ndarray]:
+        """The fields of :meth:`record` for every spectrum at once (NaN where a record has None)."""
+        cols = {"ler_lm_per_W": self.ler_lm_per_W, "sp_ratio": self.sp_ratio}
+        if self.quantity is not Quantity.RELATIVE:
+            cols[self.quantity.luminous_name] = self.luminous
+            cols[RADIANT_KEY[self.quantity]] = self.radiant
+            cols[PHOTON_KEY[self.quantity]] = self.photon_umol
+            cols[PPF_KEY[self.quantity]] = self.ppf_umol
+        for key, r in (("radiometric_range_nm", self.radiometric_range_nm),
+                       ("photometric_range_nm", self.photometric_range_nm),
+                       ("ppf_range_nm", self.ppf_range_nm)):
+            if r is not None:  # flattened as flatten_record does
+                cols[f"{key}_lo"], cols[f"{key}_hi"] = r[:, 0], r[:, 1]
+        return cols
+
 
 def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE, *,
                measured_range_nm=None, measured_totals: Any = None) -> Photometry:
