@@ -136,4 +136,5 @@ def _join_as_measured(items: list[Spectra]) -> Spectra:
         sha256=sum((s.sha256 for s in items), ()),
         flags=sum((s.flags for s in items), ()),
         metadata=sum((s.metadata for s in items), ()),
+        measured_totals=np.concatenate([s.measured_totals for s in items]),
     )

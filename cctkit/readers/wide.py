@@ -228,6 +228,7 @@ def _join(parts: list[Spectra]) -> Spectra:
         flags=_chain(s.flags for s in parts),
         measured_range_nm=_chain(s.measured_range_nm for s in parts),
         metadata=_chain(s.metadata for s in parts),
+        measured_totals=np.concatenate([s.measured_totals for s in parts]),
     )
 
 
