@@ -28,6 +28,7 @@ from __future__ import annotations
 
 import itertools
 import json
+import math
 import os
 import sys
 import time
