@@ -179,7 +179,7 @@ def _columns(a: Analysis) -> dict[str, np.ndarray]:
     return out
 
 
-def _record(a: Analysis, i: int, in_domain: bool) -> dict[str, Any]:
+def _record(a: Analysis, i: int, in_domain: bool | None = None) -> dict[str, Any]:
     s = a.spectra
     lo, hi, step = s.measured_range_nm[i]
     r: dict[str, Any] = {
@@ -191,7 +191,7 @@ def _record(a: Analysis, i: int, in_domain: bool) -> dict[str, Any]:
         "measured_range_nm": [lo, hi],
         "measured_step_nm": step,
         "observer": a.observer,
-        "cct_K": _f(a.cct.cct_K, i) if in_domain else None,
+        "cct_K": _f(a.cct.cct_K, i) if (bool(a.cct.in_domain[i]) if in_domain is None else in_domain) else None,
         "duv": _f(a.cct.duv, i),
         "x": _f(a.xy[:, 0], i),
         "y": _f(a.xy[:, 1], i),
