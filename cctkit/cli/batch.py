@@ -39,7 +39,7 @@ def batch_cmd(
     rendering: bool = typer.Option(True, "--rendering/--no-rendering", help="Compute CIE 13.3 and TM-30 colour rendering (the costly part)."),
     overwrite: bool = OVERWRITE_OPTION,
     progress: bool = typer.Option(False, "--progress", help="Show progress on stderr even when it is not a terminal."),
-    quiet: bool = typer.Option(False, "--quiet", help="No progress and no summary line."),
+    quiet: bool = typer.Option(False, "--quiet", help="No progress and no summary line (as cctkit --quiet)."),
     recursive: bool = RECURSIVE_OPTION,
     skip_bad: bool = typer.Option(
         False, "--skip-bad",
@@ -77,6 +77,9 @@ def batch_cmd(
     skipped: list[InputError] | None = [] if skip_bad else None
     source = open_chunked(input_path, chunk_size=chunk_size, quantity=quantity, recursive=recursive,
                           skipped=skipped)
+    from .options import verbosity
+
+    quiet = quiet or verbosity() < 0
     show = not quiet and (progress or sys.stderr.isatty())
     bar = Progress(source.total, enabled=show)
     summary = run_batch(
