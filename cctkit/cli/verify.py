@@ -12,7 +12,9 @@ from typing import List, Optional
 
 import typer
 
+from ..spreadsheet import check_dialect
 from .options import (
+    CSV_DIALECT_OPTION,
     JSON_OPTION,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
@@ -25,7 +27,7 @@ from .options import (
 EXIT_FAIL = 1
 EXIT_INCONCLUSIVE = 3
 
-_OUTPUT_CSV = typer.Option(None, "--output", "-o", help="Write the per-sample table to FILE (.csv or .json).")
+_OUTPUT_CSV = typer.Option(None, "--output", "-o", help="Write the per-sample table to FILE (.csv, .xlsx or .json).")
 
 
 def _needs_rendering(claims) -> bool:
@@ -45,13 +47,15 @@ def verify_cmd(
     overwrite: bool = OVERWRITE_OPTION,
     wide: bool = typer.Option(False, "--wide", help="Every cell as value [limit] margin result (wider than a "
                               "terminal); the default table fits 100 columns."),
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """Check measured spectra against a supplier's claims; exit 0 pass, 1 fail, 3 inconclusive, 2 bad input."""
     from ..claims import format_verdict, load_claims, verdict_csv, verify
 
     inputs = [*files, claims_file]
+    check_dialect(csv_dialect)
     if output is not None:
-        require_suffix(output, (".csv", ".json"))
+        require_suffix(output, (".csv", ".json", ".xlsx"))
     if report is not None:
         from ..errors import InputError
         from ..safe_io import check_output_path
@@ -71,7 +75,7 @@ def verify_cmd(
     traced = _traceable(doc, records, claims_file)
     if output is not None:
         text = dumps(traced) if output.suffix.lower() == ".json" else verdict_csv(doc, claims)
-        write_output(output, text, overwrite=overwrite, inputs=inputs)
+        write_output(output, text, overwrite=overwrite, inputs=inputs, dialect=csv_dialect)
     if report is not None:
         from ..report import build_report
         from .options import info
@@ -108,6 +112,7 @@ def bin_cmd(
     json_out: bool = JSON_OPTION,
     output: Optional[Path] = _OUTPUT_CSV,
     overwrite: bool = OVERWRITE_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """ANSI C78.377 quadrangle and SDCM step of each spectrum, with counts per bin."""
     import numpy as np
@@ -117,8 +122,9 @@ def bin_cmd(
 
     if ellipses not in ELLIPSE_SETS:
         raise InputError(f"--ellipses must be one of {', '.join(ELLIPSE_SETS)}, got {ellipses!r}")
+    check_dialect(csv_dialect)
     if output is not None:
-        require_suffix(output, (".csv", ".json"))
+        require_suffix(output, (".csv", ".json", ".xlsx"))
     from ..analysis import analyse_files
 
     records = analyse_files(files, quantity=quantity, rendering=False).records()
@@ -135,7 +141,7 @@ def bin_cmd(
     doc = {**provenance(), "ellipses": ellipses, "samples": rows, "counts": result.counts()}
     if output is not None:
         text = dumps(doc) if output.suffix.lower() == ".json" else result.csv()
-        write_output(output, text, overwrite=overwrite, inputs=files)
+        write_output(output, text, overwrite=overwrite, inputs=files, dialect=csv_dialect)
     if json_out:
         emit_json(doc)
         return

@@ -241,8 +241,6 @@ def build_report(
         from .profile import read_logo
 
         logo = read_logo(Path(so.logo))
-    from matplotlib import rc_context
-
     records = analysis.records() if records is None else list(records)
     if len(records) != len(analysis):
         raise InputError(f"{len(records)} records for an analysis of {len(analysis)} spectra", source="records")
@@ -252,7 +250,7 @@ def build_report(
         check_verdict_matches(records, verdict)
     meta = report_meta(date=date, signoff=so, records=records)
     meta["design_intents"] = design_intents(analysis)
-    with rc_context(_RC), _quiet_font_lookup():
+    with report_style():
         from .charts import reference_comparison
 
         comparison = reference_comparison(analysis)
@@ -264,6 +262,59 @@ def build_report(
                                 diagram=diagram, regions=regions, verdict=verdict, claims=claims,
                                 sections=so.sections, logo=logo)
     return Report(path=out, kind="pdf", pages=tuple(titles))
+
+
+# Characters outside Windows-1252 (the PDF core fonts' set) and what the PDF prints instead.
+_PDF_TEXT = {"\u2265": ">=", "\u2264": "<=", "\u2192": "->", "\u2190": "<-", "\u0394": "d", "\u2212": "-",
+             "\u2032": "'", "\u2033": "''", "\u03b1": "alpha", "\u03b2": "beta", "\u03b3": "gamma",
+             "\u03c3": "sigma", "\u03bb": "lambda", "\u03bc": "\u00b5", "\u25b2": "!", "\u207b": "-",
+             "\u2248": "~", "\u221a": "sqrt", "\u2009": " ", "\u202f": " "}
+
+
+def pdf_text(text: str) -> str:
+    """``text`` with every character the PDF core fonts lack replaced (see :data:`_PDF_TEXT`;
+    others by their ASCII decomposition, else "?")."""
+    import unicodedata
+
+    out = []
+    for ch in text:
+        try:
+            ch.encode("cp1252")
+            out.append(ch)
+        except UnicodeEncodeError:
+            alt = _PDF_TEXT.get(ch)
+            if alt is None:
+                alt = unicodedata.normalize("NFKD", ch).encode("ascii", "ignore").decode("ascii") or "?"
+            out.append(alt)
+    return "".join(out)
+
+
+def save_pdf_page(pdf, fig) -> None:
+    """Add ``fig`` to an open :class:`matplotlib.backends.backend_pdf.PdfPages`, its text made
+    printable in the core fonts (:func:`pdf_text`)."""
+    from matplotlib.text import Text
+
+    for t in fig.findobj(Text):
+        s = t.get_text()
+        if s and not s.isascii():
+            t.set_text(pdf_text(s))
+    pdf.savefig(fig)
+
+
+#: Metadata every report PDF carries: no clock, so the same inputs give the same bytes.
+PDF_METADATA = {"CreationDate": None}
+
+
+def report_style():
+    """The context reports are drawn in: :data:`_RC` and quiet font lookup (see :class:`_quiet_font_lookup`)."""
+    from contextlib import ExitStack
+
+    from matplotlib import rc_context
+
+    stack = ExitStack()
+    stack.enter_context(rc_context(_RC))
+    stack.enter_context(_quiet_font_lookup())
+    return stack
 
 
 class _quiet_font_lookup:
@@ -331,19 +382,19 @@ def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, 
         "Title": shorten_title(meta, records),
         "Creator": f"cctkit {meta['cctkit_version']}",
         "Subject": "CCT, Duv, chromaticity, photometry and colour rendering of measured spectra",
-        "CreationDate": None,  # no clock in the file: same inputs, same bytes
+        **PDF_METADATA,
     }
     with PdfPages(tmp, metadata=info) as pdf:
         fig = pg.cover_page(records, meta, paper=paper, contents=contents, page_label=labels[0], logo=logo)
         titles.append(_title("cover", None, records))
-        pdf.savefig(fig)
+        save_pdf_page(pdf, fig)
         if n_verdict:
             from .verdict import verdict_pages
 
             for title, fig in verdict_pages(analysis, verdict, claims, meta, paper=paper, diagram=diagram,
                                             page_labels=labels[1:1 + n_verdict]):
                 titles.append(title)
-                pdf.savefig(fig)
+                save_pdf_page(pdf, fig)
         body = labels[1 + n_verdict:]
         for k, (kind, arg) in enumerate(plan[1:]):
             common = {"paper": paper}
@@ -363,7 +414,7 @@ def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, 
                 fig = pg.scatter_page(analysis, records, meta, comparison=comparison, diagram=diagram,
                                       regions=regions, page_label=body[k], **common)
             titles.append(_title(kind, arg, records))
-            pdf.savefig(fig)
+            save_pdf_page(pdf, fig)
     return titles
 
 
