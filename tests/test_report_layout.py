@@ -181,7 +181,7 @@ def test_the_same_identity_on_bars_lines_and_points(nine):
         assert all(to_hex(p.get_edgecolor()) == st["color"] and (p.get_hatch() or "") == st["hatch"]
                    for p in ax_bars.containers[k].patches)
         assert bars
-        line = [ln for ln in ax_lines.lines if ln.get_label() == f"{k + 1}"][0]
+        line = next(ln for ln in ax_lines.lines if ln.get_label() == f"{k + 1}")
         assert to_hex(line.get_color()) == st["color"] and line.get_marker() == st["marker"]
         pts = [ln for ln in ax_pts.lines if ln.get_marker() == st["marker"] and to_hex(ln.get_markeredgecolor())
                == st["color"]]

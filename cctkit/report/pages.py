@@ -369,7 +369,6 @@ def sample_page(analysis, i: int, rec: dict[str, Any], meta: dict[str, Any], *, 
     intents = (meta.get("design_intents") or {}).get(i, ())
     y = _strip(p, y, headline_cells(rec, ansi=ansi_bin(analysis, i), intents=intents)) + 0.12
 
-    bottom = p.h - p.MARGIN - _FOOTER_H
     gx = p.left + 0.45
     full = p.right - gx
     # Spectrum and reference, difference below; legends sit above each plot.
@@ -598,7 +597,7 @@ def comparison_page(analysis, indices: Sequence[int], records, meta, *, paper: s
                                          + (f"  -  flags: {codes}" if codes else ""), 150), fontsize=5.6,
                color=charts.series_style(k)["color"])
         y += 0.1
-    y += 0.35
+    y += 0.3 + 0.12 * (-(-n // 6))  # room for the legend rows above the spectra
     bottom = p.h - p.MARGIN - _FOOTER_H
     avail = bottom - y
     side = min(p.width / 2.0 - 0.55, avail * 0.6 - 0.7)
@@ -607,7 +606,8 @@ def comparison_page(analysis, indices: Sequence[int], records, meta, *, paper: s
     ax = p.axes(p.left + p.width / 2.0 + 0.5, y + 0.15, p.width / 2.0 - 0.5, side)
     charts.spectra_overlay_chart(analysis, ax, indices=indices, comparison=comparison,
                                  labels=[f"#{k + 1}" for k in range(n)])
-    p.text(p.left + p.width / 2.0 + 0.1, y - 0.1, "Spectra, each scaled to Y = 100", fontsize=7, weight="bold")
+    p.text(p.left + p.width / 2.0 + 0.1, y - 0.12 - 0.12 * (-(-n // 6)), "Spectra, each scaled to Y = 100",
+           fontsize=7, weight="bold")
     y_bars = y + 0.15 + side + 0.85
     if bottom - y_bars > 1.0:
         ax = p.axes(p.left + 0.5, y_bars, p.width - 0.5, bottom - y_bars - 0.35)

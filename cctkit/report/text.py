@@ -100,7 +100,7 @@ def margin_text(check: Mapping[str, Any]) -> str:
     margin = check.get("margin")
     if margin is None or not math.isfinite(float(margin)):
         return "n/a"
-    name, unit, fmt = metric_text(m)
+    _, unit, fmt = metric_text(m)
     fmt = fmt if "+" in fmt else fmt.replace("{:", "{:+")
     text = _fmt(margin, fmt)
     return text if unit == "1" else f"{text} {unit}"
