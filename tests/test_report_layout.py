@@ -384,3 +384,11 @@ def test_design_intent_is_on_the_spectrum_page(nine, tmp_path):
 def test_tables_never_print_a_negative_zero():
     assert pages.format_value({"duv": -0.00000001}, "duv") == "+0.0000"
     assert pages.format_value({"Ra": -0.04}, "Ra") == "0.0"
+
+
+def test_instrument_metadata_a_reader_found_is_printed():
+    rec = {"metadata": {"instrument": "QS-2 array spectroradiometer", "serial": "A0917", "integration_time_ms": 120,
+                        "comment": "bench 2"}}
+    text = pages.instrument_text(rec)
+    assert text.startswith("instrument QS-2 array spectroradiometer; serial A0917; integration time ms 120")
+    assert pages.instrument_text({}) == "" and pages.instrument_text({"metadata": None}) == ""
