@@ -236,6 +236,55 @@ def _cct_flags(cct: CctResult, i: int, uv=None) -> tuple[Flag, ...]:
     return tuple(out)
 
 
+def _cct_flag_rows(cct: CctResult, problems) -> np.ndarray:
+    """Indices of the spectra with a signal problem or a CCT flag (:func:`_cct_flags`); the others get nothing."""
+    duv = np.asarray(cct.duv, dtype=np.float64)
+    with np.errstate(invalid="ignore"):
+        rows = ~np.isfinite(duv) | (np.abs(duv) > DUV_LIMIT) | ~np.isfinite(np.asarray(cct.cct_K))
+    rows |= np.array([p is not None for p in problems], dtype=bool).reshape(rows.shape)
+    return np.flatnonzero(rows)
+
+
+def _flagged(*per_spectrum) -> np.ndarray:
+    """Indices where any of the per-spectrum flag tuples is non-empty."""
+    return np.flatnonzero([any(t) for t in zip(*per_spectrum)]) if per_spectrum[0] else np.zeros(0, dtype=np.intp)
+
+
+def _add_flags(flags: tuple, rows: np.ndarray, make=None) -> tuple:
+    """``flags`` with ``make(i)`` (default: the CCT flags) appended for each index in ``rows`` only."""
+    if rows.size == 0:
+        return tuple(flags)
+    out = list(flags)
+    for i in rows.tolist():
+        out[i] = out[i] + make(i)
+    return tuple(out)
+
+
+_BLAS = None
+
+
+def one_blas_thread():
+    """A context in which BLAS runs one thread (threadpoolctl; a no-op when it is missing).
+
+    :func:`analyse` runs in it: a BLAS may round a matrix product differently with another
+    number of threads, so this keeps every result independent of the machine's core count
+    and of how many batch workers ran it; batch workers are the parallelism instead.
+    """
+    global _BLAS
+    if _BLAS is None:
+        try:
+            from threadpoolctl import ThreadpoolController
+
+            _BLAS = ThreadpoolController()
+        except ImportError:  # pragma: no cover - a declared dependency
+            _BLAS = False
+    if _BLAS is False:
+        from contextlib import nullcontext
+
+        return nullcontext()
+    return _BLAS.limit(limits=1, user_api="blas")
+
+
 def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> Analysis:
     """Every measure for every spectrum in ``spectra``, vectorised.
 
@@ -258,7 +307,7 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> A
     problems = signal_problems(g)
     empty = np.array([p is not None for p in problems])
     V = np.where(empty[:, None], np.nan, g.values) if empty.any() else g.values
-    with np.errstate(invalid="ignore", divide="ignore"):
+    with np.errstate(invalid="ignore", divide="ignore"), one_blas_thread():
         return _analyse(g, V, problems, observer=int(observer), rendering=rendering)
 
 
@@ -273,14 +322,15 @@ def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: b
     xy = XYZ_to_xy(tri)
     uv = XYZ_to_uv(tri)
     cct = cct_duv(uv, observer=observer)
-    flags = tuple(g.flags[i] + ((problems[i],) if problems[i] is not None else _cct_flags(cct, i, uv))
-                  for i in range(len(g)))
+    flags = _add_flags(g.flags, _cct_flag_rows(cct, problems),
+                       lambda i: (problems[i],) if problems[i] is not None else _cct_flags(cct, i, uv))
     parts = _extra_measures(g, V, xy, observer=int(observer))
-    flags = tuple(f + parts["photometry"].flags[i] + parts["alphaopic"].flags[i] for i, f in enumerate(flags))
+    flags = _add_flags(flags, _flagged(parts["photometry"].flags, parts["alphaopic"].flags),
+                       lambda i: parts["photometry"].flags[i] + parts["alphaopic"].flags[i])
     if rendering:
         cri, fid, rendering_flags = _rendering(V, cct, observer=int(observer))
         parts.update(cri=cri, tm30=fid)
-        flags = tuple(f + e for f, e in zip(flags, rendering_flags))
+        flags = tuple(f + e if e else f for f, e in zip(flags, rendering_flags))
     return Analysis(
         spectra=g, observer=int(observer), XYZ=tri, xy=xy, uv=uv, uvp=uv_to_uvp(uv), cct=cct, flags=flags, **parts
     )
@@ -351,21 +401,24 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int):
 
     T, duv = (cct.cct_K, cct.duv) if observer == 2 else rendering_cct(V)
     r = colour_rendition(V, cct_K=T, duv=duv)
-    flags = []
-    for i in range(V.shape[0]):
-        f: tuple[Flag, ...] = ()
-        if np.isfinite(r.cct_K[i]) and not bool(r.cri.valid[i]):
-            f += (Flag("cri-not-meaningful",
-                       f"chromaticity distance DC = {float(r.cri.dc[i]):.4f} from the reference is >= {DC_LIMIT}: "
-                       "CIE 13.3 says the index is then not meaningful"),)
-        if not np.isfinite(r.cct_K[i]):
-            if np.isfinite(T[i]) and abs(float(duv[i])) <= DUV_LIMIT and T[i] > REFERENCE_RANGE_K[1]:
-                f += (Flag("cct-above-reference-range",
-                           f"CCT {float(T[i]):.0f} K is above {REFERENCE_RANGE_K[1]:g} K, where the CIE daylight "
-                           "reference is not defined: colour rendering not computed"),)
-            else:
-                f += (Flag("no-rendering", "no CCT, so no reference illuminant: colour rendering not computed"),)
-        flags.append(f)
+    # flags built for the flagged spectra only, from plain Python values
+    flags: list[tuple[Flag, ...]] = [()] * V.shape[0]
+    has_ref = np.isfinite(r.cct_K)
+    poor = np.flatnonzero(has_ref & ~np.asarray(r.cri.valid, dtype=bool))
+    for i, dc in zip(poor.tolist(), np.asarray(r.cri.dc)[poor].tolist()):
+        flags[i] = (Flag("cri-not-meaningful",
+                         f"chromaticity distance DC = {dc:.4f} from the reference is >= {DC_LIMIT}: "
+                         "CIE 13.3 says the index is then not meaningful"),)
+    T = np.asarray(T, dtype=np.float64)
+    with np.errstate(invalid="ignore"):
+        above = ~has_ref & np.isfinite(T) & (np.abs(np.asarray(duv, dtype=np.float64)) <= DUV_LIMIT) & (T > REFERENCE_RANGE_K[1])
+    for i, t in zip(np.flatnonzero(above).tolist(), T[above].tolist()):
+        flags[i] = (Flag("cct-above-reference-range",
+                         f"CCT {t:.0f} K is above {REFERENCE_RANGE_K[1]:g} K, where the CIE daylight "
+                         "reference is not defined: colour rendering not computed"),)
+    none = Flag("no-rendering", "no CCT, so no reference illuminant: colour rendering not computed")
+    for i in np.flatnonzero(~has_ref & ~above).tolist():
+        flags[i] = (none,)
     return r.cri, r.tm30, tuple(flags)
 
 
