@@ -282,11 +282,6 @@ def instrument_text(rec: dict[str, Any]) -> str:
     md = rec.get("metadata")
     if not isinstance(md, dict) or not md:
         return ""
-    from ..readers.metadata import identity_rows
-
-    shown, _ = identity_rows({str(k): str(v) for k, v in md.items()})
-    if shown:  # keys as the file wrote them (Instrument, Serial, Integration time, ...)
-        return "; ".join(f"{label.lower()} {value}" for label, value in shown)
     keys = [k for k in _INSTRUMENT_KEYS if md.get(k) not in (None, "")]
     keys += [k for k in sorted(md) if k not in keys and isinstance(md[k], (str, int, float))
              and not isinstance(md[k], bool)][: max(0, 6 - len(keys))]
