@@ -73,6 +73,17 @@ class Analysis:
         """One dict per spectrum with unit-bearing keys (the keys `cctkit inspect --json` prints)."""
         return [_record(self, i) for i in range(len(self))]
 
+    def to_frame(self):
+        """A pandas DataFrame, one row per spectrum, values as :meth:`records` (:func:`cctkit.interop.analysis_to_frame`)."""
+        from .interop import analysis_to_frame
+
+        return analysis_to_frame(self)
+
+    def _repr_html_(self) -> str:
+        from .interop import analysis_html
+
+        return analysis_html(self)
+
 
 def _f(a, i):
     return finite_or_none(a[i])
