@@ -8,7 +8,9 @@ spectra in ``spectra/`` (made by :mod:`cctkit.demo`), and writes under ``--out``
 * ``tw-lab.pdf`` / ``.json`` -- the lab's tunable-white fixture at its five set points;
 * ``nb3000-lot-verdict.json`` / ``.csv`` / ``.txt`` and ``nb3000-lot.pdf`` -- the delivered
   lot of NB-3000-95 checked against the supplier's claims (the PDF opens with the verdict pages);
-* ``nb3000-lot-bins.csv`` -- the lot binned by ANSI quadrangle and SDCM step.
+* ``nb3000-lot-bins.csv`` -- the lot binned by ANSI quadrangle and SDCM step;
+* ``nb3000-uncertainty.json`` / ``.csv`` / ``.pdf`` -- the shortlisted NB-3000-95 with the
+  uncertainty of every number under the lab's instrument model (``spectra/models/``).
 
 The job is a script of library calls, the same ones the command line makes.  It replaces
 its own previous outputs (never the spectra).
@@ -17,6 +19,7 @@ its own previous outputs (never the spectra).
 from __future__ import annotations
 
 import argparse
+from dataclasses import replace
 import sys
 import time
 from pathlib import Path
@@ -25,6 +28,7 @@ CANDIDATES = ("northbeam-nb-3000-95.csv", "caldera-cl-2700-80.csv", "vell-vo-400
 TUNABLE = "tw-lab-setpoints.csv"
 LOT_DIR = "lot-nb3000"
 CLAIMS = "claims/northbeam-3000K.toml"
+LAB_MODEL = "models/harbourside-lab-spectro.toml"
 
 
 def _say(message: str) -> None:
@@ -51,7 +55,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
 
     t0 = time.perf_counter()
     files = [spectra_dir / f for f in CANDIDATES]
-    _say(f"[1/4] candidate downlights: {', '.join(f.name for f in files)}")
+    _say(f"[1/5] candidate downlights: {', '.join(f.name for f in files)}")
     shortlist = analyse_files(files)
     recs = shortlist.records()
     put("harbourside-shortlist.json", dumps({**provenance(), "spectra": recs}))
@@ -62,7 +66,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
         written[path.name] = path
         _say(f"  wrote {path}")
 
-    _say(f"[2/4] tunable-white fixture: {TUNABLE}")
+    _say(f"[2/5] tunable-white fixture: {TUNABLE}")
     tw_file = spectra_dir / TUNABLE
     tw = analyse(read_spectra(tw_file))
     tw_recs = tw.records()
@@ -72,7 +76,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     _say(f"  wrote {out / 'tw-lab.pdf'}")
 
     lot_files = [spectra_dir / CANDIDATES[0], *sorted((spectra_dir / LOT_DIR).glob("*.csv"))]
-    _say(f"[3/4] delivered lot against the supplier's claims: {len(lot_files)} samples, {CLAIMS}")
+    _say(f"[3/5] delivered lot against the supplier's claims: {len(lot_files)} samples, {CLAIMS}")
     claims = load_claims(spectra_dir / CLAIMS)
     lot = analyse_files(lot_files)
     lot_recs = lot.records()
@@ -87,9 +91,24 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     failing = [s["name"] for s in verdict["samples"] if s["verdict"] != "pass"]
     _say(f"  verdict: {verdict['verdict']}; not passing: {', '.join(failing) or 'none'}")
 
-    _say("[4/4] binning the lot (ANSI C78.377 quadrangle, SDCM step)")
+    _say("[4/5] binning the lot (ANSI C78.377 quadrangle, SDCM step)")
     bins = bin_chromaticities(lot.xy, names=lot.spectra.names)
     put("nb3000-lot-bins.csv", bins.csv())
+
+    _say(f"[5/5] uncertainty of {CANDIDATES[0]} under the lab's model {LAB_MODEL}")
+    from .report.uncertainty import write_uncertainty_report
+    from .uncertainty import load_model, monte_carlo
+
+    model = load_model(spectra_dir / LAB_MODEL)
+    model = replace(model, source=LAB_MODEL)  # a relative path in the outputs, not this machine's
+    unc = monte_carlo(read_spectra(files[0]), model,
+                      progress=lambda i, n, m: _say(f"  {m} draws (JCGM 101 adaptive procedure)"))
+    put("nb3000-uncertainty.json", dumps(unc.document()))
+    put("nb3000-uncertainty.csv", unc.csv())
+    write_uncertainty_report(unc, out / "nb3000-uncertainty.pdf", overwrite=True,
+                             inputs=[files[0], spectra_dir / LAB_MODEL], date=date)
+    written["nb3000-uncertainty.pdf"] = out / "nb3000-uncertainty.pdf"
+    _say(f"  wrote {out / 'nb3000-uncertainty.pdf'}")
     _say(f"done in {time.perf_counter() - t0:.1f} s")
     return written
 

@@ -119,6 +119,7 @@ from __future__ import annotations
 import hashlib
 import math
 import tomllib
+import warnings
 from dataclasses import dataclass, field
 from functools import lru_cache
 from pathlib import Path
@@ -147,6 +148,11 @@ __all__ = [
     "numerical_tolerance",
     "gum_validation",
     "cct_duv_jacobian",
+    "TABLE_ROWS",
+    "claim_uncertainties",
+    "grid_groups",
+    "decimals_for",
+    "unit_of",
 ]
 
 #: Coverage factor of the expanded uncertainty U = k u.
@@ -427,6 +433,25 @@ UNITS = {
 }
 
 
+#: (key, label) of the measures in the human table and the report, in order.
+TABLE_ROWS: tuple[tuple[str, str], ...] = (
+    ("cct_K", "CCT"), ("duv", "Duv"), ("x", "x"), ("y", "y"), ("u", "u (CIE 1960)"), ("v", "v (CIE 1960)"),
+    ("u_prime", "u' (CIE 1976)"), ("v_prime", "v' (CIE 1976)"), ("luminous_flux_lm", "Luminous flux"),
+    ("illuminance_lx", "Illuminance"), ("luminance_cd_per_m2", "Luminance"), ("intensity_cd", "Luminous intensity"),
+    ("ler_lm_per_W", "LER"), ("sp_ratio", "S/P ratio"), ("melanopic_der", "Melanopic DER"),
+    ("peak_nm", "Peak wavelength"), ("centroid_nm", "Centroid wavelength"), ("fwhm_nm", "FWHM"),
+    ("dominant_wavelength_nm", "Dominant wavelength"), ("purity", "Excitation purity"),
+    ("Ra", "Ra (CIE 13.3)"), ("R9", "R9"), ("Rf", "Rf (CIE 224 / TM-30)"), ("Rg", "Rg (TM-30)"),
+)
+
+
+def decimals_for(u: float, digits: int = 2) -> int:
+    """Decimal places that show ``u`` to ``digits`` significant digits (4 when u is 0 or unknown)."""
+    if not (u is not None and u > 0 and math.isfinite(u)):
+        return 4
+    return max(0, digits - 1 - int(math.floor(math.log10(u))))
+
+
 def unit_of(key: str, quantity: Quantity | None = None) -> str:
     """The unit of measure ``key`` ("1" for dimensionless; X Y Z in the luminous unit of ``quantity``)."""
     if key in UNITS:
@@ -463,10 +488,13 @@ def numerical_tolerance(u: np.ndarray, digits: int) -> np.ndarray:
 
 def _block_stats(y: np.ndarray) -> dict[str, np.ndarray]:
     """Per column of y (M, K): mean, u, and the interval ends, over the finite draws."""
+    y = np.where(np.isfinite(y), y, np.nan)
     s = np.sort(y, axis=0)  # NaN sort last
     finite = np.isfinite(y).sum(axis=0)
-    mean = np.nanmean(np.where(np.isfinite(y), y, np.nan), axis=0) if y.size else np.full(y.shape[1], np.nan)
-    u = np.nanstd(y, axis=0, ddof=1)
+    with warnings.catch_warnings():  # a measure with no finite draw (e.g. CCT off the locus) is NaN, quietly
+        warnings.simplefilter("ignore", RuntimeWarning)
+        mean = np.nanmean(y, axis=0)
+        u = np.nanstd(y, axis=0, ddof=1)
     lo = np.full(y.shape[1], np.nan)
     hi = np.full(y.shape[1], np.nan)
     for m in np.unique(finite):
@@ -547,6 +575,7 @@ class SpectrumUncertainty:
     uv_covariance: np.ndarray  # (2, 2) of the Monte Carlo draws
     kept: Mapping[str, np.ndarray]  # draws of a few measures, for histograms and guard bands
     repeats: int = 1
+    unstable: tuple[str, ...] = ()  # measures not yet stable when the adaptive procedure hit max_draws
 
     def record(self) -> dict[str, Any]:
         out: dict[str, Any] = {
@@ -554,6 +583,8 @@ class SpectrumUncertainty:
             "quantity": self.quantity.value, "spectral_unit": self.quantity.unit,
             "montecarlo": {"draws_M": self.draws_M, "stages": self.stages, "converged": self.converged},
         }
+        if self.unstable:
+            out["montecarlo"]["unstable"] = list(self.unstable)
         if self.repeats > 1:
             out["repeats"] = self.repeats
         out.update({k: e.as_dict() for k, e in self.estimates.items()})
@@ -627,45 +658,56 @@ def _columns_of_draws(p: _Prepared, model, rng, m: int, *, quantity, observer: i
 
 
 def _spectrum_mc(p: _Prepared, model: UncertaintyModel, rng: np.random.Generator, *, quantity, observer: int,
-                 rendering: bool, keys: Sequence[str]):
+                 rendering: bool, keys: Sequence[str], on_stage: Callable[[int], None] | None = None):
     """Draw columns (M, K) for one spectrum: fixed M, or the adaptive stages of JCGM 101 section 7.9.4."""
     def stage(m):
         cols = _columns_of_draws(p, model, rng, m, quantity=quantity, observer=observer, rendering=rendering)
         return np.stack([cols[k] for k in keys], axis=1)
 
     if model.draws is not None:
-        return stage(model.draws), 1, True
+        return stage(model.draws), 1, True, ()
     watched = np.array([k not in DISCRETE_KEYS for k in keys])
     blocks: list[np.ndarray] = []
     stats: list[dict[str, np.ndarray]] = []
     converged = False
+    unstable: tuple[str, ...] = ()
     while sum(b.shape[0] for b in blocks) < model.max_draws:
         y = stage(min(model.block, model.max_draws - sum(b.shape[0] for b in blocks)))
         blocks.append(y)
         stats.append(_block_stats(y))
         h = len(blocks)
+        if on_stage is not None:
+            on_stage(sum(b.shape[0] for b in blocks))
         if h < 2:
             continue
-        allu = np.nanstd(np.concatenate(blocks), axis=0, ddof=1)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)
+            allu = np.nanstd(np.concatenate(blocks), axis=0, ddof=1)
         delta = numerical_tolerance(allu, model.tolerance_digits)
         worst = np.zeros(len(keys), dtype=bool)
         for name in ("mean", "u", "lo", "hi"):
             vals = np.stack([s[name] for s in stats])  # (h, K)
-            sd = np.nanstd(vals, axis=0, ddof=1) / math.sqrt(h)
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore", RuntimeWarning)
+                sd = np.nanstd(vals, axis=0, ddof=1) / math.sqrt(h)
             worst |= 2.0 * sd > delta
         # A measure the model leaves unchanged (u at the level of rounding) is stable by definition.
-        scale = np.nanmax(np.abs(np.concatenate(blocks)), axis=0)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)
+            scale = np.nanmax(np.abs(np.concatenate(blocks)), axis=0)
         exact = ~(allu > 1e-10 * np.where(scale > 0, scale, 1.0))
         active = watched & ~exact & np.isfinite(allu)
-        if not np.any(worst & active):
+        unstable = tuple(k for k, bad in zip(keys, worst & active) if bad)
+        if not unstable:
             converged = True
             break
-    return np.concatenate(blocks), len(blocks), converged
+    return np.concatenate(blocks), len(blocks), converged, unstable
 
 
 def monte_carlo(spectra: Spectra | Sequence[Spectra], model: UncertaintyModel, *, observer: int = 2,
                 rendering: bool = True, repeats: bool = False,
-                progress: Callable[[int, int, int], None] | None = None) -> UncertaintyResult:
+                progress: Callable[[int, int, int], None] | None = None,
+                stage_progress: Callable[[int, int], None] | None = None) -> UncertaintyResult:
     """Every measure of every spectrum with its Monte Carlo uncertainty (and the GUM u for chromaticity).
 
     Parameters
@@ -684,6 +726,8 @@ def monte_carlo(spectra: Spectra | Sequence[Spectra], model: UncertaintyModel, *
         measured and their scatter is the type-A component (N >= 4).
     progress
         Called as ``progress(i, n, M)`` after each spectrum.
+    stage_progress
+        Called as ``stage_progress(i, draws_so_far)`` after each stage of the adaptive procedure.
 
     Returns
     -------
@@ -708,12 +752,12 @@ def monte_carlo(spectra: Spectra | Sequence[Spectra], model: UncertaintyModel, *
     out: list[SpectrumUncertainty] = []
     for g in groups:
         out.extend(_group_mc(g, model, observer=int(observer), rendering=rendering, repeats=repeats,
-                             first=len(out), total=total, progress=progress))
+                             first=len(out), total=total, progress=progress, stage_progress=stage_progress))
     return UncertaintyResult(model=model, observer=int(observer), spectra=tuple(out))
 
 
 def _group_mc(spectra: Spectra, model: UncertaintyModel, *, observer: int, rendering: bool, repeats: bool,
-              first: int, total: int, progress) -> list[SpectrumUncertainty]:
+              first: int, total: int, progress, stage_progress=None) -> list[SpectrumUncertainty]:
     from .analysis import analyse
 
     wl = spectra.wavelength_nm
@@ -732,8 +776,9 @@ def _group_mc(spectra: Spectra, model: UncertaintyModel, *, observer: int, rende
     for i in range(len(measured)):
         rng = np.random.default_rng(np.random.SeedSequence(model.seed, spawn_key=(first + i,)))
         p = _prepare(wl, measured.values[i], model, rep)
-        y, stages, converged = _spectrum_mc(p, model, rng, quantity=measured.quantity, observer=observer,
-                                            rendering=rendering, keys=keys)
+        on_stage = None if stage_progress is None else (lambda m, k=first + i + 1: stage_progress(k, m))
+        y, stages, converged, unstable = _spectrum_mc(p, model, rng, quantity=measured.quantity, observer=observer,
+                                            rendering=rendering, keys=keys, on_stage=on_stage)
         st = _block_stats(y)
         est = {}
         for j, key in enumerate(keys):
@@ -752,7 +797,7 @@ def _group_mc(spectra: Spectra, model: UncertaintyModel, *, observer: int, rende
         out.append(SpectrumUncertainty(
             name=measured.names[i], source=measured.sources[i], sha256=measured.sha256[i], quantity=measured.quantity,
             estimates=est, draws_M=int(y.shape[0]), stages=stages, converged=converged, uv_covariance=cov,
-            kept=kept, repeats=len(spectra) if repeats else 1))
+            kept=kept, repeats=len(spectra) if repeats else 1, unstable=unstable))
         if progress is not None:
             progress(first + i + 1, total, int(y.shape[0]))
     return out
@@ -889,3 +934,69 @@ def uv_ellipse(centre: Sequence[float], cov: np.ndarray, *, p: float = P_COVERAG
     t = np.linspace(0.0, 2.0 * math.pi, points)
     circle = np.stack([np.cos(t), np.sin(t)], axis=1)
     return np.asarray(centre, dtype=np.float64)[None, :] + math.sqrt(k2) * (circle * np.sqrt(mu)[None, :]) @ q.T
+
+
+# --------------------------------------------------------------------------- inputs and decisions
+
+
+def grid_groups(items: Sequence[Spectra]) -> list[Spectra]:
+    """Consecutive Spectra on the same measured grid joined (no resampling), input order kept.
+
+    Draws are made on each spectrum's own grid, so spectra are only batched with others
+    measured on the same wavelengths.
+    """
+    from itertools import groupby
+
+    items = list(items)
+    if not items:
+        raise InputError("no spectra given")
+    if len({s.quantity for s in items}) > 1:
+        raise InputError("spectra of different quantities cannot be analysed together: "
+                         + ", ".join(sorted({s.quantity.value for s in items})))
+    out = []
+    for _, run in groupby(items, key=lambda s: s.wavelength_nm.tobytes()):
+        run = list(run)
+        if len(run) == 1:
+            out.append(run[0])
+            continue
+        out.append(Spectra(
+            wavelength_nm=run[0].wavelength_nm,
+            values=np.concatenate([s.values for s in run]),
+            names=sum((s.names for s in run), ()),
+            quantity=run[0].quantity,
+            sources=sum((s.sources for s in run), ()),
+            sha256=sum((s.sha256 for s in run), ()),
+            flags=sum((s.flags for s in run), ()),
+            measured_range_nm=sum((s.measured_range_nm for s in run), ()),
+        ))
+    return out
+
+
+def claim_uncertainties(result: UncertaintyResult, claims) -> list[dict[str, float]]:
+    """Expanded uncertainties U (k = 2) per sample for the guard bands of :func:`cctkit.claims.verify`.
+
+    Every measure's U from the Monte Carlo draws; ``efficacy_lm_per_W`` from the luminous
+    flux's U over the sample's stated power (taken as exact); ``sdcm`` and
+    ``ansi_quadrangle`` from the SDCM steps and quadrangle edge margins of the chromaticity
+    draws themselves, with the claim's own ellipse and quadrangle.
+    """
+    from . import tolerance as tol
+    from .claims import sdcm_ellipse
+
+    out = []
+    for s in result.spectra:
+        d = {k: e.U for k, e in s.estimates.items() if np.isfinite(e.u)}
+        power = claims.power_W.get(s.name, claims.power_W.get("*"))
+        if power and "luminous_flux_lm" in d:
+            d["efficacy_lm_per_W"] = d["luminous_flux_lm"] / float(power)
+        c = claims.chromaticity
+        if c is not None and "x" in s.kept and "y" in s.kept:
+            xy = np.stack([s.kept["x"], s.kept["y"]], axis=1)
+            xy = xy[np.isfinite(xy).all(axis=1)]
+            if c.max_sdcm is not None and xy.shape[0] > 1:
+                d["sdcm"] = K_COVERAGE * float(np.std(sdcm_ellipse(c).steps(xy), ddof=1))
+            if c.ansi_quadrangle and xy.shape[0] > 1:
+                margin = tol.edge_margin_uv(xy, tol.ansi_quadrangle(c.nominal_cct_K), space="xy")
+                d["ansi_quadrangle"] = K_COVERAGE * float(np.nanstd(margin, ddof=1))
+        out.append(d)
+    return out

@@ -276,3 +276,65 @@ def test_cli_table_and_csv(tmp_path):
     rows = out.read_text().splitlines()
     assert rows[0].startswith("name,measure,unit,value,u,U,k,interval_95_lo,interval_95_hi,draws")
     assert any(",cct_K,K," in row for row in rows)
+
+
+# ---------------------------------------------------------------- decisions
+
+
+def test_verify_takes_guard_bands_from_the_model_and_the_claims_file_overrides(tmp_path):
+    # ISO 14253-1 / ILAC G8 guard band with U computed per sample; the typed-in [uncertainty] table
+    # (Ra = 0.5, luminous_flux_lm = 30 in the demo claims) keeps precedence for its metrics.
+    model = tmp_path / "m.toml"
+    model.write_text(MODEL.read_text().replace('draws = "adaptive"', "draws = 100"))
+    claims = ROOT / "spectra" / "claims" / "northbeam-3000K.toml"
+    out = tmp_path / "v.json"
+    r = runner.invoke(app, ["verify", str(LAMP), "--claims", str(claims), "--uncertainty-model", str(model),
+                            "--output", str(out)])
+    assert r.exit_code in (0, 1, 3), r.output
+    doc = json.loads(out.read_text())
+    assert doc["uncertainty_model"]["sha256"] == __import__("hashlib").sha256(model.read_bytes()).hexdigest()
+    checks = {c["metric"]: c for c in doc["samples"][0]["checks"]}
+    assert checks["Ra"]["decision"] == {"rule": "guard-band", "U": 0.5, "result": checks["Ra"]["result"],
+                                        "U_source": "claims"}
+    r9 = checks["R9"]["decision"]
+    assert r9["U_source"] == "model"
+    # the same U the uncertainty command reports for this sample with this model (same seed, same draws)
+    u = runner.invoke(app, ["uncertainty", str(LAMP), "--model", str(model), "--json"])
+    assert r9["U"] == pytest.approx(json.loads(u.stdout)["spectra"][0]["R9"]["U"], rel=1e-12)
+    assert checks["sdcm"]["decision"]["U_source"] == "model" and checks["sdcm"]["decision"]["U"] > 0
+
+
+def test_report_page_shows_U_beside_each_number(tmp_path, lamp):
+    from conftest import pdf_page_texts
+
+    from cctkit.report.uncertainty import write_uncertainty_report
+
+    r = monte_carlo(lamp, _model(noise={"u_rel": 0.01}, montecarlo={"draws": 200, "seed": 1}))
+    out = tmp_path / "u.pdf"
+    write_uncertainty_report(r, out, date="2026-01-15", inputs=[LAMP])
+    (text,) = pdf_page_texts(out)
+    assert "Measurement uncertainty: NB-3000-95" in text and "U (k = 2)" in text and "95 % region" in text
+    e = r.spectra[0].estimates["cct_K"]
+    assert f"{e.value:.0f}" in text and f"{e.U:.1f}" in text
+    with pytest.raises(ValueError, match="exists"):
+        write_uncertainty_report(r, out, inputs=[LAMP])
+    # same result, same date: same bytes
+    again = tmp_path / "again.pdf"
+    write_uncertainty_report(r, again, date="2026-01-15")
+    assert again.read_bytes() == out.read_bytes()
+
+
+def test_a_coloured_source_has_no_cct_and_says_so(lamp):
+    # A green LED (|Duv| far above 0.05): CCT is not reported (CIE 15:2018), so it has no uncertainty either.
+    wl = lamp.wavelength_nm
+    green = Spectra(wavelength_nm=wl, values=np.exp(-0.5 * ((wl - 530.0) / 15.0) ** 2), names=("green",))
+    r = monte_carlo(green, _model(noise={"u_rel": 0.01}, montecarlo={"draws": 100, "seed": 1}), rendering=False)
+    d = r.records()[0]
+    assert d["cct_K"]["value"] is None and d["cct_K"]["u"] is None and d["cct_K"]["draws"] == 0
+    assert d["x"]["u"] > 0 and d["dominant_wavelength_nm"]["u"] > 0
+
+
+def test_repeats_need_four_scans(tmp_path):
+    r = runner.invoke(app, ["uncertainty", str(LAMP), "--model", str(MODEL), "--repeats"])
+    assert r.exit_code == 2
+    assert r.output.strip().count("\n") == 0 and "at least 4 are needed" in r.output

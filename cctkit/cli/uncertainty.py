@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import math
 from pathlib import Path
 from typing import Any, List, Optional
 
@@ -24,40 +23,36 @@ from .options import (
 MODEL_HELP = "Uncertainty model of the instrument (TOML; see the README, 'Uncertainty model files')."
 
 
-def _decimals(u: float, digits: int = 2) -> int:
-    """Decimal places that show ``u`` to ``digits`` significant digits."""
-    if not (u > 0 and math.isfinite(u)):
-        return 4
-    return max(0, digits - 1 - int(math.floor(math.log10(u))))
-
-
 def _n(v: Any, d: int) -> str:
     return "n/a" if v is None else f"{v:.{d}f}"
 
 
 def uncertainty_table(doc: dict[str, Any]) -> str:
     """The human table: value, u, U (k = 2), 95 % interval and the GUM u, per spectrum and measure."""
-    from .core import INSPECT_ROWS
+    from ..spectra import Quantity
+    from ..uncertainty import TABLE_ROWS, decimals_for, unit_of
 
-    labels = {key: (label, unit) for key, label, unit, _ in INSPECT_ROWS}
     lines = []
     model = doc["uncertainty_model"]
     lines.append(f"model {model['file']} (SHA-256 {model['sha256'][:12]}...); k = 2, 95 % intervals "
                  "probabilistically symmetric (JCGM 101)")
     for rec in doc["spectra"]:
         mc = rec["montecarlo"]
-        how = (f"adaptive, {mc['stages']} stages, " + ("stable" if mc["converged"] else "NOT stable at max_draws")
+        how = (f"adaptive, {mc['stages']} stages, " + ("stable" if mc["converged"] else
+               "NOT stable at max_draws: " + ", ".join(mc.get("unstable", [])))
                if doc["uncertainty_method"]["adaptive"] else "fixed")
         lines.append("")
         lines.append(f"{rec['name']}  ({rec['source']}; M = {mc['draws_M']} draws, {how})")
         head = f"  {'measure':<24} {'value':>12} {'u':>10} {'U (k=2)':>10}  {'95 % interval':<25} {'u GUM':>10}  unit"
         lines.append(head)
         lines.append("  " + "-" * (len(head) - 2))
-        for key, (label, unit) in labels.items():
+        for key, label in TABLE_ROWS:
             e = rec.get(key)
             if not isinstance(e, dict):
                 continue
-            d = _decimals(e["u"] or 0.0)
+            unit = unit_of(key, Quantity(rec["quantity"]))
+            unit = "" if unit == "1" else unit
+            d = decimals_for(e["u"])
             lo, hi = e["interval_95"]
             interval = f"[{_n(lo, d)}, {_n(hi, d)}]"
             gum = _n(e.get("u_gum"), d + 1) if "u_gum" in e else ""
@@ -85,7 +80,7 @@ def uncertainty_cmd(
     from ..errors import InputError
     from ..safe_io import check_output_path
     from ..spectra import Quantity
-    from ..uncertainty import load_model, monte_carlo
+    from ..uncertainty import grid_groups, load_model, monte_carlo
 
     obs = parse_observer(observer)
     if quantity is not None:
@@ -101,18 +96,15 @@ def uncertainty_cmd(
         check_output_path(report, overwrite=overwrite, inputs=inputs)
     model = load_model(model_file)
     items = read_files(files, quantity=quantity)
-    groups: dict[bytes, list] = {}
-    for s in items:
-        groups.setdefault(s.wavelength_nm.tobytes(), []).append(s)
-    if len({s.quantity for s in items}) > 1:
-        raise InputError("spectra of different quantities cannot be analysed together: "
-                         + ", ".join(sorted({s.quantity.value for s in items})))
-    spectra = [g[0] if len(g) == 1 else _join_same_grid(g) for g in groups.values()]
+    spectra = grid_groups(items)
 
     def progress(i: int, n: int, m: int) -> None:
         info(f"spectrum {i}/{n}: {m} draws")
 
-    result = monte_carlo(spectra, model, observer=obs, repeats=repeats, progress=progress)
+    def stage(i: int, m: int) -> None:
+        info(f"spectrum {i}: {m} draws so far (adaptive, JCGM 101 7.9)")
+
+    result = monte_carlo(spectra, model, observer=obs, repeats=repeats, progress=progress, stage_progress=stage)
     doc = result.document()
     if output is not None:
         text = dumps(doc) if output.suffix.lower() == ".json" else result.csv()
@@ -126,24 +118,6 @@ def uncertainty_cmd(
         emit_json(doc)
     else:
         typer.echo(uncertainty_table(doc))
-
-
-def _join_same_grid(items):
-    """Several Spectra on one measured grid, joined without resampling (draws are made on that grid)."""
-    import numpy as np
-
-    from ..spectra import Spectra
-
-    return Spectra(
-        wavelength_nm=items[0].wavelength_nm,
-        values=np.concatenate([s.values for s in items]),
-        names=sum((s.names for s in items), ()),
-        quantity=items[0].quantity,
-        sources=sum((s.sources for s in items), ()),
-        sha256=sum((s.sha256 for s in items), ()),
-        flags=sum((s.flags for s in items), ()),
-        measured_range_nm=sum((s.measured_range_nm for s in items), ()),
-    )
 
 
 def register(app: typer.Typer) -> None:
