@@ -410,7 +410,11 @@ def measure_columns(a) -> dict[str, np.ndarray]:
         cols["ler_lm_per_W"] = ph.ler_lm_per_W
         cols["sp_ratio"] = ph.sp_ratio
     if a.alphaopic is not None:
-        cols["melanopic_der"] = a.alphaopic.melanopic_der
+        from .alphaopic import ALPHA_OPIC_NAMES  # the last axis of the alpha-opic arrays follows these names
+
+        for k, name in enumerate(ALPHA_OPIC_NAMES):
+            cols[f"{name}_elr_mW_per_lm"] = np.asarray(a.alphaopic.elr_W_per_lm)[:, k] * 1e3
+            cols[f"{name}_der"] = np.asarray(a.alphaopic.der)[:, k]
     if a.shape is not None:
         cols.update(peak_nm=a.shape.peak_nm, centroid_nm=a.shape.centroid_nm, fwhm_nm=a.shape.fwhm_nm)
     if a.dominant is not None:
@@ -428,7 +432,7 @@ def measure_columns(a) -> dict[str, np.ndarray]:
 #: The unit of each measure key (keys not listed are dimensionless).
 UNITS = {
     "cct_K": "K", "luminous_flux_lm": "lm", "illuminance_lx": "lx", "luminance_cd_per_m2": "cd/m²",
-    "intensity_cd": "cd", "ler_lm_per_W": "lm/W", "peak_nm": "nm", "centroid_nm": "nm", "fwhm_nm": "nm",
+    "intensity_cd": "cd", "ler_lm_per_W": "lm/W", "melanopic_elr_mW_per_lm": "mW/lm", "peak_nm": "nm", "centroid_nm": "nm", "fwhm_nm": "nm",
     "dominant_wavelength_nm": "nm",
 }
 

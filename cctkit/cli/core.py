@@ -43,6 +43,9 @@ INSPECT_ROWS: tuple[tuple[str, str, str, str], ...] = (
     ("sp_ratio", "S/P ratio", "", "{:.3f}"),
     ("melanopic_der", "Melanopic DER", "", "{:.3f}"),
     ("melanopic_edi_lx", "Melanopic EDI", "lx", "{:.1f}"),
+    ("melanopic_edl_cd_per_m2", "Melanopic EDL", "cd/m2", "{:.1f}"),
+    ("melanopic_equivalent_daylight_flux_lm", "Melanopic equiv. D65 flux", "lm", "{:.1f}"),
+    ("melanopic_equivalent_daylight_intensity_cd", "Melanopic equiv. D65 int.", "cd", "{:.1f}"),
     ("peak_nm", "Peak wavelength", "nm", "{:.1f}"),
     ("centroid_nm", "Centroid wavelength", "nm", "{:.1f}"),
     ("fwhm_nm", "FWHM (highest peak)", "nm", "{:.1f}"),
@@ -53,6 +56,10 @@ INSPECT_ROWS: tuple[tuple[str, str, str, str], ...] = (
     ("Rf", "Rf (TM-30 / CIE 224)", "", "{:.1f}"),
     ("Rg", "Rg (TM-30)", "", "{:.1f}"),
 )
+#: After this row the table says where the other alpha-opic quantities are.
+ALPHA_OPIC_LAST_ROW = "melanopic_equivalent_daylight_intensity_cd"
+ALPHA_OPIC_NOTE = ("other CIE S 026 alpha-opic quantities (S-, M-, L-cone-opic, rhodopic; totals, ELR, DER): --json\n"
+                   "  alpha-opic values describe the optical stimulus only; they are not medical advice")
 
 
 def _fmt(value: Any, fmt: str) -> str:
@@ -74,6 +81,8 @@ def format_records(records: list[dict[str, Any]]) -> str:
         for key, label, unit, fmt in INSPECT_ROWS:
             if key in rec:
                 lines.append(f"  {label:<24} {_fmt(rec[key], fmt):>12}  {unit}")
+            if key == ALPHA_OPIC_LAST_ROW and "melanopic_der" in rec:
+                lines.append(f"  {ALPHA_OPIC_NOTE}")
         for flag in rec.get("flags", []):
             lines.append(f"  warning [{flag['code']}]: {flag['message']}")
         lines.append("")
