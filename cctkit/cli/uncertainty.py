@@ -57,7 +57,7 @@ def uncertainty_table(doc: dict[str, Any]) -> str:
             interval = f"[{_n(lo, d)}, {_n(hi, d)}]"
             gum = _n(e.get("u_gum"), d + 1) if "u_gum" in e else ""
             lines.append(f"  {label:<24} {_n(e['value'], d):>12} {_n(e['u'], d + 1):>10} {_n(e['U'], d + 1):>10}  "
-                         f"{interval:<25} {gum:>10}  {unit}")
+                         f"{interval:<25} {gum:>10}  {unit}".rstrip())
     lines.append("")
     lines.append("R1-R14, X Y Z and the draws' mean are in --json and the CSV.  " + doc["caution"])
     return "\n".join(lines)
