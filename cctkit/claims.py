@@ -517,9 +517,12 @@ def _need(rec: Mapping, key: str, claims: Claims, name: str, *, why: str | None 
 
 
 def _guard(claims: Claims, computed: Mapping[str, float] | None, metric: str) -> tuple[float | None, str | None]:
-    """U for a check: the claims file's [uncertainty] entry overrides the computed (model) one."""
+    """U for a check: the claims file's [uncertainty] entry overrides the computed (model) one.
+
+    The source is named only when computed uncertainties are in play (``computed`` not None).
+    """
     if metric in claims.uncertainty:
-        return claims.uncertainty[metric], "claims"
+        return claims.uncertainty[metric], ("claims" if computed is not None else None)
     if computed and computed.get(metric) is not None:
         return float(computed[metric]), "model"
     return None, None
@@ -567,14 +570,14 @@ def _chroma_checks(records: list[Mapping], claims: Claims, computed=None) -> lis
         margin = tol.edge_margin_uv(xy, quad, space="xy")
         for i in range(len(records)):
             m = _finite(margin[i])
-            U, src = _guard(claims, computed[i] if computed else None, "ansi_quadrangle")
+            U, src = _guard(claims, computed[i] if computed is not None else None, "ansi_quadrangle")
             out[i].append(Check("ansi_quadrangle", found[i], None, None, m, _decide(m, U), U, src))
     if c.max_sdcm is not None:
         steps = sdcm_ellipse(c).steps(xy)
         for i in range(len(records)):
             s = _finite(steps[i])
             out[i].append(_limit_check("sdcm", s, None, c.max_sdcm,
-                                       *_guard(claims, computed[i] if computed else None, "sdcm")))
+                                       *_guard(claims, computed[i] if computed is not None else None, "sdcm")))
     return out
 
 
@@ -638,7 +641,7 @@ def verify(records: list[Mapping[str, Any]], claims: Claims,
         name = _name(rec, i)
         checks = [
             _limit_check(lim.metric, _record_value(rec, lim.metric, claims, name), lim.min, lim.max,
-                         *_guard(claims, uncertainties[i] if uncertainties else None, lim.metric))
+                         *_guard(claims, uncertainties[i] if uncertainties is not None else None, lim.metric))
             for lim in claims.limits
         ]
         checks += chroma[i]

@@ -100,7 +100,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     from .uncertainty import load_model, monte_carlo
 
     model = load_model(spectra_dir / LAB_MODEL)
-    model = replace(model, source=LAB_MODEL)  # a relative path in the outputs, not this machine's
+    model = replace(model, source=str(Path(spectra_dir.name) / LAB_MODEL))  # no machine-specific path in outputs
     unc = monte_carlo(read_spectra(files[0]), model,
                       progress=lambda i, n, m: _say(f"  {m} draws (JCGM 101 adaptive procedure)"))
     put("nb3000-uncertainty.json", dumps(unc.document()))
