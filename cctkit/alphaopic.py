@@ -159,6 +159,18 @@ class AlphaOpic:
             out[f"{name}_der"] = _num(self.der[i, k])
         return out
 
+    def columns(self) -> dict[str, np.ndarray]:
+        """The fields of :meth:`record` for every spectrum at once (NaN where a record has None)."""
+        cols: dict[str, np.ndarray] = {}
+        keys = _KEYS.get(self.quantity)
+        for k, name in enumerate(ALPHA_OPIC_NAMES):
+            if keys is not None:
+                cols[f"{name}_{keys[0]}"] = self.radiant[:, k]
+                cols[f"{name}_{keys[1]}"] = self.edi[:, k]
+            cols[f"{name}_elr_mW_per_lm"] = self.elr_W_per_lm[:, k] * 1e3
+            cols[f"{name}_der"] = self.der[:, k]
+        return cols
+
 
 def alpha_opic(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> AlphaOpic:
     """alpha-opic totals, ELR, equivalent daylight totals and DER of spectra on the working grid.

@@ -9,7 +9,9 @@ import typer
 
 from ..errors import InputError
 from ..formats import format_number
+from ..spreadsheet import check_dialect
 from .options import (
+    CSV_DIALECT_OPTION,
     JSON_OPTION,
     OBSERVER_HELP,
     OUTPUT_OPTION,
@@ -96,6 +98,7 @@ def inspect_cmd(
     json_out: bool = JSON_OPTION,
     output: Optional[Path] = OUTPUT_OPTION,
     overwrite: bool = OVERWRITE_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """Every measure for each spectrum: CCT, Duv, chromaticity, photometry, colour rendering."""
     from ..analysis import analyse_groups, provenance, read_files, records_csv
@@ -105,14 +108,15 @@ def inspect_cmd(
     if quantity is not None:
         Quantity.parse(quantity, source="--quantity")
     if output is not None:
-        require_suffix(output, (".json", ".csv"))
+        require_suffix(output, (".json", ".csv", ".xlsx"))
+    check_dialect(csv_dialect)
     records = analyse_groups(read_files(files, quantity=quantity), observer=obs)
     doc = {**provenance(), "spectra": records}
     if output is not None:
         if output.suffix.lower() == ".json":
             write_output(output, dumps(doc), overwrite=overwrite, inputs=files)
         else:
-            write_output(output, records_csv(records), overwrite=overwrite, inputs=files)
+            write_output(output, records_csv(records), overwrite=overwrite, inputs=files, dialect=csv_dialect)
     if json_out:
         emit_json(doc)
     else:
@@ -179,6 +183,7 @@ def locus_cmd(
     output: Optional[Path] = OUTPUT_OPTION,
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """The Planckian locus as a table (T_K, x, y, u, v, u', v')."""
     import numpy as np
@@ -198,12 +203,12 @@ def locus_cmd(
     rows = loc.rows()
     header = ["T_K", "x", "y", "u", "v", "u_prime", "v_prime"]
     if output is not None:
-        suffix = require_suffix(output, (".csv", ".json"))
-        if suffix == ".csv":
-            text = csv_text(header, ([r[k] for k in header] for r in rows))
-        else:
+        suffix = require_suffix(output, (".csv", ".json", ".xlsx"))
+        if suffix == ".json":
             text = dumps({"observer": loc.observer, "c2_m_K": loc.c2_m_K, "locus": rows})
-        write_output(output, text, overwrite=overwrite)
+        else:
+            text = csv_text(header, ([r[k] for k in header] for r in rows))
+        write_output(output, text, overwrite=overwrite, dialect=csv_dialect)
     if json_out:
         emit_json({"observer": loc.observer, "c2_m_K": loc.c2_m_K, "locus": rows})
     elif output is None:
@@ -216,6 +221,7 @@ def blackbody_cmd(
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
     quantity: str = typer.Option("exitance", "--as", help="exitance [W/(m2 nm)] or radiance [W/(sr m2 nm)] in the file."),
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """A blackbody at T_K: Wien peak, total exitance, efficacy, chromaticity; the spectrum to a file."""
     import numpy as np
@@ -244,17 +250,17 @@ def blackbody_cmd(
         "cct_K": float(cct_duv(uv).cct_K) if 1000 <= T_K <= 100000 else None,
     }
     if output is not None:
-        suffix = require_suffix(output, (".csv", ".json"))
+        suffix = require_suffix(output, (".csv", ".json", ".xlsx"))
         if quantity == "exitance":
             values, unit, col = spectral_exitance(T_K), "W/(m2 nm)", "spectral_exitance (W/(m2 nm))"
         else:
             values, unit, col = spectral_radiance(T_K), "W/(sr m2 nm)", "spectral_radiance (W/(sr m2 nm))"
         # exitance shares the unit of irradiance, which is how the readers take it back
         text = spectrum_file_text(
-            suffix, f"blackbody {T_K:g} K", values, quantity="irradiance" if quantity == "exitance" else "radiance",
+            ".json" if suffix == ".json" else ".csv", f"blackbody {T_K:g} K", values, quantity="irradiance" if quantity == "exitance" else "radiance",
             unit=unit, column=col, comment=f"blackbody at {T_K:g} K, Planck's law, c2 = {C2_M_K:g} m K; unit: {unit}",
         )
-        write_output(output, text, overwrite=overwrite)
+        write_output(output, text, overwrite=overwrite, dialect=csv_dialect)
     if json_out:
         emit_json(doc)
     else:

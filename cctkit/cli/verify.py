@@ -12,7 +12,9 @@ from typing import List, Optional
 
 import typer
 
+from ..spreadsheet import check_dialect
 from .options import (
+    CSV_DIALECT_OPTION,
     JSON_OPTION,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
@@ -25,7 +27,7 @@ from .options import (
 EXIT_FAIL = 1
 EXIT_INCONCLUSIVE = 3
 
-_OUTPUT_CSV = typer.Option(None, "--output", "-o", help="Write the per-sample table to FILE (.csv or .json).")
+_OUTPUT_CSV = typer.Option(None, "--output", "-o", help="Write the per-sample table to FILE (.csv, .xlsx or .json).")
 
 
 def _needs_rendering(claims) -> bool:
@@ -42,6 +44,7 @@ def verify_cmd(
     report: Optional[Path] = typer.Option(None, "--report", help="Also write the PDF report, starting with the "
                                           "verdict pages, to FILE (.pdf)."),
     overwrite: bool = OVERWRITE_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
     uncertainty_model: Optional[Path] = typer.Option(
         None, "--uncertainty-model", help="Guard bands from each sample's computed U (Monte Carlo with this "
         "instrument model, TOML); a claims file's [uncertainty] entry still overrides its metric."),
@@ -50,8 +53,9 @@ def verify_cmd(
     from ..claims import format_verdict, load_claims, verdict_csv, verify
 
     inputs = [*files, claims_file] + ([uncertainty_model] if uncertainty_model is not None else [])
+    check_dialect(csv_dialect)
     if output is not None:
-        require_suffix(output, (".csv", ".json"))
+        require_suffix(output, (".csv", ".json", ".xlsx"))
     if report is not None:
         from ..errors import InputError
         from ..safe_io import check_output_path
@@ -76,7 +80,7 @@ def verify_cmd(
         traced["uncertainty_model"] = model.provenance()
     if output is not None:
         text = dumps(traced) if output.suffix.lower() == ".json" else verdict_csv(doc, claims)
-        write_output(output, text, overwrite=overwrite, inputs=inputs)
+        write_output(output, text, overwrite=overwrite, inputs=inputs, dialect=csv_dialect)
     if report is not None:
         from ..report import build_report
         from .options import info
@@ -127,6 +131,7 @@ def bin_cmd(
     json_out: bool = JSON_OPTION,
     output: Optional[Path] = _OUTPUT_CSV,
     overwrite: bool = OVERWRITE_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """ANSI C78.377 quadrangle and SDCM step of each spectrum, with counts per bin."""
     import numpy as np
@@ -137,8 +142,9 @@ def bin_cmd(
 
     if ellipses not in ELLIPSE_SETS:
         raise InputError(f"--ellipses must be one of {', '.join(ELLIPSE_SETS)}, got {ellipses!r}")
+    check_dialect(csv_dialect)
     if output is not None:
-        require_suffix(output, (".csv", ".json"))
+        require_suffix(output, (".csv", ".json", ".xlsx"))
     from ..analysis import analyse_files
 
     records = analyse_files(files, quantity=quantity, rendering=False).records()
@@ -155,7 +161,7 @@ def bin_cmd(
     doc = {**provenance(), "ellipses": ellipses, "samples": rows, "counts": result.counts()}
     if output is not None:
         text = dumps(doc) if output.suffix.lower() == ".json" else result.csv()
-        write_output(output, text, overwrite=overwrite, inputs=files)
+        write_output(output, text, overwrite=overwrite, inputs=files, dialect=csv_dialect)
     if json_out:
         emit_json(doc)
         return
