@@ -234,7 +234,7 @@ def analysis_html(analysis: "Analysis", *, max_rows: int = 20) -> str:
     for pos, i in enumerate(shown):
         if pos and shown[pos - 1] != i - 1:
             rows.append("<tr>" + "".join("<td>…</td>" for _ in heads) + "</tr>")
-        rec = _record(analysis, i)
+        rec = _record(analysis, i, bool(analysis.cct.in_domain[i]))
         rec["R9"] = rec["R"][8] if rec.get("R") else None
         rec["luminous"] = rec.get(key)
         rec["flags"] = " ".join(f["code"] for f in rec["flags"])

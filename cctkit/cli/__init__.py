@@ -21,7 +21,7 @@ from ..errors import CctkitError
 
 __all__ = ["app", "main"]
 
-_COMMAND_MODULES = ("core", "compare", "verify", "report", "batch", "uncertainty")
+_COMMAND_MODULES = ("core", "compare", "verify", "report", "batch", "blend", "uncertainty")
 
 
 class _OneLineErrors(TyperGroup):

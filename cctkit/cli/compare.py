@@ -67,13 +67,13 @@ def versus_cmd(
     from ..constants import DUV_LIMIT, VISIBLE_BAND_NM
     from ..readers import read_spectra
     from ..rendering import REFERENCE_RANGE_K, colour_rendition, compare_to_reference, reference_cct, rendering_cct
-    from ..spectra import to_working_grid
+    from ..spectra import require_signal, to_working_grid
 
     ref_method = _method(method)
     if output is not None:
         require_suffix(output, (".csv", ".xlsx"))
         check_dialect(csv_dialect)
-    spectra = to_working_grid(read_spectra(file, quantity=quantity))
+    spectra = to_working_grid(require_signal(read_spectra(file, quantity=quantity)))
     values = spectra.values
     n = values.shape[0]
     if cct is not None:
