@@ -432,7 +432,7 @@ def measure_columns(a) -> dict[str, np.ndarray]:
 #: The unit of each measure key (keys not listed are dimensionless).
 UNITS = {
     "cct_K": "K", "luminous_flux_lm": "lm", "illuminance_lx": "lx", "luminance_cd_per_m2": "cd/m²",
-    "intensity_cd": "cd", "ler_lm_per_W": "lm/W", "melanopic_elr_mW_per_lm": "mW/lm", "peak_nm": "nm", "centroid_nm": "nm", "fwhm_nm": "nm",
+    "intensity_cd": "cd", "ler_lm_per_W": "lm/W", "peak_nm": "nm", "centroid_nm": "nm", "fwhm_nm": "nm",
     "dominant_wavelength_nm": "nm",
 }
 
@@ -460,6 +460,8 @@ def unit_of(key: str, quantity: Quantity | None = None) -> str:
     """The unit of measure ``key`` ("1" for dimensionless; X Y Z in the luminous unit of ``quantity``)."""
     if key in UNITS:
         return UNITS[key]
+    if key.endswith("_mW_per_lm"):
+        return "mW/lm"
     if key in ("X", "Y", "Z") and quantity is not None and quantity is not Quantity.RELATIVE:
         return UNITS.get(quantity.luminous_name, "1")
     return "1"
