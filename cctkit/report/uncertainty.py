@@ -109,7 +109,7 @@ def uncertainty_page(result, index: int, *, date: str, version: str):
     how = (f"adaptive (JCGM 101 7.9, {m.tolerance_digits} significant digits of u): {s.stages} stages, "
            + ("stable" if s.converged else "NOT stable at max_draws") if m.draws is None else "fixed number of draws")
     text(0.45, 0.72, f"source {s.source}", fontsize=6.5, color=_GREY)
-    text(0.45, 0.86, f"model {m.source}  SHA-256 {m.sha256}", fontsize=6.0, color=_GREY, family="DejaVu Sans Mono")
+    text(0.45, 0.86, f"model {m.source}  SHA-256 {m.sha256}", fontsize=6.0, color=_GREY, family="monospace")
     text(0.45, 1.00, f"Monte Carlo M = {s.draws_M} draws, {how}; seed {m.seed}", fontsize=6.5, color=_GREY)
 
     # the table: U beside each number
@@ -146,8 +146,6 @@ def uncertainty_page(result, index: int, *, date: str, version: str):
 def write_uncertainty_report(result, path: str | os.PathLike, *, overwrite: bool = False, inputs: Iterable = (),
                              date: str | None = None) -> Path:
     """Write one uncertainty page per spectrum to the PDF ``path`` (atomically; never over an input)."""
-    import datetime as _dt
-
     from matplotlib import rc_context
     from matplotlib.backends.backend_pdf import PdfPages
 
@@ -160,7 +158,9 @@ def write_uncertainty_report(result, path: str | os.PathLike, *, overwrite: bool
     if out.suffix.lower() != ".pdf":
         raise InputError(f"the uncertainty report is a PDF: the output must end in .pdf, got {out.name!r}",
                          source=str(out))
-    date = date or _dt.date.today().isoformat()
+    from .profile import report_date
+
+    date = report_date(date)
     info = {"Title": f"cctkit uncertainty: {result.spectra[0].name}" if len(result.spectra) == 1
             else f"cctkit uncertainty: {len(result.spectra)} spectra",
             "Creator": f"cctkit {__version__}", "CreationDate": None}
