@@ -136,7 +136,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     put("nb3000-uncertainty.json", dumps(unc.document()))
     put("nb3000-uncertainty.csv", unc.csv())
     write_uncertainty_report(unc, out / "nb3000-uncertainty.pdf", overwrite=True,
-                             inputs=[files[0], spectra_dir / LAB_MODEL], date=date)
+                             inputs=[files[0], spectra_dir / LAB_MODEL], date=date or signoff.date)
     written["nb3000-uncertainty.pdf"] = out / "nb3000-uncertainty.pdf"
     _say(f"  wrote {out / 'nb3000-uncertainty.pdf'}")
     _say(f"done in {time.perf_counter() - t0:.1f} s")
