@@ -62,13 +62,16 @@ def verify_cmd(
     wide: bool = typer.Option(False, "--wide", help="Every cell as value [limit] margin result (wider than a "
                               "terminal); the default table fits 100 columns."),
     csv_dialect: str = CSV_DIALECT_OPTION,
+    uncertainty_model: Optional[Path] = typer.Option(
+        None, "--uncertainty-model", help="Guard bands from each sample's computed U (Monte Carlo with this "
+        "instrument model, TOML); a claims file's [uncertainty] entry still overrides its metric."),
 ) -> None:
     """Check measured spectra against a supplier's claims; exit 0 pass, 1 fail, 3 inconclusive, 2 bad input."""
     from ..claims import format_verdict, load_claims, verdict_csv, verify
 
     layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
     files = input_files(files, recursive=recursive)
-    inputs = [*files, claims_file]
+    inputs = [*files, claims_file] + ([uncertainty_model] if uncertainty_model is not None else [])
     check_dialect(csv_dialect)
     if output is not None:
         require_suffix(output, (".csv", ".json", ".xlsx"))
@@ -87,9 +90,14 @@ def verify_cmd(
     analysis = analyse_files(files, quantity=quantity, rendering=report is not None or _needs_rendering(claims),
                              layout=layout)
     records = analysis.records()
-    verdict = verify(records, claims)
+    computed, model = None, None
+    if uncertainty_model is not None:
+        computed, model = _computed_uncertainties(files, quantity, uncertainty_model, claims)
+    verdict = verify(records, claims, computed)
     doc = verdict.as_dict()
     traced = _traceable(doc, records, claims_file)
+    if model is not None:
+        traced["uncertainty_model"] = model.provenance()
     if output is not None:
         text = dumps(traced) if output.suffix.lower() == ".json" else verdict_csv(doc, claims)
         write_output(output, text, overwrite=overwrite, inputs=inputs, dialect=csv_dialect)
@@ -107,6 +115,22 @@ def verify_cmd(
     code = {"pass": 0, "fail": EXIT_FAIL, "inconclusive": EXIT_INCONCLUSIVE}[verdict.verdict]
     if code:
         raise typer.Exit(code)
+
+
+def _computed_uncertainties(files, quantity, model_file: Path, claims):
+    """U per sample and metric from a Monte Carlo run with the instrument model (and the model)."""
+    from ..analysis import read_files
+    from ..uncertainty import claim_uncertainties, grid_groups, load_model, monte_carlo
+    from .options import info
+
+    model = load_model(model_file)
+
+    def progress(i: int, n: int, m: int) -> None:
+        info(f"uncertainty: sample {i}/{n}, {m} draws")
+
+    result = monte_carlo(grid_groups(read_files(files, quantity=quantity)), model,
+                         rendering=_needs_rendering(claims), progress=progress)
+    return claim_uncertainties(result, claims), model
 
 
 def _traceable(doc: dict, records: list[dict], claims_file: Path) -> dict:
