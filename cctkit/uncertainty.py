@@ -771,7 +771,7 @@ def _group_mc(spectra: Spectra, model: UncertaintyModel, *, observer: int, rende
     if repeats:
         rep = spectra.values
         measured = Spectra(wavelength_nm=wl, values=rep.mean(axis=0)[None, :],
-                           names=(f"{spectra.names[0]} (mean of {len(spectra)})",), quantity=spectra.quantity,
+                           names=(f"{spectra.names[0]} (mean of {len(spectra)} scans)",), quantity=spectra.quantity,
                            sources=(spectra.sources[0],), sha256=(spectra.sha256[0],))
     else:
         measured = spectra

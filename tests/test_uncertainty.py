@@ -194,7 +194,7 @@ def test_type_a_from_repeats(lamp):
                    names=tuple(f"scan {i}" for i in range(n)), quantity=lamp.quantity)
     r = monte_carlo(reps, _model(montecarlo={"draws": 5000, "seed": 2}), rendering=False, repeats=True)
     s = r.spectra[0]
-    assert s.repeats == n and "mean of 8" in s.name
+    assert s.repeats == n and "mean of 8 scans" in s.name
     flux = s.estimates["luminous_flux_lm"]
     expected = np.std(factors, ddof=1) / np.sqrt(n) * np.sqrt((n - 1) / (n - 3)) * flux.value / factors.mean()
     assert flux.u == pytest.approx(expected, rel=0.06)
@@ -335,6 +335,6 @@ def test_a_coloured_source_has_no_cct_and_says_so(lamp):
 
 
 def test_repeats_need_four_scans(tmp_path):
-    r = runner.invoke(app, ["uncertainty", str(LAMP), "--model", str(MODEL), "--repeats"])
+    r = runner.invoke(app, ["uncertainty", str(LAMP), "--model", str(MODEL), "--as-repeats"])
     assert r.exit_code == 2
     assert r.output.strip().count("\n") == 0 and "at least 4 are needed" in r.output

@@ -12,9 +12,11 @@ from .options import (
     OBSERVER_HELP,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
+    RECURSIVE_OPTION,
     dumps,
     emit_json,
     info,
+    input_files,
     parse_observer,
     require_suffix,
     write_output,
@@ -68,8 +70,9 @@ def uncertainty_cmd(
     model_file: Path = typer.Option(..., "--model", help=MODEL_HELP),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),
-    repeats: bool = typer.Option(False, "--repeats", help="Take all the spectra given as repeat scans of one "
-                                 "source: their mean is measured, their scatter is the type-A component (4 or more)."),
+    repeats: bool = typer.Option(False, "--as-repeats", help="Take every spectrum read as a repeat scan of one "
+                                 "sample: their mean is measured, their scatter is the type-A component (4 or more)."),
+    recursive: bool = RECURSIVE_OPTION,
     json_out: bool = JSON_OPTION,
     output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the results to FILE (.json or .csv)."),
     report: Optional[Path] = typer.Option(None, "--report", help="Also write the uncertainty report to FILE (.pdf)."),
@@ -95,7 +98,12 @@ def uncertainty_cmd(
             raise InputError("--report and --output name the same file", source=str(report))
         check_output_path(report, overwrite=overwrite, inputs=inputs)
     model = load_model(model_file)
+    files = input_files(files, recursive=recursive)
     items = read_files(files, quantity=quantity)
+    if repeats and len({s.wavelength_nm.tobytes() for s in items}) > 1:
+        from ..spectra import to_working_grid
+
+        items = [to_working_grid(s) for s in items]  # scans on different axes: compared on the working grid
     spectra = grid_groups(items)
 
     def progress(i: int, n: int, m: int) -> None:

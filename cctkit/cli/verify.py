@@ -92,7 +92,7 @@ def verify_cmd(
     records = analysis.records()
     computed, model = None, None
     if uncertainty_model is not None:
-        computed, model = _computed_uncertainties(files, quantity, uncertainty_model, claims)
+        computed, model = _computed_uncertainties(files, quantity, uncertainty_model, claims, layout)
     verdict = verify(records, claims, computed)
     doc = verdict.as_dict()
     traced = _traceable(doc, records, claims_file)
@@ -117,7 +117,7 @@ def verify_cmd(
         raise typer.Exit(code)
 
 
-def _computed_uncertainties(files, quantity, model_file: Path, claims):
+def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=None):
     """U per sample and metric from a Monte Carlo run with the instrument model (and the model)."""
     from ..analysis import read_files
     from ..uncertainty import claim_uncertainties, grid_groups, load_model, monte_carlo
@@ -128,7 +128,7 @@ def _computed_uncertainties(files, quantity, model_file: Path, claims):
     def progress(i: int, n: int, m: int) -> None:
         info(f"uncertainty: sample {i}/{n}, {m} draws")
 
-    result = monte_carlo(grid_groups(read_files(files, quantity=quantity)), model,
+    result = monte_carlo(grid_groups(read_files(files, quantity=quantity, layout=layout)), model,
                          rendering=_needs_rendering(claims), progress=progress)
     return claim_uncertainties(result, claims), model
 
