@@ -11,6 +11,14 @@ from ..errors import InputError
 from ..formats import format_number
 from ..spreadsheet import check_dialect
 from .options import (
+    RECURSIVE_OPTION,
+    SKIP_ROWS_OPTION,
+    DELIMITER_OPTION,
+    DECIMAL_OPTION,
+    WAVELENGTH_COLUMN_OPTION,
+    COLUMNS_OPTION,
+    input_files,
+    table_layout,
     CSV_DIALECT_OPTION,
     JSON_OPTION,
     OBSERVER_HELP,
@@ -114,12 +122,20 @@ def format_records(records: list[dict[str, Any]]) -> str:
 
 
 def inspect_cmd(
-    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of them."),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),
     json_out: bool = JSON_OPTION,
     output: Optional[Path] = OUTPUT_OPTION,
     overwrite: bool = OVERWRITE_OPTION,
+    recursive: bool = RECURSIVE_OPTION,
+    skip_rows: Optional[int] = SKIP_ROWS_OPTION,
+    delimiter: Optional[str] = DELIMITER_OPTION,
+    decimal: Optional[str] = DECIMAL_OPTION,
+    wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
+    columns: Optional[str] = COLUMNS_OPTION,
+    repeats: bool = typer.Option(False, "--as-repeats", help="Take every spectrum read as a repeat scan of one "
+                                 "sample: analyse their mean, and give the standard deviation per wavelength."),
     csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """Every measure for each spectrum: CCT, Duv, chromaticity, photometry, colour rendering."""
@@ -132,7 +148,18 @@ def inspect_cmd(
     if output is not None:
         require_suffix(output, (".json", ".csv", ".xlsx"))
     check_dialect(csv_dialect)
-    records = analyse_groups(read_files(files, quantity=quantity), observer=obs)
+    layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
+    files = input_files(files, recursive=recursive)
+    items = read_files(files, quantity=quantity, layout=layout)
+    scans = None
+    if repeats:
+        from ..repeats import average_repeats
+
+        scans = average_repeats(items)
+        items = [scans.mean]
+    records = analyse_groups(items, observer=obs)
+    if scans is not None:
+        records[0]["repeats"] = scans.summary()
     doc = {**provenance(), "spectra": records}
     if output is not None:
         if output.suffix.lower() == ".json":
@@ -172,7 +199,7 @@ def cct_cmd(
     """CCT and Duv of one chromaticity (from a datasheet, say)."""
     import numpy as np
 
-    from ..cct import METHODS, cct_duv
+    from ..cct import METHODS, cct_duv, table_range_text
     from ..colorimetry import uvp_to_uv, xy_to_uv
     from ..constants import DUV_LIMIT
 
@@ -197,20 +224,22 @@ def cct_cmd(
     r = cct_duv(p, method=method, observer=parse_observer(observer))
     cct, duv = float(r.cct_K), float(r.duv)
     meaningful = bool(r.in_domain)
-    doc = {"cct_K": cct if meaningful else None, "duv": duv, "method": method, "u": float(p[0]), "v": float(p[1])}
+    doc = {"cct_K": cct if meaningful else None, "duv": duv if np.isfinite(duv) else None, "method": method, "u": float(p[0]), "v": float(p[1])}
     if not meaningful:
-        doc["warning"] = (
-            f"|Duv| = {abs(duv):.4f} exceeds {DUV_LIMIT}: CCT is not meaningful"
-            if np.isfinite(duv) and abs(duv) > DUV_LIMIT
-            else "nearest Planckian point outside 1000-100000 K"
-        )
+        if not np.isfinite(duv):
+            doc["warning"] = (f"the nearest Planckian point lies outside the {method} table "
+                              f"({table_range_text(method)}): CCT and Duv not computed")
+        elif abs(duv) > DUV_LIMIT:
+            doc["warning"] = f"|Duv| = {abs(duv):.4f} exceeds {DUV_LIMIT}: CCT is not meaningful"
+        else:
+            doc["warning"] = "nearest Planckian point outside 1000-100000 K: CCT not reported"
     if json_out:
         emit_json(doc)
         if "warning" in doc:
             info(f"warning: {doc['warning']}")
         return
     typer.echo(f"CCT  {cct:.1f} K" if meaningful else "CCT  n/a")
-    typer.echo(f"Duv  {format_number(duv, '{:+.5f}')}")
+    typer.echo(f"Duv  {format_number(duv, '{:+.5f}')}" if np.isfinite(duv) else "Duv  n/a")
     typer.echo(f"method  {method}; CIE 1960 uv = ({p[0]:.5f}, {p[1]:.5f})")
     if "warning" in doc:
         info(f"warning: {doc['warning']}")
