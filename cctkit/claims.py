@@ -85,6 +85,7 @@ __all__ = [
     "format_verdict",
     "verdict_csv",
     "cell_text",
+    "combine_results",
 ]
 
 # Scalar keys of the per-spectrum record (the lead's record contract), plus names
@@ -100,10 +101,14 @@ _RECORD_METRICS = (
     "Ra", "Rf", "Rg",
 )
 _DERIVED = ("efficacy_lm_per_W", "power_W")
-METRICS: tuple[str, ...] = _RECORD_METRICS + tuple(f"R{i}" for i in range(1, 15)) + _DERIVED
+# TM-30 hue-bin values: Rf_h1..Rf_h16, Rcs_h1..Rcs_h16 [%], Rhs_h1..Rhs_h16 (bin 1 holds the reds).
+_BIN_METRICS = tuple(f"{k}{j}" for k in ("Rf_h", "Rcs_h", "Rhs_h") for j in range(1, 17))
+METRICS: tuple[str, ...] = (_RECORD_METRICS + tuple(f"R{i}" for i in range(1, 15)) + _DERIVED + _BIN_METRICS)
+#: Design-intent claims of ``[design_intent]`` (ANSI/IES TM-30-20 Annex E), as verdict metric names.
+INTENT_METRICS = {"fidelity": "intent_fidelity", "preference": "intent_preference", "vividness": "intent_vividness"}
 _CHROMA_METRICS = ("sdcm", "ansi_quadrangle")
 
-_SECTIONS = ("claims", "limits", "chromaticity", "uncertainty", "samples")
+_SECTIONS = ("claims", "limits", "chromaticity", "design_intent", "uncertainty", "samples")
 _CLAIMS_KEYS = ("supplier", "product", "description", "reference", "date")
 _CHROMA_KEYS = ("nominal_cct_K", "ansi_quadrangle", "max_sdcm", "sdcm_centre")
 _SAMPLES_KEYS = ("power_W", "sidecar")
@@ -141,7 +146,8 @@ class Claims:
 
     ``power_W`` maps sample name to electrical power [W]; the key ``"*"`` holds
     a value that applies to every sample.  ``declared_id`` maps sample name to
-    the supplier's identifier from the sidecar.
+    the supplier's identifier from the sidecar; ``sidecar`` maps it to every
+    sidecar column as written (kept in the verdict CSV).
     """
 
     source: str
@@ -152,6 +158,8 @@ class Claims:
     uncertainty: Mapping[str, float] = field(default_factory=dict)
     power_W: Mapping[str, float] = field(default_factory=dict)
     declared_id: Mapping[str, str] = field(default_factory=dict)
+    sidecar: Mapping[str, Mapping[str, str]] = field(default_factory=dict)
+    design_intent: Mapping[str, int] = field(default_factory=dict)
 
     @property
     def metrics(self) -> tuple[str, ...]:
@@ -162,6 +170,7 @@ class Claims:
                 names.append("ansi_quadrangle")
             if self.chromaticity.max_sdcm is not None:
                 names.append("sdcm")
+        names += [INTENT_METRICS[k] for k in INTENT_METRICS if k in self.design_intent]
         return tuple(names)
 
 
@@ -260,15 +269,17 @@ def parse_claims(doc: Mapping[str, Any], *, source: str = "<claims>", base_dir: 
             raise InputError(f"{where}: an uncertainty cannot be negative, got {u:g}", source=source)
         uncertainty[metric] = u
 
-    power, declared = _parse_samples(_table(doc, "samples", source), source, Path(base_dir))
+    power, declared, *sidecar = _parse_samples(_table(doc, "samples", source), source, Path(base_dir))
     needs_power = [m for m in ("efficacy_lm_per_W", "power_W") if m in checked]
     if needs_power and not power:
         raise InputError(
             f"[limits] {needs_power[0]}: needs the electrical power; give [samples] power_W or sidecar",
             source=source,
         )
-    if not limits and chroma is None:
-        raise InputError("no claims to check: add a [limits] or [chromaticity] table", source=source)
+    intent = _parse_design_intent(_table(doc, "design_intent", source), source)
+    if not limits and chroma is None and not intent:
+        raise InputError("no claims to check: add a [limits], [chromaticity] or [design_intent] table",
+                         source=source)
     return Claims(
         source=source,
         supplier=head.get("supplier", ""),
@@ -278,7 +289,27 @@ def parse_claims(doc: Mapping[str, Any], *, source: str = "<claims>", base_dir: 
         uncertainty=uncertainty,
         power_W=power,
         declared_id=declared,
+        sidecar=sidecar[0] if sidecar else {},
+        design_intent=intent,
     )
+
+
+def _parse_design_intent(table: Mapping, source: str) -> dict[str, int]:
+    """``[design_intent]``: ``preference = "P2"`` claims at least TM-30-20 Annex E level P2 (1 strictest)."""
+    from .rendering.intents import INTENTS
+
+    _check_keys(table, tuple(INTENTS), "[design_intent]", source)
+    out: dict[str, int] = {}
+    for intent, value in table.items():
+        prefix = INTENTS[intent]
+        where = f"[design_intent] {intent}"
+        text = str(value).strip().upper() if isinstance(value, (str, int)) and not isinstance(value, bool) else ""
+        level = text[1:] if text.startswith(prefix) else text
+        if level not in ("1", "2", "3"):
+            raise InputError(f"{where}: expected a level {prefix}1, {prefix}2 or {prefix}3, got {value!r}",
+                             source=source)
+        out[intent] = int(level)
+    return out
 
 
 def _parse_chromaticity(table: Mapping, source: str) -> ChromaticityClaim | None:
@@ -357,6 +388,7 @@ def _read_sidecar(path: Path, where: str) -> tuple[dict[str, float], dict[str, s
     i_id = header.index("declared_id") if "declared_id" in header else None
     power: dict[str, float] = {}
     declared: dict[str, str] = {}
+    columns: dict[str, dict[str, str]] = {}  # every column of the sidecar, as written, by sample
     for lineno, row in rows[1:]:
         if len(row) < len(header):
             raise InputError(f"expected {len(header)} columns, got {len(row)}", source=src, line=lineno)
@@ -374,9 +406,10 @@ def _read_sidecar(path: Path, where: str) -> tuple[dict[str, float], dict[str, s
         power[nm] = p
         if i_id is not None:
             declared[nm] = row[i_id].strip()
+        columns[nm] = {h: row[j].strip() for j, h in enumerate(header) if h and h != "name"}
     if not power:
         raise InputError("sidecar lists no samples", source=src)
-    return power, declared
+    return power, declared, columns
 
 
 # ------------------------------------------------------------------ verdicts
@@ -460,6 +493,11 @@ def _combine(results) -> str:
     return "pass"
 
 
+def combine_results(results) -> str:
+    """The verdict of several results: "fail" if any fails, else "inconclusive" if any is, else "pass"."""
+    return _combine(results)
+
+
 def _decide(margin: float | None, U: float | None) -> str:
     if margin is None or not math.isfinite(margin):
         return "fail"
@@ -494,6 +532,11 @@ def _record_value(rec: Mapping, metric: str, claims: Claims, name: str) -> float
         return None if f is None else f / power
     if metric in rec:
         return _finite(rec[metric])
+    for key in ("Rf_h", "Rcs_h", "Rhs_h"):
+        if metric.startswith(key) and metric[len(key):].isdigit():
+            bins = _need(rec, key, claims, name)
+            j = int(metric[len(key):]) - 1
+            return None if bins is None or j >= len(bins) else _finite(bins[j])
     if metric[0] == "R" and metric[1:].isdigit() and "R" in rec:
         values = rec["R"]
         i = int(metric[1:]) - 1
@@ -565,6 +608,36 @@ def _chroma_checks(records: list[Mapping], claims: Claims) -> list[list[Check]]:
     return out
 
 
+def _intent_checks(records: list[Mapping], claims: Claims) -> list[list[Check]]:
+    """TM-30-20 Annex E design-intent checks, vectorised over samples.
+
+    The value is the strictest level met ("P2", or "none"); the margin is the claimed level
+    minus the level met, in levels (none counts as 4), so a margin >= 0 passes.
+    """
+    out: list[list[Check]] = [[] for _ in records]
+    if not claims.design_intent:
+        return out
+    from .rendering.intents import INTENTS, levels
+
+    def column(key, j=None):
+        vals = []
+        for i, r in enumerate(records):
+            v = _need(r, key, claims, _name(r, i), why="a design-intent claim")
+            v = v if j is None or v is None else v[j]
+            vals.append(_nan_if_none(_finite(v)))
+        return np.array(vals, dtype=np.float64)
+
+    lv = levels(column("Rf"), column("Rg"), column("Rf_h", 0), column("Rcs_h", 0))  # Rcs_h in percent
+    for intent, want in claims.design_intent.items():
+        got = lv[intent]
+        for i in range(len(records)):
+            g = int(got[i])
+            margin = float(want - (g if g > 0 else 4))
+            out[i].append(Check(INTENT_METRICS[intent], f"{INTENTS[intent]}{g}" if g else "none", None,
+                                float(want), margin, _decide(margin, None), None))
+    return out
+
+
 def _nan_if_none(v: float | None) -> float:
     return np.nan if v is None else v
 
@@ -585,6 +658,8 @@ def _summary(samples: list[SampleVerdict], metrics: tuple[str, ...]) -> dict[str
         n = nums.size
         summary[metric] = {
             "count_pass": sum(ch.result == "pass" for ch in checks),
+            "count_inconclusive": sum(ch.result == "inconclusive" for ch in checks),
+            "count_fail": sum(ch.result == "fail" for ch in checks),
             "mean": float(nums.mean()) if n else None,
             "std": float(nums.std(ddof=1)) if n >= 2 else None,
             "min": float(nums.min()) if n else None,
@@ -613,6 +688,7 @@ def verify(records: list[Mapping[str, Any]], claims: Claims) -> Verdict:
     if not records:
         raise InputError("no samples to verify", source=claims.source)
     chroma = _chroma_checks(records, claims)
+    intent_checks = _intent_checks(records, claims)
     samples = []
     for i, rec in enumerate(records):
         name = _name(rec, i)
@@ -622,6 +698,7 @@ def verify(records: list[Mapping[str, Any]], claims: Claims) -> Verdict:
             for lim in claims.limits
         ]
         checks += chroma[i]
+        checks += intent_checks[i]
         samples.append(SampleVerdict(name, _combine(c.result for c in checks), tuple(checks),
                                      claims.declared_id.get(name)))
     return Verdict(
@@ -656,53 +733,18 @@ def _limit_text(c: Mapping[str, Any]) -> str:
     return f">={cell_text(lo)}" if lo is not None else f"<={cell_text(hi)}"
 
 
-def format_verdict(doc: Mapping[str, Any], claims: Claims) -> str:
-    """A verdict document (:meth:`Verdict.as_dict`) as a text table.
+def format_verdict(doc: Mapping[str, Any], claims: Claims, *, wide: bool = False, width: int = 100) -> str:
+    """A verdict document (:meth:`Verdict.as_dict`) as text: a table that fits ``width`` columns
+    (:func:`cctkit.report.text.verdict_table`), or with ``wide`` every cell's value, limit,
+    margin and result (:func:`cctkit.report.text.verdict_detail`)."""
+    from .report.text import verdict_detail, verdict_table
 
-    One row per sample, one column per claim (value [limit] margin result), then
-    the per-metric summary, the decision rule and the overall verdict.
-    """
-    metrics = list(claims.metrics)
-    head = ["sample", "verdict"] + metrics
-    rows = []
-    for s in doc["samples"]:
-        cells = [s["name"], s["verdict"].upper() if s["verdict"] != "pass" else "pass"]
-        for c in s["checks"]:
-            mark = c["result"].upper() if c["result"] == "fail" else c["result"]
-            cells.append(f"{cell_text(c['value'])} [{_limit_text(c)}] {cell_text(c['margin'])} {mark}")
-        rows.append(cells)
-    widths = [max(len(str(r[i])) for r in [head] + rows) for i in range(len(head))]
-    lines = []
-    who = " / ".join(p for p in (claims.supplier, claims.product) if p)
-    lines.append(f"claims: {claims.source}" + (f" ({who})" if who else ""))
-    lines.append("cell: value [limit] margin result")
-    lines.append("  ".join(h.ljust(w) for h, w in zip(head, widths)))
-    lines.append("  ".join("-" * w for w in widths))
-    for r in rows:
-        lines.append("  ".join(str(c).ljust(w) for c, w in zip(r, widths)))
-    lines.append("")
-    lines.append("summary (over samples): metric  passed/total  mean  std  min  max")
-    n = len(doc["samples"])
-    for m, st in doc["summary"].items():
-        lines.append(f"  {m:<20} {st['count_pass']}/{n}  {cell_text(st['mean'])}  {cell_text(st['std'])}  "
-                     f"{cell_text(st['min'])}  {cell_text(st['max'])}")
-    if "decision" in doc:
-        lines.append(f"decision rule: {doc['decision']}")
-    lines.append(f"verdict: {doc['verdict'].upper()}")
-    return "\n".join(lines)
+    return verdict_detail(doc, claims) if wide else verdict_table(doc, claims, width=width)
 
 
 def verdict_csv(doc: Mapping[str, Any], claims: Claims) -> str:
-    """A verdict document as CSV: one row per sample; per claim its value, limits, margin and result."""
-    from .formats import csv_text
+    """A verdict document as CSV: one row per sample with its declared id and every sidecar
+    column; per claim its value, limits, margin, U and result (:func:`cctkit.report.text.verdict_rows_csv`)."""
+    from .report.text import verdict_rows_csv
 
-    header = ["name", "verdict"]
-    for m in claims.metrics:
-        header += [f"{m}_value", f"{m}_min", f"{m}_max", f"{m}_margin", f"{m}_result"]
-    rows = []
-    for s in doc["samples"]:
-        row: list[Any] = [s["name"], s["verdict"]]
-        for c in s["checks"]:
-            row += [c["value"], c["min"], c["max"], c["margin"], c["result"]]
-        rows.append(["" if v is None else v for v in row])
-    return csv_text(header, rows)
+    return verdict_rows_csv(doc, claims)

@@ -28,6 +28,7 @@ CANDIDATES = ("northbeam-nb-3000-95.csv", "caldera-cl-2700-80.csv", "vell-vo-400
 TUNABLE = "tw-lab-setpoints.csv"
 LOT_DIR = "lot-nb3000"
 CLAIMS = "claims/northbeam-3000K.toml"
+PROFILE = "harbourside-lab-profile.toml"  # sign-off fields and the report date: same bytes on every run
 WASH = "hl-wash5/hl-wash5-channels.csv"
 WASH_POWER = "hl-wash5/hl-wash5-power.csv"
 
@@ -46,9 +47,11 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     from .formats import dumps
     from .readers import read_spectra
     from .report import build_report
+    from .report.profile import load_profile
     from .safe_io import atomic_write
 
     out.mkdir(parents=True, exist_ok=True)
+    signoff = load_profile(spectra_dir / PROFILE)
     written: dict[str, Path] = {}
 
     def put(name: str, text: str) -> None:
@@ -65,7 +68,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     put("harbourside-shortlist.csv", records_csv(recs))
     for suffix in (".pdf", ".png"):
         path = out / f"harbourside-shortlist{suffix}"
-        build_report(shortlist, path, overwrite=True, inputs=files, date=date, records=recs)
+        build_report(shortlist, path, overwrite=True, inputs=files, date=date, records=recs, signoff=signoff)
         written[path.name] = path
         _say(f"  wrote {path}")
 
@@ -74,7 +77,8 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     tw = analyse(read_spectra(tw_file))
     tw_recs = tw.records()
     put("tw-lab.json", dumps({**provenance(), "spectra": tw_recs}))
-    build_report(tw, out / "tw-lab.pdf", overwrite=True, inputs=[tw_file], date=date, records=tw_recs)
+    build_report(tw, out / "tw-lab.pdf", overwrite=True, inputs=[tw_file], date=date, records=tw_recs,
+                 signoff=signoff.merged(title="Tunable-white fixture at five set points"))
     written["tw-lab.pdf"] = out / "tw-lab.pdf"
     _say(f"  wrote {out / 'tw-lab.pdf'}")
 
@@ -88,7 +92,8 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     put("nb3000-lot-verdict.csv", verdict_csv(verdict, claims))
     put("nb3000-lot-verdict.txt", format_verdict(verdict, claims) + "\n")
     build_report(lot, out / "nb3000-lot.pdf", overwrite=True, inputs=[*lot_files, spectra_dir / CLAIMS], date=date,
-                 verdict=verdict, claims=claims, records=lot_recs)
+                 verdict=verdict, claims=claims, records=lot_recs,
+                 signoff=signoff.merged(title="NB-3000-95 delivered lot against the supplier's claims"))
     written["nb3000-lot.pdf"] = out / "nb3000-lot.pdf"
     _say(f"  wrote {out / 'nb3000-lot.pdf'}")
     failing = [s["name"] for s in verdict["samples"] if s["verdict"] != "pass"]
@@ -123,7 +128,7 @@ def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(prog="python -m cctkit.demo_job", description=__doc__.splitlines()[0])
     parser.add_argument("--spectra", type=Path, default=Path("spectra"), help="folder of the demo spectra")
     parser.add_argument("--out", type=Path, default=Path("reports"), help="folder for the reports")
-    parser.add_argument("--date", default=None, help="report date (YYYY-MM-DD; default today)")
+    parser.add_argument("--date", default=None, help="report date (YYYY-MM-DD; default the profile's)")
     args = parser.parse_args(argv)
     from .errors import CctkitError
 

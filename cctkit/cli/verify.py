@@ -32,7 +32,8 @@ _OUTPUT_CSV = typer.Option(None, "--output", "-o", help="Write the per-sample ta
 
 def _needs_rendering(claims) -> bool:
     rendering = {"Ra", "Rf", "Rg"} | {f"R{i}" for i in range(1, 15)}
-    return any(lim.metric in rendering for lim in claims.limits)
+    return bool(claims.design_intent) or any(
+        lim.metric in rendering or lim.metric.startswith(("Rf_h", "Rcs_h", "Rhs_h")) for lim in claims.limits)
 
 
 def verify_cmd(
@@ -44,6 +45,8 @@ def verify_cmd(
     report: Optional[Path] = typer.Option(None, "--report", help="Also write the PDF report, starting with the "
                                           "verdict pages, to FILE (.pdf)."),
     overwrite: bool = OVERWRITE_OPTION,
+    wide: bool = typer.Option(False, "--wide", help="Every cell as value [limit] margin result (wider than a "
+                              "terminal); the default table fits 100 columns."),
     csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """Check measured spectra against a supplier's claims; exit 0 pass, 1 fail, 3 inconclusive, 2 bad input."""
@@ -83,7 +86,7 @@ def verify_cmd(
     if json_out:
         emit_json(traced)
     else:
-        typer.echo(format_verdict(doc, claims))
+        typer.echo(format_verdict(doc, claims, wide=wide))
     code = {"pass": 0, "fail": EXIT_FAIL, "inconclusive": EXIT_INCONCLUSIVE}[verdict.verdict]
     if code:
         raise typer.Exit(code)
@@ -102,8 +105,10 @@ def _traceable(doc: dict, records: list[dict], claims_file: Path) -> dict:
 def bin_cmd(
     files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
-    ellipses: str = typer.Option("macadam1942", "--ellipses",
-                                 help="SDCM centres and ellipses: macadam1942 (ANSI centres) | iec60081 (lamp centres)."),
+    ellipses: str = typer.Option("iec-else-ansi", "--ellipses",
+                                 help="SDCM centres and ellipses: iec-else-ansi (default, the rule verify uses: "
+                                 "IEC 60081 lamp centre where the nominal CCT has one, else the ANSI centre with "
+                                 "MacAdam 1942) | macadam1942 (ANSI centres) | iec60081 (lamp centres only)."),
     json_out: bool = JSON_OPTION,
     output: Optional[Path] = _OUTPUT_CSV,
     overwrite: bool = OVERWRITE_OPTION,
@@ -113,7 +118,6 @@ def bin_cmd(
     import numpy as np
 
     from ..binning import ELLIPSE_SETS, bin_chromaticities
-    from ..claims import cell_text as _fmt
     from ..errors import InputError
 
     if ellipses not in ELLIPSE_SETS:
@@ -142,9 +146,13 @@ def bin_cmd(
         emit_json(doc)
         return
     head = ["sample", "CCT [K]", "Duv", "x", "y", "quadrangle", "centre", "SDCM", "bin"]
-    table = [[r["name"], _fmt(r["cct_K"]), _fmt(r["duv"]), f"{r['x']:.4f}", f"{r['y']:.4f}",
-              r["quadrangle"] or "none", r["centre"] + ("*" if r["extrapolated"] else ""),
-              _fmt(r["sdcm_steps"]), "n/a" if r["sdcm_bin"] is None else str(r["sdcm_bin"])] for r in rows]
+    from ..report.text import value_text
+
+    # One format per column: the metric's usual precision (cctkit.report.text.METRIC_TEXT).
+    table = [[r["name"], value_text("cct_K", r["cct_K"]), value_text("duv", r["duv"]), value_text("x", r["x"]),
+              value_text("y", r["y"]), r["quadrangle"] or "none", r["centre"] + ("*" if r["extrapolated"] else ""),
+              value_text("sdcm", r["sdcm_steps"]), "n/a" if r["sdcm_bin"] is None else str(r["sdcm_bin"])]
+             for r in rows]
     widths = [max(len(str(t[i])) for t in [head] + table) for i in range(len(head))]
     lines = ["  ".join(h.ljust(w) for h, w in zip(head, widths)), "  ".join("-" * w for w in widths)]
     lines += ["  ".join(str(c).ljust(w) for c, w in zip(t, widths)) for t in table]
@@ -154,6 +162,8 @@ def bin_cmd(
         lines.append(f"  {q:<6} " + ", ".join(f"{b} step{'s' if b != '1' else ''}: {c}" for b, c in bins.items()))
     if any(r["extrapolated"] for r in rows):
         lines.append("* centre outside the hull of MacAdam's 1942 data: nearest ellipse used")
+    lines.append(f"SDCM centres and ellipses: {ellipses}" + (" (the rule verify uses for max_sdcm)"
+                                                             if ellipses == "iec-else-ansi" else ""))
     typer.echo("\n".join(lines))
 
 
