@@ -31,6 +31,7 @@ bench: $(STAMP)
 	$(PY) benchmarks/bench_full.py
 	$(PY) benchmarks/bench_batch.py
 	$(PY) benchmarks/bench_report.py
+	$(PY) benchmarks/bench_uncertainty.py
 
 clean:
 	rm -rf $(VENV) build *.egg-info .pytest_cache

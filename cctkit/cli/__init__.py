@@ -22,7 +22,7 @@ from ..errors import CctkitError
 
 __all__ = ["app", "main"]
 
-_COMMAND_MODULES = ("core", "compare", "verify", "report", "batch", "blend")
+_COMMAND_MODULES = ("core", "compare", "verify", "report", "batch", "blend", "uncertainty")
 
 
 class _PlainUsage(TyperCommand):
