@@ -75,7 +75,7 @@ def test_index_none_shows_every_spectrum_where_it_can(analysis):
         plt.close(ax.figure)
     ax = plot.spectrum(analysis)
     try:
-        assert len([l for l in ax.lines if len(l.get_xdata()) > 100]) >= len(analysis)
+        assert len([line for line in ax.lines if len(line.get_xdata()) > 100]) >= len(analysis)
     finally:
         plt.close(ax.figure)
 
