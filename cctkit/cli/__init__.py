@@ -46,7 +46,7 @@ class _PlainUsage(TyperCommand):
 class _App(typer.Typer):
     """The typer app whose commands default to :class:`_PlainUsage`."""
 
-    def command(self, *args, cls=None, **kwargs):  # type: ignore[override]
+    def command(self, *args, cls=None, **kwargs):
         return super().command(*args, cls=cls or _PlainUsage, **kwargs)
 
 
