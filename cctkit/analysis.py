@@ -250,9 +250,23 @@ def read_files(files, *, quantity=None) -> list[Spectra]:
     from .errors import InputError
     from .readers import read_spectra
 
+    from .limits import MAX_SPECTRA, MAX_VALUES, too_many_spectra
+
     if not files:
         raise InputError("no input files given")
-    return [read_spectra(f, quantity=quantity) for f in files]
+    out: list[Spectra] = []
+    count = values = 0
+    for f in files:  # refuse as soon as the limit is passed, before reading further files
+        s = read_spectra(f, quantity=quantity)
+        count += len(s)
+        values += s.values.size
+        if count > MAX_SPECTRA:
+            raise InputError(too_many_spectra(count), source=str(f))
+        if values > MAX_VALUES:
+            raise InputError(f"over {MAX_VALUES} spectral values (spectra x points) by this file, the limit for "
+                             "one command; use `cctkit batch` for large lots", source=str(f))
+        out.append(s)
+    return out
 
 
 def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True) -> Analysis:

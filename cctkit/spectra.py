@@ -32,6 +32,7 @@ import numpy as np
 
 from .constants import VISIBLE_BAND_NM, WAVELENGTH_NM
 from .errors import Flag, InputError
+from .limits import MAX_POINTS
 
 __all__ = [
     "Quantity",
@@ -148,6 +149,9 @@ class Spectra:
             raise InputError("no spectra found", source=source)
         if wl.shape[0] < MIN_POINTS:
             raise InputError(f"only {wl.shape[0]} wavelength points; at least {MIN_POINTS} are needed", source=source)
+        if wl.shape[0] > MAX_POINTS:
+            raise InputError(f"{wl.shape[0]} wavelength points, over the limit of {MAX_POINTS} per spectrum",
+                             source=source)
         if not np.all(np.isfinite(wl)):
             raise InputError("wavelengths contain NaN or infinite values", source=source)
         steps = np.diff(wl)

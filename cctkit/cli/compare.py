@@ -62,14 +62,15 @@ def versus_cmd(
     import numpy as np
 
     from ..constants import DUV_LIMIT, VISIBLE_BAND_NM
-    from ..readers import read_spectra
+    from ..analysis import read_files
+    from ..formats import terminal_safe
     from ..rendering import REFERENCE_RANGE_K, colour_rendition, compare_to_reference, reference_cct, rendering_cct
     from ..spectra import to_working_grid
 
     ref_method = _method(method)
     if output is not None:
         require_suffix(output, (".csv",))
-    spectra = to_working_grid(read_spectra(file, quantity=quantity))
+    spectra = to_working_grid(read_files([file], quantity=quantity)[0])  # within the limits of one command
     values = spectra.values
     n = values.shape[0]
     if cct is not None:
@@ -129,7 +130,11 @@ def versus_cmd(
             header += [f"{name}: test (Y=100)", f"{name}: reference (Y=100)", f"{name}: difference", f"{name}: ratio"]
             columns += [comp.test[i], comp.reference[i], comp.difference[i], comp.ratio[i]]
         rows = zip(*[c.tolist() for c in columns])
-        write_output(output, csv_text(header, rows), overwrite=overwrite, inputs=[file])
+        from .. import __version__
+
+        # where the numbers came from: the SHA-256 of the bytes analysed (a comment line our readers skip)
+        origin = f"# input {terminal_safe(str(file))} sha256 {spectra.sha256[0]}; cctkit {__version__}\n"
+        write_output(output, origin + csv_text(header, rows), overwrite=overwrite, inputs=[file])
 
     if json_out:
         emit_json({"method": ref_method, "wavelength_nm": comp.wavelength_nm, "spectra": [

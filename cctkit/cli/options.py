@@ -35,9 +35,10 @@ def info(message: str) -> None:
     typer.echo(message, err=True)
 
 
-def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iterable = ()) -> None:
+def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iterable = (), announce: bool = True) -> None:
     atomic_write(path, text, overwrite=overwrite, inputs=list(inputs))
-    info(f"wrote {path}")
+    if announce:
+        info(f"wrote {path}")
 
 
 def parse_observer(value: str) -> int:
