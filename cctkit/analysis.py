@@ -71,14 +71,115 @@ class Analysis:
 
     def records(self) -> list[dict[str, Any]]:
         """One dict per spectrum with unit-bearing keys (the keys `cctkit inspect --json` prints)."""
-        return [_record(self, i) for i in range(len(self))]
+        in_domain = np.asarray(self.cct.in_domain)
+        return [_record(self, i, bool(in_domain[i])) for i in range(len(self))]
+
+    def columns(self) -> dict[str, np.ndarray]:
+        """The flattened records as columns, built from the arrays (no per-spectrum dicts).
+
+        Names, order, types and values are those of :func:`flatten_record` applied to
+        :meth:`records` (list fields numbered ``R1..R14``, ``Rf_h1..``, flags ``;``-joined
+        codes): float64 with NaN where a record holds None, int64, bool, or object (str/None).
+        """
+        return _columns(self)
+
+    def to_frame(self):
+        """A pandas DataFrame, one row per spectrum, values as :meth:`records` (:func:`cctkit.interop.analysis_to_frame`)."""
+        from .interop import analysis_to_frame
+
+        return analysis_to_frame(self)
+
+    def _repr_html_(self) -> str:
+        from .interop import analysis_html
+
+        return analysis_html(self)
 
 
 def _f(a, i):
     return finite_or_none(a[i])
 
 
-def _record(a: Analysis, i: int) -> dict[str, Any]:
+def _finite(a) -> np.ndarray:
+    """float64 copy of ``a`` with NaN where it is not finite (a record's None)."""
+    arr = np.array(a, dtype=np.float64)
+    arr[~np.isfinite(arr)] = np.nan
+    return arr
+
+
+def _text_column(items) -> np.ndarray:
+    col = np.empty(len(items), dtype=object)
+    col[:] = list(items)
+    return col
+
+
+def _part_columns(part, n: int) -> dict[str, np.ndarray]:
+    """``part.columns()``, checked against ``part.record(0)``; row by row if they disagree.
+
+    The check keeps the columns equal to the records when a measure's record changes
+    before its ``columns`` method follows.
+    """
+    cols = {k: _finite(v) for k, v in part.columns().items()} if hasattr(part, "columns") else None
+    if n and cols is not None:
+        first = part.record(0)
+        same = list(first) == list(cols) and all(
+            (v is None and np.isnan(cols[k][0])) or (isinstance(v, float) and v == cols[k][0]) for k, v in first.items()
+        )
+        if same:
+            return cols
+    recs = [part.record(i) for i in range(n)]
+    keys = list(dict.fromkeys(k for r in recs for k in r)) if recs else list(cols or {})
+    return {k: np.array([r.get(k) for r in recs], dtype=np.float64) for k in keys}
+
+
+def _columns(a: Analysis) -> dict[str, np.ndarray]:
+    s = a.spectra
+    n = len(a)
+    rng = np.array(s.measured_range_nm, dtype=np.float64).reshape(n, 3)
+    cct_K = _finite(a.cct.cct_K)
+    cct_K[~np.asarray(a.cct.in_domain)] = np.nan
+    out: dict[str, np.ndarray] = {
+        "name": _text_column(s.names),
+        "source": _text_column(s.sources),
+        "sha256": _text_column(s.sha256),
+        "quantity": _text_column([s.quantity.value] * n),
+        "spectral_unit": _text_column([s.quantity.unit] * n),
+        "measured_range_nm_lo": rng[:, 0].copy(),
+        "measured_range_nm_hi": rng[:, 1].copy(),
+        "measured_step_nm": rng[:, 2].copy(),
+        "observer": np.full(n, a.observer, dtype=np.int64),
+        "cct_K": cct_K,
+        "duv": _finite(a.cct.duv),
+    }
+    for name, arr in (("x", a.xy[:, 0]), ("y", a.xy[:, 1]), ("u", a.uv[:, 0]), ("v", a.uv[:, 1]),
+                      ("u_prime", a.uvp[:, 0]), ("v_prime", a.uvp[:, 1]),
+                      ("X", a.XYZ[:, 0]), ("Y", a.XYZ[:, 1]), ("Z", a.XYZ[:, 2])):
+        out[name] = _finite(arr)
+    for part in (a.photometry, a.alphaopic, a.shape, a.dominant):
+        if part is not None:
+            out.update(_part_columns(part, n))
+    if a.cri is not None:
+        r = a.cri
+        out["Ra"] = _finite(r.Ra)
+        R = _finite(r.R)
+        out.update({f"R{j + 1}": np.ascontiguousarray(R[:, j]) for j in range(R.shape[1])})
+        out["cri_valid"] = np.asarray(r.valid, dtype=bool).copy()
+        out["cri_dc"] = _finite(r.dc)
+        out["cri_reference"] = _text_column(r.reference)
+    if a.tm30 is not None:
+        from .rendering.tm30 import chroma_shift_percent
+
+        t = a.tm30
+        out["Rf"] = _finite(t.Rf)
+        out["Rg"] = _finite(t.Rg)
+        for key, block in (("Rf_h", t.Rf_h), ("Rcs_h", chroma_shift_percent(t)), ("Rhs_h", t.Rhs_h), ("Rf_i", t.Rf_i)):
+            b = _finite(block)
+            out.update({f"{key}{j + 1}": np.ascontiguousarray(b[:, j]) for j in range(b.shape[1])})
+        out["reference"] = _text_column(t.reference)
+    out["flags"] = _text_column([";".join(f.code for f in fl) for fl in a.flags])
+    return out
+
+
+def _record(a: Analysis, i: int, in_domain: bool | None = None) -> dict[str, Any]:
     s = a.spectra
     lo, hi, step = s.measured_range_nm[i]
     r: dict[str, Any] = {
@@ -90,7 +191,7 @@ def _record(a: Analysis, i: int) -> dict[str, Any]:
         "measured_range_nm": [lo, hi],
         "measured_step_nm": step,
         "observer": a.observer,
-        "cct_K": _f(a.cct.cct_K, i) if a.cct.in_domain[i] else None,
+        "cct_K": _f(a.cct.cct_K, i) if (bool(a.cct.in_domain[i]) if in_domain is None else in_domain) else None,
         "duv": _f(a.cct.duv, i),
         "x": _f(a.xy[:, 0], i),
         "y": _f(a.xy[:, 1], i),

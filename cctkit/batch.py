@@ -75,9 +75,9 @@ def spectra_results(spectra: Spectra, *, observer: int = 2, rendering: bool = Tr
     from .analysis import analyse
 
     analysis = analyse(spectra, observer=observer, rendering=rendering)
-    # Analysis.records() is the one definition of the per-spectrum record; flattening it keeps
-    # batch output and `inspect` output the same by construction.
-    table = records_table(analysis.records())
+    # Analysis.columns() equals records_table(analysis.records()) (tests hold it), built from
+    # the arrays without a dict per spectrum; so batch output and `inspect` output agree.
+    table = analysis.columns()
     table["cctkit_version"] = np.full(len(spectra), __version__, dtype=object)  # as inspect's CSV has it
     return table
 
@@ -151,20 +151,28 @@ def _column(key: str, items: list[Any]) -> np.ndarray:
 
 @dataclass(frozen=True)
 class _ChunkResult:
-    """A worker's answer: the table, and for CSV output its rows already formatted."""
+    """A worker's answer, only what the writing process writes: CSV text, or an Arrow table.
 
-    table: dict[str, np.ndarray]
-    csv_rows: str | None
-
-
-def _work(spectra: Spectra, observer: int, rendering: bool, csv_rows: bool = False) -> _ChunkResult:
-    """What a worker runs: one chunk in, one table out (module level so it pickles).
-
-    Formatting CSV rows here rather than in the writing process spreads the cost of
-    turning some 250 numbers per spectrum into text over the workers.
+    ``columns`` names the columns in order (the CSV header, the Parquet schema).
     """
-    table = spectra_results(spectra, observer=observer, rendering=rendering)
-    return _ChunkResult(table, _csv_rows(table, list(table)) if csv_rows else None)
+
+    columns: list[str]
+    csv_text: str | None = None
+    arrow: Any = None
+
+
+def _work(spectra: Spectra, observer: int, rendering: bool, output: str = ".csv") -> _ChunkResult:
+    """What a worker runs: one chunk in, its formatted output out (module level so it pickles).
+
+    Formatting here rather than in the writing process spreads the cost of turning some
+    250 numbers per spectrum into text over the workers, and the parent receives the text
+    (or the Arrow table) only.
+    """
+    with _one_blas_thread():
+        table = spectra_results(spectra, observer=observer, rendering=rendering)
+    if output == ".csv":
+        return _ChunkResult(list(table), csv_text=table_csv(table, list(table)))
+    return _ChunkResult(list(table), arrow=_arrow_table(table))
 
 
 # --------------------------------------------------------------------------- writers
@@ -179,14 +187,13 @@ class _CsvWriter:
         self.columns: list[str] | None = None
 
     def write(self, result: _ChunkResult) -> None:
-        table = result.table
         if self.columns is None:
-            self.columns = list(table)
+            self.columns = list(result.columns)
             self._fh.write(csv_text(self.columns, ()))  # the header, once
-        if result.csv_rows is not None and list(table) == self.columns:
-            self._fh.write(result.csv_rows)
-        else:
-            self._fh.write(_csv_rows(table, _checked_columns(self.columns, table)))
+        _checked_columns(self.columns, result.columns)
+        if result.columns != self.columns:
+            raise RuntimeError("a chunk produced its columns in another order than the first chunk")
+        self._fh.write(result.csv_text or "")
 
     def close(self) -> None:
         self._fh.flush()
@@ -194,11 +201,90 @@ class _CsvWriter:
         self._fh.close()
 
 
-def _csv_rows(table: dict[str, np.ndarray], columns: list[str]) -> str:
-    """The rows of ``table`` (no header) in ``columns`` order; a column the table lacks is empty."""
+_CSV_SPECIAL = frozenset(',"\r\n')
+
+
+def _text_cells(col: np.ndarray) -> list[str]:
+    """Cells of a str/None column as :func:`cctkit.formats.csv_text` writes them, each distinct value once."""
+    uniq = {v: None for v in col.tolist()}
+    for v in uniq:
+        if v is None or v == "":
+            uniq[v] = ""
+        elif isinstance(v, str) and _CSV_SPECIAL.isdisjoint(v):
+            uniq[v] = v
+        else:  # quoting (or a non-str cell): exactly what csv_text does for it
+            uniq[v] = csv_text(["", ""], [[v, ""]], write_header=False)[:-2]
+    return [uniq[v] for v in col.tolist()]
+
+
+def _float_cells_py(col: np.ndarray) -> list[str]:
+    """``repr(float(v))`` per value, empty for NaN/inf (the rule of :func:`cctkit.formats.csv_text`)."""
+    if np.isfinite(col).all():
+        return list(map(float.__repr__, col.tolist()))
+    return ["" if not math.isfinite(v) else repr(v) for v in col.tolist()]
+
+
+def _float_cells_arrow(col: np.ndarray):
+    """The cells of :func:`_float_cells_py` as an Arrow string array (NaN/inf as nulls), formatted in C++.
+
+    Arrow's shortest round-trip text equals Python's ``repr`` for non-integral finite
+    values with 1e-4 <= |v| < 1e10 (both print the shortest digits that round-trip, in
+    positional notation there; the tests check it); the other values take ``repr``.
+    """
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    finite = np.isfinite(col)
+    if col.shape[0] and finite[0] and (col == col[0]).all():  # a constant column: format once
+        return pa.array([repr(float(col[0]))] * col.shape[0], type=pa.string())
+    a = np.abs(col)
+    with np.errstate(invalid="ignore"):
+        other = finite & ~((a >= 1e-4) & (a < 1e10) & (col != np.trunc(col)))
+    cells = pc.cast(pa.array(col, mask=~finite), pa.string())
+    if other.any():
+        fixed = list(map(float.__repr__, col[other].tolist()))
+        cells = pc.replace_with_mask(cells, pa.array(other), pa.array(fixed, type=pa.string()))
+    return cells
+
+
+def _cells(col: np.ndarray, arrow: bool):
+    if col.dtype == np.float64:
+        return _float_cells_arrow(col) if arrow else _float_cells_py(col)
+    if col.dtype == bool:
+        return np.where(col, "True", "False").tolist()
+    if col.dtype == np.int64:
+        return list(map(str, col.tolist()))
+    return _text_cells(col)
+
+
+def table_csv(table: dict[str, np.ndarray], columns: list[str]) -> str:
+    """The rows of ``table`` (no header) as CSV text in ``columns`` order, column by column.
+
+    The bytes equal :func:`cctkit.formats.csv_text` over the same rows (tests hold it):
+    floats at repr precision, NaN empty, strings quoted only where CSV needs it.  Each
+    column is formatted once, as a whole; with pyarrow installed the numbers are
+    formatted and the rows joined in Arrow's C++ kernels.
+    """
     n = _table_rows(table)
-    cells = [table[k].tolist() if k in table else [None] * n for k in columns]  # numpy -> Python scalars
-    return csv_text(columns, zip(*cells), write_header=False)
+    if n == 0:
+        return ""
+    try:
+        import pyarrow as pa
+        import pyarrow.compute as pc
+    except ImportError:
+        pa = None
+    if pa is None:
+        cells = [_cells(table[k], False) if k in table else [""] * n for k in columns]
+        return "".join(",".join(row) + "\n" for row in zip(*cells))
+    arrays = []
+    for k in columns:
+        c = _cells(table[k], True) if k in table else [""] * n
+        arrays.append(c if isinstance(c, pa.Array) else pa.array(c, type=pa.string()))
+    rows = pc.binary_join_element_wise(*arrays, ",", null_handling="replace", null_replacement="")
+    text = pc.binary_join_element_wise(rows, "\n", "")  # each row followed by its line end
+    _, offsets, data = text.buffers()
+    bounds = np.frombuffer(offsets, dtype=np.int32)[[text.offset, text.offset + len(text)]]
+    return data.to_pybytes()[bounds[0] : bounds[1]].decode("utf-8")
 
 
 def _table_rows(table: dict[str, np.ndarray]) -> int:
@@ -226,28 +312,43 @@ class _ParquetWriter:
         import pyarrow as pa
         import pyarrow.parquet as pq
 
-        table = result.table
+        tbl = result.arrow
         if self._writer is None:
-            self.columns = list(table)
-            fields = [pa.field(k, _arrow_type(k, table[k])) for k in self.columns]
-            self._schema = pa.schema(fields, metadata={k.encode(): v.encode() for k, v in self._metadata.items()})
+            self.columns = list(result.columns)
+            meta = {k.encode(): v.encode() for k, v in self._metadata.items()}
+            self._schema = tbl.schema.with_metadata(meta)
             self._writer = pq.ParquetWriter(self._path, self._schema)
-        n = _table_rows(table)
-        arrays = []
-        for f in self._schema:
-            col = table.get(f.name)
-            if col is None:
-                arrays.append(pa.nulls(n, type=f.type))
-            elif col.dtype == np.float64:
-                arrays.append(pa.array(col, type=f.type, mask=~np.isfinite(col)))
-            else:
-                arrays.append(pa.array(col.tolist(), type=f.type))
-        _checked_columns(self.columns, table)
-        self._writer.write_table(pa.Table.from_arrays(arrays, schema=self._schema))
+        _checked_columns(self.columns, result.columns)
+        if result.columns != self.columns or tbl.schema.remove_metadata() != self._schema.remove_metadata():
+            n = tbl.num_rows
+            arrays = [
+                tbl.column(f.name).cast(f.type) if f.name in tbl.column_names else pa.nulls(n, type=f.type)
+                for f in self._schema
+            ]
+            tbl = pa.Table.from_arrays(arrays, schema=self._schema)
+        else:
+            tbl = tbl.replace_schema_metadata(self._schema.metadata)
+        self._writer.write_table(tbl)
 
     def close(self) -> None:
         if self._writer is not None:
             self._writer.close()
+
+
+def _arrow_table(table: dict[str, np.ndarray]):
+    """The table as a :class:`pyarrow.Table`; missing numbers (NaN) are nulls."""
+    import pyarrow as pa
+
+    arrays = []
+    for k, col in table.items():
+        t = _arrow_type(k, col)
+        if col.dtype == np.float64:
+            arrays.append(pa.array(col, type=t, mask=~np.isfinite(col)))
+        elif col.dtype in (np.int64, bool):
+            arrays.append(pa.array(col, type=t))
+        else:
+            arrays.append(pa.array(col.tolist(), type=t))
+    return pa.Table.from_arrays(arrays, names=list(table))
 
 
 def _arrow_type(key: str, col: np.ndarray):
@@ -329,9 +430,37 @@ def _clock(seconds: float) -> str:
 # --------------------------------------------------------------------------- running
 
 
-def default_workers() -> int:
-    """Local worker processes by default: min(2, CPU count)."""
-    return max(1, min(2, os.cpu_count() or 1))
+def default_workers(chunks: int | None = None) -> int:
+    """Local worker processes by default: one per CPU this process may run on, at most one per chunk.
+
+    Each chunk runs with one BLAS thread (:func:`_one_blas_thread`), so the workers, not BLAS
+    threads, share the CPUs; the writing process mostly waits and needs no CPU of its own
+    (measured in ``benchmarks/bench_batch.py``).
+    """
+    try:
+        cpus = len(os.sched_getaffinity(0))
+    except (AttributeError, OSError):  # pragma: no cover - not Linux
+        cpus = os.cpu_count() or 1
+    if chunks is not None:
+        cpus = min(cpus, chunks)
+    return max(1, cpus)
+
+
+def _one_blas_thread():
+    """A context with one BLAS thread, for every chunk wherever it runs.
+
+    The worker processes are the parallelism; BLAS threads on top of them would compete
+    for the same CPUs (threadpoolctl sets the limit for whichever BLAS numpy uses).  And
+    a BLAS may round a product differently with another number of threads: with one
+    thread everywhere, a batch's numbers do not depend on how many workers ran it.
+    """
+    try:
+        from threadpoolctl import threadpool_limits
+    except ImportError:  # pragma: no cover - a declared dependency
+        from contextlib import nullcontext
+
+        return nullcontext()
+    return threadpool_limits(1)
 
 
 @dataclass(frozen=True)
@@ -455,14 +584,14 @@ def run_batch(
     if suffix not in OUTPUT_SUFFIXES:
         raise InputError(f"output must end in {' or '.join(OUTPUT_SUFFIXES)}, got {out.name!r}", source="--output")
     if workers is None:
-        workers = default_workers()
+        workers = default_workers(None if source.total is None else -(-source.total // source.chunk_size))
     if isinstance(workers, bool) or not isinstance(workers, (int, np.integer)) or workers < 1:
         raise InputError(f"workers must be a positive number, got {workers!r}", source="--workers")
     inputs = list(source.files) + [source.path]
     check_output_path(out, overwrite=overwrite, inputs=inputs)
     progress = progress or Progress(source.total, enabled=False)
     chunks = source.chunks()
-    opts = (observer, rendering, suffix == ".csv")
+    opts = (observer, rendering, suffix)
     if scheduler:
         executor = f"dask {scheduler}"
         results = _dask(chunks, scheduler, opts)

@@ -67,6 +67,7 @@ from typing import Any, Mapping
 
 import numpy as np
 
+from .alphaopic import RECORD_KEYS as ALPHA_OPIC_KEYS
 from .errors import InputError
 from .photometry import PHOTON_KEY, PPF_KEY, RADIANT_KEY
 
@@ -93,7 +94,7 @@ _RECORD_METRICS = (
     "cct_K", "duv", "x", "y", "u", "v", "u_prime", "v_prime", "X", "Y", "Z",
     "luminous_flux_lm", "illuminance_lx", "luminance_cd_per_m2", "intensity_cd",
     *RADIANT_KEY.values(),
-    "ler_lm_per_W", "sp_ratio", "melanopic_der", "melanopic_edi_lx",
+    "ler_lm_per_W", "sp_ratio", *ALPHA_OPIC_KEYS,
     "peak_nm", "centroid_nm", "fwhm_nm", "dominant_wavelength_nm", "purity",
     *PHOTON_KEY.values(),
     *PPF_KEY.values(),

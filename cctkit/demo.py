@@ -64,6 +64,9 @@ __all__ = [
     "DemoFile",
     "PRODUCTS",
     "TUNABLE_SET_POINTS_K",
+    "WASH_CHANNELS",
+    "WASH_FILE",
+    "WASH_POWER_FILE",
     "LOT_SIZE",
     "FINE_WAVELENGTH_NM",
     "die_shape",
@@ -405,6 +408,48 @@ TUNABLE_ILLUMINANCE_LX = (480.0, 495.0, 505.0, 510.0, 500.0)
 TUNABLE_DUV = 0.0
 
 
+#: HL-Wash5: a five-channel stage-wash fixture of the hall, each channel measured alone at full
+#: drive in the sphere.  Per channel: (name, kind, design, radiant output of the die at full drive [W],
+#: wall-plug efficiency of the die [1]).  Direct emitters use the split-Gaussian die model; the
+#: phosphor-converted ones are WhiteLed designs (the lime one with a fixed, nearly full conversion).
+WASH_FILE = "hl-wash5/hl-wash5-channels.csv"
+WASH_POWER_FILE = "hl-wash5/hl-wash5-power.csv"
+_LIME = WhiteLed("HL-Wash5 lime", 0.0, 0.0, BlueDie(450.0, 20.0),
+                 Phosphor("LuAG/YAG:Ce-type green-yellow garnet", 552.0, 0.30, 0.95, doublet_ratio=0.55),
+                 _NITRIDE_DEEP)
+WASH_CHANNELS: tuple[tuple[str, str, object, float, float], ...] = (
+    ("royal blue", "direct", BlueDie(447.0, 18.0, 1.6), 1.10, 0.55),
+    ("warm white", "converted",
+     WhiteLed("HL-Wash5 warm white", 2200.0, 0.0, BlueDie(452.0, 20.0), replace(_YAG, peak_nm=556.0),
+              replace(_NITRIDE_DEEP, peak_nm=634.0)), 1.40, 0.50),
+    ("cool white", "converted",
+     WhiteLed("HL-Wash5 cool white", 7200.0, -0.002, BlueDie(448.0, 19.0), replace(_YAG, peak_nm=545.0),
+              replace(_NITRIDE_DEEP, peak_nm=626.0), green=_LUAG, green_per_yellow=0.6), 1.40, 0.50),
+    ("lime", "lime", _LIME, 1.40, 0.48),
+    ("red", "direct", BlueDie(626.0, 17.0, 1.2), 0.80, 0.34),
+)
+#: Absorbed fractions (green-yellow, red) of the lime channel: nearly full conversion.
+_LIME_ABSORBED = (0.99, 0.0)
+
+
+def _wash_measurement() -> tuple[np.ndarray, dict[str, np.ndarray], dict[str, float], Instrument]:
+    """HL-Wash5 channels at full drive: radiant flux [W/nm] and electrical power [W] per channel."""
+    inst = INSTRUMENTS["sphere-1nm"]
+    rng = np.random.default_rng((BASE_SEED, 300))
+    columns: dict[str, np.ndarray] = {}
+    power: dict[str, float] = {}
+    for name, kind, design, die_W, wall_plug in WASH_CHANNELS:
+        if kind == "direct":
+            fine = die_W * die_shape(design)
+        elif kind == "lime":
+            fine = led_spectrum(design, _LIME_ABSORBED, die_W)
+        else:
+            fine = led_spectrum(design, solve_absorbed_fractions(design, inst), die_W)
+        columns[name] = _add_noise(_measure_noise_free(fine, inst), inst, rng)
+        power[name] = round(die_W / wall_plug, 2)
+    return inst.wavelength_nm, columns, power, inst
+
+
 @dataclass(frozen=True)
 class DemoFile:
     """One generated file: its path relative to the output folder and its bytes."""
@@ -556,6 +601,18 @@ def demo_files() -> list[DemoFile]:
     ]
     text = _csv_text(wl, columns, quantity="irradiance", unit="W/(m^2 nm)", comments=comments, wl_decimals=1)
     files.append(DemoFile("tw-lab-setpoints.csv", text.encode("utf-8")))
+    wl, columns, power, inst = _wash_measurement()
+    comments = [
+        "scenario: Harbourside Lantern Hall stage-wash fixture (fictional)",
+        "fixture: HL-Wash5, five channels, each measured alone at full drive, one column per channel",
+        f"instrument: {inst.description} (simulated)",
+        f"range: {inst.start_nm:g}-{inst.stop_nm:g} nm, step {inst.step_nm:g} nm",
+    ]
+    text = _csv_text(wl, columns, quantity="radiant-flux", unit="W/nm", comments=comments, wl_decimals=0)
+    files.append(DemoFile(WASH_FILE, text.encode("utf-8")))
+    power_text = _comment_block([_NOTICE, "HL-Wash5 electrical power per channel at full drive (simulated)"])
+    power_text += "channel,power_W\n" + "".join(f"{k},{v:.2f}\n" for k, v in power.items())
+    files.append(DemoFile(WASH_POWER_FILE, power_text.encode("utf-8")))
     inst = INSTRUMENTS["sphere-1nm"]
     for name, values, _note in _lot_units():
         comments = [

@@ -8,7 +8,10 @@ spectra in ``spectra/`` (made by :mod:`cctkit.demo`), and writes under ``--out``
 * ``tw-lab.pdf`` / ``.json`` -- the lab's tunable-white fixture at its five set points;
 * ``nb3000-lot-verdict.json`` / ``.csv`` / ``.txt`` and ``nb3000-lot.pdf`` -- the delivered
   lot of NB-3000-95 checked against the supplier's claims (the PDF opens with the verdict pages);
-* ``nb3000-lot-bins.csv`` -- the lot binned by ANSI quadrangle and SDCM step.
+* ``nb3000-lot-bins.csv`` -- the lot binned by ANSI quadrangle and SDCM step;
+* ``hl-wash5-tuning.pdf`` / ``.png`` / ``.json`` / ``.csv`` -- the five-channel stage-wash fixture
+  tuned from 1800 K to 6500 K on the Planckian locus for the highest Rf with Rg 95-110, at
+  constant output (drive table and tuning report).
 
 The job is a script of library calls, the same ones the command line makes.  It replaces
 its own previous outputs (never the spectra).
@@ -25,6 +28,8 @@ CANDIDATES = ("northbeam-nb-3000-95.csv", "caldera-cl-2700-80.csv", "vell-vo-400
 TUNABLE = "tw-lab-setpoints.csv"
 LOT_DIR = "lot-nb3000"
 CLAIMS = "claims/northbeam-3000K.toml"
+WASH = "hl-wash5/hl-wash5-channels.csv"
+WASH_POWER = "hl-wash5/hl-wash5-power.csv"
 
 
 def _say(message: str) -> None:
@@ -33,6 +38,8 @@ def _say(message: str) -> None:
 
 def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, Path]:
     """Run the whole demo; returns the files written by name."""
+    import numpy as np
+
     from .analysis import analyse, analyse_files, provenance, records_csv
     from .binning import bin_chromaticities
     from .claims import format_verdict, load_claims, verdict_csv, verify
@@ -51,7 +58,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
 
     t0 = time.perf_counter()
     files = [spectra_dir / f for f in CANDIDATES]
-    _say(f"[1/4] candidate downlights: {', '.join(f.name for f in files)}")
+    _say(f"[1/5] candidate downlights: {', '.join(f.name for f in files)}")
     shortlist = analyse_files(files)
     recs = shortlist.records()
     put("harbourside-shortlist.json", dumps({**provenance(), "spectra": recs}))
@@ -62,7 +69,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
         written[path.name] = path
         _say(f"  wrote {path}")
 
-    _say(f"[2/4] tunable-white fixture: {TUNABLE}")
+    _say(f"[2/5] tunable-white fixture: {TUNABLE}")
     tw_file = spectra_dir / TUNABLE
     tw = analyse(read_spectra(tw_file))
     tw_recs = tw.records()
@@ -72,7 +79,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     _say(f"  wrote {out / 'tw-lab.pdf'}")
 
     lot_files = [spectra_dir / CANDIDATES[0], *sorted((spectra_dir / LOT_DIR).glob("*.csv"))]
-    _say(f"[3/4] delivered lot against the supplier's claims: {len(lot_files)} samples, {CLAIMS}")
+    _say(f"[3/5] delivered lot against the supplier's claims: {len(lot_files)} samples, {CLAIMS}")
     claims = load_claims(spectra_dir / CLAIMS)
     lot = analyse_files(lot_files)
     lot_recs = lot.records()
@@ -87,9 +94,27 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     failing = [s["name"] for s in verdict["samples"] if s["verdict"] != "pass"]
     _say(f"  verdict: {verdict['verdict']}; not passing: {', '.join(failing) or 'none'}")
 
-    _say("[4/4] binning the lot (ANSI C78.377 quadrangle, SDCM step)")
+    _say("[4/5] binning the lot (ANSI C78.377 quadrangle, SDCM step)")
     bins = bin_chromaticities(lot.xy, names=lot.spectra.names)
     put("nb3000-lot-bins.csv", bins.csv())
+
+    from .blend import read_channels, solve_blend_path
+    from .report.tuning import build_tuning_report
+
+    wash_files = [spectra_dir / WASH, spectra_dir / WASH_POWER]
+    _say(f"[5/5] tuning the five-channel HL-Wash5 from 1800 K to 6500 K (max Rf, Rg 95-110): {WASH}")
+    channels = read_channels([wash_files[0]], power=wash_files[1])
+    tuning = solve_blend_path(channels, np.arange(1800.0, 6501.0, 100.0), 0.0, objective="fidelity",
+                              rg=(95.0, 110.0))
+    tuning_doc = tuning.document()
+    put("hl-wash5-tuning.json", dumps(tuning_doc))
+    put("hl-wash5-tuning.csv", tuning.csv())
+    for suffix in (".pdf", ".png"):
+        path = out / f"hl-wash5-tuning{suffix}"
+        build_tuning_report(tuning, path, overwrite=True, inputs=wash_files, date=date, document=tuning_doc,
+                            title="Tuning: HL-Wash5 stage wash, 1800-6500 K")
+        written[path.name] = path
+        _say(f"  wrote {path}")
     _say(f"done in {time.perf_counter() - t0:.1f} s")
     return written
 

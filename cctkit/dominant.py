@@ -132,6 +132,10 @@ class DominantWavelength:
             "purity": finite_or_none(self.purity[i]),
         }
 
+    def columns(self) -> dict[str, np.ndarray]:
+        """The fields of :meth:`record` for every spectrum at once (NaN where a record has None)."""
+        return {"dominant_wavelength_nm": self.dominant_wavelength_nm, "purity": self.purity}
+
 
 def dominant_wavelength(xy: Any, *, white_xy: Any = EQUAL_ENERGY_XY, observer: int = 2) -> DominantWavelength:
     """Dominant (or complementary) wavelength and excitation purity of chromaticities.

@@ -253,6 +253,16 @@ class Photometry:
             out[PPF_KEY[self.quantity]] = _num(self.ppf_umol[i])
         return out
 
+    def columns(self) -> dict[str, np.ndarray]:
+        """The fields of :meth:`record` for every spectrum at once (NaN where a record has None)."""
+        cols = {"ler_lm_per_W": self.ler_lm_per_W, "sp_ratio": self.sp_ratio}
+        if self.quantity is not Quantity.RELATIVE:
+            cols[self.quantity.luminous_name] = self.luminous
+            cols[RADIANT_KEY[self.quantity]] = self.radiant
+            cols[PHOTON_KEY[self.quantity]] = self.photon_umol
+            cols[PPF_KEY[self.quantity]] = self.ppf_umol
+        return cols
+
 
 def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> Photometry:
     """All photometric and photon totals of spectra on the working grid.

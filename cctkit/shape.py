@@ -111,6 +111,10 @@ class ShapeMeasures:
             "fwhm_nm": _num(self.fwhm_nm[i]),
         }
 
+    def columns(self) -> dict[str, np.ndarray]:
+        """The fields of :meth:`record` for every spectrum at once (NaN where a record has None)."""
+        return {"peak_nm": self.peak_nm, "centroid_nm": self.centroid_nm, "fwhm_nm": self.fwhm_nm}
+
 
 def spectral_shape(values: Any) -> ShapeMeasures:
     """Peak wavelength, centroid wavelength and FWHM of spectra on the working grid, (N, 471)."""

@@ -222,6 +222,33 @@ class Spectra:
         """The same spectra multiplied by ``factor`` (e.g. a unit conversion)."""
         return replace(self, values=self.values * factor, quantity=quantity or self.quantity)
 
+    # pandas / colour-science interop lives in cctkit.interop; these are its doors.
+    @classmethod
+    def from_frame(cls, df, **kwargs) -> "Spectra":
+        """Spectra from a pandas DataFrame, one column per spectrum (:func:`cctkit.interop.spectra_from_frame`)."""
+        from .interop import spectra_from_frame
+
+        return spectra_from_frame(df, **kwargs)
+
+    def to_frame(self):
+        """A pandas DataFrame, one column per spectrum on a ``wavelength_nm`` index (:func:`cctkit.interop.spectra_to_frame`)."""
+        from .interop import spectra_to_frame
+
+        return spectra_to_frame(self)
+
+    @classmethod
+    def from_colour(cls, obj, **kwargs) -> "Spectra":
+        """Spectra from colour-science distributions (:func:`cctkit.interop.spectra_from_colour`)."""
+        from .interop import spectra_from_colour
+
+        return spectra_from_colour(obj, **kwargs)
+
+    def to_colour(self):
+        """A ``colour.MultiSpectralDistributions``, one label per spectrum (:func:`cctkit.interop.spectra_to_colour`)."""
+        from .interop import spectra_to_colour
+
+        return spectra_to_colour(self)
+
 
 def _pick(seq: Sequence[str], i: int) -> str | None:
     if not seq:

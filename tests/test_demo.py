@@ -51,7 +51,8 @@ def _reference(wavelength_nm: np.ndarray, values: np.ndarray) -> dict[str, float
 
 def test_committed_files_are_the_generator_output():
     files = demo.demo_files()
-    assert len(files) == 3 + 1 + 1 + demo.LOT_SIZE  # 3 products, 1 JSON twin, TW-Lab, 24 lot units
+    # 3 products, 1 JSON twin, TW-Lab, HL-Wash5 channels and their power file, 24 lot units
+    assert len(files) == 3 + 1 + 1 + 2 + demo.LOT_SIZE
     for f in files:
         committed = SPECTRA / f.relpath
         assert committed.is_file(), f"{f.relpath} is not committed; run python -m cctkit.demo --out spectra"
@@ -103,6 +104,7 @@ def test_module_entry_point(tmp_path, capsys):
         ("caldera-cl-2700-80.csv", 360, 830, 5.0, "radiant-flux"),
         ("vell-vo-4000-90.csv", 380, 780, 1.0, "radiant-flux"),
         ("tw-lab-setpoints.csv", 350, 800, 0.5, "irradiance"),
+        ("hl-wash5/hl-wash5-channels.csv", 380, 780, 1.0, "radiant-flux"),
         ("lot-nb3000/nb-3000-95-u01.csv", 380, 780, 1.0, "radiant-flux"),
     ],
 )
@@ -170,6 +172,27 @@ def test_tunable_set_points_land_on_target(j, set_point_K):
     assert abs(ref["cct_K"] - set_point_K) <= 5.0
     assert abs(ref["duv"] - demo.TUNABLE_DUV) <= 1e-4
     assert ref["Y"] == pytest.approx(demo.TUNABLE_ILLUMINANCE_LX[j], rel=1e-3)  # lx at 2 m
+
+
+@pytest.mark.parametrize("channel", ["warm white", "cool white"])
+def test_wash_white_channels_land_on_their_design(channel):
+    names, wl, values = _load_csv(SPECTRA / demo.WASH_FILE)
+    assert names == [c[0] for c in demo.WASH_CHANNELS]
+    design = next(c[2] for c in demo.WASH_CHANNELS if c[0] == channel)
+    ref = _reference(wl, values[:, names.index(channel)])  # reference library: colour-science 0.4.7
+    # the same tolerances as test_products_land_on_their_targets
+    assert abs(ref["cct_K"] - design.cct_K) <= 5.0
+    assert abs(ref["duv"] - design.duv) <= 1e-4
+
+
+def test_wash_power_file_names_every_channel():
+    lines = [ln for ln in (SPECTRA / demo.WASH_POWER_FILE).read_text().splitlines() if not ln.startswith("#")]
+    assert lines[0] == "channel,power_W"
+    rows = dict(ln.split(",") for ln in lines[1:])
+    assert list(rows) == [c[0] for c in demo.WASH_CHANNELS]
+    # wall-plug efficiency of the die, 0.34-0.55 in the model: electrical power above the die's radiant output
+    for name, kind, design, die_W, wall_plug in demo.WASH_CHANNELS:
+        assert float(rows[name]) == pytest.approx(die_W / wall_plug, abs=0.005)
 
 
 # --------------------------------------------------------------------------- the procurement lot

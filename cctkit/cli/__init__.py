@@ -26,7 +26,7 @@ from ..safe_io import os_error_text
 
 __all__ = ["app", "main"]
 
-_COMMAND_MODULES = ("core", "compare", "verify", "report", "batch")
+_COMMAND_MODULES = ("core", "compare", "verify", "report", "batch", "blend")
 
 
 class _OneLineErrors(TyperGroup):

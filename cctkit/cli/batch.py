@@ -20,7 +20,7 @@ def batch_cmd(
     ),
     output: Path = typer.Option(..., "--output", "-o", help="Results file: .csv or .parquet (one row per spectrum)."),
     chunk_size: int = typer.Option(4096, "--chunk-size", help="Spectra per chunk; memory grows with it [spectra]."),
-    workers: Optional[int] = typer.Option(None, "--workers", help="Local worker processes (default: min(2, CPU count))."),
+    workers: Optional[int] = typer.Option(None, "--workers", help="Local worker processes (default: one per available CPU, at most one per chunk)."),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", help="Run the chunks on a Dask scheduler, e.g. tcp://host:8786."),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),

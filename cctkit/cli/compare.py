@@ -18,7 +18,9 @@ from typing import Any, Optional
 import typer
 
 from ..errors import InputError
+from ..spreadsheet import check_dialect
 from .options import (
+    CSV_DIALECT_OPTION,
     JSON_OPTION,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
@@ -54,9 +56,10 @@ def versus_cmd(
     method: str = typer.Option("cie224", "--method", "-m", help=METHOD_HELP),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     cct: Optional[float] = typer.Option(None, "--cct", help="Use this CCT [K] for every spectrum instead of computing it."),
-    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the per-wavelength comparison to FILE (.csv)."),
+    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the per-wavelength comparison to FILE (.csv or .xlsx)."),
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """Each spectrum in FILE against the reference illuminant of its CCT, per wavelength and per sample."""
     import numpy as np
@@ -69,7 +72,8 @@ def versus_cmd(
 
     ref_method = _method(method)
     if output is not None:
-        require_suffix(output, (".csv",))
+        require_suffix(output, (".csv", ".xlsx"))
+        check_dialect(csv_dialect)
     spectra = to_working_grid(read_files([file], quantity=quantity)[0])  # within the limits of one command
     values = spectra.values
     n = values.shape[0]
@@ -134,7 +138,7 @@ def versus_cmd(
 
         # where the numbers came from: the SHA-256 of the bytes analysed (a comment line our readers skip)
         origin = f"# input {terminal_safe(str(file))} sha256 {spectra.sha256[0]}; cctkit {__version__}\n"
-        write_output(output, origin + csv_text(header, rows), overwrite=overwrite, inputs=[file])
+        write_output(output, origin + csv_text(header, rows), overwrite=overwrite, inputs=[file], dialect=csv_dialect)
 
     if json_out:
         emit_json({"method": ref_method, "wavelength_nm": comp.wavelength_nm, "spectra": [
@@ -175,9 +179,10 @@ def versus_cmd(
 def reference_cmd(
     cct_K: float = typer.Argument(..., help="Correlated colour temperature [K] (1000-25000)."),
     method: str = typer.Option("cie224", "--method", "-m", help=METHOD_HELP),
-    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the spectrum to FILE (.csv or .json)."),
+    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the spectrum to FILE (.csv, .xlsx or .json)."),
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """The reference illuminant of a CCT (relative spectrum, Y = 100), optionally written to a file."""
     import numpy as np
@@ -189,7 +194,8 @@ def reference_cmd(
     ref_method = _method(method)
     if not np.isfinite(reference_cct(cct_K)[0]):
         raise InputError(f"CCT_K must be between {REFERENCE_RANGE_K[0]:g} and {REFERENCE_RANGE_K[1]:g} K, got {cct_K:g}")
-    suffix = require_suffix(output, (".csv", ".json")) if output is not None else None
+    suffix = require_suffix(output, (".csv", ".json", ".xlsx")) if output is not None else None
+    check_dialect(csv_dialect)
     ref = reference_for([cct_K], method=ref_method)
     values = ref.values[0]
     tri = XYZ(values[None])
@@ -209,10 +215,10 @@ def reference_cmd(
     }
     if output is not None:
         text = spectrum_file_text(
-            suffix, name, values, quantity="relative", unit="", column="relative",
+            ".json" if suffix == ".json" else ".csv", name, values, quantity="relative", unit="", column="relative",
             comment=f"{name} ({ref.kind[0]}, Planckian weight {doc['planckian_weight']:g}); relative, Y = 100 (CIE 1931 2 deg)",
         )
-        write_output(output, text, overwrite=overwrite)
+        write_output(output, text, overwrite=overwrite, dialect=csv_dialect)
     if json_out:
         emit_json(doc)
         return

@@ -9,7 +9,9 @@ import typer
 
 from ..errors import InputError
 from ..formats import format_number
+from ..spreadsheet import check_dialect
 from .options import (
+    CSV_DIALECT_OPTION,
     JSON_OPTION,
     OBSERVER_HELP,
     OUTPUT_OPTION,
@@ -43,6 +45,9 @@ INSPECT_ROWS: tuple[tuple[str, str, str, str], ...] = (
     ("sp_ratio", "S/P ratio", "", "{:.3f}"),
     ("melanopic_der", "Melanopic DER", "", "{:.3f}"),
     ("melanopic_edi_lx", "Melanopic EDI", "lx", "{:.1f}"),
+    ("melanopic_edl_cd_per_m2", "Melanopic EDL", "cd/m2", "{:.1f}"),
+    ("melanopic_equivalent_daylight_flux_lm", "Melanopic equiv. D65 flux", "lm", "{:.1f}"),
+    ("melanopic_equivalent_daylight_intensity_cd", "Melanopic equiv. D65 int.", "cd", "{:.1f}"),
     ("peak_nm", "Peak wavelength", "nm", "{:.1f}"),
     ("centroid_nm", "Centroid wavelength", "nm", "{:.1f}"),
     ("fwhm_nm", "FWHM (highest peak)", "nm", "{:.1f}"),
@@ -53,6 +58,10 @@ INSPECT_ROWS: tuple[tuple[str, str, str, str], ...] = (
     ("Rf", "Rf (TM-30 / CIE 224)", "", "{:.1f}"),
     ("Rg", "Rg (TM-30)", "", "{:.1f}"),
 )
+#: After this row the table says where the other alpha-opic quantities are.
+ALPHA_OPIC_LAST_ROW = "melanopic_equivalent_daylight_intensity_cd"
+ALPHA_OPIC_NOTE = ("other CIE S 026 alpha-opic quantities (S-, M-, L-cone-opic, rhodopic; totals, ELR, DER): --json\n"
+                   "  alpha-opic values describe the optical stimulus only; they are not medical advice")
 
 
 def _fmt(value: Any, fmt: str) -> str:
@@ -74,6 +83,8 @@ def format_records(records: list[dict[str, Any]]) -> str:
         for key, label, unit, fmt in INSPECT_ROWS:
             if key in rec:
                 lines.append(f"  {label:<24} {_fmt(rec[key], fmt):>12}  {unit}")
+            if key == ALPHA_OPIC_LAST_ROW and "melanopic_der" in rec:
+                lines.append(f"  {ALPHA_OPIC_NOTE}")
         for flag in rec.get("flags", []):
             lines.append(f"  warning [{flag['code']}]: {flag['message']}")
         lines.append("")
@@ -87,6 +98,7 @@ def inspect_cmd(
     json_out: bool = JSON_OPTION,
     output: Optional[Path] = OUTPUT_OPTION,
     overwrite: bool = OVERWRITE_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """Every measure for each spectrum: CCT, Duv, chromaticity, photometry, colour rendering."""
     from ..analysis import analyse_groups, provenance, read_files, records_csv
@@ -96,14 +108,15 @@ def inspect_cmd(
     if quantity is not None:
         Quantity.parse(quantity, source="--quantity")
     if output is not None:
-        require_suffix(output, (".json", ".csv"))
+        require_suffix(output, (".json", ".csv", ".xlsx"))
+    check_dialect(csv_dialect)
     records = analyse_groups(read_files(files, quantity=quantity), observer=obs)
     doc = {**provenance(), "spectra": records}
     if output is not None:
         if output.suffix.lower() == ".json":
             write_output(output, dumps(doc), overwrite=overwrite, inputs=files)
         else:
-            write_output(output, records_csv(records), overwrite=overwrite, inputs=files)
+            write_output(output, records_csv(records), overwrite=overwrite, inputs=files, dialect=csv_dialect)
     if json_out:
         emit_json(doc)
     else:
@@ -170,6 +183,7 @@ def locus_cmd(
     output: Optional[Path] = OUTPUT_OPTION,
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """The Planckian locus as a table (T_K, x, y, u, v, u', v')."""
     import numpy as np
@@ -189,12 +203,12 @@ def locus_cmd(
     rows = loc.rows()
     header = ["T_K", "x", "y", "u", "v", "u_prime", "v_prime"]
     if output is not None:
-        suffix = require_suffix(output, (".csv", ".json"))
-        if suffix == ".csv":
-            text = csv_text(header, ([r[k] for k in header] for r in rows))
-        else:
+        suffix = require_suffix(output, (".csv", ".json", ".xlsx"))
+        if suffix == ".json":
             text = dumps({"observer": loc.observer, "c2_m_K": loc.c2_m_K, "locus": rows})
-        write_output(output, text, overwrite=overwrite)
+        else:
+            text = csv_text(header, ([r[k] for k in header] for r in rows))
+        write_output(output, text, overwrite=overwrite, dialect=csv_dialect)
     if json_out:
         emit_json({"observer": loc.observer, "c2_m_K": loc.c2_m_K, "locus": rows})
     elif output is None:
@@ -207,6 +221,7 @@ def blackbody_cmd(
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
     quantity: str = typer.Option("exitance", "--as", help="exitance [W/(m2 nm)] or radiance [W/(sr m2 nm)] in the file."),
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """A blackbody at T_K: Wien peak, total exitance, efficacy, chromaticity; the spectrum to a file."""
     import numpy as np
@@ -235,17 +250,17 @@ def blackbody_cmd(
         "cct_K": float(cct_duv(uv).cct_K) if 1000 <= T_K <= 100000 else None,
     }
     if output is not None:
-        suffix = require_suffix(output, (".csv", ".json"))
+        suffix = require_suffix(output, (".csv", ".json", ".xlsx"))
         if quantity == "exitance":
             values, unit, col = spectral_exitance(T_K), "W/(m2 nm)", "spectral_exitance (W/(m2 nm))"
         else:
             values, unit, col = spectral_radiance(T_K), "W/(sr m2 nm)", "spectral_radiance (W/(sr m2 nm))"
         # exitance shares the unit of irradiance, which is how the readers take it back
         text = spectrum_file_text(
-            suffix, f"blackbody {T_K:g} K", values, quantity="irradiance" if quantity == "exitance" else "radiance",
+            ".json" if suffix == ".json" else ".csv", f"blackbody {T_K:g} K", values, quantity="irradiance" if quantity == "exitance" else "radiance",
             unit=unit, column=col, comment=f"blackbody at {T_K:g} K, Planck's law, c2 = {C2_M_K:g} m K; unit: {unit}",
         )
-        write_output(output, text, overwrite=overwrite)
+        write_output(output, text, overwrite=overwrite, dialect=csv_dialect)
     if json_out:
         emit_json(doc)
     else:

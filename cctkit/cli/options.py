@@ -19,8 +19,13 @@ from ..formats import csv_text, dumps  # noqa: F401  (re-exported for the comman
 from ..safe_io import atomic_write
 
 JSON_OPTION = typer.Option(False, "--json", help="Print one JSON document on stdout instead of a table.")
-OUTPUT_OPTION = typer.Option(None, "--output", "-o", help="Write the result to FILE (CSV or JSON by extension).")
+OUTPUT_OPTION = typer.Option(None, "--output", "-o", help="Write the result to FILE (.csv, .xlsx or .json by extension).")
 OVERWRITE_OPTION = typer.Option(False, "--overwrite", help="Allow replacing an existing output file.")
+CSV_DIALECT_OPTION = typer.Option(
+    "comma", "--csv-dialect", metavar="comma|semicolon",
+    help="CSV written by --output: comma (decimal point) or semicolon (decimal comma, for spreadsheets "
+    "in European locales).",
+)
 QUANTITY_HELP = "Radiometric quantity of the values: radiant-flux | irradiance | radiance | intensity | relative."
 OBSERVER_HELP = "CIE standard observer for colorimetry: 2 (CIE 1931) or 10 (CIE 1964)."
 
@@ -35,8 +40,21 @@ def info(message: str) -> None:
     typer.echo(message, err=True)
 
 
-def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iterable = (), announce: bool = True) -> None:
-    atomic_write(path, text, overwrite=overwrite, inputs=list(inputs))
+def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iterable = (),
+                 dialect: str = "comma", announce: bool = True) -> None:
+    """Write ``text`` atomically; CSV text becomes a workbook for ``.xlsx`` or ``dialect`` CSV for ``.csv``."""
+    inputs = list(inputs)
+    suffix = Path(path).suffix.lower()
+    if suffix == ".xlsx" and isinstance(text, str):
+        from ..analysis import provenance
+        from ..spreadsheet import csv_to_xlsx
+
+        text = csv_to_xlsx(text, provenance=provenance(), inputs=inputs)
+    elif suffix == ".csv" and isinstance(text, str):
+        from ..spreadsheet import csv_in_dialect
+
+        text = csv_in_dialect(text, dialect)
+    atomic_write(path, text, overwrite=overwrite, inputs=inputs)
     if announce:
         info(f"wrote {path}")
 

@@ -12,7 +12,9 @@ from typing import List, Optional
 
 import typer
 
+from ..spreadsheet import check_dialect
 from .options import (
+    CSV_DIALECT_OPTION,
     JSON_OPTION,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
@@ -25,7 +27,7 @@ from .options import (
 EXIT_FAIL = 1
 EXIT_INCONCLUSIVE = 3
 
-_OUTPUT_CSV = typer.Option(None, "--output", "-o", help="Write the per-sample table to FILE (.csv or .json).")
+_OUTPUT_CSV = typer.Option(None, "--output", "-o", help="Write the per-sample table to FILE (.csv, .xlsx or .json).")
 
 
 def _needs_rendering(claims) -> bool:
@@ -42,13 +44,15 @@ def verify_cmd(
     report: Optional[Path] = typer.Option(None, "--report", help="Also write the PDF report, starting with the "
                                           "verdict pages, to FILE (.pdf)."),
     overwrite: bool = OVERWRITE_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """Check measured spectra against a supplier's claims; exit 0 pass, 1 fail, 3 inconclusive, 2 bad input."""
     from ..claims import format_verdict, load_claims, verdict_csv, verify
 
     inputs = [*files, claims_file]
+    check_dialect(csv_dialect)
     if output is not None:
-        require_suffix(output, (".csv", ".json"))
+        require_suffix(output, (".csv", ".json", ".xlsx"))
     if report is not None:
         from ..errors import InputError
         from ..safe_io import check_output_path
@@ -73,7 +77,7 @@ def verify_cmd(
     with output_group():  # --output and --report: both written, or neither
         if output is not None:
             text = dumps(traced) if output.suffix.lower() == ".json" else verdict_csv(traced, claims)
-            write_output(output, text, overwrite=overwrite, inputs=inputs, announce=False)
+            write_output(output, text, overwrite=overwrite, inputs=inputs, dialect=csv_dialect, announce=False)
         if report is not None:
             from ..report import build_report
 
@@ -113,6 +117,7 @@ def bin_cmd(
     json_out: bool = JSON_OPTION,
     output: Optional[Path] = _OUTPUT_CSV,
     overwrite: bool = OVERWRITE_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """ANSI C78.377 quadrangle and SDCM step of each spectrum, with counts per bin."""
     import numpy as np
@@ -123,8 +128,9 @@ def bin_cmd(
 
     if ellipses not in ELLIPSE_SETS:
         raise InputError(f"--ellipses must be one of {', '.join(ELLIPSE_SETS)}, got {ellipses!r}")
+    check_dialect(csv_dialect)
     if output is not None:
-        require_suffix(output, (".csv", ".json"))
+        require_suffix(output, (".csv", ".json", ".xlsx"))
     from ..analysis import analyse_files
 
     records = analyse_files(files, quantity=quantity, rendering=False).records()
@@ -148,7 +154,7 @@ def bin_cmd(
             cols = ["name", "x", "y", "quadrangle", "centre", "sdcm_steps", "sdcm_bin", "extrapolated",
                     "source", "sha256"]
             text = csv_text(cols, ([r.get(c) for c in cols] for r in rows))
-        write_output(output, text, overwrite=overwrite, inputs=files)
+        write_output(output, text, overwrite=overwrite, inputs=files, dialect=csv_dialect)
     if json_out:
         emit_json(doc)
         return
