@@ -47,6 +47,9 @@ __all__ = [
     "is_input",
     "forget_inputs",
     "os_error_text",
+    "place",
+    "remove_stale_temps",
+    "write_journal",
 ]
 
 #: Identities (st_dev, st_ino) of every file read through :func:`read_user_file` in this process.
@@ -207,7 +210,7 @@ def _commit_all(staged: list[tuple[Path, Path, bool, list]]) -> None:
                 backup = Path(tempfile.mktemp(prefix=f".{out.name}.", suffix=".old", dir=_folder(out)))
                 os.link(out, backup)
             done.append((out, backup))
-            _place(tmp, out, overwrite=overwrite, inputs=inputs)
+            place(tmp, out, overwrite=overwrite, inputs=inputs)
     except BaseException:
         for out, backup in reversed(done):
             with contextlib.suppress(OSError):
@@ -227,7 +230,7 @@ def _folder(out: Path) -> Path:
     return out.parent if str(out.parent) else Path(".")
 
 
-def _place(tmp: Path, out: Path, *, overwrite: bool, inputs: Iterable) -> None:
+def place(tmp: Path, out: Path, *, overwrite: bool, inputs: Iterable = ()) -> None:
     """Put ``tmp`` at ``out``: create-exclusive (a hard link) unless ``overwrite``."""
     _refuse_input(out, inputs)  # again, now: the checks at start-up may be stale
     try:
@@ -279,7 +282,9 @@ def atomic_path(path: str | os.PathLike, *, overwrite: bool = False, inputs: Ite
     inputs = list(inputs)
     out = check_output_path(path, overwrite=overwrite, inputs=inputs)
     try:
-        fd, tmp = tempfile.mkstemp(prefix=f".{out.name}.", suffix=".tmp" + out.suffix, dir=_folder(out))
+        # the process id in the name tells a later run whether the writer is still alive (remove_stale_temps)
+        fd, tmp = tempfile.mkstemp(prefix=f".{out.name}.{os.getpid()}.", suffix=".tmp" + out.suffix,
+                                   dir=_folder(out))
         os.close(fd)
     except OSError as exc:
         raise InputError(f"cannot write the output ({os_error_text(exc)})", source=str(out)) from None
@@ -293,11 +298,57 @@ def atomic_path(path: str | os.PathLike, *, overwrite: bool = False, inputs: Ite
         if group is not None:
             group.append((out, tmp_path, overwrite, inputs))
             return
-        _place(tmp_path, out, overwrite=overwrite, inputs=inputs)
+        place(tmp_path, out, overwrite=overwrite, inputs=inputs)
     finally:
         if group is None or not any(t == tmp_path for _, t, _, _ in group):
             with contextlib.suppress(OSError):
                 tmp_path.unlink()
+
+
+def remove_stale_temps(path: str | os.PathLike) -> list[Path]:
+    """Remove the temporary files an earlier, killed process left beside ``path``; return them.
+
+    A temporary file is stale when the process that made it (its id is in the name) no longer runs.
+    """
+    out = Path(path)
+    removed = []
+    prefix = f".{out.name}."
+    for item in _folder(out).glob(f"{glob_escape(prefix)}*.tmp{glob_escape(out.suffix)}"):
+        pid_text = item.name[len(prefix):].split(".", 1)[0]
+        if not pid_text.isdigit() or _alive(int(pid_text)):
+            continue
+        with contextlib.suppress(OSError):
+            item.unlink()
+            removed.append(item)
+    return removed
+
+
+def glob_escape(text: str) -> str:
+    import glob
+
+    return glob.escape(text)
+
+
+def _alive(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except OSError:
+        return True
+    return True
+
+
+def write_journal(path: Path, doc: dict) -> None:
+    """Replace the small JSON file ``path`` atomically and durably (a run's progress record)."""
+    import json
+
+    tmp = path.with_name(path.name + f".{os.getpid()}.tmp")
+    with open(tmp, "w", encoding="utf-8") as fh:
+        json.dump(doc, fh)
+        fh.flush()
+        os.fsync(fh.fileno())
+    os.replace(tmp, path)
 
 
 def atomic_write(

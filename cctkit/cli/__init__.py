@@ -50,7 +50,7 @@ class _OneLineErrors(TyperGroup):
         except CctkitError as exc:
             _fail(f"cctkit: {exc}".replace("\n", " "), 2)
         except Stopped as exc:
-            _fail(f"cctkit: {exc.reason}; nothing was written", exc.code)
+            _fail(f"cctkit: {exc.reason}; {exc.note}", exc.code)
         except (typer.Abort, click.exceptions.Abort, KeyboardInterrupt):
             _fail("cctkit: interrupted; nothing was written", 130)
         except OSError as exc:  # the file system refused (full, read-only, gone): name the file

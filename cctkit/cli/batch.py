@@ -28,6 +28,8 @@ def batch_cmd(
     overwrite: bool = OVERWRITE_OPTION,
     progress: bool = typer.Option(False, "--progress", help="Show progress on stderr even when it is not a terminal."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress and no summary line."),
+    resume: bool = typer.Option(False, "--resume", help="CSV output: keep the finished chunks if the run is stopped "
+                                "or killed, and continue an earlier such run from its last complete chunk."),
 ) -> None:
     """Every measure for many spectra, written chunk by chunk to one CSV or Parquet file."""
     from ..analysis import provenance
@@ -60,7 +62,10 @@ def batch_cmd(
         overwrite=overwrite,
         progress=bar,
         metadata={**provenance(), "input": str(input_path), "rendering": rendering},
+        resume=resume,
     )
+    for note in summary.notes:
+        info(f"note: {note}")
     if not quiet:
         info(
             f"wrote {summary.output}: {summary.spectra} spectra in {summary.chunks} chunks, "
