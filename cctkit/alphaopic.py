@@ -45,7 +45,16 @@ import numpy as np
 from .colorimetry import safe_divide
 from .constants import KE_MEL_D65_W_PER_LM, WAVELENGTH_NM
 from .formats import finite_or_none as _num
-from .photometry import _quantity, grid_values, luminous_total
+from .errors import Flag
+from .photometry import (
+    COVERAGE_LIMIT,
+    _quantity,
+    coverage_flag,
+    grid_values,
+    luminous_total,
+    measured_mask,
+    uncovered_share,
+)
 from .spectra import Quantity
 
 __all__ = [
@@ -138,6 +147,7 @@ class AlphaOpic:
     elr_W_per_lm: np.ndarray
     edi: np.ndarray
     der: np.ndarray
+    flags: tuple[tuple[Flag, ...], ...] = ()
 
     @property
     def melanopic_der(self) -> np.ndarray:
@@ -172,7 +182,7 @@ class AlphaOpic:
         return cols
 
 
-def alpha_opic(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> AlphaOpic:
+def alpha_opic(values: Any, quantity: Quantity | str = Quantity.RELATIVE, *, measured_range_nm=None) -> AlphaOpic:
     """alpha-opic totals, ELR, equivalent daylight totals and DER of spectra on the working grid.
 
     Parameters
@@ -181,25 +191,50 @@ def alpha_opic(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> Alp
         Spectral values on the working grid, in ``quantity.unit``.
     quantity
         Radiometric quantity of ``values``.
+    measured_range_nm : sequence of (lo, hi, ...) per spectrum, optional
+        Measured range of each spectrum [nm]; only values inside it are summed, and an alpha
+        whose action spectrum it leaves uncovered by more than the coverage limit is withheld
+        (NaN, flagged).  Default: the working grid.
 
     Returns
     -------
     AlphaOpic
-        ELR and DER are NaN where the luminous total is zero.
+        ELR and DER are NaN where the luminous total is zero or withheld.
 
     References
     ----------
     CIE S 026/E:2018: definitions of alpha-opic irradiance/radiance, ELR, EDI, EDL and DER;
     Table 2 (action spectra; D65 efficacies).
     """
+    from .tables import table
+
     q = _quantity(quantity)
     v = np.atleast_2d(grid_values(values))
-    radiant = v @ action_spectra()
-    elr = safe_divide(radiant, luminous_total(v)[:, None])
+    n = v.shape[0]
+    if measured_range_nm is None:
+        measured_range_nm = ((float(WAVELENGTH_NM[0]), float(WAVELENGTH_NM[-1])),) * n
+    mask = measured_mask(measured_range_nm)
+    v = np.where(mask, v, 0.0)
+    s = action_spectra()
+    share = uncovered_share(mask, s)  # (N, 5)
+    short = share > COVERAGE_LIMIT
+    v_short = uncovered_share(mask, table("cmf_2")[:, 1]) > COVERAGE_LIMIT
+    radiant = np.where(short, np.nan, v @ s)
+    lum = np.where(v_short, np.nan, luminous_total(v))
+    elr = safe_divide(radiant, lum[:, None])
+    flags = tuple(
+        tuple(
+            coverage_flag(f"{name} quantities", f"the {name} action spectrum", float(share[i, k]),
+                          measured_range_nm[i][0], measured_range_nm[i][1])
+            for k, name in enumerate(ALPHA_OPIC_NAMES) if short[i, k]
+        )
+        for i in range(n)
+    )
     return AlphaOpic(
         quantity=q,
         radiant=radiant,
         elr_W_per_lm=elr,
         edi=radiant / D65_ELR_W_PER_LM,
         der=elr / D65_ELR_W_PER_LM,
+        flags=flags,
     )

@@ -20,7 +20,7 @@ from .colorimetry import XYZ, XYZ_to_uv, XYZ_to_xy, uv_to_uvp
 from .constants import C2_M_K, DUV_LIMIT, KM_LM_PER_W
 from .errors import Flag
 from .formats import finite_or_none
-from .spectra import Quantity, Spectra, to_working_grid
+from .spectra import Quantity, Spectra, signal_problems, to_working_grid
 
 __all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "records_csv", "provenance", "CONVENTIONS"]
 
@@ -29,7 +29,11 @@ CONVENTIONS = {
     "wavelength_grid_nm": "360-830 nm at 1 nm",
     "summation": "plain sum at 1 nm, no end-point halving (CIE 15:2018)",
     "interpolation": "as measured on the 1 nm grid; Sprague (CIE 167:2005) for uniform steps; PCHIP otherwise",
-    "extrapolation": "nearest measured value repeated (CIE 15:2018 section 7.2.2)",
+    "extrapolation": "nearest measured value repeated (CIE 15:2018 section 7.2.2), for colour measures only",
+    "totals": "radiant and photon totals over the measured range as measured; PPF over 400-700 nm measured; "
+              "luminous, scotopic and alpha-opic totals over the measured part of 360-830 nm; LER = luminous / radiant",
+    "coverage_rule": "a total is withheld when its weighting function has more than 1 % of its integral "
+                     "(360-830 nm) outside the measured range",
     "c2_m_K": C2_M_K,
     "Km_lm_per_W": KM_LM_PER_W,
     "cct_method": "exact: nearest Planckian point in CIE 1960 uv (CIE 15:2018 section 9.5)",
@@ -120,13 +124,13 @@ def _part_columns(part, n: int) -> dict[str, np.ndarray]:
     """
     cols = {k: _finite(v) for k, v in part.columns().items()} if hasattr(part, "columns") else None
     if n and cols is not None:
-        first = part.record(0)
+        first = flatten_record(part.record(0))
         same = list(first) == list(cols) and all(
             (v is None and np.isnan(cols[k][0])) or (isinstance(v, float) and v == cols[k][0]) for k, v in first.items()
         )
         if same:
             return cols
-    recs = [part.record(i) for i in range(n)]
+    recs = [flatten_record(part.record(i)) for i in range(n)]
     keys = list(dict.fromkeys(k for r in recs for k in r)) if recs else list(cols or {})
     return {k: np.array([r.get(k) for r in recs], dtype=np.float64) for k in keys}
 
@@ -241,7 +245,16 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> A
     if int(observer) not in (2, 10):
         raise ValueError(f"observer must be 2 or 10, got {observer!r}")
     g = to_working_grid(spectra)
-    V = g.values
+    # Spectra nothing can be computed from (no visible data, no signal) get every measure withheld
+    # and a flag; the command line refuses them before this point (analysis.read_files).
+    problems = signal_problems(g)
+    empty = np.array([p is not None for p in problems])
+    V = np.where(empty[:, None], np.nan, g.values) if empty.any() else g.values
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return _analyse(g, V, problems, observer=int(observer), rendering=rendering)
+
+
+def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: bool) -> Analysis:
     raw = XYZ(V, observer=observer)
     if g.quantity is Quantity.RELATIVE:
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -252,10 +265,12 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> A
     xy = XYZ_to_xy(tri)
     uv = XYZ_to_uv(tri)
     cct = cct_duv(uv, observer=observer)
-    flags = tuple(g.flags[i] + _cct_flags(cct, i) for i in range(len(g)))
-    parts = _extra_measures(g, xy, observer=int(observer))
+    flags = tuple(g.flags[i] + ((problems[i],) if problems[i] is not None else _cct_flags(cct, i))
+                  for i in range(len(g)))
+    parts = _extra_measures(g, V, xy, observer=int(observer))
+    flags = tuple(f + parts["photometry"].flags[i] + parts["alphaopic"].flags[i] for i, f in enumerate(flags))
     if rendering:
-        cri, fid, rendering_flags = _rendering(g.values, cct, observer=int(observer))
+        cri, fid, rendering_flags = _rendering(V, cct, observer=int(observer))
         parts.update(cri=cri, tm30=fid)
         flags = tuple(f + e for f, e in zip(flags, rendering_flags))
     return Analysis(
@@ -263,17 +278,17 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> A
     )
 
 
-def _extra_measures(g: Spectra, xy, *, observer: int) -> dict[str, Any]:
+def _extra_measures(g: Spectra, V: np.ndarray, xy, *, observer: int) -> dict[str, Any]:
     """Photometry, alpha-opic quantities, spectral shape, dominant wavelength."""
     from .alphaopic import alpha_opic
     from .dominant import dominant_wavelength
     from .photometry import photometry
     from .shape import spectral_shape
 
-    V = g.values
     return {
-        "photometry": photometry(V, g.quantity),
-        "alphaopic": alpha_opic(V, g.quantity),
+        "photometry": photometry(V, g.quantity, measured_range_nm=g.measured_range_nm,
+                                 measured_totals=g.measured_totals),
+        "alphaopic": alpha_opic(V, g.quantity, measured_range_nm=g.measured_range_nm),
         "shape": spectral_shape(V),
         "dominant": dominant_wavelength(xy, observer=observer),
     }
@@ -347,11 +362,16 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int):
 
 
 def read_files(files, *, quantity=None) -> list[Spectra]:
-    """Read every file (each may hold several spectra) with :func:`cctkit.readers.read_spectra`, in order."""
+    """Read every file (each may hold several spectra) with :func:`cctkit.readers.read_spectra`, in order.
+
+    A file with a spectrum nothing can be computed from (no data in 380-780 nm, no signal) is refused
+    with :class:`~cctkit.errors.InputError` naming it (:func:`cctkit.spectra.require_signal`).
+    """
     from .errors import InputError
     from .readers import read_spectra
 
     from .limits import MAX_SPECTRA, MAX_VALUES, too_many_spectra
+    from .spectra import require_signal
 
     if not files:
         raise InputError("no input files given")
@@ -366,7 +386,7 @@ def read_files(files, *, quantity=None) -> list[Spectra]:
         if values > MAX_VALUES:
             raise InputError(f"over {MAX_VALUES} spectral values (spectra x points) by this file, the limit for "
                              "one command; use `cctkit batch` for large lots", source=str(f))
-        out.append(s)
+        out.append(require_signal(s))
     return out
 
 
@@ -406,7 +426,7 @@ def flatten_record(rec: dict[str, Any]) -> dict[str, Any]:
         if k == "flags":
             out["flags"] = ";".join(f["code"] for f in v)
         elif isinstance(v, list):
-            if k.startswith("measured_range"):
+            if k.startswith("measured_range") or k.endswith("_range_nm"):
                 out[f"{k}_lo"], out[f"{k}_hi"] = v
             else:
                 out.update({f"{k}{i + 1}": x for i, x in enumerate(v)})

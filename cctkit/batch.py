@@ -118,7 +118,7 @@ def records_table(records: Sequence[dict[str, Any]]) -> dict[str, np.ndarray]:
         width = widths.pop()
         if k == "R":
             names = [f"R{j + 1}" for j in range(width)]
-        elif k.startswith("measured_range") and width == 2:
+        elif (k.startswith("measured_range") or k.endswith("_range_nm")) and width == 2:
             names = [f"{k}_lo", f"{k}_hi"]
         else:
             names = [f"{k}{j + 1}" for j in range(width)]

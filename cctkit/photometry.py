@@ -16,10 +16,25 @@ intensity      W sr^-1             cd                  umol sr^-1 s^-1
 relative       relative            relative            relative
 =============  ==================  ==================  =========================
 
-Ranges: radiant and photon totals and the luminous efficacy of radiation (LER)
-use the whole working grid, 360-830 nm; the photosynthetic photon flux (PPF,
-PPFD for irradiance) uses 400-700 nm inclusive (the photosynthetically active band
-of ANSI/ASABE S640, cited from memory).
+Ranges (each output names the range its total covers):
+
+* radiant and photon totals: the data as measured, over the whole measured range
+  (beyond 830 nm too), a plain sum of each sample times its wavelength step
+  (:func:`measured_sums`; ``radiometric_range_nm``); nothing outside is invented;
+* the photosynthetic photon flux (PPF, PPFD for irradiance): measured data inside
+  400-700 nm inclusive (the photosynthetically active band of ANSI/ASABE S640, cited
+  from memory; ``ppf_range_nm``);
+* luminous, scotopic and alpha-opic totals: the measured part of the working grid
+  (``photometric_range_nm`` = measured range within 360-830 nm); the values
+  extrapolated for the colour measures are not counted;
+* LER = luminous total / radiant total, both over the measured range.
+
+Coverage rule: a total weighted by a function w(lambda) (V, V', an alpha-opic action
+spectrum, the PAR photon weighting) is withheld (NaN, with a ``coverage-short`` flag
+naming it and the share covered) when the measured range leaves more than
+:data:`COVERAGE_LIMIT` (1 %) of the integral of w over 360-830 nm uncovered (our rule;
+e.g. 400-700 nm data leave 0.06 % of V and 0.3 % of the S-cone-opic function
+uncovered, 420-680 nm leave 7.3 % of the S-cone-opic and 1.3 % of the melanopic one).
 """
 
 from __future__ import annotations
@@ -32,7 +47,7 @@ import numpy as np
 
 from .colorimetry import safe_divide
 from .constants import C_M_PER_S, H_J_S, KM_LM_PER_W, KM_SCOTOPIC_LM_PER_W, WAVELENGTH_NM
-from .errors import InputError
+from .errors import Flag, InputError
 from .formats import finite_or_none as _num
 from .spectra import Quantity
 
@@ -49,7 +64,16 @@ __all__ = [
     "photon_total_umol",
     "ppf_umol",
     "grid_values",
+    "measured_sums",
+    "measured_mask",
+    "uncovered_share",
+    "coverage_flag",
+    "COVERAGE_LIMIT",
 ]
+
+#: Largest share of a weighting function's integral (over 360-830 nm) that the measured range may
+#: leave uncovered before the total it weights is withheld -- our rule, see the module notes.
+COVERAGE_LIMIT = 0.01
 
 #: Avogadro constant [mol^-1] -- CODATA 2018 (exact since the 2019 SI redefinition).
 N_A_PER_MOL = 6.02214076e23
@@ -130,6 +154,61 @@ def _photon_weights() -> tuple[np.ndarray, np.ndarray]:
     full.setflags(write=False)
     band.setflags(write=False)
     return full, band
+
+
+def _point_widths(wl: np.ndarray) -> np.ndarray:
+    """Wavelength interval each sample stands for [nm]: the step for uniform data (plain sum, no
+    end-point halving), half the distance between neighbours inside otherwise."""
+    if wl.shape[0] < 2:
+        return np.ones_like(wl)
+    d = np.diff(wl)
+    w = np.empty_like(wl)
+    w[1:-1] = 0.5 * (d[:-1] + d[1:])
+    w[0], w[-1] = d[0], d[-1]
+    return w
+
+
+def measured_sums(wavelength_nm: Any, values: Any, ranges=None) -> np.ndarray:
+    """Radiant total, photon total [umol ...] and PPF of spectra as measured, (N, 3).
+
+    Plain sums of each sample times the wavelength interval it stands for, over the whole
+    measured range (or over each spectrum's ``ranges`` (lo, hi, ...) when given); PPF over the
+    samples within 400-700 nm.  No extrapolation: what was not measured is not counted.
+    """
+    wl = np.asarray(wavelength_nm, dtype=np.float64)
+    v = np.atleast_2d(np.asarray(values, dtype=np.float64))
+    w = _point_widths(wl)
+    photon = wl * 1e-9 / (H_J_S * C_M_PER_S) / N_A_PER_MOL * 1e6 * w  # umol per (W/nm) per sample
+    par = (wl >= PAR_BAND_NM[0] - 1e-9) & (wl <= PAR_BAND_NM[1] + 1e-9)
+    if ranges:
+        lo = np.array([r[0] for r in ranges], dtype=np.float64)[:, None]
+        hi = np.array([r[1] for r in ranges], dtype=np.float64)[:, None]
+        v = np.where((wl >= lo - 1e-9) & (wl <= hi + 1e-9), v, 0.0)
+    return np.column_stack([v @ w, v @ photon, v @ np.where(par, photon, 0.0)])
+
+
+def measured_mask(measured_range_nm) -> np.ndarray:
+    """(N, 471) True where the working grid lies inside each spectrum's measured range (lo, hi, ...)."""
+    r = np.array([m[:2] for m in measured_range_nm], dtype=np.float64).reshape(-1, 2)
+    return (WAVELENGTH_NM >= r[:, :1] - 1e-9) & (WAVELENGTH_NM <= r[:, 1:] + 1e-9)
+
+
+def uncovered_share(mask: np.ndarray, weights: np.ndarray) -> np.ndarray:
+    """Share of each weighting function's integral (columns of ``weights``, 360-830 nm) outside ``mask``.
+
+    ``mask`` (N, 471) from :func:`measured_mask`; ``weights`` (471,) or (471, k); result (N,) or (N, k).
+    """
+    w = np.asarray(weights, dtype=np.float64)
+    return ((~mask).astype(np.float64) @ w) / w.sum(axis=0)
+
+
+def coverage_flag(measure: str, weighting: str, share_uncovered: float, lo: float, hi: float) -> Flag:
+    """The ``coverage-short`` flag of a withheld measure."""
+    return Flag(
+        "coverage-short",
+        f"{measure} withheld: the measured range {lo:g}-{hi:g} nm covers {100 * (1 - share_uncovered):.2f} % "
+        f"of the integral of {weighting} (at least {100 * (1 - COVERAGE_LIMIT):g} % needed)",
+    )
 
 
 def luminous_total(values: Any) -> np.ndarray:
@@ -220,7 +299,9 @@ class Photometry:
 
     The unit of ``luminous``, ``scotopic``, ``radiant``, ``photon_umol`` and ``ppf_umol``
     depends on ``quantity`` (see the module table and the ``*_unit`` properties);
-    ``ler_lm_per_W`` and ``sp_ratio`` do not.
+    ``ler_lm_per_W`` and ``sp_ratio`` do not.  ``radiometric_range_nm``, ``photometric_range_nm``
+    and ``ppf_range_nm`` (N, 2) are the ranges the totals cover; a withheld total is NaN and
+    ``flags`` says why (coverage rule in the module notes).
     """
 
     quantity: Quantity
@@ -231,6 +312,10 @@ class Photometry:
     sp_ratio: np.ndarray
     photon_umol: np.ndarray
     ppf_umol: np.ndarray
+    radiometric_range_nm: np.ndarray | None = None
+    photometric_range_nm: np.ndarray | None = None
+    ppf_range_nm: np.ndarray | None = None
+    flags: tuple[tuple[Flag, ...], ...] = ()
 
     @property
     def luminous_unit(self) -> str:
@@ -240,9 +325,9 @@ class Photometry:
     def photon_unit(self) -> str:
         return _PHOTON_UNIT[self.quantity]
 
-    def record(self, i: int) -> dict[str, float | None]:
+    def record(self, i: int) -> dict[str, Any]:
         """Per-spectrum record fields; absolute totals are left out for relative spectra."""
-        out: dict[str, float | None] = {
+        out: dict[str, Any] = {
             "ler_lm_per_W": _num(self.ler_lm_per_W[i]),
             "sp_ratio": _num(self.sp_ratio[i]),
         }
@@ -251,6 +336,11 @@ class Photometry:
             out[RADIANT_KEY[self.quantity]] = _num(self.radiant[i])
             out[PHOTON_KEY[self.quantity]] = _num(self.photon_umol[i])
             out[PPF_KEY[self.quantity]] = _num(self.ppf_umol[i])
+        for key, r in (("radiometric_range_nm", self.radiometric_range_nm),
+                       ("photometric_range_nm", self.photometric_range_nm),
+                       ("ppf_range_nm", self.ppf_range_nm)):
+            if r is not None:
+                out[key] = [_num(r[i, 0]), _num(r[i, 1])]
         return out
 
     def columns(self) -> dict[str, np.ndarray]:
@@ -261,10 +351,16 @@ class Photometry:
             cols[RADIANT_KEY[self.quantity]] = self.radiant
             cols[PHOTON_KEY[self.quantity]] = self.photon_umol
             cols[PPF_KEY[self.quantity]] = self.ppf_umol
+        for key, r in (("radiometric_range_nm", self.radiometric_range_nm),
+                       ("photometric_range_nm", self.photometric_range_nm),
+                       ("ppf_range_nm", self.ppf_range_nm)):
+            if r is not None:  # flattened as flatten_record does
+                cols[f"{key}_lo"], cols[f"{key}_hi"] = r[:, 0], r[:, 1]
         return cols
 
 
-def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> Photometry:
+def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE, *,
+               measured_range_nm=None, measured_totals: Any = None) -> Photometry:
     """All photometric and photon totals of spectra on the working grid.
 
     Parameters
@@ -273,6 +369,12 @@ def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> Pho
         Spectral values on the working grid, in ``quantity.unit``.
     quantity
         Radiometric quantity of ``values``; fixes the unit of the totals.
+    measured_range_nm : sequence of (lo, hi, ...) per spectrum, optional
+        The range each spectrum was measured over [nm] (``Spectra.measured_range_nm``); values
+        outside it are not counted and the coverage rule applies.  Default: the working grid.
+    measured_totals : array_like (N, 3), optional
+        Radiant, photon and PPF totals summed over the data as measured (``Spectra.measured_totals``);
+        default: summed over ``values`` inside the measured range.
 
     Returns
     -------
@@ -280,9 +382,34 @@ def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> Pho
     """
     q = _quantity(quantity)
     v = np.atleast_2d(grid_values(values))
-    lum = luminous_total(v)
-    sco = scotopic_total(v)
-    rad = radiant_total(v)
+    n = v.shape[0]
+    if measured_range_nm is None:
+        measured_range_nm = ((float(WAVELENGTH_NM[0]), float(WAVELENGTH_NM[-1])),) * n
+    mask = measured_mask(measured_range_nm)
+    vm = np.where(mask, v, 0.0)
+    if measured_totals is None:
+        measured_totals = measured_sums(WAVELENGTH_NM, vm)
+    totals = np.asarray(measured_totals, dtype=np.float64).reshape(n, 3)
+    rng = np.array([m[:2] for m in measured_range_nm], dtype=np.float64).reshape(n, 2)
+    phot_rng = np.column_stack([np.maximum(rng[:, 0], WAVELENGTH_NM[0]), np.minimum(rng[:, 1], WAVELENGTH_NM[-1])])
+    ppf_rng = np.column_stack([np.maximum(rng[:, 0], PAR_BAND_NM[0]), np.minimum(rng[:, 1], PAR_BAND_NM[1])])
+    ppf_rng[ppf_rng[:, 0] > ppf_rng[:, 1]] = np.nan
+    from .tables import table
+
+    par = (WAVELENGTH_NM >= PAR_BAND_NM[0]) & (WAVELENGTH_NM <= PAR_BAND_NM[1])
+    weights = np.column_stack([_V(), table("v_scotopic"), np.where(par, WAVELENGTH_NM, 0.0)])
+    share = uncovered_share(mask, weights)
+    short = share > COVERAGE_LIMIT
+    lum = np.where(short[:, 0], np.nan, luminous_total(vm))
+    sco = np.where(short[:, 1], np.nan, scotopic_total(vm))
+    rad = totals[:, 0]
+    ppf = np.where(short[:, 2], np.nan, totals[:, 2])
+    names = (("luminous total and LER", "V(lambda)"), ("scotopic total and S/P ratio", "V'(lambda)"),
+             ("PPF", "the 400-700 nm photon weighting"))
+    flags = tuple(
+        tuple(coverage_flag(m, w, float(share[i, k]), rng[i, 0], rng[i, 1]) for k, (m, w) in enumerate(names) if short[i, k])
+        for i in range(n)
+    )
     return Photometry(
         quantity=q,
         luminous=lum,
@@ -290,6 +417,10 @@ def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE) -> Pho
         radiant=rad,
         ler_lm_per_W=safe_divide(lum, rad),
         sp_ratio=safe_divide(sco, lum),
-        photon_umol=photon_total_umol(v),
-        ppf_umol=ppf_umol(v),
+        photon_umol=totals[:, 1],
+        ppf_umol=ppf,
+        radiometric_range_nm=rng,
+        photometric_range_nm=phot_rng,
+        ppf_range_nm=ppf_rng,
+        flags=flags,
     )

@@ -111,9 +111,13 @@ def total_exitance(T_K) -> np.ndarray:
 
 
 def blackbody_efficacy(T_K, *, c2: float | str = "cie") -> np.ndarray:
-    """Luminous efficacy of a blackbody's total radiation [lm/W].
+    """All-wavelength luminous efficacy of a blackbody [lm/W].
 
-    Luminous exitance (683.002 * sum M V over 360-830 nm at 1 nm) over sigma T^4.
+    Luminous exitance (683.002 * sum M V over 360-830 nm at 1 nm, where V is non-zero) over
+    the Stefan-Boltzmann total sigma T^4 of *all* wavelengths.  Not the LER of a measured
+    spectrum, whose radiant denominator covers only the measured range
+    (:func:`cctkit.photometry.luminous_efficacy_of_radiation`); the CLI names them apart
+    (``all_wavelength_efficacy_lm_per_W`` and ``ler_lm_per_W``).
     """
     from .tables import cmfs
 

@@ -15,9 +15,14 @@ Interpolation rules (written down here and in DEVELOPERS.md):
   Hermite (PCHIP, Fritsch-Carlson), which never overshoots between measured points.
 
 Extrapolation outside the measured range repeats the nearest measured value
-(CIE 15:2018 section 7.2.2, "closest measured value" rule).  A flag
-``range-short`` is raised for every spectrum whose measured range does not cover
-380-780 nm.
+(CIE 15:2018 section 7.2.2, "closest measured value" rule); it serves the colour
+measures only (chromaticity, CCT, rendering).  A flag ``range-short`` is raised
+for every spectrum whose measured range does not cover 380-780 nm.
+
+Radiometric totals are not taken from the working grid: every Spectra built from
+measured data keeps ``measured_totals``, the radiant total, photon total and PPF
+summed plainly over the data as measured (its whole range, beyond 830 nm too),
+and carries them unchanged through resampling, selection and concatenation.
 """
 
 from __future__ import annotations
@@ -41,6 +46,8 @@ __all__ = [
     "interpolation_matrix",
     "sha256_of_file",
     "concatenate",
+    "signal_problems",
+    "require_signal",
 ]
 
 MIN_POINTS = 5
@@ -131,6 +138,7 @@ class Spectra:
     sha256: tuple[str, ...] = ()
     flags: tuple[tuple[Flag, ...], ...] = ()
     measured_range_nm: tuple[tuple[float, float, float], ...] = field(default=())
+    measured_totals: np.ndarray | None = None
 
     def __post_init__(self) -> None:
         source = self.sources[0] if self.sources else None
@@ -194,6 +202,14 @@ class Spectra:
         else:
             object.__setattr__(self, "measured_range_nm", _per_spectrum(self.measured_range_nm, n, None))
         object.__setattr__(self, "flags", flags)
+        if self.measured_totals is None:
+            from .photometry import measured_sums
+
+            totals = measured_sums(wl, values, self.measured_range_nm)
+        else:
+            totals = np.array(self.measured_totals, dtype=np.float64).reshape(n, -1)
+        totals.setflags(write=False)
+        object.__setattr__(self, "measured_totals", totals)
 
     def __len__(self) -> int:
         return self.values.shape[0]
@@ -216,11 +232,13 @@ class Spectra:
             sha256=tuple(self.sha256[i] for i in idx),
             flags=tuple(self.flags[i] for i in idx),
             measured_range_nm=tuple(self.measured_range_nm[i] for i in idx),
+            measured_totals=self.measured_totals[idx],
         )
 
     def scaled(self, factor: float, quantity: Quantity | None = None) -> "Spectra":
         """The same spectra multiplied by ``factor`` (e.g. a unit conversion)."""
-        return replace(self, values=self.values * factor, quantity=quantity or self.quantity)
+        return replace(self, values=self.values * factor, quantity=quantity or self.quantity,
+                       measured_totals=self.measured_totals * factor)
 
     # pandas / colour-science interop lives in cctkit.interop; these are its doors.
     @classmethod
@@ -390,6 +408,7 @@ def to_working_grid(spectra: Spectra) -> Spectra:
         sha256=spectra.sha256,
         flags=flags,
         measured_range_nm=spectra.measured_range_nm,
+        measured_totals=spectra.measured_totals,
     )
 
 
@@ -416,7 +435,43 @@ def concatenate(items: Iterable[Spectra]) -> Spectra:
         sha256=sum((s.sha256 for s in items), ()),
         flags=sum((s.flags for s in items), ()),
         measured_range_nm=sum((s.measured_range_nm for s in items), ()),
+        measured_totals=np.concatenate([s.measured_totals for s in items]),
     )
+
+
+def signal_problems(spectra: Spectra) -> tuple[Flag | None, ...]:
+    """Per spectrum, why nothing can be computed from it (a ``no-visible-data`` or ``no-signal``
+    flag), or None when something can.
+
+    Nothing can be computed when the measured range does not overlap 380-780 nm, or when no
+    measured value inside 380-780 nm is positive (an all-zero or all-dark spectrum).
+    """
+    lo_vis, hi_vis = VISIBLE_BAND_NM
+    wl = spectra.wavelength_nm
+    out = []
+    for i, (lo, hi, _) in enumerate(spectra.measured_range_nm):
+        if hi < lo_vis or lo > hi_vis:
+            out.append(Flag("no-visible-data", f"no measured data in {lo_vis:g}-{hi_vis:g} nm (measured "
+                                                   f"{lo:g}-{hi:g} nm): nothing can be computed"))
+            continue
+        inside = (wl >= max(lo, lo_vis) - 1e-9) & (wl <= min(hi, hi_vis) + 1e-9)
+        if not np.any(spectra.values[i, inside] > 0):
+            out.append(Flag("no-signal", f"no signal: no positive value in {lo_vis:g}-{hi_vis:g} nm "
+                                         "(all zero or below zero); nothing can be computed"))
+        else:
+            out.append(None)
+    return tuple(out)
+
+
+def require_signal(spectra: Spectra) -> Spectra:
+    """``spectra`` unchanged, or :class:`InputError` naming the first spectrum nothing can be computed from."""
+    for i, problem in enumerate(signal_problems(spectra)):
+        if problem is not None:
+            name = spectra.names[i]
+            where = spectra.sources[i] or name
+            text = problem.message
+            raise InputError(f"spectrum {name!r}: {text}" if len(spectra) > 1 else text, source=where)
+    return spectra
 
 
 def sha256_of_file(path) -> str:

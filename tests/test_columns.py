@@ -110,12 +110,14 @@ def test_table_csv_equals_csv_text_bytes(monkeypatch):
 @pytest.mark.parametrize("quantity", ["radiant-flux", "irradiance", "radiance", "intensity", "relative"])
 def test_each_measure_has_columns_matching_its_record(quantity):
     """Each measure's columns() gives its record()'s keys and values (else batch falls back to slow rows)."""
+    from cctkit.analysis import flatten_record
+
     s = Spectra(WAVELENGTH_NM, leds(6), tuple(f"m{i}" for i in range(6)), quantity=quantity)
     a = analyse(s, rendering=False)
     for part in (a.photometry, a.alphaopic, a.shape, a.dominant):
         cols = part.columns()
         for i in range(len(a)):
-            rec = part.record(i)
+            rec = flatten_record(part.record(i))  # ranges [lo, hi] become *_lo / *_hi columns
             assert list(cols) == list(rec), f"{type(part).__name__}.columns() must follow record()"
             for k, v in rec.items():
                 assert (v is None and not np.isfinite(cols[k][i])) or v == cols[k][i], (type(part).__name__, k)

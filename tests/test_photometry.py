@@ -133,14 +133,17 @@ def test_record_keys_follow_the_quantity():
     assert set(irr) == {
         "ler_lm_per_W", "sp_ratio", "illuminance_lx", "radiant_total_W_per_m2",
         "photon_flux_umol_per_m2_s", "ppfd_umol_per_m2_s",
+        "radiometric_range_nm", "photometric_range_nm", "ppf_range_nm",  # every total names its range
     }
+    assert irr["radiometric_range_nm"] == [360.0, 830.0] and irr["ppf_range_nm"] == [400.0, 700.0]
     flux = photometry(flat, "radiant-flux").record(0)
     # Km (CIE 15:2018 section 7.1) times the y-bar sum of the reference library (YBAR_SUM_1NM)
     assert flux["luminous_flux_lm"] == pytest.approx(KM_LM_PER_W * YBAR_SUM_1NM, rel=1e-7)
     assert flux["radiant_total_W"] == pytest.approx(471.0)
     assert "ppf_umol_per_s" in flux and "photon_flux_umol_per_s" in flux
     rel = photometry(flat, Quantity.RELATIVE).record(0)
-    assert set(rel) == {"ler_lm_per_W", "sp_ratio"}  # relative spectra carry no absolute totals
+    # relative spectra carry no absolute totals, only the ranges of LER's parts
+    assert set(rel) == {"ler_lm_per_W", "sp_ratio", "radiometric_range_nm", "photometric_range_nm", "ppf_range_nm"}
     assert photometry(flat, Quantity.RADIANCE).luminous_unit == "cd/m^2"
     assert photometry(flat, Quantity.INTENSITY).photon_unit == "umol/(sr s)"
 

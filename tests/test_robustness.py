@@ -343,3 +343,26 @@ def test_internal_errors_name_no_python_types(monkeypatch):
     assert r.exit_code == 1
     line = one_line(r.output)
     assert "KeyError" not in line and "internal error" in line
+
+
+# --------------------------------------------------------------------------- no visible data (verify)
+
+
+@pytest.mark.parametrize("case, wavelengths, values, reason", [
+    # NIR only (a spectrometer's 900-1700 nm head), UV only, and angstroms read as nm (3800-7800 "nm")
+    ("nir", np.arange(900.0, 1701.0, 5.0), None, "no measured data in 380-780 nm"),
+    ("uv", np.arange(250.0, 371.0, 1.0), None, "no measured data in 380-780 nm"),
+    ("angstrom", np.arange(3800.0, 7801.0, 50.0), None, "no measured data in 380-780 nm"),
+    ("negative", np.arange(380.0, 781.0, 5.0), -1.0, "no signal"),
+    ("zero", np.arange(380.0, 781.0, 5.0), 0.0, "no signal"),
+])
+def test_verify_never_passes_a_spectrum_without_visible_data(tmp_path, case, wavelengths, values, reason):
+    v = np.full(wavelengths.size, values) if values is not None else 1.0 + 0.1 * np.sin(wavelengths / 40.0)
+    f = tmp_path / f"{case}.csv"
+    f.write_text("wavelength,v\n" + "".join(f"{w:g},{x!r}\n" for w, x in zip(wavelengths, v)))
+    claims = claims_with(tmp_path)
+    r = runner.invoke(app, ["verify", str(f), "--claims", str(claims), "--output", str(tmp_path / "v.csv")])
+    assert r.exit_code == 2, r.output  # never PASS (exit 0), never a number from extrapolation
+    line = one_line(r.output)
+    assert reason in line and f"{case}.csv" in line
+    assert not (tmp_path / "v.csv").exists()

@@ -68,13 +68,13 @@ def versus_cmd(
     from ..analysis import read_files
     from ..formats import terminal_safe
     from ..rendering import REFERENCE_RANGE_K, colour_rendition, compare_to_reference, reference_cct, rendering_cct
-    from ..spectra import to_working_grid
+    from ..spectra import require_signal, to_working_grid
 
     ref_method = _method(method)
     if output is not None:
         require_suffix(output, (".csv", ".xlsx"))
         check_dialect(csv_dialect)
-    spectra = to_working_grid(read_files([file], quantity=quantity)[0])  # within the limits of one command
+    spectra = to_working_grid(require_signal(read_files([file], quantity=quantity)[0]))  # within the limits
     values = spectra.values
     n = values.shape[0]
     if cct is not None:

@@ -42,6 +42,15 @@ INSPECT_ROWS: tuple[tuple[str, str, str, str], ...] = (
     ("luminance_cd_per_m2", "Luminance", "cd/m2", "{:.1f}"),
     ("intensity_cd", "Luminous intensity", "cd", "{:.1f}"),
     ("ler_lm_per_W", "LER", "lm/W", "{:.1f}"),
+    *((k, "Radiant total", u, "{:.5g}") for k, u in (
+        ("radiant_total_W", "W"), ("radiant_total_W_per_m2", "W/m2"),
+        ("radiant_total_W_per_sr_m2", "W/(sr m2)"), ("radiant_total_W_per_sr", "W/sr"))),
+    *((k, "Photon flux", u, "{:.5g}") for k, u in (
+        ("photon_flux_umol_per_s", "umol/s"), ("photon_flux_umol_per_m2_s", "umol/(m2 s)"),
+        ("photon_flux_umol_per_sr_m2_s", "umol/(sr m2 s)"), ("photon_flux_umol_per_sr_s", "umol/(sr s)"))),
+    *((k, label, u, "{:.5g}") for k, label, u in (
+        ("ppf_umol_per_s", "PPF", "umol/s"), ("ppfd_umol_per_m2_s", "PPFD", "umol/(m2 s)"),
+        ("ppf_umol_per_sr_m2_s", "PPF per sr m2", "umol/(sr m2 s)"), ("ppf_umol_per_sr_s", "PPF per sr", "umol/(sr s)"))),
     ("sp_ratio", "S/P ratio", "", "{:.3f}"),
     ("melanopic_der", "Melanopic DER", "", "{:.3f}"),
     ("melanopic_edi_lx", "Melanopic EDI", "lx", "{:.1f}"),
@@ -58,6 +67,17 @@ INSPECT_ROWS: tuple[tuple[str, str, str, str], ...] = (
     ("Rf", "Rf (TM-30 / CIE 224)", "", "{:.1f}"),
     ("Rg", "Rg (TM-30)", "", "{:.1f}"),
 )
+def _range_key(key: str) -> str | None:
+    """The record key holding the wavelength range the total ``key`` covers."""
+    if key.startswith(("radiant_total", "photon_flux")) or key == "ler_lm_per_W":
+        return "radiometric_range_nm"
+    if key.startswith(("ppf", "ppfd")):
+        return "ppf_range_nm"
+    if key in ("luminous_flux_lm", "illuminance_lx", "luminance_cd_per_m2", "intensity_cd"):
+        return "photometric_range_nm"
+    return None
+
+
 #: After this row the table says where the other alpha-opic quantities are.
 ALPHA_OPIC_LAST_ROW = "melanopic_equivalent_daylight_intensity_cd"
 ALPHA_OPIC_NOTE = ("other CIE S 026 alpha-opic quantities (S-, M-, L-cone-opic, rhodopic; totals, ELR, DER): --json\n"
@@ -82,7 +102,9 @@ def format_records(records: list[dict[str, Any]]) -> str:
         lines.append(f"{rec['name']}  ({rec['source'] or 'no file'}; {rec['quantity']}, {rec['spectral_unit']})")
         for key, label, unit, fmt in INSPECT_ROWS:
             if key in rec:
-                lines.append(f"  {label:<24} {_fmt(rec[key], fmt):>12}  {unit}")
+                span = rec.get(_range_key(key) or "")
+                over = f" over {span[0]:g}-{span[1]:g} nm" if span and None not in span else ""
+                lines.append(f"  {label:<24} {_fmt(rec[key], fmt):>12}  {unit}{over}".rstrip())
             if key == ALPHA_OPIC_LAST_ROW and "melanopic_der" in rec:
                 lines.append(f"  {ALPHA_OPIC_NOTE}")
         for flag in rec.get("flags", []):
@@ -230,6 +252,8 @@ def blackbody_cmd(
     from ..colorimetry import uv_to_xy
     from ..locus import planckian_uv
     from ..constants import C2_M_K
+    from ..constants import WAVELENGTH_NM
+    from ..photometry import luminous_efficacy_of_radiation
     from ..planck import blackbody_efficacy, spectral_exitance, spectral_radiance, total_exitance, wien_peak_nm
 
     if not np.isfinite(T_K) or not (100.0 <= T_K <= 1e6):
@@ -242,7 +266,10 @@ def blackbody_cmd(
         "T_K": T_K,
         "peak_nm": float(wien_peak_nm(T_K)),
         "exitance_W_per_m2": float(total_exitance(T_K)),
-        "luminous_efficacy_lm_per_W": float(blackbody_efficacy(T_K)),
+        "all_wavelength_efficacy_lm_per_W": float(blackbody_efficacy(T_K)),
+        # the same definition as `inspect` of the spectrum this command writes (360-830 nm at 1 nm)
+        "ler_lm_per_W": float(luminous_efficacy_of_radiation(spectral_exitance(T_K))),
+        "ler_range_nm": [float(WAVELENGTH_NM[0]), float(WAVELENGTH_NM[-1])],
         "x": float(xy[0]),
         "y": float(xy[1]),
         "u": float(uv[0]),
@@ -267,7 +294,9 @@ def blackbody_cmd(
         typer.echo(f"Blackbody at {T_K:g} K")
         typer.echo(f"  Wien peak              {doc['peak_nm']:12.2f}  nm")
         typer.echo(f"  Total exitance         {doc['exitance_W_per_m2']:12.5g}  W/m2")
-        typer.echo(f"  Luminous efficacy      {doc['luminous_efficacy_lm_per_W']:12.3f}  lm/W")
+        typer.echo(f"  Efficacy (sigma T^4)   {doc['all_wavelength_efficacy_lm_per_W']:12.3f}  lm/W "
+                   "(all-wavelength: luminous exitance / sigma T^4)")
+        typer.echo(f"  LER, 360-830 nm        {doc['ler_lm_per_W']:12.3f}  lm/W (as `inspect` of the written spectrum)")
         typer.echo(f"  x, y                   {doc['x']:.5f}, {doc['y']:.5f}")
         typer.echo(f"  u, v (CIE 1960)        {doc['u']:.5f}, {doc['v']:.5f}")
 

@@ -219,6 +219,7 @@ def _join(parts: list[Spectra]) -> Spectra:
         sha256=_chain(s.sha256 for s in parts),
         flags=_chain(s.flags for s in parts),
         measured_range_nm=_chain(s.measured_range_nm for s in parts),
+        measured_totals=np.concatenate([s.measured_totals for s in parts]),
     )
 
 
