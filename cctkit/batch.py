@@ -508,23 +508,64 @@ def _inline(chunks: Iterator[Spectra], opts: tuple) -> Iterator[tuple[int, _Chun
 
 
 def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> Iterator[tuple[int, _ChunkResult]]:
+    """Chunks on local worker processes, in input order.
+
+    A worker that dies (killed, out of memory) breaks the pool; the chunk function is pure,
+    so a new pool runs the chunks that were in flight again, each at most
+    :data:`LOCAL_RETRIES` times; past that the run stops with one line.
+    """
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures.process import BrokenProcessPool
 
     # fork shares the already-built tables with the workers; elsewhere the default context is used
     methods = multiprocessing.get_all_start_methods()
     context = multiprocessing.get_context("fork") if "fork" in methods and sys.platform.startswith("linux") else None
-    pool = ProcessPoolExecutor(max_workers=workers, mp_context=context, initializer=_worker_init,
-                               initargs=(os.getpid(),))
+
+    def new_pool():
+        return ProcessPoolExecutor(max_workers=workers, mp_context=context, initializer=_worker_init,
+                                   initargs=(os.getpid(),))
+
+    pool = new_pool()
+    pending: deque[list] = deque()  # [chunk, future, attempts], in input order
+    window = 2 * workers
     try:
-        yield from _ordered_map(
-            lambda c: pool.submit(_work, c, *opts), lambda f: f.result(), chunks, 2 * workers
-        )
+        source = iter(chunks)
+        exhausted = False
+        while True:
+            while not exhausted and len(pending) < window:
+                chunk = next(source, None)
+                if chunk is None:
+                    exhausted = True
+                    break
+                pending.append([chunk, pool.submit(_work, chunk, *opts), 0])
+            if not pending:
+                break
+            item = pending[0]
+            try:
+                result = item[1].result()
+            except BrokenProcessPool:
+                item[2] += 1
+                if item[2] > LOCAL_RETRIES:
+                    raise InputError(f"a worker process died {item[2]} times running the same chunk "
+                                     "(out of memory?); try a smaller --chunk-size", source="--workers") from None
+                _stop_workers(pool)
+                pool.shutdown(wait=True, cancel_futures=True)
+                pool = new_pool()
+                for entry in pending:  # run what was in flight again, in order
+                    entry[1] = pool.submit(_work, entry[0], *opts)
+                continue
+            pending.popleft()
+            yield len(item[0]), result
     except BaseException:  # stopped, or a chunk failed: do not wait for the chunks still running
         _stop_workers(pool)
         raise
     finally:
         pool.shutdown(wait=True, cancel_futures=True)
+
+
+#: How often a chunk runs again after a local worker process died while running it.
+LOCAL_RETRIES = 3
 
 
 def _worker_init(parent: int) -> None:
@@ -626,9 +667,11 @@ def _check_scheduler(address: str) -> None:
     scheme, _, rest = address.partition("://")
     if not rest:
         scheme, rest = "tcp", address
-    if scheme not in ("tcp", "tls"):
+    if scheme in ("inproc", "ucx"):  # in this process, or a fabric with its own addressing: no socket to try
+        return
+    if scheme not in ("tcp", "tls", "ws", "wss"):
         raise InputError(f"{address!r}: expected tcp://host:port (or tls://host:port)", source="--scheduler")
-    if scheme == "tls":
+    if scheme in ("tls", "wss"):
         try:
             import dask
 

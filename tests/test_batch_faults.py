@@ -156,6 +156,28 @@ def test_temporary_files_of_killed_runs_are_removed_live_ones_kept(lot, tmp_path
     assert not dead.exists() and live.exists()
 
 
+def test_a_local_worker_killed_mid_run_changes_nothing(lot, reference, tmp_path):
+    import multiprocessing
+
+    from cctkit.batch import Progress, run_batch
+    from cctkit.readers.wide import open_chunked
+
+    killed = []
+
+    class KillOnce(Progress):
+        def update(self, n):
+            super().update(n)
+            if self.done == 20 and not killed:  # chunks still in flight on the pool
+                victim = multiprocessing.active_children()[0]
+                os.kill(victim.pid, signal.SIGKILL)
+                killed.append(victim.pid)
+
+    summary = run_batch(open_chunked(lot, chunk_size=10), tmp_path / "out.csv", workers=2, rendering=False,
+                        progress=KillOnce(None, enabled=False))
+    assert killed and summary.spectra == 400
+    assert (tmp_path / "out.csv").read_bytes() == reference
+
+
 def test_an_input_changed_during_the_run_is_refused(lot, tmp_path):
     from cctkit.batch import run_batch
     from cctkit.readers.wide import open_chunked
