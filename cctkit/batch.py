@@ -896,9 +896,15 @@ def _resumable(out: Path, results, state, identity, progress: Progress, *, overw
     except Stopped as exc:
         exc.note = f"the {chunks} complete chunks are kept in {partial.name}; run again with --resume to continue"
         raise
+    except OSError as exc:  # disk full, read-only: the finished chunks stay for a later --resume
+        from .safe_io import os_error_text
+
+        raise InputError(f"cannot write the output ({os_error_text(exc)}); the {chunks} complete chunks are kept "
+                         f"in {partial.name}: run again with --resume to continue", source=str(out)) from None
     finally:
         results.close()
-        writer.close()
+        with contextlib.suppress(OSError):
+            writer.close()
     if count == 0:
         raise InputError("no spectra found", source=source.path)
     _unchanged(source, identity)

@@ -10,10 +10,12 @@ section for the measurements).
 
 from __future__ import annotations
 
-__all__ = ["MAX_POINTS", "MAX_SPECTRA", "MAX_VALUES", "too_many_spectra"]
+__all__ = ["MAX_POINTS", "MAX_WAVELENGTH_NM", "MAX_SPECTRA", "MAX_VALUES", "too_many_spectra"]
 
 #: Most wavelength points in one spectrum [points]: 0.005 nm steps over 360-830 nm.
 MAX_POINTS = 100_000
+#: Longest wavelength accepted [nm]: 1 mm, far beyond any optical spectrometer (a larger number is a unit error).
+MAX_WAVELENGTH_NM = 1_000_000.0
 #: Most spectra one command other than ``batch`` analyses [spectra].
 MAX_SPECTRA = 10_000
 #: Most spectral values (spectra x points) one command other than ``batch`` reads [values] (160 MB as float64).

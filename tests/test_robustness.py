@@ -366,3 +366,17 @@ def test_verify_never_passes_a_spectrum_without_visible_data(tmp_path, case, wav
     line = one_line(r.output)
     assert reason in line and f"{case}.csv" in line
     assert not (tmp_path / "v.csv").exists()
+
+
+def test_absurd_wavelengths_and_denormal_values_are_one_line(tmp_path):
+    f = tmp_path / "huge.csv"
+    f.write_text("wavelength,v\n380,1\n500,1\n600,1\n700,1\n1e308,1\n")
+    r = runner.invoke(app, ["inspect", str(f)])
+    assert r.exit_code == 2 and "wavelength 1e+308 nm is outside" in one_line(r.output)
+    tiny = tmp_path / "tiny.csv"  # denormal values: no colour signal, flagged, no traceback
+    tiny.write_text("wavelength,v\n" + "".join(f"{w},5e-320\n" for w in range(380, 781, 5)))
+    r = runner.invoke(app, ["inspect", str(tiny), "--json"])
+    assert r.exit_code == 0 and "Traceback" not in r.stderr
+    flags = [f["code"] for f in json.loads(r.stdout)["spectra"][0]["flags"]]
+    assert "no-chromaticity" in flags
+    assert all(line.startswith("cctkit: warning: ") for line in r.stderr.splitlines())  # one line per warning

@@ -56,8 +56,8 @@ class _OneLineErrors(TyperGroup):
         except OSError as exc:  # the file system refused (full, read-only, gone): name the file
             if exc.errno == errno.EPIPE:  # the reader of our output went away (e.g. `| head`)
                 _quiet_exit(0)
-            where = exc.filename if exc.filename is not None else "cctkit"
-            _fail(f"cctkit: {where}: {os_error_text(exc)}", 2)
+            where = f"{exc.filename}: " if exc.filename is not None else ""
+            _fail(f"cctkit: {where}{os_error_text(exc)}", 2)
         except MemoryError:
             _fail("cctkit: out of memory; for large lots use `cctkit batch`, which works in chunks", 2)
         except RecursionError:
