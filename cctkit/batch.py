@@ -43,6 +43,7 @@ import numpy as np
 from .analysis import flatten_record  # re-exported: the flattening rule records_table follows
 from .errors import CctkitError, InputError, Stopped
 from .formats import FORMULA_LEAD, csv_text
+from .progress import Progress  # a live bar on a terminal, plain lines elsewhere
 from .spectra import Spectra
 
 __all__ = [
@@ -375,64 +376,6 @@ def _arrow_type(key: str, col: np.ndarray):
 
 
 # --------------------------------------------------------------------------- progress
-
-
-class Progress:
-    """A one-line progress report on a stream: spectra done, spectra/s and ETA, redrawn with ``\\r``."""
-
-    def __init__(self, total: int | None, *, stream: TextIO | None = None, enabled: bool = True, interval_s: float = 0.2):
-        self.total = total
-        self.stream = stream if stream is not None else sys.stderr
-        self.enabled = enabled
-        self.interval_s = interval_s
-        self.done = 0
-        self._t0 = time.perf_counter()
-        self._last = -math.inf
-        self._width = 0
-
-    @property
-    def elapsed_s(self) -> float:
-        return time.perf_counter() - self._t0
-
-    def rate(self) -> float:
-        t = self.elapsed_s
-        return self.done / t if t > 0 else 0.0
-
-    def line(self) -> str:
-        rate = self.rate()
-        if self.total:
-            total = max(self.total, self.done)
-            pct = 100.0 * self.done / total
-            eta = (total - self.done) / rate if rate > 0 else math.inf
-            eta_text = _clock(eta) if math.isfinite(eta) else "--:--"
-            return f"{self.done:,}/{total:,} spectra ({pct:5.1f}%)  {rate:,.0f} spectra/s  ETA {eta_text}"
-        return f"{self.done:,} spectra  {rate:,.0f} spectra/s  {_clock(self.elapsed_s)} elapsed"
-
-    def update(self, n: int) -> None:
-        self.done += n
-        now = time.perf_counter()
-        if self.enabled and now - self._last >= self.interval_s:
-            self._last = now
-            self._draw(self.line())
-
-    def finish(self) -> None:
-        if self.enabled:
-            self._draw(self.line())
-            self.stream.write("\n")
-            self.stream.flush()
-
-    def _draw(self, text: str) -> None:
-        pad = max(self._width - len(text), 0)
-        self._width = len(text)
-        self.stream.write("\r" + text + " " * pad)
-        self.stream.flush()
-
-
-def _clock(seconds: float) -> str:
-    s = int(round(seconds))
-    h, rem = divmod(s, 3600)
-    m, s = divmod(rem, 60)
-    return f"{h}:{m:02d}:{s:02d}" if h else f"{m}:{s:02d}"
 
 
 # --------------------------------------------------------------------------- running

@@ -85,6 +85,7 @@ __all__ = [
     "GUARANTEES",
     "OBJECTIVES",
     "STATUSES",
+    "CONTINUATION_RF",
     "Channels",
     "BlendPath",
     "channels_from_spectra",
@@ -126,6 +127,10 @@ STATUSES = {
     "constraint-unmet": "no blend found that meets the rendering constraints",
     "solver-failed": "the solver did not return a solution",
 }
+
+#: Continuation: a set point keeps to its neighbour's blend (and refines from it) when that blend is
+#: within this many Rf points of the best candidate (linear objectives: within 0.1 %) [1].
+CONTINUATION_RF = 0.3
 
 #: A drive within this of 0 or 1 is at its limit [1].
 _AT_LIMIT = 1e-9
@@ -611,13 +616,26 @@ def _violation(m: dict[str, np.ndarray], rg, r9_min) -> np.ndarray:
     return np.where(np.isfinite(v), v, np.inf)
 
 
-def _candidates(A: np.ndarray, b: np.ndarray, rng: np.random.Generator) -> np.ndarray:
-    """Starting blends: every vertex of the feasible drives, their centre and points between them, (n, K)."""
+#: With at most this many degrees of freedom (channels - 3), a grid of that many points per
+#: dimension across the feasible drives joins the candidates.
+_GRID_DIMS, _GRID_POINTS = 2, 14
+
+
+def _candidates(A: np.ndarray, b: np.ndarray, N: np.ndarray, rng: np.random.Generator) -> np.ndarray:
+    """Starting blends: every vertex of the feasible drives, their centre, points between them and,
+    for up to two degrees of freedom, a grid across the feasible set, (n, K)."""
     V = _vertices(A, b, rng)
     if len(V) <= 1:
         return V
     centre = V.mean(axis=0, keepdims=True)
     cands = [V, centre, 0.5 * (V + centre)]
+    m = N.shape[1]
+    if 1 <= m <= _GRID_DIMS:
+        Zv = (V - centre) @ N
+        axes = [np.linspace(lo, hi, _GRID_POINTS) for lo, hi in zip(Zv.min(axis=0), Zv.max(axis=0))]
+        Z = np.stack(np.meshgrid(*axes, indexing="ij"), axis=-1).reshape(-1, m)
+        G = centre + Z @ N.T
+        cands.append(G[np.all((G >= 0) & (G <= 1), axis=1)])
     if len(V) > 2:
         i, j = np.triu_indices(len(V), 1)
         pick = rng.choice(len(i), size=min(len(i), 24), replace=False)
@@ -688,7 +706,7 @@ def _refine(problem: _Problem, A: np.ndarray, b: np.ndarray, start: np.ndarray, 
     if len(starts) > 1:
         v_prev = problem.at(starts[1])[0]
         # continuation: stay with the neighbour's blend when it is feasible and nearly as good
-        tol = 0.01 if problem.objective == "fidelity" else 1e-3 * abs(v_start[0])
+        tol = CONTINUATION_RF / 100.0 if problem.objective == "fidelity" else 1e-3 * abs(v_start[0])
         if violation(v_prev) <= 0 and (violation(v_start) > 0 or v_prev[0] <= v_start[0] + tol):
             d0 = starts[1]
     if N.shape[1] == 0:
@@ -706,7 +724,7 @@ def _refine(problem: _Problem, A: np.ndarray, b: np.ndarray, start: np.ndarray, 
                      "jac": lambda z: problem.at(point(z))[1][1:]})
     z0 = np.zeros(N.shape[1])
     res = minimize(lambda z: problem.at(point(z))[0][0], z0, jac=lambda z: problem.at(point(z))[1][0],
-                   method="SLSQP", constraints=cons, options={"maxiter": 50, "ftol": 1e-8})
+                   method="SLSQP", constraints=cons, options={"maxiter": 30, "ftol": 1e-6})
     text = f"SLSQP: {res.message}"
     v0 = problem.at(d0)[0]
     best, best_v = d0, v0
@@ -909,7 +927,22 @@ def solve_blend_path(
         Called as ``progress(done, total)`` after each set point.
     seed
         Seed of the random choices of the candidate search (results are deterministic).
+
+    Notes
+    -----
+    The solver evaluates many small batches of blends; numpy's BLAS runs them on one thread
+    (threadpoolctl), which on a shared machine is several times faster than spreading each
+    small product over every CPU.
     """
+    from threadpoolctl import threadpool_limits
+
+    with threadpool_limits(limits=1, user_api="blas"):
+        return _solve_path(channels, cct_K, duv, objective=objective, sense=sense, luminous=luminous, rg=rg,
+                           r9_min=r9_min, progress=progress, seed=seed)
+
+
+def _solve_path(channels: Channels, cct_K, duv, *, objective: str, sense: str, luminous, rg, r9_min, progress,
+                seed: int) -> BlendPath:
     from scipy.linalg import null_space
 
     from .analysis import analyse
@@ -1019,7 +1052,7 @@ def solve_blend_path(
     # 3. candidate blends of every such set point, evaluated in one vectorised batch
     starts: dict[int, np.ndarray] = {}
     if todo:
-        cand = {i: _candidates(*systems[i], rng) for i in todo}
+        cand = {i: _candidates(*systems[i], N, rng) for i in todo}
         rows = [i for i in todo for _ in range(len(cand[i]))]
         allD = np.concatenate([cand[i] for i in todo])
         m = _rendering_of(channels, allD, T[rows], D_target[rows], r9=r9_min is not None)

@@ -223,18 +223,18 @@ _LUMINOUS_HEADERS = {
 
 def analysis_html(analysis: "Analysis", *, max_rows: int = 20) -> str:
     """A compact HTML table of the headline numbers (the notebook view of an analysis)."""
-    from .analysis import _record
     from .formats import format_number
 
     n = len(analysis)
     shown = list(range(n)) if n <= max_rows else list(range(max_rows - 5)) + list(range(n - 5, n))
     key = analysis.spectra.quantity.luminous_name
     heads = [_LUMINOUS_HEADERS.get(key, key) if h is None else h for _, h in _HTML_COLUMNS]
+    records = analysis.records()
     rows = []
     for pos, i in enumerate(shown):
         if pos and shown[pos - 1] != i - 1:
             rows.append("<tr>" + "".join("<td>…</td>" for _ in heads) + "</tr>")
-        rec = _record(analysis, i, bool(analysis.cct.in_domain[i]))
+        rec = dict(records[i])
         rec["R9"] = rec["R"][8] if rec.get("R") else None
         rec["luminous"] = rec.get(key)
         rec["flags"] = " ".join(f["code"] for f in rec["flags"])

@@ -426,8 +426,9 @@ def test_progress_line_reports_rate_and_eta():
     p.update(250)
     p.finish()
     text = buf.getvalue()
-    assert text.startswith("\r250/1,000 spectra ( 25.0%)") and "spectra/s" in text and "ETA" in text
-    assert text.endswith("\n")
+    # not a terminal: plain lines, each complete, no carriage returns running together
+    assert text.startswith("250/1,000 spectra ( 25.0%)") and "spectra/s" in text and "ETA" in text
+    assert text.endswith("\n") and "\r" not in text and text.count("\n") == 2
     silent = io.StringIO()
     q = Progress(None, stream=silent, enabled=False)
     q.update(5)

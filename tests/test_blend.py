@@ -18,7 +18,6 @@ from typer.testing import CliRunner
 from cctkit import blend
 from cctkit.cli import app
 from cctkit.errors import InputError
-from cctkit.readers import read_spectra
 
 SPECTRA = Path(__file__).resolve().parents[1] / "spectra"
 CHANNELS = SPECTRA / "hl-wash5" / "hl-wash5-channels.csv"
@@ -224,7 +223,7 @@ def test_fidelity_beats_a_grid_of_blends(wash):
     T = 3500.0
     p = blend.solve_blend_path(wash, [T], 0.0, objective="fidelity", luminous=400.0, rg=(95.0, 110.0))
     assert p.status == ("ok",)
-    a = _recheck(p)
+    _recheck(p)
     rf = float(p.metrics["Rf"][0])
     assert 95.0 <= p.metrics["Rg"][0] <= 110.0
     # brute force: grid over two drives, the other three solved exactly; keep blends within drive limits and Rg bounds

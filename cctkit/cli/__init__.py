@@ -14,10 +14,11 @@ import errno
 import importlib
 import os
 import sys
+import time
 
 import click
 import typer
-from typer.core import TyperGroup
+from typer.core import TyperCommand, TyperGroup
 
 from .. import __version__
 from ..errors import CctkitError, Stopped
@@ -29,12 +30,40 @@ __all__ = ["app", "main"]
 _COMMAND_MODULES = ("core", "compare", "verify", "report", "batch", "blend")
 
 
+class _PlainUsage(TyperCommand):
+    """A command whose usage line names its arguments plainly: ``FILES...``, ``T_K``, ``[NAME]``."""
+
+    def collect_usage_pieces(self, ctx) -> list[str]:
+        pieces = [self.options_metavar] if self.options_metavar else []
+        for param in self.get_params(ctx):
+            if getattr(param, "param_type_name", "") == "argument":
+                if getattr(param, "hidden", False):
+                    continue
+                name = (param.metavar or (param.name or "").upper()).rstrip(".")
+                if param.nargs != 1:
+                    name += "..."
+                pieces.append(name if param.required else f"[{name}]")
+            else:
+                pieces.extend(param.get_usage_pieces(ctx))
+        return pieces
+
+
+class _App(typer.Typer):
+    """The typer app whose commands default to :class:`_PlainUsage`."""
+
+    def command(self, *args, cls=None, **kwargs):  # type: ignore[override]
+        return super().command(*args, cls=cls or _PlainUsage, **kwargs)
+
+
 class _OneLineErrors(TyperGroup):
     """A group whose ``main`` reports every expected failure as one line, exit status 2."""
 
     def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):
         from ..safe_io import forget_inputs
+        from .options import set_verbosity, verbosity
 
+        set_verbosity(0)
+        started = time.perf_counter()
         forget_inputs()
         streams = _guard_streams()
         try:
@@ -63,12 +92,14 @@ class _OneLineErrors(TyperGroup):
         except RecursionError:
             _fail("cctkit: input nested too deeply", 2)
         except Exception as exc:  # noqa: BLE001 - the last line of defence against tracebacks
-            if os.environ.get("CCTKIT_DEBUG"):
+            if os.environ.get("CCTKIT_DEBUG") or verbosity() > 0:
                 raise
             _fail(f"cctkit: internal error, please report it ({_plain(exc)}); set CCTKIT_DEBUG=1 for the details", 1)
         finally:
             _restore_streams(streams)
         code = rv if isinstance(rv, int) else 0
+        if verbosity() > 0:
+            typer.echo(f"cctkit: finished in {time.perf_counter() - started:.2f} s (exit status {code})", err=True)
         if standalone_mode:
             sys.exit(code)
         return code
@@ -118,6 +149,7 @@ class _SafeText:
     def __init__(self, stream, keep: str):
         self._stream = stream
         self._keep = keep
+        self.trusted = stream  # for text cctkit makes itself with terminal codes (the progress bar)
 
     def write(self, text):
         if isinstance(text, str):
@@ -168,9 +200,9 @@ def _version(value: bool) -> None:
         raise typer.Exit(0)
 
 
-app = typer.Typer(
+app = _App(
     cls=_OneLineErrors,
-    add_completion=False,
+    add_completion=True,
     no_args_is_help=True,
     pretty_exceptions_enable=False,
     rich_markup_mode=None,
@@ -181,8 +213,17 @@ app = typer.Typer(
 @app.callback()
 def _root(
     version: bool = typer.Option(False, "--version", callback=_version, is_eager=True, help="Print the version and exit."),
+    quiet: bool = typer.Option(False, "--quiet", help="Only results and errors: no progress, notes or 'wrote' lines "
+                               "(give it before the command)."),
+    verbose: bool = typer.Option(False, "--verbose", help="Also the run time on stderr, and a traceback on an "
+                                 "internal error (give it before the command)."),
 ) -> None:
     """Colour temperature, chromaticity, colour rendering and photometry from measured spectra."""
+    from .options import set_verbosity
+
+    if quiet and verbose:
+        raise CctkitError("--quiet and --verbose exclude each other")
+    set_verbosity(-1 if quiet else 1 if verbose else 0)
 
 
 for _name in _COMMAND_MODULES:

@@ -27,7 +27,7 @@ def batch_cmd(
     rendering: bool = typer.Option(True, "--rendering/--no-rendering", help="Compute CIE 13.3 and TM-30 colour rendering (the costly part)."),
     overwrite: bool = OVERWRITE_OPTION,
     progress: bool = typer.Option(False, "--progress", help="Show progress on stderr even when it is not a terminal."),
-    quiet: bool = typer.Option(False, "--quiet", help="No progress and no summary line."),
+    quiet: bool = typer.Option(False, "--quiet", help="No progress and no summary line (as cctkit --quiet)."),
     resume: bool = typer.Option(False, "--resume", help="CSV output: keep the finished chunks if the run is stopped "
                                 "or killed, and continue an earlier such run from its last complete chunk."),
 ) -> None:
@@ -50,6 +50,9 @@ def batch_cmd(
         Quantity.parse(quantity, source="--quantity")
     check_output_path(output, overwrite=overwrite, inputs=[input_path])  # fail before reading anything
     source = open_chunked(input_path, chunk_size=chunk_size, quantity=quantity)
+    from .options import verbosity
+
+    quiet = quiet or verbosity() < 0
     show = not quiet and (progress or sys.stderr.isatty())
     bar = Progress(source.total, enabled=show)
     summary = run_batch(

@@ -192,6 +192,9 @@ def reference_cmd(
     from ..rendering import REFERENCE_RANGE_K, reference_cct, reference_for
 
     ref_method = _method(method)
+    if not np.isfinite(cct_K) or cct_K <= 0:
+        raise InputError(f"CCT_K must be positive (a temperature in kelvin, {REFERENCE_RANGE_K[0]:g} to "
+                         f"{REFERENCE_RANGE_K[1]:g}), got {cct_K:g}")
     if not np.isfinite(reference_cct(cct_K)[0]):
         raise InputError(f"CCT_K must be between {REFERENCE_RANGE_K[0]:g} and {REFERENCE_RANGE_K[1]:g} K, got {cct_K:g}")
     suffix = require_suffix(output, (".csv", ".json", ".xlsx")) if output is not None else None
@@ -231,4 +234,4 @@ def reference_cmd(
 
 def register(app: typer.Typer) -> None:
     app.command("versus")(versus_cmd)
-    app.command("reference")(reference_cmd)
+    app.command("reference", context_settings={"ignore_unknown_options": True})(reference_cmd)

@@ -145,13 +145,29 @@ def inspect_cmd(
         typer.echo(format_records(records).rstrip("\n"))
 
 
+def _coordinate_pair(name: str, text: str, rest: list[str]) -> tuple[float, float]:
+    """``"0.3127,0.3290"`` (or ``"0.3127"`` followed by ``"0.3290"`` in ``rest``) as two numbers."""
+    parts = [p for p in text.replace(";", ",").split(",")] if "," in text or ";" in text else [text]
+    if len(parts) == 1 and rest:
+        parts.append(rest.pop(0))
+    try:
+        if len(parts) != 2:
+            raise ValueError
+        return float(parts[0]), float(parts[1])
+    except ValueError:
+        raise InputError(f"{name} takes two numbers separated by a comma, e.g. {name} 0.3127,0.3290; "
+                         f"got {' '.join(parts)!r}") from None
+
+
 def cct_cmd(
-    xy: Optional[tuple[float, float]] = typer.Option(None, "--xy", help="CIE 1931 chromaticity x y."),
-    uv: Optional[tuple[float, float]] = typer.Option(None, "--uv", help="CIE 1960 chromaticity u v."),
-    uvp: Optional[tuple[float, float]] = typer.Option(None, "--uvp", help="CIE 1976 chromaticity u' v'."),
+    xy: Optional[str] = typer.Option(None, "--xy", metavar="X,Y", help="CIE 1931 chromaticity, e.g. --xy 0.3127,0.3290 "
+                                     "(or --xy 0.3127 0.3290)."),
+    uv: Optional[str] = typer.Option(None, "--uv", metavar="U,V", help="CIE 1960 chromaticity u,v."),
+    uvp: Optional[str] = typer.Option(None, "--uvp", metavar="U',V'", help="CIE 1976 chromaticity u',v'."),
     method: str = typer.Option("exact", "--method", help="exact | ohno2013 | robertson1968."),
     observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),
     json_out: bool = JSON_OPTION,
+    rest: Optional[List[str]] = typer.Argument(None, hidden=True),  # the second number of the "X Y" form
 ) -> None:
     """CCT and Duv of one chromaticity (from a datasheet, say)."""
     import numpy as np
@@ -162,10 +178,13 @@ def cct_cmd(
 
     given = [(n, v) for n, v in (("--xy", xy), ("--uv", uv), ("--uvp", uvp)) if v is not None]
     if len(given) != 1:
-        raise InputError("give exactly one of --xy X Y, --uv U V or --uvp U' V'")
+        raise InputError("give exactly one of --xy X,Y, --uv U,V or --uvp U',V'")
     if method not in METHODS:
         raise InputError(f"--method must be one of {', '.join(METHODS)}, got {method!r}")
-    name, pair = given[0]
+    extra = list(rest or [])
+    name, pair = given[0][0], _coordinate_pair(*given[0], extra)
+    if extra:
+        raise InputError(f"unexpected argument {extra[0]!r}; give the chromaticity as {name} X,Y")
     p = np.asarray(pair, dtype=float)
     if not np.all(np.isfinite(p)) or np.any(p <= 0) or np.any(p >= 1):
         raise InputError(f"{name} values must be chromaticity coordinates between 0 and 1, got {pair[0]:g} {pair[1]:g}")
@@ -197,26 +216,39 @@ def cct_cmd(
         info(f"warning: {doc['warning']}")
 
 
+LOCUS_RANGE_K = (500.0, 1e6)
+
+
 def locus_cmd(
     observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),
-    t_min: float = typer.Option(1000.0, "--from", help="Lowest temperature [K]."),
-    t_max: float = typer.Option(100000.0, "--to", help="Highest temperature [K]."),
+    t_min: float = typer.Option(1000.0, "--from", help="Lowest temperature [K], 500 to 1000000."),
+    t_max: float = typer.Option(100000.0, "--to", help="Highest temperature [K], 500 to 1000000."),
     step: Optional[float] = typer.Option(None, "--step", help="Temperature step [K] (default: 10 K to 10000 K, then 100 K)."),
     output: Optional[Path] = OUTPUT_OPTION,
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
+    csv_out: bool = typer.Option(False, "--csv", help="Print CSV on stdout instead of the table."),
     csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
-    """The Planckian locus as a table (T_K, x, y, u, v, u', v')."""
+    """The Planckian locus as a table (T_K, x, y, u, v, u', v'), 500 K to 1000000 K."""
     import numpy as np
 
     from ..locus import default_temperatures, planckian_locus
 
-    if not (500.0 <= t_min < t_max <= 1e6):
-        raise InputError(f"--from/--to must satisfy 500 <= from < to <= 1e6 K, got {t_min:g}..{t_max:g}")
+    lo, hi = LOCUS_RANGE_K
+    for option, value in (("--from", t_min), ("--to", t_max)):
+        if not np.isfinite(value) or value <= 0:
+            raise InputError(f"{option} must be positive (a temperature in kelvin, {lo:.0f} to {hi:.0f}), got {value:g}")
+        if not lo <= value <= hi:
+            raise InputError(f"{option} must be between {lo:.0f} and {hi:.0f} K, got {value:g}")
+    if not t_min < t_max:
+        raise InputError(f"--from must be below --to, got {t_min:g} and {t_max:g} K")
+    check_dialect(csv_dialect)
     if step is not None:
-        if not step > 0 or (t_max - t_min) / step > 1e6:
-            raise InputError(f"--step must be > 0 K and give at most 1e6 rows, got {step:g}")
+        if not step > 0:
+            raise InputError(f"--step must be positive, got {step:g}")
+        if (t_max - t_min) / step > 1e6:
+            raise InputError(f"--step must give at most 1e6 rows, got {step:g} K")
         T = np.arange(t_min, t_max + step / 2, step)
     else:
         T = default_temperatures()
@@ -233,8 +265,22 @@ def locus_cmd(
         write_output(output, text, overwrite=overwrite, dialect=csv_dialect)
     if json_out:
         emit_json({"observer": loc.observer, "c2_m_K": loc.c2_m_K, "locus": rows})
+    elif csv_out:
+        from ..spreadsheet import csv_in_dialect
+
+        typer.echo(csv_in_dialect(csv_text(header, ([r[k] for k in header] for r in rows)), csv_dialect), nl=False)
     elif output is None:
-        typer.echo(csv_text(header, ([r[k] for k in header] for r in rows)), nl=False)
+        typer.echo(_locus_table(rows, observer=loc.observer))
+
+
+def _locus_table(rows: list[dict[str, Any]], *, observer: Any) -> str:
+    """The locus for people: one row per temperature, five decimals, units in the header."""
+    name = {2: "CIE 1931 2°", 10: "CIE 1964 10°"}.get(observer, str(observer))
+    lines = [f"Planckian locus, {name} observer",
+             f"{'T [K]':>9}  {'x':>7}  {'y':>7}  {'u':>7}  {'v':>7}  {'u′':>7}  {'v′':>7}"]
+    for r in rows:
+        lines.append(f"{r['T_K']:>9.0f}  " + "  ".join(f"{r[k]:.5f}" for k in ("x", "y", "u", "v", "u_prime", "v_prime")))
+    return "\n".join(lines)
 
 
 def blackbody_cmd(
@@ -256,7 +302,9 @@ def blackbody_cmd(
     from ..photometry import luminous_efficacy_of_radiation
     from ..planck import blackbody_efficacy, spectral_exitance, spectral_radiance, total_exitance, wien_peak_nm
 
-    if not np.isfinite(T_K) or not (100.0 <= T_K <= 1e6):
+    if not np.isfinite(T_K) or T_K <= 0:
+        raise InputError(f"T_K must be positive (a temperature in kelvin, 100 to 1e6), got {T_K:g}")
+    if not (100.0 <= T_K <= 1e6):
         raise InputError(f"T_K must be between 100 and 1e6 K, got {T_K:g}")
     if quantity not in ("exitance", "radiance"):
         raise InputError(f"--as must be exitance or radiance, got {quantity!r}")
@@ -305,4 +353,5 @@ def register(app: typer.Typer) -> None:
     app.command("inspect")(inspect_cmd)
     app.command("cct")(cct_cmd)
     app.command("locus")(locus_cmd)
-    app.command("blackbody")(blackbody_cmd)
+    # a negative number (blackbody -5) is a value to refuse with a reason, not an unknown option
+    app.command("blackbody", context_settings={"ignore_unknown_options": True})(blackbody_cmd)

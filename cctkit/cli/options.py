@@ -35,9 +35,22 @@ def emit_json(doc: Any) -> None:
     sys.stdout.flush()
 
 
+# -1 quiet, 0 normal, 1 verbose: set once per run by the root options --quiet / --verbose.
+_VERBOSITY = [0]
+
+
+def set_verbosity(level: int) -> None:
+    _VERBOSITY[0] = int(level)
+
+
+def verbosity() -> int:
+    return _VERBOSITY[0]
+
+
 def info(message: str) -> None:
-    """A line for the person at the terminal (stderr)."""
-    typer.echo(message, err=True)
+    """A line for the person at the terminal (stderr); silent under ``--quiet``."""
+    if _VERBOSITY[0] >= 0:
+        typer.echo(message, err=True)
 
 
 def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iterable = (),

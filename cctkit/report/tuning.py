@@ -274,7 +274,7 @@ def _table_pages(path, doc, meta, *, paper: str, labels: list[str], title: str):
             page.text(x, y + 0.05, label, fontsize=5.8, weight="bold")
         y += 0.22
         for r in recs[p * TABLE_ROWS_PER_PAGE:(p + 1) * TABLE_ROWS_PER_PAGE]:
-            for (label, key, fmt), x in zip(cols, xs):
+            for (_, key, fmt), x in zip(cols, xs):
                 if isinstance(key, tuple):
                     v = r["drives"][key[1]]
                 else:
