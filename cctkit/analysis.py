@@ -216,10 +216,16 @@ def _record(a: Analysis, i: int, in_domain: bool | None = None) -> dict[str, Any
     return r
 
 
-def _cct_flags(cct: CctResult, i: int) -> tuple[Flag, ...]:
+def _cct_flags(cct: CctResult, i: int, uv=None) -> tuple[Flag, ...]:
     duv = float(cct.duv[i])
     out = []
-    if not np.isfinite(duv):
+    if not np.isfinite(duv) and uv is not None and np.all(np.isfinite(uv[i])):
+        from .cct import table_range_text
+
+        out.append(Flag("outside-cct-table",
+                        f"the nearest Planckian point lies outside the {cct.method} solver's table "
+                        f"({table_range_text(cct.method)}): CCT and Duv withheld"))
+    elif not np.isfinite(duv):
         out.append(Flag("no-chromaticity", "the spectrum has no colour signal (all tristimulus values zero)"))
     elif abs(duv) > DUV_LIMIT:
         out.append(Flag("duv-out-of-range", f"|Duv| = {abs(duv):.4f} > {DUV_LIMIT}: CCT is not meaningful and not reported"))
@@ -265,7 +271,7 @@ def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: b
     xy = XYZ_to_xy(tri)
     uv = XYZ_to_uv(tri)
     cct = cct_duv(uv, observer=observer)
-    flags = tuple(g.flags[i] + ((problems[i],) if problems[i] is not None else _cct_flags(cct, i))
+    flags = tuple(g.flags[i] + ((problems[i],) if problems[i] is not None else _cct_flags(cct, i, uv))
                   for i in range(len(g)))
     parts = _extra_measures(g, V, xy, observer=int(observer))
     flags = tuple(f + parts["photometry"].flags[i] + parts["alphaopic"].flags[i] for i, f in enumerate(flags))

@@ -38,7 +38,7 @@ from .constants import DUV_LIMIT
 from .locus import T_MAX_K, T_MIN_K, planckian_uv, planckian_uv_dT, uv_from_cct_duv
 from .planck import resolve_c2
 
-__all__ = ["CctResult", "cct_duv", "uv_from_cct_duv", "METHODS"]
+__all__ = ["CctResult", "cct_duv", "uv_from_cct_duv", "METHODS", "table_range_K", "table_range_text"]
 
 METHODS = ("exact", "ohno2013", "robertson1968")
 
@@ -157,9 +157,29 @@ def _exact(uv: np.ndarray, observer: int, c2: float) -> tuple[np.ndarray, np.nda
     finite = np.isfinite(pu) & np.isfinite(pv)
     outside = ~bracketed | (cct < T_MIN_K * (1 - 1e-9)) | (cct > T_MAX_K * (1 + 1e-9)) | ~finite
     cct = np.where(outside, np.nan, cct)
-    duv = np.where(finite, duv, np.nan)
+    # A point whose nearest locus point lies outside the table (below 900 K, above 200000 K) has no
+    # root to find: its Duv is withheld (NaN), never taken from the end of the table.
+    duv = np.where(finite & bracketed, duv, np.nan)
     shape = uv.shape[:-1]
     return cct.reshape(shape), duv.reshape(shape)
+
+
+def table_range_K(method: str) -> tuple[float, float]:
+    """Temperatures [K] the table of ``method`` spans; outside it CCT and Duv are NaN (withheld)."""
+    if method == "exact":
+        return (1e6 / _M_HI, 1e6 / _M_LO)
+    if method == "ohno2013":
+        n = int(np.ceil(np.log(T_MAX_K * 1.02 / (T_MIN_K * 0.98)) / np.log(1.01))) + 1
+        return (T_MIN_K * 0.98, T_MIN_K * 0.98 * 1.01 ** (n - 1))
+    if method == "robertson1968":
+        return (1e6 / 600.0, np.inf)  # Wyszecki & Stiles Table 1(3.11): 0-600 mired
+    raise ValueError(f"method must be one of {', '.join(METHODS)}, got {method!r}")
+
+
+def table_range_text(method: str) -> str:
+    """:func:`table_range_K` for people: ``"900-200000 K"``, ``"1667 K and above"``."""
+    lo, hi = table_range_K(method)
+    return f"{lo:.0f} K and above" if not np.isfinite(hi) else f"{lo:.0f}-{hi:.0f} K"
 
 
 # ----------------------------------------------------------------------------- Ohno 2013
@@ -183,7 +203,8 @@ def _ohno2013(uv: np.ndarray, observer: int, c2: float, chunk: int = 8192) -> tu
     for s in range(0, p.shape[0], chunk):  # chunks bound memory; each chunk is vectorised
         q = p[s : s + chunk]
         d = np.sqrt(((q[:, None, :] - uv_tab[None, :, :]) ** 2).sum(-1))
-        i = np.clip(np.argmin(d, axis=1), 1, n_tab - 2)
+        i_near = np.argmin(d, axis=1)
+        i = np.clip(i_near, 1, n_tab - 2)
         rows = np.arange(q.shape[0])
         dm1, d0, dp1 = d[rows, i - 1], d[rows, i], d[rows, i + 1]
         Tm1, T0, Tp1 = T_tab[i - 1], T_tab[i], T_tab[i + 1]
@@ -202,8 +223,10 @@ def _ohno2013(uv: np.ndarray, observer: int, c2: float, chunk: int = 8192) -> tu
         T_par = -b / (2 * a) * 0.99991  # the paper's correction factor
         duv_par = sign * (a * T_par**2 + b * T_par + c)
         use_tri = np.abs(duv_tri) < 0.002
-        cct[s : s + chunk] = np.where(use_tri, T_tri, T_par)
-        duv[s : s + chunk] = np.where(use_tri, duv_tri, duv_par)
+        # nearest table point at an end of the table: the true foot may lie beyond it, so withhold both
+        at_end = (i_near == 0) | (i_near == n_tab - 1)
+        cct[s : s + chunk] = np.where(at_end, np.nan, np.where(use_tri, T_tri, T_par))
+        duv[s : s + chunk] = np.where(at_end, np.nan, np.where(use_tri, duv_tri, duv_par))
     out = (cct < T_MIN_K) | (cct > T_MAX_K) | ~np.isfinite(cct)
     cct = np.where(out, np.nan, cct)
     shape = uv.shape[:-1]
@@ -242,6 +265,8 @@ def _robertson1968(uv: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     u_l = ut[i] + f * (ut[i + 1] - ut[i])
     v_l = vt[i] + f * (vt[i + 1] - vt[i])
     duv = np.sign(p[:, 1] - v_l) * np.hypot(p[:, 0] - u_l, p[:, 1] - v_l)
+    # outside the table (below 1667 K): no isotemperature lines bracket the point, nothing is computed
+    duv = np.where(has, duv, np.nan)
     cct = np.where((cct < T_MIN_K) | (cct > T_MAX_K), np.nan, cct)
     shape = uv.shape[:-1]
     return cct.reshape(shape), duv.reshape(shape)
@@ -275,7 +300,10 @@ def cct_duv(uv, *, method: str = "exact", observer: int = 2, c2: float | str = "
     Notes
     -----
     Duv is positive above the locus (towards larger v, greenish), negative below (pinkish).
-    Robertson's table only spans 1667 K upward; its Duv is approximate.
+    Where the nearest locus point lies outside the method's table (:func:`table_range_K`:
+    ``exact`` 900-200000 K; ``robertson1968`` 1667 K upward, its published table;
+    ``ohno2013`` about 980-102000 K) both CCT and Duv are NaN: withheld, never extrapolated.
+    Robertson's Duv is approximate.
     """
     uv = np.asarray(uv, dtype=np.float64)
     if uv.shape[-1:] != (2,):

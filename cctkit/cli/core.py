@@ -172,7 +172,7 @@ def cct_cmd(
     """CCT and Duv of one chromaticity (from a datasheet, say)."""
     import numpy as np
 
-    from ..cct import METHODS, cct_duv
+    from ..cct import METHODS, cct_duv, table_range_text
     from ..colorimetry import uvp_to_uv, xy_to_uv
     from ..constants import DUV_LIMIT
 
@@ -197,20 +197,22 @@ def cct_cmd(
     r = cct_duv(p, method=method, observer=parse_observer(observer))
     cct, duv = float(r.cct_K), float(r.duv)
     meaningful = bool(r.in_domain)
-    doc = {"cct_K": cct if meaningful else None, "duv": duv, "method": method, "u": float(p[0]), "v": float(p[1])}
+    doc = {"cct_K": cct if meaningful else None, "duv": duv if np.isfinite(duv) else None, "method": method, "u": float(p[0]), "v": float(p[1])}
     if not meaningful:
-        doc["warning"] = (
-            f"|Duv| = {abs(duv):.4f} exceeds {DUV_LIMIT}: CCT is not meaningful"
-            if np.isfinite(duv) and abs(duv) > DUV_LIMIT
-            else "nearest Planckian point outside 1000-100000 K"
-        )
+        if not np.isfinite(duv):
+            doc["warning"] = (f"the nearest Planckian point lies outside the {method} table "
+                              f"({table_range_text(method)}): CCT and Duv not computed")
+        elif abs(duv) > DUV_LIMIT:
+            doc["warning"] = f"|Duv| = {abs(duv):.4f} exceeds {DUV_LIMIT}: CCT is not meaningful"
+        else:
+            doc["warning"] = "nearest Planckian point outside 1000-100000 K: CCT not reported"
     if json_out:
         emit_json(doc)
         if "warning" in doc:
             info(f"warning: {doc['warning']}")
         return
     typer.echo(f"CCT  {cct:.1f} K" if meaningful else "CCT  n/a")
-    typer.echo(f"Duv  {format_number(duv, '{:+.5f}')}")
+    typer.echo(f"Duv  {format_number(duv, '{:+.5f}')}" if np.isfinite(duv) else "Duv  n/a")
     typer.echo(f"method  {method}; CIE 1960 uv = ({p[0]:.5f}, {p[1]:.5f})")
     if "warning" in doc:
         info(f"warning: {doc['warning']}")

@@ -87,6 +87,7 @@ def reference_for(cct_K, *, method: str = "cie224") -> Reference:
 #: CCT range over which the references are defined [K]: the CIE 15 daylight polynomials hold
 #: to 25000 K (CIE 15:2018 section 4.1.2); beyond, no reference is built.
 REFERENCE_RANGE_K = (1000.0, 25000.0)
+_BOUND_RTOL = 1e-6
 
 
 def rendering_cct(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -103,7 +104,13 @@ def reference_cct(cct_K, duv=None) -> np.ndarray:
     from ..constants import DUV_LIMIT
 
     T = np.atleast_1d(np.asarray(cct_K, dtype=np.float64))
-    ok = np.isfinite(T) & (T >= REFERENCE_RANGE_K[0]) & (T <= REFERENCE_RANGE_K[1])
+    # A blackbody at exactly 1000 K or 25000 K lands a rounding error either side of the bound:
+    # within 1e-6 relative it is the bound (common practice, no source).
+    lo, hi = REFERENCE_RANGE_K
+    with np.errstate(invalid="ignore"):
+        T = np.where((T < lo) & (T >= lo * (1 - _BOUND_RTOL)), lo, T)
+        T = np.where((T > hi) & (T <= hi * (1 + _BOUND_RTOL)), hi, T)
+    ok = np.isfinite(T) & (T >= lo) & (T <= hi)
     if duv is not None:
         d = np.atleast_1d(np.asarray(duv, dtype=np.float64))
         with np.errstate(invalid="ignore"):
