@@ -753,9 +753,15 @@ def _partial_paths(out: Path) -> tuple[Path, Path]:
 def _clear_leftovers(out: Path, resume: bool) -> list[str]:
     """Remove what killed runs left beside ``out``: their temporary files, and without
     ``resume`` the partial results of a resumable run.  Returns a note per removal."""
-    from .safe_io import remove_stale_temps
+    from .safe_io import _alive, glob_escape, remove_stale_temps
 
     notes = [f"removed {p.name}, left by an earlier run that was killed" for p in remove_stale_temps(out)]
+    journal = _partial_paths(out)[1]
+    for p in journal.parent.glob(glob_escape(journal.name) + ".*.tmp"):  # a journal being replaced when killed
+        pid = p.name[len(journal.name) + 1:-len(".tmp")]
+        if pid.isdigit() and not _alive(int(pid)):
+            with contextlib.suppress(OSError):
+                p.unlink()
     if not resume:
         for p in _partial_paths(out):
             if p.exists():
