@@ -26,6 +26,8 @@ bench: $(STAMP)
 	$(PY) benchmarks/bench_rendering.py
 	$(PY) benchmarks/bench_full.py
 	$(PY) benchmarks/bench_batch.py
+	$(PY) benchmarks/bench_report.py
+	$(PY) benchmarks/bench_uncertainty.py
 
 clean:
 	rm -rf $(VENV) build *.egg-info .pytest_cache

@@ -27,7 +27,7 @@ from ..safe_io import os_error_text
 
 __all__ = ["app", "main"]
 
-_COMMAND_MODULES = ("core", "compare", "verify", "report", "batch", "blend")
+_COMMAND_MODULES = ("core", "compare", "verify", "report", "batch", "blend", "uncertainty")
 
 
 class _PlainUsage(TyperCommand):
