@@ -290,7 +290,7 @@ def test_formula_cells_are_neutralised_numbers_stay_numbers(tmp_path, name):
 def test_bin_gives_no_centre_without_chromaticity():
     from cctkit.binning import bin_chromaticities
 
-    r = bin_chromaticities(np.array([[np.nan, np.nan], [0.4339, 0.4033]]))
+    r = bin_chromaticities(np.array([[np.nan, np.nan], [0.4339, 0.4033]]), ellipses="macadam1942")
     assert r.centre[0] is None and r.sdcm_bin[0] == -1
     assert r.centre[1] == "3000K"  # ANSI C78.377-2017 3000 K centre x 0.4339, y 0.4033
 
