@@ -39,7 +39,7 @@ from typing import Any, Callable, Iterator, Sequence, TextIO
 
 import numpy as np
 
-from .analysis import flatten_record  # re-exported: the flattening rule records_table follows
+from .analysis import flatten_record, metadata_text  # flatten_record re-exported: the flattening rule records_table follows
 from .errors import InputError
 from .formats import csv_text
 from .progress import Progress  # a live bar on a terminal, plain lines elsewhere
@@ -60,7 +60,7 @@ OUTPUT_SUFFIXES = (".csv", ".parquet")
 #: How long to try reaching a Dask scheduler before giving up [s].
 SCHEDULER_TIMEOUT_S = 10.0
 _STRING_COLUMNS = frozenset(
-    {"name", "source", "sha256", "quantity", "spectral_unit", "reference", "cri_reference", "flags", "cctkit_version"}
+    {"name", "source", "sha256", "quantity", "spectral_unit", "reference", "cri_reference", "flags", "cctkit_version", "metadata"}
 )
 
 
@@ -101,6 +101,9 @@ def records_table(records: Sequence[dict[str, Any]]) -> dict[str, np.ndarray]:
             out[k] = np.array(
                 [None if v is _ABSENT else ";".join(f["code"] for f in v) for v in vals], dtype=object
             )
+            continue
+        if k == "metadata":  # one JSON text cell, so every chunk has the same columns
+            out[k] = np.array([None if v is _ABSENT else metadata_text(v) for v in vals], dtype=object)
             continue
         if not any(isinstance(v, list) for v in vals):
             out[k] = _column(k, [None if v is _ABSENT else v for v in vals])
@@ -169,8 +172,7 @@ def _work(spectra: Spectra, observer: int, rendering: bool, output: str = ".csv"
     250 numbers per spectrum into text over the workers, and the parent receives the text
     (or the Arrow table) only.
     """
-    with _one_blas_thread():
-        table = spectra_results(spectra, observer=observer, rendering=rendering)
+    table = spectra_results(spectra, observer=observer, rendering=rendering)  # one BLAS thread: see analyse()
     if output == ".csv":
         return _ChunkResult(list(table), csv_text=table_csv(table, list(table)))
     return _ChunkResult(list(table), arrow=_arrow_table(table))
@@ -376,7 +378,7 @@ def _arrow_type(key: str, col: np.ndarray):
 def default_workers(chunks: int | None = None) -> int:
     """Local worker processes by default: one per CPU this process may run on, at most one per chunk.
 
-    Each chunk runs with one BLAS thread (:func:`_one_blas_thread`), so the workers, not BLAS
+    :func:`cctkit.analysis.analyse` runs one BLAS thread, so the workers, not BLAS
     threads, share the CPUs; the writing process mostly waits and needs no CPU of its own
     (measured in ``benchmarks/bench_batch.py``).
     """
@@ -387,23 +389,6 @@ def default_workers(chunks: int | None = None) -> int:
     if chunks is not None:
         cpus = min(cpus, chunks)
     return max(1, cpus)
-
-
-def _one_blas_thread():
-    """A context with one BLAS thread, for every chunk wherever it runs.
-
-    The worker processes are the parallelism; BLAS threads on top of them would compete
-    for the same CPUs (threadpoolctl sets the limit for whichever BLAS numpy uses).  And
-    a BLAS may round a product differently with another number of threads: with one
-    thread everywhere, a batch's numbers do not depend on how many workers ran it.
-    """
-    try:
-        from threadpoolctl import threadpool_limits
-    except ImportError:  # pragma: no cover - a declared dependency
-        from contextlib import nullcontext
-
-        return nullcontext()
-    return threadpool_limits(1)
 
 
 @dataclass(frozen=True)
