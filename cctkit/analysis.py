@@ -22,7 +22,7 @@ from .errors import Flag
 from .formats import finite_or_none
 from .spectra import Quantity, Spectra, signal_problems, to_working_grid
 
-__all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "records_csv", "provenance", "CONVENTIONS"]
+__all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "metadata_text", "records_csv", "provenance", "CONVENTIONS"]
 
 #: The conventions every number is computed under (written into every output).
 CONVENTIONS = {
@@ -180,6 +180,7 @@ def _columns(a: Analysis) -> dict[str, np.ndarray]:
             out.update({f"{key}{j + 1}": np.ascontiguousarray(b[:, j]) for j in range(b.shape[1])})
         out["reference"] = _text_column(t.reference)
     out["flags"] = _text_column([";".join(f.code for f in fl) for fl in a.flags])
+    out["metadata"] = _text_column([metadata_text(dict(m)) for m in s.metadata])
     return out
 
 
@@ -213,6 +214,7 @@ def _record(a: Analysis, i: int, in_domain: bool | None = None) -> dict[str, Any
     for cols in a._rendering_columns:
         r.update({k: v[i] for k, v in cols.items()})
     r["flags"] = [f.as_dict() for f in a.flags[i]]
+    r["metadata"] = s.metadata_of(i)
     return r
 
 
@@ -420,27 +422,136 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int):
     return r.cri, r.tm30, tuple(flags)
 
 
-def read_files(files, *, quantity=None) -> list[Spectra]:
+def read_files(files, *, quantity=None, layout=None) -> list[Spectra]:
     """Read every file (each may hold several spectra) with :func:`cctkit.readers.read_spectra`, in order.
 
+    ``layout`` (a :class:`cctkit.readers.TableLayout`) applies to every delimited-text file.
     A file with a spectrum nothing can be computed from (no data in 380-780 nm, no signal) is refused
     with :class:`~cctkit.errors.InputError` naming it (:func:`cctkit.spectra.require_signal`).
     """
     from .errors import InputError
     from .readers import read_spectra
-
     from .spectra import require_signal
 
     if not files:
         raise InputError("no input files given")
-    return [require_signal(read_spectra(f, quantity=quantity)) for f in files]
+    return [require_signal(read_spectra(f, quantity=quantity, layout=layout)) for f in files]
 
 
-def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True) -> Analysis:
-    """:func:`analyse` of the spectra of ``files`` as one batch (they must share one quantity)."""
+def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True, layout=None) -> Analysis:
+    """:func:`analyse` of the spectra of ``files`` as one batch; they may differ in quantity
+    (see :func:`analyse_mixed`)."""
+    return analyse_mixed(read_files(files, quantity=quantity, layout=layout), observer=observer, rendering=rendering)
+
+
+@dataclass(frozen=True)
+class MixedAnalysis(Analysis):
+    """An :class:`Analysis` of spectra of different quantities, joined in input order.
+
+    Each quantity was analysed on its own (so every absolute total keeps its own
+    unit); ``records()`` are those per-quantity records.  ``spectra`` holds the
+    values as measured, each in its own unit (``spectra.quantity`` says nothing
+    here: the records carry each spectrum's quantity), and ``photometry``,
+    ``alphaopic``, ``shape`` and ``dominant`` are left ``None``: use the records.
+    """
+
+    joined_records: tuple[dict[str, Any], ...] = ()
+
+    def records(self) -> list[dict[str, Any]]:
+        return [dict(r) for r in self.joined_records]
+
+    def columns(self) -> dict[str, np.ndarray]:
+        from .batch import records_table
+
+        return records_table(self.records())
+
+
+def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = True) -> Analysis:
+    """One analysis of several Spectra that may differ in quantity, in input order.
+
+    Spectra of one quantity are joined and analysed as one batch (vectorised).
+    With one quantity this is :func:`analyse` of the joined spectra; with several
+    it is a :class:`MixedAnalysis` whose colour results (chromaticity, CCT,
+    rendering) are side by side and whose records keep each spectrum's own
+    quantity and totals.
+    """
     from .spectra import concatenate
 
-    return analyse(concatenate(read_files(files, quantity=quantity)), observer=observer, rendering=rendering)
+    if not items:
+        from .errors import InputError
+
+        raise InputError("no spectra given")
+    groups: dict[Quantity, list[int]] = {}
+    for i, s in enumerate(items):
+        groups.setdefault(s.quantity, []).append(i)
+    if len(groups) == 1:
+        return analyse(concatenate(items), observer=observer, rendering=rendering)
+    parts = []
+    where: dict[int, tuple[int, int]] = {}  # item -> (part, first spectrum in it)
+    for k, idx in enumerate(groups.values()):
+        pos = 0
+        for i in idx:
+            where[i] = (k, pos)
+            pos += len(items[i])
+        parts.append(analyse(concatenate([items[i] for i in idx]), observer=observer, rendering=rendering))
+    offsets = np.cumsum([0] + [len(a) for a in parts])
+    perm = np.array([offsets[where[i][0]] + where[i][1] + j for i in range(len(items)) for j in range(len(items[i]))])
+    all_records = [r for a in parts for r in a.records()]
+    grids = [a.spectra for a in parts]
+    joined = Spectra(
+        wavelength_nm=grids[0].wavelength_nm,
+        values=np.concatenate([g.values for g in grids])[perm],
+        names=_pick(_chain(g.names for g in grids), perm),
+        quantity=Quantity.RELATIVE,
+        sources=_pick(_chain(g.sources for g in grids), perm),
+        sha256=_pick(_chain(g.sha256 for g in grids), perm),
+        flags=_pick(_chain(g.flags for g in grids), perm),
+        measured_range_nm=_pick(_chain(g.measured_range_nm for g in grids), perm),
+        metadata=_pick(_chain(g.metadata for g in grids), perm),
+        measured_totals=np.concatenate([g.measured_totals for g in grids])[perm],
+    )
+    return MixedAnalysis(
+        spectra=joined,
+        observer=int(observer),
+        XYZ=np.concatenate([a.XYZ for a in parts])[perm],
+        xy=np.concatenate([a.xy for a in parts])[perm],
+        uv=np.concatenate([a.uv for a in parts])[perm],
+        uvp=np.concatenate([a.uvp for a in parts])[perm],
+        cct=_join_results([a.cct for a in parts], perm),
+        cri=_join_results([a.cri for a in parts], perm),
+        tm30=_join_results([a.tm30 for a in parts], perm),
+        flags=_pick(_chain(a.flags for a in parts), perm),
+        joined_records=tuple(all_records[i] for i in perm),
+    )
+
+
+def _chain(seqs) -> tuple:
+    return tuple(x for seq in seqs for x in seq)
+
+
+def _pick(seq: tuple, perm: np.ndarray) -> tuple:
+    return tuple(seq[i] for i in perm)
+
+
+def _join_results(parts: list, perm: np.ndarray):
+    """Per-spectrum result dataclasses (arrays and tuples of leading length N) joined and reordered."""
+    import dataclasses
+
+    first = parts[0]
+    if first is None or any(p is None for p in parts):
+        return None
+    out = object.__new__(type(first))
+    for f in dataclasses.fields(first):
+        values = [getattr(p, f.name) for p in parts]
+        v0 = values[0]
+        if isinstance(v0, np.ndarray) and v0.ndim >= 1:
+            joined: Any = np.concatenate(values)[perm]
+        elif isinstance(v0, (tuple, list)):
+            joined = type(v0)(_pick(_chain(values), perm))
+        else:
+            joined = v0
+        object.__setattr__(out, f.name, joined)
+    return out
 
 
 def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True) -> list[dict[str, Any]]:
@@ -471,6 +582,8 @@ def flatten_record(rec: dict[str, Any]) -> dict[str, Any]:
     for k, v in rec.items():
         if k == "flags":
             out["flags"] = ";".join(f["code"] for f in v)
+        elif k == "metadata" or isinstance(v, dict):
+            out[k] = metadata_text(v)
         elif isinstance(v, list):
             if k.startswith("measured_range") or k.endswith("_range_nm"):
                 out[f"{k}_lo"], out[f"{k}_hi"] = v
@@ -479,6 +592,13 @@ def flatten_record(rec: dict[str, Any]) -> dict[str, Any]:
         else:
             out[k] = v
     return out
+
+
+def metadata_text(metadata: dict[str, str] | None) -> str:
+    """A spectrum's file metadata as one compact JSON text (one CSV cell); ``""`` when there is none."""
+    import json
+
+    return json.dumps(metadata, ensure_ascii=False, separators=(",", ":")) if metadata else ""
 
 
 def records_csv(records: list[dict[str, Any]]) -> str:

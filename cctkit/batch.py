@@ -39,7 +39,7 @@ from typing import Any, Callable, Iterator, Sequence, TextIO
 
 import numpy as np
 
-from .analysis import flatten_record  # re-exported: the flattening rule records_table follows
+from .analysis import flatten_record, metadata_text  # flatten_record re-exported: the flattening rule records_table follows
 from .errors import InputError
 from .formats import csv_text
 from .progress import Progress  # a live bar on a terminal, plain lines elsewhere
@@ -60,7 +60,7 @@ OUTPUT_SUFFIXES = (".csv", ".parquet")
 #: How long to try reaching a Dask scheduler before giving up [s].
 SCHEDULER_TIMEOUT_S = 10.0
 _STRING_COLUMNS = frozenset(
-    {"name", "source", "sha256", "quantity", "spectral_unit", "reference", "cri_reference", "flags", "cctkit_version"}
+    {"name", "source", "sha256", "quantity", "spectral_unit", "reference", "cri_reference", "flags", "cctkit_version", "metadata"}
 )
 
 
@@ -101,6 +101,9 @@ def records_table(records: Sequence[dict[str, Any]]) -> dict[str, np.ndarray]:
             out[k] = np.array(
                 [None if v is _ABSENT else ";".join(f["code"] for f in v) for v in vals], dtype=object
             )
+            continue
+        if k == "metadata":  # one JSON text cell, so every chunk has the same columns
+            out[k] = np.array([None if v is _ABSENT else metadata_text(v) for v in vals], dtype=object)
             continue
         if not any(isinstance(v, list) for v in vals):
             out[k] = _column(k, [None if v is _ABSENT else v for v in vals])

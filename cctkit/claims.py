@@ -62,7 +62,7 @@ import math
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Mapping
+from typing import Any, Mapping, Sequence
 
 import numpy as np
 
@@ -436,6 +436,7 @@ class Check:
     margin: float | None
     result: str
     uncertainty: float | None = None
+    uncertainty_source: str | None = None  # "claims" ([uncertainty] table) or "model" (computed)
 
     def as_dict(self) -> dict[str, Any]:
         d = {
@@ -449,6 +450,8 @@ class Check:
         }
         if self.uncertainty is not None:
             d["decision"] = {"rule": "guard-band", "U": self.uncertainty, "result": self.result}
+            if self.uncertainty_source is not None:
+                d["decision"]["U_source"] = self.uncertainty_source
         return d
 
 
@@ -556,7 +559,20 @@ def _need(rec: Mapping, key: str, claims: Claims, name: str, *, why: str | None 
     return rec[key]
 
 
-def _limit_check(metric: str, value: float | None, lo: float | None, hi: float | None, U: float | None) -> Check:
+def _guard(claims: Claims, computed: Mapping[str, float] | None, metric: str) -> tuple[float | None, str | None]:
+    """U for a check: the claims file's [uncertainty] entry overrides the computed (model) one.
+
+    The source is named only when computed uncertainties are in play (``computed`` not None).
+    """
+    if metric in claims.uncertainty:
+        return claims.uncertainty[metric], ("claims" if computed is not None else None)
+    if computed and computed.get(metric) is not None:
+        return float(computed[metric]), "model"
+    return None, None
+
+
+def _limit_check(metric: str, value: float | None, lo: float | None, hi: float | None, U: float | None,
+                 source: str | None = None) -> Check:
     margin = None
     if value is not None:
         sides = []
@@ -565,7 +581,7 @@ def _limit_check(metric: str, value: float | None, lo: float | None, hi: float |
         if hi is not None:
             sides.append(hi - value)
         margin = min(sides)
-    return Check(metric, value, lo, hi, margin, _decide(margin, U), U)
+    return Check(metric, value, lo, hi, margin, _decide(margin, U), U, source)
 
 
 def sdcm_ellipse(claim: ChromaticityClaim):
@@ -581,7 +597,7 @@ def sdcm_ellipse(claim: ChromaticityClaim):
     return tol.macadam1942_ellipse(tol.ansi_quadrangle(claim.nominal_cct_K).centre_xy)
 
 
-def _chroma_checks(records: list[Mapping], claims: Claims) -> list[list[Check]]:
+def _chroma_checks(records: list[Mapping], claims: Claims, computed=None) -> list[list[Check]]:
     """Chromaticity checks for every record at once, vectorised over samples."""
     from . import tolerance as tol
 
@@ -595,16 +611,16 @@ def _chroma_checks(records: list[Mapping], claims: Claims) -> list[list[Check]]:
         quad = tol.ansi_quadrangle(c.nominal_cct_K)
         found = tol.classify_ansi(xy, space="xy")
         margin = tol.edge_margin_uv(xy, quad, space="xy")
-        U = claims.uncertainty.get("ansi_quadrangle")
         for i in range(len(records)):
             m = _finite(margin[i])
-            out[i].append(Check("ansi_quadrangle", found[i], None, None, m, _decide(m, U), U))
+            U, src = _guard(claims, computed[i] if computed is not None else None, "ansi_quadrangle")
+            out[i].append(Check("ansi_quadrangle", found[i], None, None, m, _decide(m, U), U, src))
     if c.max_sdcm is not None:
         steps = sdcm_ellipse(c).steps(xy)
-        U = claims.uncertainty.get("sdcm")
         for i in range(len(records)):
             s = _finite(steps[i])
-            out[i].append(_limit_check("sdcm", s, None, c.max_sdcm, U))
+            out[i].append(_limit_check("sdcm", s, None, c.max_sdcm,
+                                       *_guard(claims, computed[i] if computed is not None else None, "sdcm")))
     return out
 
 
@@ -668,7 +684,8 @@ def _summary(samples: list[SampleVerdict], metrics: tuple[str, ...]) -> dict[str
     return summary
 
 
-def verify(records: list[Mapping[str, Any]], claims: Claims) -> Verdict:
+def verify(records: list[Mapping[str, Any]], claims: Claims,
+           uncertainties: Sequence[Mapping[str, float]] | None = None) -> Verdict:
     """Check measured records (from ``Analysis.records()``) against ``claims``.
 
     Each sample gets one :class:`Check` per claimed metric, in the order of
@@ -676,6 +693,10 @@ def verify(records: list[Mapping[str, Any]], claims: Claims) -> Verdict:
     that pass, and the mean, sample standard deviation (ddof = 1; None for
     fewer than two values), minimum and maximum of the values.  For
     ``ansi_quadrangle`` these statistics are of the uv edge margin.
+
+    ``uncertainties`` gives, per record, computed expanded uncertainties U (k = 2) by
+    metric (:func:`cctkit.uncertainty.claim_uncertainties`); they set the guard band of
+    each check, except where the claims file's ``[uncertainty]`` table names the metric.
 
     Raises
     ------
@@ -687,14 +708,16 @@ def verify(records: list[Mapping[str, Any]], claims: Claims) -> Verdict:
     records = list(records)
     if not records:
         raise InputError("no samples to verify", source=claims.source)
-    chroma = _chroma_checks(records, claims)
+    if uncertainties is not None and len(uncertainties) != len(records):
+        raise InputError(f"{len(uncertainties)} uncertainty sets for {len(records)} samples", source=claims.source)
+    chroma = _chroma_checks(records, claims, uncertainties)
     intent_checks = _intent_checks(records, claims)
     samples = []
     for i, rec in enumerate(records):
         name = _name(rec, i)
         checks = [
             _limit_check(lim.metric, _record_value(rec, lim.metric, claims, name), lim.min, lim.max,
-                         claims.uncertainty.get(lim.metric))
+                         *_guard(claims, uncertainties[i] if uncertainties is not None else None, lim.metric))
             for lim in claims.limits
         ]
         checks += chroma[i]
@@ -705,7 +728,7 @@ def verify(records: list[Mapping[str, Any]], claims: Claims) -> Verdict:
         verdict=_combine(s.verdict for s in samples),
         samples=tuple(samples),
         summary=_summary(samples, claims.metrics),
-        guard_band=bool(claims.uncertainty),
+        guard_band=bool(claims.uncertainty) or bool(uncertainties),
     )
 
 

@@ -127,6 +127,9 @@ class Spectra:
         SHA-256 of each spectrum's source file, or ``""`` when not from a file.
     flags
         Per spectrum, the doubtful conditions found so far (see :class:`~cctkit.errors.Flag`).
+    metadata
+        Per spectrum, the ``(key, value)`` text pairs its file carried (instrument,
+        operator, ...), in the file's order; ``()`` when there were none.
     """
 
     wavelength_nm: np.ndarray
@@ -137,6 +140,7 @@ class Spectra:
     sha256: tuple[str, ...] = ()
     flags: tuple[tuple[Flag, ...], ...] = ()
     measured_range_nm: tuple[tuple[float, float, float], ...] = field(default=())
+    metadata: tuple[tuple[tuple[str, str], ...], ...] = ()
     measured_totals: np.ndarray | None = None
 
     def __post_init__(self) -> None:
@@ -206,6 +210,11 @@ class Spectra:
             totals = np.array(self.measured_totals, dtype=np.float64).reshape(n, -1)
         totals.setflags(write=False)
         object.__setattr__(self, "measured_totals", totals)
+        object.__setattr__(self, "metadata", _per_spectrum(self.metadata, n, ()))
+
+    def metadata_of(self, i: int) -> dict[str, str]:
+        """The metadata of spectrum ``i`` as an ordered ``{key: value}`` dict."""
+        return dict(self.metadata[i])
 
     def __len__(self) -> int:
         return self.values.shape[0]
@@ -228,6 +237,7 @@ class Spectra:
             sha256=tuple(self.sha256[i] for i in idx),
             flags=tuple(self.flags[i] for i in idx),
             measured_range_nm=tuple(self.measured_range_nm[i] for i in idx),
+            metadata=tuple(self.metadata[i] for i in idx),
             measured_totals=self.measured_totals[idx],
         )
 
@@ -404,6 +414,7 @@ def to_working_grid(spectra: Spectra) -> Spectra:
         sha256=spectra.sha256,
         flags=flags,
         measured_range_nm=spectra.measured_range_nm,
+        metadata=spectra.metadata,
         measured_totals=spectra.measured_totals,
     )
 
@@ -431,6 +442,7 @@ def concatenate(items: Iterable[Spectra]) -> Spectra:
         sha256=sum((s.sha256 for s in items), ()),
         flags=sum((s.flags for s in items), ()),
         measured_range_nm=sum((s.measured_range_nm for s in items), ()),
+        metadata=sum((s.metadata for s in items), ()),
         measured_totals=np.concatenate([s.measured_totals for s in items]),
     )
 

@@ -137,7 +137,8 @@ def test_mixed_folder_equals_inspect_exactly(mixed_folder, tmp_path):
     assert (tmp_path / "batch.csv").read_bytes() == (tmp_path / "inspect.csv").read_bytes()
     header, rows = read_csv(tmp_path / "batch.csv")
     names = [row[header.index("name")] for row in rows]
-    assert names == ["north lamp", "illuminant A", "south lamp", "c_tm27", "pier lamp", "gate lamp", "e_short"]
+    # the TM-27 file is named by its Header Description
+    assert names == ["north lamp", "illuminant A", "south lamp", "synthetic", "pier lamp", "gate lamp", "e_short"]
     flags = dict(zip(names, (row[header.index("flags")] for row in rows)))
     assert "wavelength-descending" in flags["pier lamp"] and "range-short" in flags["e_short"]
     # CIE 15:2018 section 4.1: CIE illuminant A has a CCT of about 2856 K (from memory)

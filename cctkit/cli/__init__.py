@@ -22,7 +22,7 @@ from ..errors import CctkitError
 
 __all__ = ["app", "main"]
 
-_COMMAND_MODULES = ("core", "compare", "verify", "report", "batch", "blend")
+_COMMAND_MODULES = ("core", "compare", "verify", "report", "batch", "blend", "uncertainty")
 
 
 class _PlainUsage(TyperCommand):
@@ -46,7 +46,7 @@ class _PlainUsage(TyperCommand):
 class _App(typer.Typer):
     """The typer app whose commands default to :class:`_PlainUsage`."""
 
-    def command(self, *args, cls=None, **kwargs):  # type: ignore[override]
+    def command(self, *args, cls=None, **kwargs):
         return super().command(*args, cls=cls or _PlainUsage, **kwargs)
 
 

@@ -7,13 +7,25 @@ from typing import List, Optional
 
 import typer
 
-from .options import OVERWRITE_OPTION, QUANTITY_HELP, info
+from .options import (
+    OVERWRITE_OPTION,
+    QUANTITY_HELP,
+    RECURSIVE_OPTION,
+    SKIP_ROWS_OPTION,
+    DELIMITER_OPTION,
+    DECIMAL_OPTION,
+    WAVELENGTH_COLUMN_OPTION,
+    COLUMNS_OPTION,
+    input_files,
+    table_layout,
+    info,
+)
 
 __all__ = ["report_cmd", "register"]
 
 
 def report_cmd(
-    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of them."),
     output: Path = typer.Option(..., "--output", "-o", help="Report file: .pdf (full report) or .png (summary, "
                                 "1600x1000 px at 150 dpi)."),
     overwrite: bool = OVERWRITE_OPTION,
@@ -39,6 +51,12 @@ def report_cmd(
                                        "else SOURCE_DATE_EPOCH, else today)."),
     sections: Optional[str] = typer.Option(None, "--sections", help="Comma list of the pages to include: "
                                            "verdict,comparison,spectra,summary,scatter (default all)."),
+    recursive: bool = RECURSIVE_OPTION,
+    skip_rows: Optional[int] = SKIP_ROWS_OPTION,
+    delimiter: Optional[str] = DELIMITER_OPTION,
+    decimal: Optional[str] = DECIMAL_OPTION,
+    wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
+    columns: Optional[str] = COLUMNS_OPTION,
 ) -> None:
     """A report an engineer can sign off: sign-off page, headline numbers, spectrum, rendering, chromaticity."""
     from ..report.build import check_options
@@ -54,6 +72,8 @@ def report_cmd(
     check_options(output, paper=paper_key, diagram=diagram_key, verdict=claims_file is not None)
     if quantity is not None:
         Quantity.parse(quantity, source="--quantity")
+    layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
+    files = input_files(files, recursive=recursive)
     inputs = [*files, claims_file] if claims_file is not None else list(files)
     if profile is not None:
         inputs.append(profile)
@@ -69,8 +89,8 @@ def report_cmd(
     from ..analysis import analyse_files
     from ..report import build_report
 
-    # One report holds one quantity: a mix is refused with a one-line InputError.
-    analysis = analyse_files(files, quantity=quantity)
+    # Spectra of different quantities share one report: colour results for all, totals each in its unit.
+    analysis = analyse_files(files, quantity=quantity, layout=layout)
     records = analysis.records()
     verdict = None
     if claims is not None:

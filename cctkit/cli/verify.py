@@ -14,6 +14,14 @@ import typer
 
 from ..spreadsheet import check_dialect
 from .options import (
+    RECURSIVE_OPTION,
+    SKIP_ROWS_OPTION,
+    DELIMITER_OPTION,
+    DECIMAL_OPTION,
+    WAVELENGTH_COLUMN_OPTION,
+    COLUMNS_OPTION,
+    input_files,
+    table_layout,
     CSV_DIALECT_OPTION,
     JSON_OPTION,
     OVERWRITE_OPTION,
@@ -37,7 +45,7 @@ def _needs_rendering(claims) -> bool:
 
 
 def verify_cmd(
-    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of them."),
     claims_file: Path = typer.Option(..., "--claims", help="Claims file (TOML) to check the spectra against."),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     json_out: bool = JSON_OPTION,
@@ -45,14 +53,25 @@ def verify_cmd(
     report: Optional[Path] = typer.Option(None, "--report", help="Also write the PDF report, starting with the "
                                           "verdict pages, to FILE (.pdf)."),
     overwrite: bool = OVERWRITE_OPTION,
+    recursive: bool = RECURSIVE_OPTION,
+    skip_rows: Optional[int] = SKIP_ROWS_OPTION,
+    delimiter: Optional[str] = DELIMITER_OPTION,
+    decimal: Optional[str] = DECIMAL_OPTION,
+    wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
+    columns: Optional[str] = COLUMNS_OPTION,
     wide: bool = typer.Option(False, "--wide", help="Every cell as value [limit] margin result (wider than a "
                               "terminal); the default table fits 100 columns."),
     csv_dialect: str = CSV_DIALECT_OPTION,
+    uncertainty_model: Optional[Path] = typer.Option(
+        None, "--uncertainty-model", help="Guard bands from each sample's computed U (Monte Carlo with this "
+        "instrument model, TOML); a claims file's [uncertainty] entry still overrides its metric."),
 ) -> None:
     """Check measured spectra against a supplier's claims; exit 0 pass, 1 fail, 3 inconclusive, 2 bad input."""
     from ..claims import format_verdict, load_claims, verdict_csv, verify
 
-    inputs = [*files, claims_file]
+    layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
+    files = input_files(files, recursive=recursive)
+    inputs = [*files, claims_file] + ([uncertainty_model] if uncertainty_model is not None else [])
     check_dialect(csv_dialect)
     if output is not None:
         require_suffix(output, (".csv", ".json", ".xlsx"))
@@ -68,11 +87,17 @@ def verify_cmd(
     # The report draws colour rendering, so it needs the full analysis.
     from ..analysis import analyse_files
 
-    analysis = analyse_files(files, quantity=quantity, rendering=report is not None or _needs_rendering(claims))
+    analysis = analyse_files(files, quantity=quantity, rendering=report is not None or _needs_rendering(claims),
+                             layout=layout)
     records = analysis.records()
-    verdict = verify(records, claims)
+    computed, model = None, None
+    if uncertainty_model is not None:
+        computed, model = _computed_uncertainties(files, quantity, uncertainty_model, claims, layout)
+    verdict = verify(records, claims, computed)
     doc = verdict.as_dict()
     traced = _traceable(doc, records, claims_file)
+    if model is not None:
+        traced["uncertainty_model"] = model.provenance()
     if output is not None:
         text = dumps(traced) if output.suffix.lower() == ".json" else verdict_csv(doc, claims)
         write_output(output, text, overwrite=overwrite, inputs=inputs, dialect=csv_dialect)
@@ -92,6 +117,22 @@ def verify_cmd(
         raise typer.Exit(code)
 
 
+def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=None):
+    """U per sample and metric from a Monte Carlo run with the instrument model (and the model)."""
+    from ..analysis import read_files
+    from ..uncertainty import claim_uncertainties, grid_groups, load_model, monte_carlo
+    from .options import info
+
+    model = load_model(model_file)
+
+    def progress(i: int, n: int, m: int) -> None:
+        info(f"uncertainty: sample {i}/{n}, {m} draws")
+
+    result = monte_carlo(grid_groups(read_files(files, quantity=quantity, layout=layout)), model,
+                         rendering=_needs_rendering(claims), progress=progress)
+    return claim_uncertainties(result, claims), model
+
+
 def _traceable(doc: dict, records: list[dict], claims_file: Path) -> dict:
     """The verdict with what makes it traceable: versions, conventions, every input's SHA-256."""
     from ..analysis import provenance
@@ -103,7 +144,7 @@ def _traceable(doc: dict, records: list[dict], claims_file: Path) -> dict:
 
 
 def bin_cmd(
-    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of them."),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     ellipses: str = typer.Option("iec-else-ansi", "--ellipses",
                                  help="SDCM centres and ellipses: iec-else-ansi (default, the rule verify uses: "
@@ -112,6 +153,12 @@ def bin_cmd(
     json_out: bool = JSON_OPTION,
     output: Optional[Path] = _OUTPUT_CSV,
     overwrite: bool = OVERWRITE_OPTION,
+    recursive: bool = RECURSIVE_OPTION,
+    skip_rows: Optional[int] = SKIP_ROWS_OPTION,
+    delimiter: Optional[str] = DELIMITER_OPTION,
+    decimal: Optional[str] = DECIMAL_OPTION,
+    wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
+    columns: Optional[str] = COLUMNS_OPTION,
     csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """ANSI C78.377 quadrangle and SDCM step of each spectrum, with counts per bin."""
@@ -127,7 +174,9 @@ def bin_cmd(
         require_suffix(output, (".csv", ".json", ".xlsx"))
     from ..analysis import analyse_files
 
-    records = analyse_files(files, quantity=quantity, rendering=False).records()
+    layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
+    files = input_files(files, recursive=recursive)
+    records = analyse_files(files, quantity=quantity, rendering=False, layout=layout).records()
     xy = np.array([[np.nan if r["x"] is None else r["x"], np.nan if r["y"] is None else r["y"]] for r in records])
     result = bin_chromaticities(xy, names=[r["name"] for r in records], ellipses=ellipses)
     rows = result.records()

@@ -103,6 +103,14 @@ def format_value(rec: dict[str, Any], key: str) -> str:
     ``"not computed"`` where the key is absent.
     """
     if key not in rec and not (key == "R9" and "R" in rec):
+        if key in _LUMINOUS_KEYS:  # a column of one luminous total, a spectrum of another quantity
+            if rec.get("quantity") == "relative":
+                return "rel."
+            own = next((k for k in _LUMINOUS_KEYS if rec.get(k) is not None), None)
+            if own is not None:  # short enough for a narrow column: 32.8 lx, 32.8k lx
+                v = float(rec[own])
+                unit = {"luminance_cd_per_m2": "cd/m\u00b2"}.get(own, _ROW[own][2])
+                return f"{v / 1000:.1f}k {unit}" if abs(v) >= 1000 else f"{v:.1f} {unit}"
         return "not computed"
     v = _value(rec, key)
     if v is None:
@@ -219,6 +227,18 @@ def _kv_block(page: _Page, x: float, y: float, rows: Sequence[tuple[str, str]], 
     return y
 
 
+def metadata_rows(rec: dict[str, Any]) -> list[tuple[str, str]]:
+    """The file's own notes for the identity block: recognised keys by label, the rest on one line."""
+    from ..readers.metadata import identity_rows
+
+    meta = rec.get("metadata") or {}
+    if not meta:
+        return []
+    shown, rest = identity_rows(meta)
+    notes = [v if k.startswith("(text") else (k if not v else f"{k}: {v}") for k, v in rest]
+    return shown + ([("File notes", "; ".join(notes))] if notes else [])
+
+
 def provenance_rows(rec: dict[str, Any], meta: dict[str, Any]) -> list[tuple[str, str]]:
     """Identity and provenance lines of one spectrum (label, text); a value wraps to at most four lines."""
     conv = meta["conventions"]
@@ -228,15 +248,17 @@ def provenance_rows(rec: dict[str, Any], meta: dict[str, Any]) -> list[tuple[str
     sha = rec.get("sha256") or "(not from a file)"
     obs = rec.get("observer", 2)
     observer = "CIE 1931 2\u00b0" if obs == 2 else "CIE 1964 10\u00b0"
+    from_file = metadata_rows(rec)
     rows = [
         ("Sample", rec["name"]),
+        *from_file,
         ("Input file", shorten(rec.get("source") or "(not from a file)", 110, keep="tail")),
         ("SHA-256", sha),
         ("Quantity", f"{rec['quantity']} [{rec.get('spectral_unit', '')}]"),
         ("Measured", measured),
     ]
     inst = instrument_text(rec)
-    if inst:
+    if inst and not from_file:
         rows.append(("Instrument", inst + " (from the file)"))
     rows += [
         ("Observer", f"{observer} for chromaticity and CCT; rendering metrics use their standard's observer"),
