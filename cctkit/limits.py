@@ -2,10 +2,9 @@
 
 Commands other than ``batch`` hold all their spectra in memory at once, so they
 refuse inputs past these limits with one line pointing to ``cctkit batch``,
-which streams any number of spectra in chunks of bounded size.  The limits are
-set so that the largest accepted input of any command stays under about 2 GiB
-of memory on the project's reference machine (see the README's Reliability
-section for the measurements).
+which streams any number of spectra in chunks of bounded size.  Measured on the
+project's 2-core machine: ``cctkit inspect --json`` of 10,000 spectra (5 nm,
+380-780 nm) peaks at 532 MiB resident.
 """
 
 from __future__ import annotations
