@@ -438,7 +438,7 @@ def sample_page(analysis, i: int, rec: dict[str, Any], meta: dict[str, Any], *, 
     yl = _kv_block(p, p.left, y, rows[:half], label_w=0.68, value_chars=62, pitch=0.105, fontsize=5.6,
                    max_lines=2)
     yr = _kv_block(p, p.left + p.width / 2 + 0.1, y, rows[half:], label_w=0.68, value_chars=62, pitch=0.105,
-                   fontsize=5.6, max_lines=2)
+                   fontsize=5.6, max_lines=3)
     y = max(yl, yr) + 0.04
     bottom = p.h - p.MARGIN - _FOOTER_H
     room = int((bottom - y - 0.13) / 0.11)  # flag lines that fit above the footer
