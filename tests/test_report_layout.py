@@ -392,3 +392,20 @@ def test_instrument_metadata_a_reader_found_is_printed():
     text = pages.instrument_text(rec)
     assert text.startswith("instrument QS-2 array spectroradiometer; serial A0917; integration time ms 120")
     assert pages.instrument_text({}) == "" and pages.instrument_text({"metadata": None}) == ""
+
+
+def test_spectrum_page_text_does_not_overlap_even_with_metadata_and_flags(nine):
+    from matplotlib import rc_context
+
+    from cctkit.report.build import _RC
+
+    rec = dict(nine.records()[0])
+    rec["metadata"] = {"instrument": "QS-2 array spectroradiometer with a long description of its optics",
+                       "serial": "A0917", "comment": "a note " * 30}
+    rec["flags"] = [{"code": f"test-{k}", "message": "a made-up flag with a long message " * 3} for k in range(5)]
+    meta = report_meta(date="2026-01-15", records=[rec])
+    with rc_context(_RC):
+        fig = pages.sample_page(nine, 0, rec, meta, paper="a4", comparison=charts.reference_comparison(nine),
+                                diagram="uv", regions=None, page_label="page 2 of 2")
+        r = charts.renderer_of(fig)
+        assert charts.text_collisions(fig.texts, r) == []

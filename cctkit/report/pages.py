@@ -396,7 +396,7 @@ def sample_page(analysis, i: int, rec: dict[str, Any], meta: dict[str, Any], *, 
     # Spectrum and reference, difference below; legends sit above each plot.
     p.text(p.left, y, "Spectrum against its reference at the same CCT (equal Y)", fontsize=7.5, weight="bold")
     spec_top = y + 0.36
-    spec_h = 1.15
+    spec_h = 1.0
     ax = p.axes(gx, spec_top, full, spec_h)
     charts.spectrum_chart(analysis, ax, index=i, comparison=comparison)
     ax.set_xlabel("")
@@ -408,7 +408,7 @@ def sample_page(analysis, i: int, rec: dict[str, Any], meta: dict[str, Any], *, 
     # Rendering detail: the hue wheel (left), CIE 13.3 bars and chromaticity (right).
     p.text(p.left, y, "Colour rendering and chromaticity", fontsize=7.5, weight="bold")
     y += 0.16
-    side = 3.0
+    side = 2.85
     axw = p.axes(p.left, y + 0.05, side, side)
     charts.hue_wheel_chart(analysis, axw, index=i, identity=identity)
     key = ("Hue wheel (TM-30-20): the colour vector graphic in the middle (dashed: reference; arrows: reference "
@@ -439,7 +439,13 @@ def sample_page(analysis, i: int, rec: dict[str, Any], meta: dict[str, Any], *, 
                    max_lines=2)
     yr = _kv_block(p, p.left + p.width / 2 + 0.1, y, rows[half:], label_w=0.68, value_chars=62, pitch=0.105,
                    fontsize=5.6, max_lines=3)
-    _flags_block(p, p.left, max(yl, yr) + 0.04, rec, max_lines=2)
+    y = max(yl, yr) + 0.04
+    bottom = p.h - p.MARGIN - _FOOTER_H
+    room = int((bottom - y - 0.13) / 0.11)  # flag lines that fit above the footer
+    if room >= 1:
+        _flags_block(p, p.left, y, rec, max_lines=min(2, room))
+    elif bottom - y >= 0.1:
+        p.text(p.left, y, f"Flags ({len(rec.get('flags', []))}): see the JSON record", fontsize=5.8)
     _footer(p, meta, page_label, rec.get("sha256"))
     return p.fig
 
