@@ -28,7 +28,8 @@ __all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files
 CONVENTIONS = {
     "wavelength_grid_nm": "360-830 nm at 1 nm",
     "summation": "plain sum at 1 nm, no end-point halving (CIE 15:2018)",
-    "interpolation": "as measured on the 1 nm grid; Sprague (CIE 167:2005) for uniform steps; PCHIP otherwise",
+    "interpolation": "as measured on the 1 nm grid; auto: Sprague (CIE 167:2005) for uniform steps, PCHIP "
+                     "otherwise; sprague / linear / pchip on request; the method of each spectrum in its record",
     "extrapolation": "nearest measured value repeated (CIE 15:2018 section 7.2.2), for colour measures only",
     "totals": "radiant and photon totals over the measured range as measured; PPF over 400-700 nm measured; "
               "luminous, scotopic and alpha-opic totals over the measured part of 360-830 nm; LER = luminous / radiant",
@@ -150,6 +151,7 @@ def _columns(a: Analysis) -> dict[str, np.ndarray]:
         "measured_range_nm_lo": rng[:, 0].copy(),
         "measured_range_nm_hi": rng[:, 1].copy(),
         "measured_step_nm": rng[:, 2].copy(),
+        "interpolation": _text_column(s.interpolation),
         "observer": np.full(n, a.observer, dtype=np.int64),
         "cct_K": cct_K,
         "duv": _finite(a.cct.duv),
@@ -194,6 +196,7 @@ def _record(a: Analysis, i: int, in_domain: bool | None = None) -> dict[str, Any
         "spectral_unit": s.quantity.unit,
         "measured_range_nm": [lo, hi],
         "measured_step_nm": step,
+        "interpolation": s.interpolation[i],
         "observer": a.observer,
         "cct_K": _f(a.cct.cct_K, i) if (bool(a.cct.in_domain[i]) if in_domain is None else in_domain) else None,
         "duv": _f(a.cct.duv, i),
@@ -234,13 +237,14 @@ def _cct_flags(cct: CctResult, i: int, uv=None) -> tuple[Flag, ...]:
     return tuple(out)
 
 
-def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> Analysis:
+def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, interpolation: str = "auto") -> Analysis:
     """Every measure for every spectrum in ``spectra``, vectorised.
 
     Parameters
     ----------
     spectra
-        N spectra on any grid; they are resampled once to 360-830 nm at 1 nm.
+        N spectra on any grid; they are resampled once to 360-830 nm at 1 nm by ``interpolation``
+        (``"auto"``, ``"sprague"``, ``"linear"`` or ``"pchip"``, see :mod:`cctkit.spectra`).
     observer
         Observer for chromaticity and CCT: 2 (CIE 1931, the CCT convention) or 10 (CIE 1964).
         Photometry always uses V(lambda) (CIE 1924) and rendering uses the observers its
@@ -250,7 +254,7 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> A
     """
     if int(observer) not in (2, 10):
         raise ValueError(f"observer must be 2 or 10, got {observer!r}")
-    g = to_working_grid(spectra)
+    g = to_working_grid(spectra, interpolation=interpolation)
     # Spectra nothing can be computed from (no visible data, no signal) get every measure withheld
     # and a flag; the command line refuses them before this point (analysis.read_files).
     problems = signal_problems(g)
@@ -383,14 +387,17 @@ def read_files(files, *, quantity=None) -> list[Spectra]:
     return [require_signal(read_spectra(f, quantity=quantity)) for f in files]
 
 
-def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True) -> Analysis:
+def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True,
+                  interpolation: str = "auto") -> Analysis:
     """:func:`analyse` of the spectra of ``files`` as one batch (they must share one quantity)."""
     from .spectra import concatenate
 
-    return analyse(concatenate(read_files(files, quantity=quantity)), observer=observer, rendering=rendering)
+    return analyse(concatenate(read_files(files, quantity=quantity), interpolation=interpolation),
+                   observer=observer, rendering=rendering)
 
 
-def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True) -> list[dict[str, Any]]:
+def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True,
+                   interpolation: str = "auto") -> list[dict[str, Any]]:
     """Records for several Spectra that may differ in quantity, in input order.
 
     Spectra of one quantity are joined and analysed as one batch (vectorised); the
@@ -403,7 +410,8 @@ def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool =
         order.setdefault(s.quantity, []).append(i)
     per_item: dict[int, list[dict[str, Any]]] = {}
     for idx in order.values():
-        recs = analyse(concatenate([items[i] for i in idx]), observer=observer, rendering=rendering).records()
+        recs = analyse(concatenate([items[i] for i in idx], interpolation=interpolation), observer=observer,
+                       rendering=rendering).records()
         pos = 0
         for i in idx:
             n = len(items[i])
@@ -442,7 +450,7 @@ def records_csv(records: list[dict[str, Any]]) -> str:
     return csv_text(header, ([r.get(k, "") for k in header] for r in flat))
 
 
-def provenance() -> dict[str, Any]:
+def provenance(*, interpolation: str = "auto") -> dict[str, Any]:
     """What every output carries so a number can be traced."""
     from importlib import metadata
 
@@ -450,4 +458,5 @@ def provenance() -> dict[str, Any]:
         colour_v = metadata.version("colour-science")
     except metadata.PackageNotFoundError:  # pragma: no cover
         colour_v = None
-    return {"cctkit_version": __version__, "colour_science_version": colour_v, "conventions": CONVENTIONS}
+    return {"cctkit_version": __version__, "colour_science_version": colour_v,
+            "conventions": {**CONVENTIONS, "interpolation_method": interpolation}}

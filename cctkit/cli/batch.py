@@ -9,7 +9,7 @@ from typing import Optional
 import typer
 
 from ..errors import InputError
-from .options import OBSERVER_HELP, OVERWRITE_OPTION, QUANTITY_HELP, info, parse_observer, require_suffix
+from .options import INTERPOLATION_OPTION, OBSERVER_HELP, OVERWRITE_OPTION, parse_interpolation, QUANTITY_HELP, info, parse_observer, require_suffix
 
 
 def batch_cmd(
@@ -28,6 +28,7 @@ def batch_cmd(
     overwrite: bool = OVERWRITE_OPTION,
     progress: bool = typer.Option(False, "--progress", help="Show progress on stderr even when it is not a terminal."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress and no summary line (as cctkit --quiet)."),
+    interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
     """Every measure for many spectra, written chunk by chunk to one CSV or Parquet file."""
     from ..analysis import provenance
@@ -38,6 +39,7 @@ def batch_cmd(
 
     require_suffix(output, (".csv", ".parquet"))
     obs = parse_observer(observer)
+    interp = parse_interpolation(interpolation)
     if chunk_size < 1:
         raise InputError(f"--chunk-size must be at least 1, got {chunk_size}")
     if workers is not None and workers < 1:
@@ -47,7 +49,7 @@ def batch_cmd(
     if quantity is not None:
         Quantity.parse(quantity, source="--quantity")
     check_output_path(output, overwrite=overwrite, inputs=[input_path])  # fail before reading anything
-    source = open_chunked(input_path, chunk_size=chunk_size, quantity=quantity)
+    source = open_chunked(input_path, chunk_size=chunk_size, quantity=quantity, interpolation=interp)
     from .options import verbosity
 
     quiet = quiet or verbosity() < 0
@@ -60,9 +62,10 @@ def batch_cmd(
         scheduler=scheduler,
         observer=obs,
         rendering=rendering,
+        interpolation=interp,
         overwrite=overwrite,
         progress=bar,
-        metadata={**provenance(), "input": str(input_path), "rendering": rendering},
+        metadata={**provenance(interpolation=interp), "input": str(input_path), "rendering": rendering},
     )
     if not quiet:
         info(

@@ -20,6 +20,8 @@ import typer
 from ..errors import InputError
 from ..spreadsheet import check_dialect
 from .options import (
+    INTERPOLATION_OPTION,
+    parse_interpolation,
     CSV_DIALECT_OPTION,
     JSON_OPTION,
     OVERWRITE_OPTION,
@@ -60,6 +62,7 @@ def versus_cmd(
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
     csv_dialect: str = CSV_DIALECT_OPTION,
+    interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
     """Each spectrum in FILE against the reference illuminant of its CCT, per wavelength and per sample."""
     import numpy as np
@@ -73,7 +76,8 @@ def versus_cmd(
     if output is not None:
         require_suffix(output, (".csv", ".xlsx"))
         check_dialect(csv_dialect)
-    spectra = to_working_grid(require_signal(read_spectra(file, quantity=quantity)))
+    spectra = to_working_grid(require_signal(read_spectra(file, quantity=quantity)),
+                              interpolation=parse_interpolation(interpolation))
     values = spectra.values
     n = values.shape[0]
     if cct is not None:
@@ -136,7 +140,8 @@ def versus_cmd(
         write_output(output, csv_text(header, rows), overwrite=overwrite, inputs=[file], dialect=csv_dialect)
 
     if json_out:
-        emit_json({"method": ref_method, "wavelength_nm": comp.wavelength_nm, "spectra": [
+        emit_json({"method": ref_method, "interpolation": list(spectra.interpolation),
+                   "wavelength_nm": comp.wavelength_nm, "spectra": [
             dict(d, test_Y100=comp.test[i], reference_Y100=comp.reference[i], ratio=comp.ratio[i])
             for i, d in enumerate(docs)
         ]})

@@ -11,6 +11,8 @@ from ..errors import InputError
 from ..formats import format_number
 from ..spreadsheet import check_dialect
 from .options import (
+    INTERPOLATION_OPTION,
+    parse_interpolation,
     CSV_DIALECT_OPTION,
     JSON_OPTION,
     OBSERVER_HELP,
@@ -121,6 +123,7 @@ def inspect_cmd(
     output: Optional[Path] = OUTPUT_OPTION,
     overwrite: bool = OVERWRITE_OPTION,
     csv_dialect: str = CSV_DIALECT_OPTION,
+    interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
     """Every measure for each spectrum: CCT, Duv, chromaticity, photometry, colour rendering."""
     from ..analysis import analyse_groups, provenance, read_files, records_csv
@@ -132,8 +135,9 @@ def inspect_cmd(
     if output is not None:
         require_suffix(output, (".json", ".csv", ".xlsx"))
     check_dialect(csv_dialect)
-    records = analyse_groups(read_files(files, quantity=quantity), observer=obs)
-    doc = {**provenance(), "spectra": records}
+    interp = parse_interpolation(interpolation)
+    records = analyse_groups(read_files(files, quantity=quantity), observer=obs, interpolation=interp)
+    doc = {**provenance(interpolation=interp), "spectra": records}
     if output is not None:
         if output.suffix.lower() == ".json":
             write_output(output, dumps(doc), overwrite=overwrite, inputs=files)

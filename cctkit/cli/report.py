@@ -7,7 +7,7 @@ from typing import List, Optional
 
 import typer
 
-from .options import OVERWRITE_OPTION, QUANTITY_HELP, info
+from .options import INTERPOLATION_OPTION, OVERWRITE_OPTION, parse_interpolation, QUANTITY_HELP, info
 
 __all__ = ["report_cmd", "register"]
 
@@ -24,6 +24,7 @@ def report_cmd(
                                 "| xy (CIE 1931)."),
     claims_file: Optional[Path] = typer.Option(None, "--claims", help="Claims file (TOML): the PDF starts with "
                                                "the verdict of every spectrum against it."),
+    interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
     """A report an engineer can sign off: provenance, headline numbers, spectrum, chromaticity, rendering."""
     from ..report.build import check_options
@@ -47,7 +48,7 @@ def report_cmd(
     from ..report import build_report
 
     # One report holds one quantity: a mix is refused with a one-line InputError.
-    analysis = analyse_files(files, quantity=quantity)
+    analysis = analyse_files(files, quantity=quantity, interpolation=parse_interpolation(interpolation))
     records = analysis.records()
     verdict = None
     if claims is not None:

@@ -14,6 +14,8 @@ import typer
 
 from ..spreadsheet import check_dialect
 from .options import (
+    INTERPOLATION_OPTION,
+    parse_interpolation,
     CSV_DIALECT_OPTION,
     JSON_OPTION,
     OVERWRITE_OPTION,
@@ -45,6 +47,7 @@ def verify_cmd(
                                           "verdict pages, to FILE (.pdf)."),
     overwrite: bool = OVERWRITE_OPTION,
     csv_dialect: str = CSV_DIALECT_OPTION,
+    interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
     """Check measured spectra against a supplier's claims; exit 0 pass, 1 fail, 3 inconclusive, 2 bad input."""
     from ..claims import format_verdict, load_claims, verdict_csv, verify
@@ -65,11 +68,12 @@ def verify_cmd(
     # The report draws colour rendering, so it needs the full analysis.
     from ..analysis import analyse_files
 
-    analysis = analyse_files(files, quantity=quantity, rendering=report is not None or _needs_rendering(claims))
+    analysis = analyse_files(files, quantity=quantity, rendering=report is not None or _needs_rendering(claims),
+                             interpolation=parse_interpolation(interpolation))
     records = analysis.records()
     verdict = verify(records, claims)
     doc = verdict.as_dict()
-    traced = _traceable(doc, records, claims_file)
+    traced = _traceable(doc, records, claims_file, interpolation=parse_interpolation(interpolation))
     if output is not None:
         text = dumps(traced) if output.suffix.lower() == ".json" else verdict_csv(doc, claims)
         write_output(output, text, overwrite=overwrite, inputs=inputs, dialect=csv_dialect)
@@ -89,13 +93,13 @@ def verify_cmd(
         raise typer.Exit(code)
 
 
-def _traceable(doc: dict, records: list[dict], claims_file: Path) -> dict:
+def _traceable(doc: dict, records: list[dict], claims_file: Path, interpolation: str = "auto") -> dict:
     """The verdict with what makes it traceable: versions, conventions, every input's SHA-256."""
     from ..analysis import provenance
     from ..spectra import sha256_of_file
 
     samples = [{**s, "source": r.get("source"), "sha256": r.get("sha256")} for s, r in zip(doc["samples"], records)]
-    return {**provenance(), "claims_file": str(claims_file), "claims_sha256": sha256_of_file(claims_file),
+    return {**provenance(interpolation=interpolation), "claims_file": str(claims_file), "claims_sha256": sha256_of_file(claims_file),
             **doc, "samples": samples}
 
 
@@ -108,6 +112,7 @@ def bin_cmd(
     output: Optional[Path] = _OUTPUT_CSV,
     overwrite: bool = OVERWRITE_OPTION,
     csv_dialect: str = CSV_DIALECT_OPTION,
+    interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
     """ANSI C78.377 quadrangle and SDCM step of each spectrum, with counts per bin."""
     import numpy as np
@@ -123,7 +128,8 @@ def bin_cmd(
         require_suffix(output, (".csv", ".json", ".xlsx"))
     from ..analysis import analyse_files
 
-    records = analyse_files(files, quantity=quantity, rendering=False).records()
+    interp = parse_interpolation(interpolation)
+    records = analyse_files(files, quantity=quantity, rendering=False, interpolation=interp).records()
     xy = np.array([[np.nan if r["x"] is None else r["x"], np.nan if r["y"] is None else r["y"]] for r in records])
     result = bin_chromaticities(xy, names=[r["name"] for r in records], ellipses=ellipses)
     rows = result.records()
@@ -134,7 +140,7 @@ def bin_cmd(
         row["source"], row["sha256"] = rec.get("source"), rec.get("sha256")
     from ..analysis import provenance
 
-    doc = {**provenance(), "ellipses": ellipses, "samples": rows, "counts": result.counts()}
+    doc = {**provenance(interpolation=interp), "ellipses": ellipses, "samples": rows, "counts": result.counts()}
     if output is not None:
         text = dumps(doc) if output.suffix.lower() == ".json" else result.csv()
         write_output(output, text, overwrite=overwrite, inputs=files, dialect=csv_dialect)

@@ -127,8 +127,11 @@ def open_chunked(
     *,
     chunk_size: int = DEFAULT_CHUNK_SIZE,
     quantity: Quantity | str | None = None,
+    interpolation: str = "auto",
 ) -> ChunkedInput:
     """Look at ``path`` and prepare to read it in chunks (see the module docstring).
+
+    ``interpolation`` is how folder members on different grids are brought to the working grid.
 
     Parameters
     ----------
@@ -158,7 +161,7 @@ def open_chunked(
     except (OSError, ValueError) as exc:
         raise InputError(f"cannot read ({_oserror_text(exc)})", source=source) from None
     if stat.S_ISDIR(st.st_mode):
-        return _open_folder(p, source, chunk_size, wanted)
+        return _open_folder(p, source, chunk_size, wanted, interpolation)
     if not stat.S_ISREG(st.st_mode):
         raise InputError("is not a regular file or folder", source=source)
     if st.st_size == 0:
@@ -220,6 +223,7 @@ def _join(parts: list[Spectra]) -> Spectra:
         flags=_chain(s.flags for s in parts),
         measured_range_nm=_chain(s.measured_range_nm for s in parts),
         measured_totals=np.concatenate([s.measured_totals for s in parts]),
+        interpolation=_chain(s.interpolation for s in parts),
     )
 
 
@@ -235,7 +239,8 @@ def _open_single(p: Path, source: str, chunk_size: int, wanted: Quantity | None)
     return ChunkedInput(source, "file", None, (source,), chunk_size, make)
 
 
-def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None) -> ChunkedInput:
+def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None,
+                 interpolation: str = "auto") -> ChunkedInput:
     try:
         entries = sorted(os.scandir(p), key=lambda e: e.name)
     except OSError as exc:
@@ -260,7 +265,7 @@ def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None)
                 else:
                     parts = iter([read_spectra(f, quantity=wanted)])
                 for part in parts:
-                    s = to_working_grid(part)
+                    s = to_working_grid(part, interpolation=interpolation)
                     if first is None:
                         first = s.quantity
                     elif s.quantity is not first:
