@@ -4,7 +4,7 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
-__all__ = ["__version__", "Spectra", "Quantity", "cct_duv", "analyse", "read_spectra"]
+__all__ = ["__version__", "Spectra", "Quantity", "cct_duv", "analyse", "read_spectra", "plot"]
 
 
 def __getattr__(name: str):
@@ -21,6 +21,10 @@ def __getattr__(name: str):
         from .analysis import analyse
 
         return analyse
+    if name == "plot":
+        import importlib
+
+        return importlib.import_module(".plot", __name__)
     if name == "read_spectra":
         from .readers import read_spectra
 

@@ -22,7 +22,7 @@ from .errors import Flag
 from .formats import finite_or_none
 from .spectra import Quantity, Spectra, signal_problems, to_working_grid
 
-__all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "records_csv", "provenance", "CONVENTIONS"]
+__all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "metadata_text", "records_csv", "provenance", "CONVENTIONS"]
 
 #: The conventions every number is computed under (written into every output).
 CONVENTIONS = {
@@ -182,6 +182,7 @@ def _columns(a: Analysis) -> dict[str, np.ndarray]:
             out.update({f"{key}{j + 1}": np.ascontiguousarray(b[:, j]) for j in range(b.shape[1])})
         out["reference"] = _text_column(t.reference)
     out["flags"] = _text_column([";".join(f.code for f in fl) for fl in a.flags])
+    out["metadata"] = _text_column([metadata_text(dict(m)) for m in s.metadata])
     return out
 
 
@@ -216,6 +217,7 @@ def _record(a: Analysis, i: int, in_domain: bool | None = None) -> dict[str, Any
     for cols in a._rendering_columns:
         r.update({k: v[i] for k, v in cols.items()})
     r["flags"] = [f.as_dict() for f in a.flags[i]]
+    r["metadata"] = s.metadata_of(i)
     return r
 
 
@@ -235,6 +237,55 @@ def _cct_flags(cct: CctResult, i: int, uv=None) -> tuple[Flag, ...]:
     elif not np.isfinite(float(cct.cct_K[i])):
         out.append(Flag("cct-out-of-range", "nearest Planckian point lies outside 1000-100000 K; CCT not reported"))
     return tuple(out)
+
+
+def _cct_flag_rows(cct: CctResult, problems) -> np.ndarray:
+    """Indices of the spectra with a signal problem or a CCT flag (:func:`_cct_flags`); the others get nothing."""
+    duv = np.asarray(cct.duv, dtype=np.float64)
+    with np.errstate(invalid="ignore"):
+        rows = ~np.isfinite(duv) | (np.abs(duv) > DUV_LIMIT) | ~np.isfinite(np.asarray(cct.cct_K))
+    rows |= np.array([p is not None for p in problems], dtype=bool).reshape(rows.shape)
+    return np.flatnonzero(rows)
+
+
+def _flagged(*per_spectrum) -> np.ndarray:
+    """Indices where any of the per-spectrum flag tuples is non-empty."""
+    return np.flatnonzero([any(t) for t in zip(*per_spectrum)]) if per_spectrum[0] else np.zeros(0, dtype=np.intp)
+
+
+def _add_flags(flags: tuple, rows: np.ndarray, make=None) -> tuple:
+    """``flags`` with ``make(i)`` (default: the CCT flags) appended for each index in ``rows`` only."""
+    if rows.size == 0:
+        return tuple(flags)
+    out = list(flags)
+    for i in rows.tolist():
+        out[i] = out[i] + make(i)
+    return tuple(out)
+
+
+_BLAS = None
+
+
+def one_blas_thread():
+    """A context in which BLAS runs one thread (threadpoolctl; a no-op when it is missing).
+
+    :func:`analyse` runs in it: a BLAS may round a matrix product differently with another
+    number of threads, so this keeps every result independent of the machine's core count
+    and of how many batch workers ran it; batch workers are the parallelism instead.
+    """
+    global _BLAS
+    if _BLAS is None:
+        try:
+            from threadpoolctl import ThreadpoolController
+
+            _BLAS = ThreadpoolController()
+        except ImportError:  # pragma: no cover - a declared dependency
+            _BLAS = False
+    if _BLAS is False:
+        from contextlib import nullcontext
+
+        return nullcontext()
+    return _BLAS.limit(limits=1, user_api="blas")
 
 
 def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, interpolation: str = "auto") -> Analysis:
@@ -260,7 +311,7 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, inte
     problems = signal_problems(g)
     empty = np.array([p is not None for p in problems])
     V = np.where(empty[:, None], np.nan, g.values) if empty.any() else g.values
-    with np.errstate(invalid="ignore", divide="ignore"):
+    with np.errstate(invalid="ignore", divide="ignore"), one_blas_thread():
         return _analyse(g, V, problems, observer=int(observer), rendering=rendering)
 
 
@@ -275,14 +326,15 @@ def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: b
     xy = XYZ_to_xy(tri)
     uv = XYZ_to_uv(tri)
     cct = cct_duv(uv, observer=observer)
-    flags = tuple(g.flags[i] + ((problems[i],) if problems[i] is not None else _cct_flags(cct, i, uv))
-                  for i in range(len(g)))
+    flags = _add_flags(g.flags, _cct_flag_rows(cct, problems),
+                       lambda i: (problems[i],) if problems[i] is not None else _cct_flags(cct, i, uv))
     parts = _extra_measures(g, V, xy, observer=int(observer))
-    flags = tuple(f + parts["photometry"].flags[i] + parts["alphaopic"].flags[i] for i, f in enumerate(flags))
+    flags = _add_flags(flags, _flagged(parts["photometry"].flags, parts["alphaopic"].flags),
+                       lambda i: parts["photometry"].flags[i] + parts["alphaopic"].flags[i])
     if rendering:
         cri, fid, rendering_flags = _rendering(V, cct, observer=int(observer))
         parts.update(cri=cri, tm30=fid)
-        flags = tuple(f + e for f, e in zip(flags, rendering_flags))
+        flags = tuple(f + e if e else f for f, e in zip(flags, rendering_flags))
     return Analysis(
         spectra=g, observer=int(observer), XYZ=tri, xy=xy, uv=uv, uvp=uv_to_uvp(uv), cct=cct, flags=flags, **parts
     )
@@ -353,47 +405,175 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int):
 
     T, duv = (cct.cct_K, cct.duv) if observer == 2 else rendering_cct(V)
     r = colour_rendition(V, cct_K=T, duv=duv)
-    flags = []
-    for i in range(V.shape[0]):
-        f: tuple[Flag, ...] = ()
-        if np.isfinite(r.cct_K[i]) and not bool(r.cri.valid[i]):
-            f += (Flag("cri-not-meaningful",
-                       f"chromaticity distance DC = {float(r.cri.dc[i]):.4f} from the reference is >= {DC_LIMIT}: "
-                       "CIE 13.3 says the index is then not meaningful"),)
-        if not np.isfinite(r.cct_K[i]):
-            if np.isfinite(T[i]) and abs(float(duv[i])) <= DUV_LIMIT and T[i] > REFERENCE_RANGE_K[1]:
-                f += (Flag("cct-above-reference-range",
-                           f"CCT {float(T[i]):.0f} K is above {REFERENCE_RANGE_K[1]:g} K, where the CIE daylight "
-                           "reference is not defined: colour rendering not computed"),)
-            else:
-                f += (Flag("no-rendering", "no CCT, so no reference illuminant: colour rendering not computed"),)
-        flags.append(f)
+    # flags built for the flagged spectra only, from plain Python values
+    flags: list[tuple[Flag, ...]] = [()] * V.shape[0]
+    has_ref = np.isfinite(r.cct_K)
+    poor = np.flatnonzero(has_ref & ~np.asarray(r.cri.valid, dtype=bool))
+    for i, dc in zip(poor.tolist(), np.asarray(r.cri.dc)[poor].tolist()):
+        flags[i] = (Flag("cri-not-meaningful",
+                         f"chromaticity distance DC = {dc:.4f} from the reference is >= {DC_LIMIT}: "
+                         "CIE 13.3 says the index is then not meaningful"),)
+    T = np.asarray(T, dtype=np.float64)
+    with np.errstate(invalid="ignore"):
+        above = ~has_ref & np.isfinite(T) & (np.abs(np.asarray(duv, dtype=np.float64)) <= DUV_LIMIT) & (T > REFERENCE_RANGE_K[1])
+    for i, t in zip(np.flatnonzero(above).tolist(), T[above].tolist()):
+        flags[i] = (Flag("cct-above-reference-range",
+                         f"CCT {t:.0f} K is above {REFERENCE_RANGE_K[1]:g} K, where the CIE daylight "
+                         "reference is not defined: colour rendering not computed"),)
+    none = Flag("no-rendering", "no CCT, so no reference illuminant: colour rendering not computed")
+    for i in np.flatnonzero(~has_ref & ~above).tolist():
+        flags[i] = (none,)
     return r.cri, r.tm30, tuple(flags)
 
 
-def read_files(files, *, quantity=None) -> list[Spectra]:
+def read_files(files, *, quantity=None, layout=None) -> list[Spectra]:
     """Read every file (each may hold several spectra) with :func:`cctkit.readers.read_spectra`, in order.
 
+    ``layout`` (a :class:`cctkit.readers.TableLayout`) applies to every delimited-text file.
     A file with a spectrum nothing can be computed from (no data in 380-780 nm, no signal) is refused
     with :class:`~cctkit.errors.InputError` naming it (:func:`cctkit.spectra.require_signal`).
     """
     from .errors import InputError
     from .readers import read_spectra
-
+    from .limits import MAX_SPECTRA, MAX_VALUES, too_many_spectra
     from .spectra import require_signal
 
     if not files:
         raise InputError("no input files given")
-    return [require_signal(read_spectra(f, quantity=quantity)) for f in files]
+    out: list[Spectra] = []
+    count = values = 0
+    for f in files:  # refuse as soon as the limit is passed, before reading further files
+        s = read_spectra(f, quantity=quantity, layout=layout)
+        count += len(s)
+        values += s.values.size
+        if count > MAX_SPECTRA:
+            raise InputError(too_many_spectra(count), source=str(f))
+        if values > MAX_VALUES:
+            raise InputError(f"over {MAX_VALUES} spectral values (spectra x points) by this file, the limit for "
+                             "one command; use `cctkit batch` for large lots", source=str(f))
+        out.append(require_signal(s))
+    return out
 
 
-def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True,
+def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True, layout=None,
                   interpolation: str = "auto") -> Analysis:
-    """:func:`analyse` of the spectra of ``files`` as one batch (they must share one quantity)."""
+    """:func:`analyse` of the spectra of ``files`` as one batch; they may differ in quantity
+    (see :func:`analyse_mixed`)."""
+    return analyse_mixed(read_files(files, quantity=quantity, layout=layout), observer=observer, rendering=rendering,
+                         interpolation=interpolation)
+
+
+@dataclass(frozen=True)
+class MixedAnalysis(Analysis):
+    """An :class:`Analysis` of spectra of different quantities, joined in input order.
+
+    Each quantity was analysed on its own (so every absolute total keeps its own
+    unit); ``records()`` are those per-quantity records.  ``spectra`` holds the
+    values as measured, each in its own unit (``spectra.quantity`` says nothing
+    here: the records carry each spectrum's quantity), and ``photometry``,
+    ``alphaopic``, ``shape`` and ``dominant`` are left ``None``: use the records.
+    """
+
+    joined_records: tuple[dict[str, Any], ...] = ()
+
+    def records(self) -> list[dict[str, Any]]:
+        return [dict(r) for r in self.joined_records]
+
+    def columns(self) -> dict[str, np.ndarray]:
+        from .batch import records_table
+
+        return records_table(self.records())
+
+
+def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = True,
+                  interpolation: str = "auto") -> Analysis:
+    """One analysis of several Spectra that may differ in quantity, in input order.
+
+    Spectra of one quantity are joined and analysed as one batch (vectorised).
+    With one quantity this is :func:`analyse` of the joined spectra; with several
+    it is a :class:`MixedAnalysis` whose colour results (chromaticity, CCT,
+    rendering) are side by side and whose records keep each spectrum's own
+    quantity and totals.
+    """
     from .spectra import concatenate
 
-    return analyse(concatenate(read_files(files, quantity=quantity), interpolation=interpolation),
-                   observer=observer, rendering=rendering)
+    if not items:
+        from .errors import InputError
+
+        raise InputError("no spectra given")
+    groups: dict[Quantity, list[int]] = {}
+    for i, s in enumerate(items):
+        groups.setdefault(s.quantity, []).append(i)
+    if len(groups) == 1:
+        return analyse(concatenate(items, interpolation=interpolation), observer=observer, rendering=rendering)
+    parts = []
+    where: dict[int, tuple[int, int]] = {}  # item -> (part, first spectrum in it)
+    for k, idx in enumerate(groups.values()):
+        pos = 0
+        for i in idx:
+            where[i] = (k, pos)
+            pos += len(items[i])
+        parts.append(analyse(concatenate([items[i] for i in idx], interpolation=interpolation), observer=observer,
+                             rendering=rendering))
+    offsets = np.cumsum([0] + [len(a) for a in parts])
+    perm = np.array([offsets[where[i][0]] + where[i][1] + j for i in range(len(items)) for j in range(len(items[i]))])
+    all_records = [r for a in parts for r in a.records()]
+    grids = [a.spectra for a in parts]
+    joined = Spectra(
+        wavelength_nm=grids[0].wavelength_nm,
+        values=np.concatenate([g.values for g in grids])[perm],
+        names=_pick(_chain(g.names for g in grids), perm),
+        quantity=Quantity.RELATIVE,
+        sources=_pick(_chain(g.sources for g in grids), perm),
+        sha256=_pick(_chain(g.sha256 for g in grids), perm),
+        flags=_pick(_chain(g.flags for g in grids), perm),
+        measured_range_nm=_pick(_chain(g.measured_range_nm for g in grids), perm),
+        metadata=_pick(_chain(g.metadata for g in grids), perm),
+        measured_totals=np.concatenate([g.measured_totals for g in grids])[perm],
+        interpolation=_pick(_chain(g.interpolation for g in grids), perm),
+    )
+    return MixedAnalysis(
+        spectra=joined,
+        observer=int(observer),
+        XYZ=np.concatenate([a.XYZ for a in parts])[perm],
+        xy=np.concatenate([a.xy for a in parts])[perm],
+        uv=np.concatenate([a.uv for a in parts])[perm],
+        uvp=np.concatenate([a.uvp for a in parts])[perm],
+        cct=_join_results([a.cct for a in parts], perm),
+        cri=_join_results([a.cri for a in parts], perm),
+        tm30=_join_results([a.tm30 for a in parts], perm),
+        flags=_pick(_chain(a.flags for a in parts), perm),
+        joined_records=tuple(all_records[i] for i in perm),
+    )
+
+
+def _chain(seqs) -> tuple:
+    return tuple(x for seq in seqs for x in seq)
+
+
+def _pick(seq: tuple, perm: np.ndarray) -> tuple:
+    return tuple(seq[i] for i in perm)
+
+
+def _join_results(parts: list, perm: np.ndarray):
+    """Per-spectrum result dataclasses (arrays and tuples of leading length N) joined and reordered."""
+    import dataclasses
+
+    first = parts[0]
+    if first is None or any(p is None for p in parts):
+        return None
+    out = object.__new__(type(first))
+    for f in dataclasses.fields(first):
+        values = [getattr(p, f.name) for p in parts]
+        v0 = values[0]
+        if isinstance(v0, np.ndarray) and v0.ndim >= 1:
+            joined: Any = np.concatenate(values)[perm]
+        elif isinstance(v0, (tuple, list)):
+            joined = type(v0)(_pick(_chain(values), perm))
+        else:
+            joined = v0
+        object.__setattr__(out, f.name, joined)
+    return out
 
 
 def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True,
@@ -426,6 +606,8 @@ def flatten_record(rec: dict[str, Any]) -> dict[str, Any]:
     for k, v in rec.items():
         if k == "flags":
             out["flags"] = ";".join(f["code"] for f in v)
+        elif k == "metadata" or isinstance(v, dict):
+            out[k] = metadata_text(v)
         elif isinstance(v, list):
             if k.startswith("measured_range") or k.endswith("_range_nm"):
                 out[f"{k}_lo"], out[f"{k}_hi"] = v
@@ -434,6 +616,13 @@ def flatten_record(rec: dict[str, Any]) -> dict[str, Any]:
         else:
             out[k] = v
     return out
+
+
+def metadata_text(metadata: dict[str, str] | None) -> str:
+    """A spectrum's file metadata as one compact JSON text (one CSV cell); ``""`` when there is none."""
+    import json
+
+    return json.dumps(metadata, ensure_ascii=False, separators=(",", ":")) if metadata else ""
 
 
 def records_csv(records: list[dict[str, Any]]) -> str:

@@ -4,14 +4,20 @@ Each chromaticity gets:
 
 * ``quadrangle``: the ANSI C78.377-2017 quadrangle that holds it ("3000K", ...),
   or None (see :func:`cctkit.tolerance.classify_ansi`);
-* ``centre``: the nearest nominal centre, by distance in CIE 1960 uv;
+* ``centre``: the nearest nominal centre, by distance in CIE 1960 uv (None without a chromaticity);
 * ``sdcm_steps``: its distance from that centre in SDCM steps;
 * ``sdcm_bin``: the smallest whole number of steps whose ellipse holds it
   (ceil of the steps, at least 1), or -1 when it cannot be computed.
 
-Two sets of centres and ellipses, chosen by ``ellipses``:
+Three sets of centres and ellipses, chosen by ``ellipses``:
 
-``"macadam1942"`` (default)
+``"iec-else-ansi"`` (default)
+    The rule ``verify`` uses for an SDCM claim (:mod:`cctkit.claims`, ``sdcm_centre``
+    default): at the ANSI nominal CCTs that have an IEC 60081 Annex D lamp ellipse (2700,
+    3000, 3500, 4000, 5000, 6500 K) that lamp's centre and ellipse; at the others the ANSI
+    quadrangle centre with MacAdam's (1942) ellipse interpolated there.  So ``bin`` and
+    ``verify`` give the same step count for the same unit.
+``"macadam1942"``
     The ten ANSI quadrangle centres, each with MacAdam's (1942) ellipse
     interpolated there.  The 2200 K and 2500 K centres lie outside the hull of
     MacAdam's data; they use the nearest datum ellipse and are marked
@@ -30,9 +36,11 @@ import numpy as np
 from .colorimetry import xy_to_uv
 from .errors import InputError
 
-__all__ = ["BinResult", "bin_chromaticities", "ELLIPSE_SETS"]
+__all__ = ["BinResult", "bin_chromaticities", "ELLIPSE_SETS", "DEFAULT_ELLIPSES"]
 
-ELLIPSE_SETS = ("macadam1942", "iec60081")
+ELLIPSE_SETS = ("iec-else-ansi", "macadam1942", "iec60081")
+#: The default set: the same centre rule as a ``verify`` SDCM claim.
+DEFAULT_ELLIPSES = "iec-else-ansi"
 
 
 @dataclass(frozen=True)
@@ -42,7 +50,7 @@ class BinResult:
     names: tuple[str, ...]
     xy: np.ndarray
     quadrangle: np.ndarray  # object: str or None
-    centre: np.ndarray  # object: str
+    centre: np.ndarray  # object: str, None where the chromaticity is not finite
     sdcm_steps: np.ndarray
     sdcm_bin: np.ndarray  # int, -1 where undefined
     extrapolated: np.ndarray  # bool
@@ -97,6 +105,15 @@ def _centres(ellipses: str):
         xy = np.stack([q.centre_xy for q in quads])
         g, extra = tol.macadam1942_metric(xy)
         return names, xy, g, extra
+    if ellipses == "iec-else-ansi":
+        names, xy, g, extra = _centres("macadam1942")
+        xy, g, extra = xy.copy(), g.copy(), extra.copy()
+        for k, name in enumerate(names):
+            key = f"F{name.rstrip('K')}"
+            if key in tol.IEC60081_ELLIPSES:
+                e = tol.iec60081_ellipse(key)
+                names[k], xy[k], g[k], extra[k] = e.name, e.centre_xy, e.g, False
+        return names, xy, g, extra
     if ellipses == "iec60081":
         items = [tol.iec60081_ellipse(k) for k in tol.IEC60081_ELLIPSES]
         return ([e.name for e in items], np.stack([e.centre_xy for e in items]),
@@ -104,7 +121,7 @@ def _centres(ellipses: str):
     raise InputError(f"ellipses must be one of {', '.join(ELLIPSE_SETS)}, got {ellipses!r}")
 
 
-def bin_chromaticities(xy, *, names=None, ellipses: str = "macadam1942") -> BinResult:
+def bin_chromaticities(xy, *, names=None, ellipses: str = DEFAULT_ELLIPSES) -> BinResult:
     """Assign chromaticities (N, 2) in CIE 1931 xy to quadrangles and SDCM bins.
 
     Parameters
@@ -114,7 +131,8 @@ def bin_chromaticities(xy, *, names=None, ellipses: str = "macadam1942") -> BinR
     names
         One name per point (default "1", "2", ...).
     ellipses
-        ``"macadam1942"`` or ``"iec60081"`` (see the module docstring).
+        ``"iec-else-ansi"`` (default: the centre rule of ``verify``), ``"macadam1942"`` or
+        ``"iec60081"`` (see the module docstring).
     """
     from . import tolerance as tol
 
@@ -139,7 +157,8 @@ def bin_chromaticities(xy, *, names=None, ellipses: str = "macadam1942") -> BinR
         names=names,
         xy=xy,
         quadrangle=tol.classify_ansi(xy, space="xy"),
-        centre=np.array(cnames, dtype=object)[k] if n else np.zeros(0, dtype=object),
+        # no chromaticity (all tristimulus values zero, NaN): no nearest centre either
+        centre=np.where(finite, np.array(cnames, dtype=object)[k], None) if n else np.zeros(0, dtype=object),
         sdcm_steps=steps,
         sdcm_bin=bins,
         extrapolated=cextra[k] & finite,

@@ -99,6 +99,7 @@ __all__ = [
     "reachable_hull",
     "hull_distance_uv",
     "max_luminous",
+    "max_luminous_by_vertices",
     "linear_blend",
     "solve_blend_path",
 ]
@@ -494,6 +495,37 @@ def max_luminous(channels: Channels, uv) -> tuple[np.ndarray, tuple[str, ...]]:
         if res.status == 0:
             out[i] = max(0.0, float(res.x[-1])) * scale
     return out, tuple(msgs)
+
+
+def max_luminous_by_vertices(channels: Channels, uv) -> np.ndarray:
+    """The same maximum as :func:`max_luminous`, by enumerating the vertices of the feasible drives.
+
+    With the output free, the chromaticity is two homogeneous linear equations in the drives;
+    an LP optimum lies at a vertex of ``{d in [0,1]^K : two equations}``, where two drives are
+    basic and every other one is at 0 or 1.  All of them are solved at once (2 x 2 systems),
+    for every chromaticity, and the largest output of a feasible one is kept.  Practical for
+    K <= 8 channels (K(K-1)/2 * 2^(K-2) vertices per point).
+    """
+    t = _direction(np.atleast_2d(np.asarray(uv, dtype=np.float64)))  # (S, 3)
+    M = channels.XYZ.T  # (3, K)
+    K = M.shape[1]
+    # X - (x/y) Y = 0 and Z - (z/y) Y = 0 for each target, (S, 2, K)
+    H = np.stack([M[0] - t[:, 0:1] * M[1], M[2] - t[:, 2:3] * M[1]], axis=1) / float(channels.luminous.sum())
+    best = np.zeros(len(t))
+    patterns = np.array(list(itertools.product((0.0, 1.0), repeat=K - 2)))
+    for B in itertools.combinations(range(K), 2):
+        B = list(B)
+        N = [k for k in range(K) if k not in B]
+        HB = H[:, :, B]  # (S, 2, 2)
+        det = HB[:, 0, 0] * HB[:, 1, 1] - HB[:, 0, 1] * HB[:, 1, 0]
+        rhs = -np.einsum("sik,pk->spi", H[:, :, N], patterns)  # (S, P, 2)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            d0 = (HB[:, None, 1, 1] * rhs[..., 0] - HB[:, None, 0, 1] * rhs[..., 1]) / det[:, None]
+            d1 = (-HB[:, None, 1, 0] * rhs[..., 0] + HB[:, None, 0, 0] * rhs[..., 1]) / det[:, None]
+        ok = (np.abs(det)[:, None] > 1e-12) & (d0 >= -1e-12) & (d0 <= 1 + 1e-12) & (d1 >= -1e-12) & (d1 <= 1 + 1e-12)
+        Y = d0 * M[1, B[0]] + d1 * M[1, B[1]] + patterns @ M[1, N]  # (S, P)
+        best = np.maximum(best, np.where(ok, Y, 0.0).max(axis=1))
+    return best
 
 
 # --------------------------------------------------------------------------- linear solves
@@ -964,7 +996,11 @@ def _solve_path(channels: Channels, cct_K, duv, *, objective: str, sense: str, l
     ymax = np.zeros(S)
     lp_msgs = [""] * S
     idx = np.flatnonzero(defined)
-    if idx.size:
+    if idx.size and len(channels) <= _ENUMERATE_MAX_K:
+        ymax[idx] = max_luminous_by_vertices(channels, uv[idx])
+        for i in idx:
+            lp_msgs[i] = "output limit by vertex enumeration"
+    elif idx.size:
         y, msgs = max_luminous(channels, uv[idx])
         ymax[idx] = y
         for j, i in enumerate(idx):

@@ -59,10 +59,11 @@ from __future__ import annotations
 import csv
 import difflib
 import math
+import os
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Mapping
+from typing import Any, Mapping, Sequence
 
 import numpy as np
 
@@ -85,6 +86,7 @@ __all__ = [
     "format_verdict",
     "verdict_csv",
     "cell_text",
+    "combine_results",
 ]
 
 # Scalar keys of the per-spectrum record (the lead's record contract), plus names
@@ -100,10 +102,14 @@ _RECORD_METRICS = (
     "Ra", "Rf", "Rg",
 )
 _DERIVED = ("efficacy_lm_per_W", "power_W")
-METRICS: tuple[str, ...] = _RECORD_METRICS + tuple(f"R{i}" for i in range(1, 15)) + _DERIVED
+# TM-30 hue-bin values: Rf_h1..Rf_h16, Rcs_h1..Rcs_h16 [%], Rhs_h1..Rhs_h16 (bin 1 holds the reds).
+_BIN_METRICS = tuple(f"{k}{j}" for k in ("Rf_h", "Rcs_h", "Rhs_h") for j in range(1, 17))
+METRICS: tuple[str, ...] = (_RECORD_METRICS + tuple(f"R{i}" for i in range(1, 15)) + _DERIVED + _BIN_METRICS)
+#: Design-intent claims of ``[design_intent]`` (ANSI/IES TM-30-20 Annex E), as verdict metric names.
+INTENT_METRICS = {"fidelity": "intent_fidelity", "preference": "intent_preference", "vividness": "intent_vividness"}
 _CHROMA_METRICS = ("sdcm", "ansi_quadrangle")
 
-_SECTIONS = ("claims", "limits", "chromaticity", "uncertainty", "samples")
+_SECTIONS = ("claims", "limits", "chromaticity", "design_intent", "uncertainty", "samples")
 _CLAIMS_KEYS = ("supplier", "product", "description", "reference", "date")
 _CHROMA_KEYS = ("nominal_cct_K", "ansi_quadrangle", "max_sdcm", "sdcm_centre")
 _SAMPLES_KEYS = ("power_W", "sidecar")
@@ -141,7 +147,8 @@ class Claims:
 
     ``power_W`` maps sample name to electrical power [W]; the key ``"*"`` holds
     a value that applies to every sample.  ``declared_id`` maps sample name to
-    the supplier's identifier from the sidecar.
+    the supplier's identifier from the sidecar; ``sidecar`` maps it to every
+    sidecar column as written (kept in the verdict CSV).
     """
 
     source: str
@@ -152,6 +159,11 @@ class Claims:
     uncertainty: Mapping[str, float] = field(default_factory=dict)
     power_W: Mapping[str, float] = field(default_factory=dict)
     declared_id: Mapping[str, str] = field(default_factory=dict)
+    sidecar: Mapping[str, Mapping[str, str]] = field(default_factory=dict)
+    design_intent: Mapping[str, int] = field(default_factory=dict)
+    sha256: str | None = None  # of the claims file's bytes as read
+    sidecar_path: str | None = None  # the sidecar's path, when one is named
+    sidecar_sha256: str | None = None  # of the sidecar's bytes as read
 
     @property
     def metrics(self) -> tuple[str, ...]:
@@ -162,6 +174,7 @@ class Claims:
                 names.append("ansi_quadrangle")
             if self.chromaticity.max_sdcm is not None:
                 names.append("sdcm")
+        names += [INTENT_METRICS[k] for k in INTENT_METRICS if k in self.design_intent]
         return tuple(names)
 
 
@@ -197,21 +210,37 @@ def _table(doc: Mapping, name: str, source: str) -> Mapping:
     return value
 
 
+#: Largest claims file read [bytes]: a datasheet's claims are a few hundred bytes.
+MAX_CLAIMS_BYTES = 1024 * 1024
+#: Largest sidecar read [bytes]: some 100,000 samples of name, power and identifier.
+MAX_SIDECAR_BYTES = 16 * 1024 * 1024
+
+
 def load_claims(path: str | Path) -> Claims:
-    """Read and check a claims TOML file (see the module docstring for its layout)."""
+    """Read and check a claims TOML file (see the module docstring for its layout).
+
+    The file must be a regular file of at most :data:`MAX_CLAIMS_BYTES`; a sidecar it
+    names must lie in the claims file's folder or below it (no absolute path, no ``..``).
+    """
+    from dataclasses import replace
+
+    from .safe_io import read_user_file
+
     p = Path(path)
     source = str(p)
     try:
-        raw = p.read_bytes()
-    except OSError as exc:
-        raise InputError(f"cannot read claims file ({exc.strerror or exc})", source=source) from None
+        raw = read_user_file(p, max_bytes=MAX_CLAIMS_BYTES)
+    except InputError as exc:
+        raise InputError(f"cannot read claims file ({exc.reason})", source=source) from None
     try:
-        doc = tomllib.loads(raw.decode("utf-8"))
+        doc = tomllib.loads(raw.data.decode("utf-8"))
     except UnicodeDecodeError:
         raise InputError("claims file is not UTF-8 text", source=source) from None
     except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"not valid TOML ({exc})", source=source) from None
-    return parse_claims(doc, source=source, base_dir=p.parent)
+        raise InputError(f"not valid TOML ({str(exc).splitlines()[0]})", source=source) from None
+    except RecursionError:
+        raise InputError("not a claims file: nested too deeply", source=source) from None
+    return replace(parse_claims(doc, source=source, base_dir=p.parent), sha256=raw.sha256)
 
 
 def parse_claims(doc: Mapping[str, Any], *, source: str = "<claims>", base_dir: str | Path = ".") -> Claims:
@@ -260,15 +289,17 @@ def parse_claims(doc: Mapping[str, Any], *, source: str = "<claims>", base_dir: 
             raise InputError(f"{where}: an uncertainty cannot be negative, got {u:g}", source=source)
         uncertainty[metric] = u
 
-    power, declared = _parse_samples(_table(doc, "samples", source), source, Path(base_dir))
+    power, declared, side = _parse_samples(_table(doc, "samples", source), source, Path(base_dir))
     needs_power = [m for m in ("efficacy_lm_per_W", "power_W") if m in checked]
     if needs_power and not power:
         raise InputError(
             f"[limits] {needs_power[0]}: needs the electrical power; give [samples] power_W or sidecar",
             source=source,
         )
-    if not limits and chroma is None:
-        raise InputError("no claims to check: add a [limits] or [chromaticity] table", source=source)
+    intent = _parse_design_intent(_table(doc, "design_intent", source), source)
+    if not limits and chroma is None and not intent:
+        raise InputError("no claims to check: add a [limits], [chromaticity] or [design_intent] table",
+                         source=source)
     return Claims(
         source=source,
         supplier=head.get("supplier", ""),
@@ -278,7 +309,29 @@ def parse_claims(doc: Mapping[str, Any], *, source: str = "<claims>", base_dir: 
         uncertainty=uncertainty,
         power_W=power,
         declared_id=declared,
+        sidecar=side[2] if side else {},
+        design_intent=intent,
+        sidecar_path=side[0] if side else None,
+        sidecar_sha256=side[1] if side else None,
     )
+
+
+def _parse_design_intent(table: Mapping, source: str) -> dict[str, int]:
+    """``[design_intent]``: ``preference = "P2"`` claims at least TM-30-20 Annex E level P2 (1 strictest)."""
+    from .rendering.intents import INTENTS
+
+    _check_keys(table, tuple(INTENTS), "[design_intent]", source)
+    out: dict[str, int] = {}
+    for intent, value in table.items():
+        prefix = INTENTS[intent]
+        where = f"[design_intent] {intent}"
+        text = str(value).strip().upper() if isinstance(value, (str, int)) and not isinstance(value, bool) else ""
+        level = text[1:] if text.startswith(prefix) else text
+        if level not in ("1", "2", "3"):
+            raise InputError(f"{where}: expected a level {prefix}1, {prefix}2 or {prefix}3, got {value!r}",
+                             source=source)
+        out[intent] = int(level)
+    return out
 
 
 def _parse_chromaticity(table: Mapping, source: str) -> ChromaticityClaim | None:
@@ -315,7 +368,7 @@ def _parse_chromaticity(table: Mapping, source: str) -> ChromaticityClaim | None
     return ChromaticityClaim(int(nominal), quad, max_sdcm, centre)
 
 
-def _parse_samples(table: Mapping, source: str, base_dir: Path) -> tuple[dict[str, float], dict[str, str]]:
+def _parse_samples(table: Mapping, source: str, base_dir: Path) -> tuple[dict, dict, tuple[str, str, dict] | None]:
     _check_keys(table, _SAMPLES_KEYS, "[samples]", source)
     if "power_W" in table and "sidecar" in table:
         raise InputError("[samples]: give power_W or sidecar, not both", source=source)
@@ -323,22 +376,49 @@ def _parse_samples(table: Mapping, source: str, base_dir: Path) -> tuple[dict[st
         p = _number(table["power_W"], "[samples] power_W", source)
         if p <= 0:
             raise InputError(f"[samples] power_W: must be positive, got {p:g}", source=source)
-        return {"*": p}, {}
+        return {"*": p}, {}, None
     if "sidecar" not in table:
-        return {}, {}
+        return {}, {}, None
     name = table["sidecar"]
     if not isinstance(name, str) or not name:
         raise InputError(f"[samples] sidecar: expected a file name, got {name!r}", source=source)
-    path = Path(name) if Path(name).is_absolute() else base_dir / name
-    return _read_sidecar(path, f"{source}: [samples] sidecar")
+    path = _confined(name, base_dir, source)
+    power, declared, columns, sha = _read_sidecar(path, f"{source}: [samples] sidecar")
+    return power, declared, (str(path), sha, columns)
 
 
-def _read_sidecar(path: Path, where: str) -> tuple[dict[str, float], dict[str, str]]:
+def _confined(name: str, base_dir: Path, source: str) -> Path:
+    """The sidecar's path: relative to the claims file's folder and inside it (after symbolic links)."""
+    where = "[samples] sidecar"
+    if "\x00" in name:
+        raise InputError(f"{where}: the name holds a NUL character", source=source)
+    rel = Path(name)
+    if rel.is_absolute() or rel.drive:
+        raise InputError(f"{where}: {name!r} is an absolute path; name a file in the claims file's folder",
+                         source=source)
+    if ".." in rel.parts:
+        raise InputError(f"{where}: {name!r} leaves the claims file's folder ('..' is not allowed)", source=source)
+    path = base_dir / rel
+    try:
+        inside = Path(os.path.realpath(path)).is_relative_to(Path(os.path.realpath(base_dir)))
+    except (OSError, ValueError):
+        inside = False
+    if not inside:
+        raise InputError(f"{where}: {name!r} leads outside the claims file's folder (symbolic link)",
+                         source=source)
+    return path
+
+
+def _read_sidecar(path: Path, where: str) -> tuple[dict[str, float], dict[str, str], dict, str]:
+    from .safe_io import read_user_file
+
     src = str(path)
     try:
-        text = path.read_text(encoding="utf-8-sig")
-    except OSError as exc:
-        raise InputError(f"cannot read sidecar ({exc.strerror or exc}), named in {where}", source=src) from None
+        raw = read_user_file(path, max_bytes=MAX_SIDECAR_BYTES)
+    except InputError as exc:
+        raise InputError(f"cannot read sidecar ({exc.reason}), named in {where}", source=src) from None
+    try:
+        text = raw.data.decode("utf-8-sig")
     except UnicodeDecodeError:
         raise InputError("sidecar is not UTF-8 text", source=src) from None
     # Line numbers are kept for messages; blank lines and lines starting with "#" are skipped.
@@ -357,6 +437,7 @@ def _read_sidecar(path: Path, where: str) -> tuple[dict[str, float], dict[str, s
     i_id = header.index("declared_id") if "declared_id" in header else None
     power: dict[str, float] = {}
     declared: dict[str, str] = {}
+    columns: dict[str, dict[str, str]] = {}  # every column of the sidecar, as written, by sample
     for lineno, row in rows[1:]:
         if len(row) < len(header):
             raise InputError(f"expected {len(header)} columns, got {len(row)}", source=src, line=lineno)
@@ -374,9 +455,10 @@ def _read_sidecar(path: Path, where: str) -> tuple[dict[str, float], dict[str, s
         power[nm] = p
         if i_id is not None:
             declared[nm] = row[i_id].strip()
+        columns[nm] = {h: row[j].strip() for j, h in enumerate(header) if h and h != "name"}
     if not power:
         raise InputError("sidecar lists no samples", source=src)
-    return power, declared
+    return power, declared, columns, raw.sha256
 
 
 # ------------------------------------------------------------------ verdicts
@@ -403,6 +485,7 @@ class Check:
     margin: float | None
     result: str
     uncertainty: float | None = None
+    uncertainty_source: str | None = None  # "claims" ([uncertainty] table) or "model" (computed)
 
     def as_dict(self) -> dict[str, Any]:
         d = {
@@ -416,6 +499,8 @@ class Check:
         }
         if self.uncertainty is not None:
             d["decision"] = {"rule": "guard-band", "U": self.uncertainty, "result": self.result}
+            if self.uncertainty_source is not None:
+                d["decision"]["U_source"] = self.uncertainty_source
         return d
 
 
@@ -460,6 +545,11 @@ def _combine(results) -> str:
     return "pass"
 
 
+def combine_results(results) -> str:
+    """The verdict of several results: "fail" if any fails, else "inconclusive" if any is, else "pass"."""
+    return _combine(results)
+
+
 def _decide(margin: float | None, U: float | None) -> str:
     if margin is None or not math.isfinite(margin):
         return "fail"
@@ -494,6 +584,11 @@ def _record_value(rec: Mapping, metric: str, claims: Claims, name: str) -> float
         return None if f is None else f / power
     if metric in rec:
         return _finite(rec[metric])
+    for key in ("Rf_h", "Rcs_h", "Rhs_h"):
+        if metric.startswith(key) and metric[len(key):].isdigit():
+            bins = _need(rec, key, claims, name)
+            j = int(metric[len(key):]) - 1
+            return None if bins is None or j >= len(bins) else _finite(bins[j])
     if metric[0] == "R" and metric[1:].isdigit() and "R" in rec:
         values = rec["R"]
         i = int(metric[1:]) - 1
@@ -513,7 +608,20 @@ def _need(rec: Mapping, key: str, claims: Claims, name: str, *, why: str | None 
     return rec[key]
 
 
-def _limit_check(metric: str, value: float | None, lo: float | None, hi: float | None, U: float | None) -> Check:
+def _guard(claims: Claims, computed: Mapping[str, float] | None, metric: str) -> tuple[float | None, str | None]:
+    """U for a check: the claims file's [uncertainty] entry overrides the computed (model) one.
+
+    The source is named only when computed uncertainties are in play (``computed`` not None).
+    """
+    if metric in claims.uncertainty:
+        return claims.uncertainty[metric], ("claims" if computed is not None else None)
+    if computed and computed.get(metric) is not None:
+        return float(computed[metric]), "model"
+    return None, None
+
+
+def _limit_check(metric: str, value: float | None, lo: float | None, hi: float | None, U: float | None,
+                 source: str | None = None) -> Check:
     margin = None
     if value is not None:
         sides = []
@@ -522,7 +630,7 @@ def _limit_check(metric: str, value: float | None, lo: float | None, hi: float |
         if hi is not None:
             sides.append(hi - value)
         margin = min(sides)
-    return Check(metric, value, lo, hi, margin, _decide(margin, U), U)
+    return Check(metric, value, lo, hi, margin, _decide(margin, U), U, source)
 
 
 def sdcm_ellipse(claim: ChromaticityClaim):
@@ -538,7 +646,7 @@ def sdcm_ellipse(claim: ChromaticityClaim):
     return tol.macadam1942_ellipse(tol.ansi_quadrangle(claim.nominal_cct_K).centre_xy)
 
 
-def _chroma_checks(records: list[Mapping], claims: Claims) -> list[list[Check]]:
+def _chroma_checks(records: list[Mapping], claims: Claims, computed=None) -> list[list[Check]]:
     """Chromaticity checks for every record at once, vectorised over samples."""
     from . import tolerance as tol
 
@@ -552,16 +660,46 @@ def _chroma_checks(records: list[Mapping], claims: Claims) -> list[list[Check]]:
         quad = tol.ansi_quadrangle(c.nominal_cct_K)
         found = tol.classify_ansi(xy, space="xy")
         margin = tol.edge_margin_uv(xy, quad, space="xy")
-        U = claims.uncertainty.get("ansi_quadrangle")
         for i in range(len(records)):
             m = _finite(margin[i])
-            out[i].append(Check("ansi_quadrangle", found[i], None, None, m, _decide(m, U), U))
+            U, src = _guard(claims, computed[i] if computed is not None else None, "ansi_quadrangle")
+            out[i].append(Check("ansi_quadrangle", found[i], None, None, m, _decide(m, U), U, src))
     if c.max_sdcm is not None:
         steps = sdcm_ellipse(c).steps(xy)
-        U = claims.uncertainty.get("sdcm")
         for i in range(len(records)):
             s = _finite(steps[i])
-            out[i].append(_limit_check("sdcm", s, None, c.max_sdcm, U))
+            out[i].append(_limit_check("sdcm", s, None, c.max_sdcm,
+                                       *_guard(claims, computed[i] if computed is not None else None, "sdcm")))
+    return out
+
+
+def _intent_checks(records: list[Mapping], claims: Claims) -> list[list[Check]]:
+    """TM-30-20 Annex E design-intent checks, vectorised over samples.
+
+    The value is the strictest level met ("P2", or "none"); the margin is the claimed level
+    minus the level met, in levels (none counts as 4), so a margin >= 0 passes.
+    """
+    out: list[list[Check]] = [[] for _ in records]
+    if not claims.design_intent:
+        return out
+    from .rendering.intents import INTENTS, levels
+
+    def column(key, j=None):
+        vals = []
+        for i, r in enumerate(records):
+            v = _need(r, key, claims, _name(r, i), why="a design-intent claim")
+            v = v if j is None or v is None else v[j]
+            vals.append(_nan_if_none(_finite(v)))
+        return np.array(vals, dtype=np.float64)
+
+    lv = levels(column("Rf"), column("Rg"), column("Rf_h", 0), column("Rcs_h", 0))  # Rcs_h in percent
+    for intent, want in claims.design_intent.items():
+        got = lv[intent]
+        for i in range(len(records)):
+            g = int(got[i])
+            margin = float(want - (g if g > 0 else 4))
+            out[i].append(Check(INTENT_METRICS[intent], f"{INTENTS[intent]}{g}" if g else "none", None,
+                                float(want), margin, _decide(margin, None), None))
     return out
 
 
@@ -585,6 +723,8 @@ def _summary(samples: list[SampleVerdict], metrics: tuple[str, ...]) -> dict[str
         n = nums.size
         summary[metric] = {
             "count_pass": sum(ch.result == "pass" for ch in checks),
+            "count_inconclusive": sum(ch.result == "inconclusive" for ch in checks),
+            "count_fail": sum(ch.result == "fail" for ch in checks),
             "mean": float(nums.mean()) if n else None,
             "std": float(nums.std(ddof=1)) if n >= 2 else None,
             "min": float(nums.min()) if n else None,
@@ -593,7 +733,8 @@ def _summary(samples: list[SampleVerdict], metrics: tuple[str, ...]) -> dict[str
     return summary
 
 
-def verify(records: list[Mapping[str, Any]], claims: Claims) -> Verdict:
+def verify(records: list[Mapping[str, Any]], claims: Claims,
+           uncertainties: Sequence[Mapping[str, float]] | None = None) -> Verdict:
     """Check measured records (from ``Analysis.records()``) against ``claims``.
 
     Each sample gets one :class:`Check` per claimed metric, in the order of
@@ -601,6 +742,10 @@ def verify(records: list[Mapping[str, Any]], claims: Claims) -> Verdict:
     that pass, and the mean, sample standard deviation (ddof = 1; None for
     fewer than two values), minimum and maximum of the values.  For
     ``ansi_quadrangle`` these statistics are of the uv edge margin.
+
+    ``uncertainties`` gives, per record, computed expanded uncertainties U (k = 2) by
+    metric (:func:`cctkit.uncertainty.claim_uncertainties`); they set the guard band of
+    each check, except where the claims file's ``[uncertainty]`` table names the metric.
 
     Raises
     ------
@@ -612,23 +757,27 @@ def verify(records: list[Mapping[str, Any]], claims: Claims) -> Verdict:
     records = list(records)
     if not records:
         raise InputError("no samples to verify", source=claims.source)
-    chroma = _chroma_checks(records, claims)
+    if uncertainties is not None and len(uncertainties) != len(records):
+        raise InputError(f"{len(uncertainties)} uncertainty sets for {len(records)} samples", source=claims.source)
+    chroma = _chroma_checks(records, claims, uncertainties)
+    intent_checks = _intent_checks(records, claims)
     samples = []
     for i, rec in enumerate(records):
         name = _name(rec, i)
         checks = [
             _limit_check(lim.metric, _record_value(rec, lim.metric, claims, name), lim.min, lim.max,
-                         claims.uncertainty.get(lim.metric))
+                         *_guard(claims, uncertainties[i] if uncertainties is not None else None, lim.metric))
             for lim in claims.limits
         ]
         checks += chroma[i]
+        checks += intent_checks[i]
         samples.append(SampleVerdict(name, _combine(c.result for c in checks), tuple(checks),
                                      claims.declared_id.get(name)))
     return Verdict(
         verdict=_combine(s.verdict for s in samples),
         samples=tuple(samples),
         summary=_summary(samples, claims.metrics),
-        guard_band=bool(claims.uncertainty),
+        guard_band=bool(claims.uncertainty) or bool(uncertainties),
     )
 
 
@@ -656,53 +805,30 @@ def _limit_text(c: Mapping[str, Any]) -> str:
     return f">={cell_text(lo)}" if lo is not None else f"<={cell_text(hi)}"
 
 
-def format_verdict(doc: Mapping[str, Any], claims: Claims) -> str:
-    """A verdict document (:meth:`Verdict.as_dict`) as a text table.
+def format_verdict(doc: Mapping[str, Any], claims: Claims, *, wide: bool = False, width: int = 100) -> str:
+    """A verdict document (:meth:`Verdict.as_dict`) as text: a table that fits ``width`` columns
+    (:func:`cctkit.report.text.verdict_table`), or with ``wide`` every cell's value, limit,
+    margin and result (:func:`cctkit.report.text.verdict_detail`)."""
+    from .report.text import verdict_detail, verdict_table
 
-    One row per sample, one column per claim (value [limit] margin result), then
-    the per-metric summary, the decision rule and the overall verdict.
-    """
-    metrics = list(claims.metrics)
-    head = ["sample", "verdict"] + metrics
-    rows = []
-    for s in doc["samples"]:
-        cells = [s["name"], s["verdict"].upper() if s["verdict"] != "pass" else "pass"]
-        for c in s["checks"]:
-            mark = c["result"].upper() if c["result"] == "fail" else c["result"]
-            cells.append(f"{cell_text(c['value'])} [{_limit_text(c)}] {cell_text(c['margin'])} {mark}")
-        rows.append(cells)
-    widths = [max(len(str(r[i])) for r in [head] + rows) for i in range(len(head))]
-    lines = []
-    who = " / ".join(p for p in (claims.supplier, claims.product) if p)
-    lines.append(f"claims: {claims.source}" + (f" ({who})" if who else ""))
-    lines.append("cell: value [limit] margin result")
-    lines.append("  ".join(h.ljust(w) for h, w in zip(head, widths)))
-    lines.append("  ".join("-" * w for w in widths))
-    for r in rows:
-        lines.append("  ".join(str(c).ljust(w) for c, w in zip(r, widths)))
-    lines.append("")
-    lines.append("summary (over samples): metric  passed/total  mean  std  min  max")
-    n = len(doc["samples"])
-    for m, st in doc["summary"].items():
-        lines.append(f"  {m:<20} {st['count_pass']}/{n}  {cell_text(st['mean'])}  {cell_text(st['std'])}  "
-                     f"{cell_text(st['min'])}  {cell_text(st['max'])}")
-    if "decision" in doc:
-        lines.append(f"decision rule: {doc['decision']}")
-    lines.append(f"verdict: {doc['verdict'].upper()}")
-    return "\n".join(lines)
+    return verdict_detail(doc, claims) if wide else verdict_table(doc, claims, width=width)
 
 
 def verdict_csv(doc: Mapping[str, Any], claims: Claims) -> str:
-    """A verdict document as CSV: one row per sample; per claim its value, limits, margin and result."""
+    """A verdict document as CSV: one row per sample with its declared id and every sidecar
+    column; per claim its value, limits, margin, U and result (:func:`cctkit.report.text.verdict_rows_csv`)."""
+    from .report.text import verdict_rows_csv
+
+    text = verdict_rows_csv(doc, claims)
+    # A traceable verdict (samples with their file's SHA-256) keeps its provenance in the CSV too.
+    if not (doc["samples"] and all("sha256" in s for s in doc["samples"])):
+        return text
+    import csv
+    import io
+
     from .formats import csv_text
 
-    header = ["name", "verdict"]
-    for m in claims.metrics:
-        header += [f"{m}_value", f"{m}_min", f"{m}_max", f"{m}_margin", f"{m}_result"]
-    rows = []
-    for s in doc["samples"]:
-        row: list[Any] = [s["name"], s["verdict"]]
-        for c in s["checks"]:
-            row += [c["value"], c["min"], c["max"], c["margin"], c["result"]]
-        rows.append(["" if v is None else v for v in row])
-    return csv_text(header, rows)
+    header, *rows = list(csv.reader(io.StringIO(text)))
+    extra = [[s.get("source"), s.get("sha256"), claims.sha256] for s in doc["samples"]]
+    return csv_text(header + ["source", "sha256", "claims_sha256"],
+                    [row + ["" if v is None else v for v in more] for row, more in zip(rows, extra)])

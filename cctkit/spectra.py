@@ -48,6 +48,7 @@ import numpy as np
 
 from .constants import VISIBLE_BAND_NM, WAVELENGTH_NM
 from .errors import Flag, InputError
+from .limits import MAX_POINTS, MAX_WAVELENGTH_NM
 
 __all__ = [
     "Quantity",
@@ -140,6 +141,9 @@ class Spectra:
         SHA-256 of each spectrum's source file, or ``""`` when not from a file.
     flags
         Per spectrum, the doubtful conditions found so far (see :class:`~cctkit.errors.Flag`).
+    metadata
+        Per spectrum, the ``(key, value)`` text pairs its file carried (instrument,
+        operator, ...), in the file's order; ``()`` when there were none.
     """
 
     wavelength_nm: np.ndarray
@@ -150,6 +154,7 @@ class Spectra:
     sha256: tuple[str, ...] = ()
     flags: tuple[tuple[Flag, ...], ...] = ()
     measured_range_nm: tuple[tuple[float, float, float], ...] = field(default=())
+    metadata: tuple[tuple[tuple[str, str], ...], ...] = ()
     measured_totals: np.ndarray | None = None
     interpolation: tuple[str, ...] = ()
 
@@ -170,8 +175,14 @@ class Spectra:
             raise InputError("no spectra found", source=source)
         if wl.shape[0] < MIN_POINTS:
             raise InputError(f"only {wl.shape[0]} wavelength points; at least {MIN_POINTS} are needed", source=source)
+        if wl.shape[0] > MAX_POINTS:
+            raise InputError(f"{wl.shape[0]} wavelength points, over the limit of {MAX_POINTS} per spectrum",
+                             source=source)
         if not np.all(np.isfinite(wl)):
             raise InputError("wavelengths contain NaN or infinite values", source=source)
+        if wl.min() <= 0 or wl.max() > MAX_WAVELENGTH_NM:
+            bad = wl.min() if wl.min() <= 0 else wl.max()
+            raise InputError(f"wavelength {bad:g} nm is outside 0-{MAX_WAVELENGTH_NM:g} nm (wrong unit?)", source=source)
         steps = np.diff(wl)
         if np.any(steps <= 0):
             i = int(np.argmax(steps <= 0)) + 1
@@ -221,6 +232,11 @@ class Spectra:
             totals = np.array(self.measured_totals, dtype=np.float64).reshape(n, -1)
         totals.setflags(write=False)
         object.__setattr__(self, "measured_totals", totals)
+        object.__setattr__(self, "metadata", _per_spectrum(self.metadata, n, ()))
+
+    def metadata_of(self, i: int) -> dict[str, str]:
+        """The metadata of spectrum ``i`` as an ordered ``{key: value}`` dict."""
+        return dict(self.metadata[i])
 
     def __len__(self) -> int:
         return self.values.shape[0]
@@ -243,6 +259,7 @@ class Spectra:
             sha256=tuple(self.sha256[i] for i in idx),
             flags=tuple(self.flags[i] for i in idx),
             measured_range_nm=tuple(self.measured_range_nm[i] for i in idx),
+            metadata=tuple(self.metadata[i] for i in idx),
             measured_totals=self.measured_totals[idx],
             interpolation=tuple(self.interpolation[i] for i in idx),
         )
@@ -474,6 +491,7 @@ def to_working_grid(spectra: Spectra, *, interpolation: str = "auto") -> Spectra
         sha256=spectra.sha256,
         flags=flags,
         measured_range_nm=spectra.measured_range_nm,
+        metadata=spectra.metadata,
         measured_totals=spectra.measured_totals,
         interpolation=used,
     )
@@ -502,6 +520,7 @@ def concatenate(items: Iterable[Spectra], *, interpolation: str = "auto") -> Spe
         sha256=sum((s.sha256 for s in items), ()),
         flags=sum((s.flags for s in items), ()),
         measured_range_nm=sum((s.measured_range_nm for s in items), ()),
+        metadata=sum((s.metadata for s in items), ()),
         measured_totals=np.concatenate([s.measured_totals for s in items]),
         interpolation=sum((s.interpolation for s in items), ()),
     )

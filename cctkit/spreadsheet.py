@@ -107,8 +107,8 @@ def csv_to_xlsx(text: str, *, provenance: dict[str, Any] | None = None, inputs: 
         ws.freeze_panes = "B2"
     meta = wb.create_sheet("provenance")
     meta.append(["key", "value"])
-    for c in comments:
-        _append_text(meta, ["note", c])
+    for note in comments:
+        _append_text(meta, ["note", note])
     for key, value in _flat(provenance or {}):
         _append_text(meta, [key, value])
     for item in inputs:

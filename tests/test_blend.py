@@ -205,6 +205,19 @@ def test_out_of_gamut_and_too_bright_get_their_status(wash):
     assert p.records()[0]["drives"] == {"warm white": None, "cool white": None, "lime": None}
 
 
+@pytest.mark.parametrize("duv", [0.0, 0.02, -0.02, 0.045])
+def test_output_limit_by_vertices_equals_the_linear_program(wash, duv):
+    from cctkit.locus import uv_from_cct_duv
+
+    uv = uv_from_cct_duv(np.arange(1800.0, 6501.0, 500.0), duv)
+    lp, messages = blend.max_luminous(wash, uv)
+    assert all("HiGHS" in m for m in messages)
+    # two methods of one LP: HiGHS and vertex enumeration agree to rounding (LP theory: optimum at a vertex)
+    np.testing.assert_allclose(blend.max_luminous_by_vertices(wash, uv), lp, rtol=0, atol=1e-9 * lp.max())
+    if duv == 0.045:
+        assert (lp == 0).sum() >= 5  # far above the locus: out of reach for most CCTs
+
+
 def test_hull_distance_is_zero_inside_and_positive_outside(wash):
     hull = blend.reachable_hull(wash)
     centre = hull.mean(axis=0)

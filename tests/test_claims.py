@@ -117,7 +117,7 @@ def test_as_dict_layout():
     assert set(d["samples"][0]) == {"name", "verdict", "declared_id", "checks"}
     assert set(d["samples"][0]["checks"][1]) == {"metric", "value", "min", "max", "margin", "result", "pass"}
     assert d["samples"][0]["checks"][1]["value"] == 55.0  # R9 taken from the list R
-    assert set(d["summary"]["R9"]) == {"count_pass", "mean", "std", "min", "max"}
+    assert set(d["summary"]["R9"]) == {"count_pass", "count_inconclusive", "count_fail", "mean", "std", "min", "max"}
     assert d["summary"]["R9"]["std"] is None  # one sample
     json.dumps(d)
 
@@ -268,13 +268,14 @@ def test_cli_verify_and_bin(tmp_path):
     assert r.exit_code == 1
     assert "verdict: FAIL" in r.stdout and "FL12" in r.stdout
     header = out.read_text().splitlines()[0]
-    assert header.startswith("name,verdict,cct_K_value,cct_K_min,cct_K_max,cct_K_margin,cct_K_result")
+    assert header.startswith("name,declared_id,verdict,cct_K_value,cct_K_min,cct_K_max,cct_K_margin,cct_K_U,"
+                             "cct_K_result")
     r = _run(["verify", str(spectra), "--claims", str(claims), "--output", str(out)])
     assert r.exit_code == 2 and "--overwrite" in r.stderr and r.stderr.count("\n") == 1
     ok = tmp_path / "ok.toml"
     ok.write_text("[limits]\ncct_K = { min = 2800, max = 3600 }\n")
     assert _run(["verify", str(spectra), "--claims", str(ok)]).exit_code == 0
-    r = _run(["bin", str(spectra), "--json"])
+    r = _run(["bin", str(spectra), "--json", "--ellipses", "macadam1942"])
     assert r.exit_code == 0, r.stderr
     b = json.loads(r.stdout)
     assert [s["quadrangle"] for s in b["samples"]] == ["3000K", "3000K", "3500K"]

@@ -103,8 +103,10 @@ CASES: list[tuple[str, str, str | bytes, int | None, str]] = [
     ("duplicate-names", "names.csv", rows("wl,A,A", *[f"{w},1,2" for w in WL]), 1,
      r"column name 'A' appears twice \(columns 2 and 3\)"),
     ("header-count", "hcount.csv", "wavelength,A,B\n" + GOOD, 1, r"header has 3 columns but the data rows have 2"),
-    ("metadata-preamble", "meta.csv", "Integration time: 100 ms\nwavelength,A\n" + GOOD, 1,
-     r"header has 1 column but the data rows have 2; notes above the table must be comment lines"),
+    # notes above a table are metadata now; two tables in one file are ambiguous
+    ("two-tables", "two.csv", "lamp A\nwavelength,A\n" + GOOD + "lamp B\nwavelength,B\n" + GOOD, 11,
+     r"two tables of numbers, lines 3-8 and lines 11-16"),
+    ("header-no-numbers", "hn.csv", "Operator: Kit\nwavelength;lamp\nEnd of data\n", 2, r"header but no data rows"),
     ("space-in-tab-file", "mixsep.tsv", GOOD.replace(",", "\t").replace("390\t0.3", "390 0.3"), 3,
      r"row has 1 cell, expected 2"),
     ("micrometres-unstated", "um.csv", rows(*[f"0.{w},1" for w in WL]), None, r"wavelengths 0\.38-0\.405 look like micrometres"),

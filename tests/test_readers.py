@@ -318,7 +318,8 @@ def test_tm27_fixture_against_reference_reader():
     np.testing.assert_array_equal(s.wavelength_nm, ref.wavelengths)
     np.testing.assert_array_equal(s.values[0], ref.values)
     assert ref.spectral_quantity == "relative" and s.quantity is Quantity.RELATIVE
-    assert s.names == ("beacon_relative",)
+    assert s.names == ("LW-12",)  # the CatalogNumber names it
+    assert s.metadata_of(0)["CatalogNumber"] == "LW-12"
     assert s.sha256 == (sha256_of_file(path),)
 
 

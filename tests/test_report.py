@@ -58,12 +58,13 @@ def _spectra(n: int, *, long_names: bool = False) -> Spectra:
     return Spectra(WL, values, tuple(f"{base}{k + 1:03d}" for k in range(n)), quantity=Quantity.RADIANT_FLUX)
 
 
-def test_single_spectrum_pdf_has_one_page_and_the_library_numbers(one, tmp_path):
+def test_single_spectrum_pdf_has_a_signoff_page_a_spectrum_page_and_the_library_numbers(one, tmp_path):
     out = tmp_path / "r.pdf"
     rep = _build(one, out)
     assert out.read_bytes()[:5] == b"%PDF-"
     text = _text(out)
-    assert len(text) == 1 == len(rep.pages)
+    assert len(text) == 2 == len(rep.pages) and rep.pages[0] == "sign-off and inputs"
+    text = text[1:]
     rec = one.records()[0]
     for key in ("cct_K", "duv", "x", "y", "u_prime", "v_prime", "ler_lm_per_W", "sp_ratio", "melanopic_der",
                 "Ra", "R9", "Rf", "Rg"):
@@ -76,28 +77,37 @@ def test_single_spectrum_pdf_has_one_page_and_the_library_numbers(one, tmp_path)
     assert "IEC 62471" in text[0] and "not medical advice" in text[0]
 
 
-def test_pdf_embeds_truetype_fonts(one, tmp_path):
+def test_pdf_uses_the_standard_fonts_without_embedding(one, tmp_path):
     out = tmp_path / "fonts.pdf"
     _build(one, out)
     reader = pypdf.PdfReader(str(out))
-    fonts = reader.pages[0]["/Resources"]["/Font"]
-    kinds = {fonts[k].get_object()["/Subtype"] for k in fonts}
-    assert kinds <= {"/TrueType", "/Type0"}, kinds  # pdf.fonttype 42: no Type 3 bitmaps
-    for k in fonts:
-        f = fonts[k].get_object()
-        desc = f.get("/FontDescriptor") or f["/DescendantFonts"][0].get_object()["/FontDescriptor"]
-        assert "/FontFile2" in desc.get_object()  # the font program is embedded
+    for page in reader.pages:
+        fonts = page["/Resources"]["/Font"]
+        names = {str(fonts[k].get_object()["/BaseFont"]) for k in fonts}
+        # the PDF standard 14 fonts need no embedding (ISO 32000-1 section 9.6.2.2, from memory)
+        assert names <= {"/Helvetica", "/Helvetica-Bold", "/Courier", "/Courier-Bold"}, names
+    # a character outside the core fonts' set (Windows-1252) would come out as "?"
+    text = _text(out)
+    assert "CIE 1931 2\u00b0" in text[1] and "?" not in "".join(text)
 
 
-@pytest.mark.parametrize("n, expected", [(1, 1), (3, 4), (BATCH_PAGE_LIMIT, BATCH_PAGE_LIMIT + 1),
-                                         (BATCH_PAGE_LIMIT + 1, 2), (100, math.ceil(100 / pages.SUMMARY_ROWS_PER_PAGE) + 1)])
+@pytest.mark.parametrize("n, expected", [(1, 2), (3, 5), (BATCH_PAGE_LIMIT, BATCH_PAGE_LIMIT + 2),
+                                         (BATCH_PAGE_LIMIT + 1, 3), (100, math.ceil(100 / pages.SUMMARY_ROWS_PER_PAGE) + 2)])
 def test_page_plan(n, expected):
-    assert len(plan_pages(n)) == expected
+    plan = plan_pages(n)
+    assert len(plan) == expected and plan[0] == ("cover", None)
 
 
 def test_page_plan_forced_pages_for_a_batch():
     plan = plan_pages(20, pages=True)
-    assert len(plan) == 1 + 1 + 20 and [k for k, _ in plan].count("sample") == 20
+    assert len(plan) == 1 + 1 + 1 + 20 and [k for k, _ in plan].count("sample") == 20
+
+
+def test_page_plan_keeps_only_the_profile_sections():
+    plan = plan_pages(3, sections=("spectra",))
+    assert [k for k, _ in plan] == ["cover", "sample", "sample", "sample"]
+    plan = plan_pages(30, sections=("scatter",))
+    assert [k for k, _ in plan] == ["cover", "scatter"]
 
 
 def test_comparison_report_pages_and_long_names(tmp_path):
@@ -105,7 +115,8 @@ def test_comparison_report_pages_and_long_names(tmp_path):
     out = tmp_path / "cmp.pdf"
     rep = _build(a, out, paper="letter", diagram="uvp")
     text = _text(out)
-    assert len(text) == 4 and rep.pages[0] == "comparison"
+    assert len(text) == 5 and rep.pages[1] == "comparison"
+    text = text[1:]
     recs = a.records()
     for r in recs:
         assert pages.format_value(r, "cct_K") in text[0]
@@ -122,7 +133,8 @@ def test_large_batch_gets_summary_not_hundreds_of_pages(tmp_path):
     out = tmp_path / "batch.pdf"
     rep = _build(a, out, diagram="xy")
     text = _text(out)
-    assert len(text) == math.ceil(50 / pages.SUMMARY_ROWS_PER_PAGE) + 1 == len(rep.pages)
+    assert len(text) == math.ceil(50 / pages.SUMMARY_ROWS_PER_PAGE) + 2 == len(rep.pages)
+    text = text[1:]
     recs = a.records()
     for i in (0, 43):
         assert recs[i]["name"] in text[0] and pages.format_value(recs[i], "cct_K") in text[0]
@@ -145,7 +157,7 @@ def test_out_of_range_duv_is_drawn_as_not_reported(tmp_path):
     assert rec["cct_K"] is None and abs(rec["duv"]) > DUV_LIMIT  # CIE 15:2018 section 9.5
     out = tmp_path / "g.pdf"
     _build(a, out)
-    text = _text(out)[0]
+    text = _text(out)[1]
     assert f"|Duv| > {DUV_LIMIT:g}" in text and "CCT not reported" in text
 
 
@@ -212,7 +224,7 @@ def test_cli_writes_and_refuses_overwrite(one_file, tmp_path):
     out = tmp_path / "cli.pdf"
     r = runner.invoke(app, ["report", str(one_file), "--output", str(out), "--quantity", "relative"])
     assert r.exit_code == 0, r.output
-    assert len(pypdf.PdfReader(str(out)).pages) == 1
+    assert len(pypdf.PdfReader(str(out)).pages) == 2
     before = out.read_bytes()
     r = runner.invoke(app, ["report", str(one_file), "--output", str(out)])
     assert r.exit_code == 2
@@ -242,4 +254,4 @@ def test_demo_spectra_if_present(tmp_path):
     a = analyse(concatenate([read_spectra(f) for f in files]))
     out = tmp_path / "demo.pdf"
     _build(a, out)
-    assert len(_text(out)) == len(files) + 1
+    assert len(_text(out)) == len(files) + 2

@@ -25,7 +25,7 @@ from cctkit.cli import app  # noqa: E402
 from cctkit.errors import InputError  # noqa: E402
 from cctkit.planck import spectral_exitance  # noqa: E402
 from cctkit.readers import read_spectra  # noqa: E402
-from cctkit.report import build_report, verdict as vd  # noqa: E402
+from cctkit.report import build_report, charts, verdict as vd  # noqa: E402
 from cctkit.spectra import Quantity, Spectra, concatenate  # noqa: E402
 
 from conftest import build_report_strict as _build, pdf_page_texts as _text  # noqa: E402
@@ -67,17 +67,18 @@ def test_verdict_pages_come_first_and_add_to_the_page_count(lot, lot_pdf, tmp_pa
     assert n_verdict == 2  # 25 samples and 6 claims: the overview and one table page
     assert len(rep.pages) == len(plain.pages) + n_verdict
     assert len(_text(out)) == len(rep.pages)
-    assert rep.pages[:n_verdict] == ("claims verdict", "claims verdict table 1")
-    assert rep.pages[n_verdict:] == plain.pages
+    assert rep.pages[0] == "sign-off and inputs"  # the approval block stays on the first page
+    assert rep.pages[1:1 + n_verdict] == ("claims verdict", "claims verdict table 1")
+    assert rep.pages[1 + n_verdict:] == plain.pages[1:]
     text = _text(out)
-    assert "Claims verdict \u2014 Northbeam Lighting" in text[0]
-    assert f"page 1 of {len(rep.pages)}" in text[0]
+    assert "Claims verdict \u2014 Northbeam Lighting" in text[1]
+    assert f"page 2 of {len(rep.pages)}" in text[1]
     assert f"page {len(rep.pages)} of {len(rep.pages)}" in text[-1]
 
 
 def test_overview_shows_claims_rule_and_the_verdict_summary(lot, lot_pdf):
     analysis, claims, doc = lot
-    page = _text(lot_pdf[0])[0]
+    page = _text(lot_pdf[0])[1]
     flat = " ".join(page.split())
     for part in (claims.source, claims.supplier, claims.product):
         assert part in flat
@@ -87,7 +88,9 @@ def test_overview_shows_claims_rule_and_the_verdict_summary(lot, lot_pdf):
         assert f"U = {U:g}" in flat, metric
     n = len(doc["samples"])
     for metric, st in doc["summary"].items():
-        assert f"{st['count_pass']}/{n}" in flat, metric
+        # pass / inconclusive / FAIL counts per claim, adding up to the samples
+        assert st["count_pass"] + st["count_inconclusive"] + st["count_fail"] == n
+        assert f"{st['count_pass']} / {st['count_inconclusive']} / {st['count_fail']}" in flat, metric
     # Statistics as the verdict document has them, in the report's formats.
     assert f"{doc['summary']['luminous_flux_lm']['mean']:.1f}" in flat
     assert f"{doc['summary']['sdcm']['max']:.2f}" in flat
@@ -99,7 +102,7 @@ def test_overview_shows_claims_rule_and_the_verdict_summary(lot, lot_pdf):
 
 def test_table_names_every_sample_with_its_verdict_and_the_claim_limits(lot, lot_pdf):
     analysis, claims, doc = lot
-    table = _text(lot_pdf[0])[1]
+    table = _text(lot_pdf[0])[2]
     samples = doc["samples"]
     starts = []
     for k, s in enumerate(samples, start=1):
@@ -119,9 +122,9 @@ def test_table_names_every_sample_with_its_verdict_and_the_claim_limits(lot, lot
     # The limits as the verdict document has them.
     for c in samples[0]["checks"]:
         if c["min"] is not None:
-            assert f"\u2265 {c['min']:g}" in table, c["metric"]
+            assert f">= {c['min']:g}" in table, c["metric"]
         if c["max"] is not None:
-            assert f"\u2264 {c['max']:g}" in table, c["metric"]
+            assert f"<= {c['max']:g}" in table, c["metric"]
         if "decision" in c:
             assert f"U {c['decision']['U']:g}" in table, c["metric"]
     # A value as the document has it: sample U05's SDCM step count (2 decimals).
@@ -144,13 +147,15 @@ def test_chart_marks_pass_and_fail_by_marker_shape_and_draws_the_claimed_regions
         vd.verdict_chart(analysis, ax, doc, claims, diagram="uv")
     lines = {ln.get_label(): ln for ln in ax.lines if ln.get_label().startswith("verdict-")}
     assert set(lines) == {"verdict-pass", "verdict-fail", "verdict-inconclusive"}
+    assert not charts.layout_problems(ax)
     markers = {k: (ln.get_marker(), ln.get_markerfacecolor()) for k, ln in lines.items()}
     assert len({m for m, _ in markers.values()}) == 3  # three shapes: greyscale-readable
     assert markers["verdict-pass"][0] != markers["verdict-fail"][0]
     # No point keeps the chart's own single-style marker: every sample is drawn once, by verdict.
     marked = [ln for ln in ax.lines if ln.get_marker() not in ("None", None, "")]
     assert sum(len(ln.get_xdata()) for ln in marked) == len(doc["samples"])
-    verdicts = np.array([s["verdict"] for s in doc["samples"]])
+    # Marked by the chromaticity checks alone (quadrangle and SDCM), not the overall verdict.
+    verdicts = np.array([_chroma_result(s) for s in doc["samples"]])
     for key in WORDS:
         ln = lines[f"verdict-{key}"]
         np.testing.assert_array_equal(np.column_stack([ln.get_xdata(), ln.get_ydata()]),
@@ -163,6 +168,48 @@ def test_chart_marks_pass_and_fail_by_marker_shape_and_draws_the_claimed_regions
     assert any(d.shape == (ell_uv.shape[0] + 1, 2) and np.allclose(d[:-1], ell_uv, atol=1e-12) for d in drawn)
     styles = {o.label: o.linestyle for o in vd.claim_outlines(claims)}
     assert styles == {"ANSI 3000K": "-", "F3000 3 SDCM": "--"}  # told apart by line style, not colour
+
+
+def _chroma_result(sample) -> str:
+    results = [c["result"] for c in sample["checks"] if c["metric"] in ("ansi_quadrangle", "sdcm")]
+    return "fail" if "fail" in results else ("inconclusive" if "inconclusive" in results else "pass")
+
+
+def test_chart_marks_a_sample_that_fails_on_flux_only_as_a_chromaticity_pass(lot):
+    from matplotlib.figure import Figure
+
+    analysis, claims, doc = lot
+    flux_only = [k for k, s in enumerate(doc["samples"]) if s["verdict"] == "fail" and _chroma_result(s) == "pass"]
+    assert flux_only  # the demo lot has units that fail on flux or efficacy inside the ellipse
+    fig = Figure(figsize=(4, 4))
+    ax = fig.add_axes((0.15, 0.15, 0.7, 0.7))
+    vd.verdict_chart(analysis, ax, doc, claims)
+    passed = next(ln for ln in ax.lines if ln.get_label() == "verdict-pass")
+    pts = np.column_stack([passed.get_xdata(), passed.get_ydata()])
+    for k in flux_only:
+        assert any(np.allclose(p, np.asarray(analysis.uv)[k]) for p in pts)
+
+
+def test_badge_words_do_not_sit_on_the_hatching(lot):
+    from cctkit.report.build import report_meta
+    from cctkit.report.pages import _Page
+
+    p = _Page("a4")
+    band, word = vd._verdict_badge(p, 5.0, 1.0, "fail")
+    r = charts.renderer_of(p.fig)
+    assert band.get_hatch() and not band.get_window_extent(r).overlaps(word.get_window_extent(r))
+
+
+def test_table_head_gives_a_two_sided_limit_in_full(lot, tmp_path):
+    analysis = analyse(_batch(4), rendering=False)
+    claims = parse_claims({"limits": {"duv": {"min": -0.006, "max": 0.006}, "cct_K": {"min": 2900, "max": 3200},
+                                      "x": {"min": 0.41}, "y": {"max": 0.42}, "u_prime": {"min": 0.24},
+                                      "v_prime": {"min": 0.5}}}, source="two.toml")
+    doc = verify(analysis.records(), claims).as_dict()
+    out = tmp_path / "two.pdf"
+    _build(analysis, out, verdict=doc, claims=claims, pages=False)
+    table = " ".join(_text(out)[2].split())
+    assert "-0.006 to 0.006" in table and "2900 to 3200" in table
 
 
 def test_table_hatches_exactly_the_cells_that_do_not_pass(lot):
@@ -211,9 +258,9 @@ def test_many_samples_and_claims_paginate_rows_and_columns(tmp_path):
     assert vd.verdict_page_count(doc) == 1 + 2 * 2
     out = tmp_path / "many.pdf"
     rep = _build(analysis, out, verdict=doc, claims=claims, pages=False)
-    assert rep.pages[:5] == ("claims verdict",) + tuple(f"claims verdict table {k}" for k in range(1, 5))
+    assert rep.pages[1:6] == ("claims verdict",) + tuple(f"claims verdict table {k}" for k in range(1, 5))
     text = _text(out)
-    tables = text[1:5]
+    tables = text[2:6]
     names = [s["name"] for s in doc["samples"]]
     # Each row page (both column groups) lists its samples once; together all samples, in order.
     for group in (tables[0::2], tables[1::2]):
@@ -245,16 +292,18 @@ runner = CliRunner()
 def test_cli_report_and_verify_write_the_verdict_report(tmp_path):
     files = [str(f) for f in _lot_files()]
     out = tmp_path / "report.pdf"
-    res = runner.invoke(app, ["report", *files, "--claims", str(CLAIMS), "--output", str(out)])
-    assert res.exit_code == 0, res.output
-    first = _text(out)[0]
+    res = runner.invoke(app, ["report", *files, "--claims", str(CLAIMS), "--output", str(out), "--date",
+                              "2026-01-15"])
+    assert res.exit_code == 1, res.output  # a failing verdict: verify's exit status, and the report is written
+    first = _text(out)[1]
     assert "Claims verdict" in first and "verdict: FAIL" in first
 
     out2 = tmp_path / "verify.pdf"
-    res = runner.invoke(app, ["verify", *files, "--claims", str(CLAIMS), "--report", str(out2)])
+    res = runner.invoke(app, ["verify", *files, "--claims", str(CLAIMS), "--report", str(out2)],
+                        env={"SOURCE_DATE_EPOCH": "1768435200"})  # 2026-01-15
     assert res.exit_code == 1, res.output  # the lot fails (exit status of verify unchanged)
-    assert _text(out2)[:2] == _text(out)[:2]  # the same verdict pages from either command
-    assert "Claims verdict" in _text(out2)[0]
+    assert _text(out2)[:3] == _text(out)[:3]  # the same sign-off and verdict pages from either command
+    assert "Claims verdict" in _text(out2)[1]
     assert len(_text(out2)) == len(_text(out))
 
     res = runner.invoke(app, ["verify", *files, "--claims", str(CLAIMS), "--report", str(tmp_path / "v.png")])

@@ -23,7 +23,7 @@ def run(*args):
 
 
 def _csv_rows(text: str) -> list[list[str]]:
-    return list(csv.reader(io.StringIO("".join(l for l in text.splitlines(True) if not l.startswith("#")))))
+    return list(csv.reader(io.StringIO("".join(line for line in text.splitlines(True) if not line.startswith("#")))))
 
 
 def _same_table(csv_text: str, xlsx_rows: list[list]) -> int:

@@ -274,7 +274,7 @@ def test_binning_at_centres_and_along_an_axis():
     t = np.deg2rad(th)
     off = e.centre_xy + 2.5 * a * np.array([np.cos(t), np.sin(t)])
     xy = np.vstack([centres, off[None], [[np.nan, np.nan]]])
-    r = bin_chromaticities(xy, names=[q.name for q in quads] + ["off", "dark"])
+    r = bin_chromaticities(xy, names=[q.name for q in quads] + ["off", "dark"], ellipses="macadam1942")
     assert list(r.quadrangle[:10]) == [q.name for q in quads]
     assert list(r.centre[:10]) == [q.name for q in quads]
     np.testing.assert_allclose(r.sdcm_steps[:10], 0.0, atol=1e-9)

@@ -9,7 +9,21 @@ from typing import Optional
 import typer
 
 from ..errors import InputError
-from .options import INTERPOLATION_OPTION, OBSERVER_HELP, OVERWRITE_OPTION, parse_interpolation, QUANTITY_HELP, info, parse_observer, require_suffix
+from .options import (
+    INTERPOLATION_OPTION,
+    parse_interpolation,
+    OBSERVER_HELP,
+    OVERWRITE_OPTION,
+    QUANTITY_HELP,
+    RECURSIVE_OPTION,
+    info,
+    parse_observer,
+    require_suffix,
+    write_output,
+)
+
+#: Exit status of a run that finished but skipped inputs it could not read (``--skip-bad``).
+EXIT_SKIPPED = 4
 
 
 def batch_cmd(
@@ -29,8 +43,20 @@ def batch_cmd(
     progress: bool = typer.Option(False, "--progress", help="Show progress on stderr even when it is not a terminal."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress and no summary line (as cctkit --quiet)."),
     interpolation: str = INTERPOLATION_OPTION,
+    resume: bool = typer.Option(False, "--resume", help="CSV output: keep the finished chunks if the run is stopped "
+                                "or killed, and continue an earlier such run from its last complete chunk."),
+    recursive: bool = RECURSIVE_OPTION,
+    skip_bad: bool = typer.Option(
+        False, "--skip-bad",
+        help="For a folder: skip files that cannot be read and go on; each one becomes a row (file, line, cause) "
+        f"of OUTPUT-STEM.errors.csv beside the output, and the exit status is {EXIT_SKIPPED} when any was skipped.",
+    ),
 ) -> None:
-    """Every measure for many spectra, written chunk by chunk to one CSV or Parquet file."""
+    """Every measure for many spectra, written chunk by chunk to one CSV or Parquet file.
+
+    Exit status: 0 all read; 2 bad input (without --skip-bad the first bad file stops the run and
+    no output is left); 4 finished with --skip-bad but some files were skipped (see the errors file).
+    """
     from ..analysis import provenance
     from ..batch import Progress, run_batch
     from ..readers.wide import open_chunked
@@ -49,7 +75,14 @@ def batch_cmd(
     if quantity is not None:
         Quantity.parse(quantity, source="--quantity")
     check_output_path(output, overwrite=overwrite, inputs=[input_path])  # fail before reading anything
-    source = open_chunked(input_path, chunk_size=chunk_size, quantity=quantity, interpolation=interp)
+    errors_path = errors_file_for(output)
+    if skip_bad:
+        if not input_path.is_dir():
+            raise InputError("--skip-bad applies to a folder of spectrum files", source=str(input_path))
+        check_output_path(errors_path, overwrite=overwrite, inputs=[input_path])
+    skipped: list[InputError] | None = [] if skip_bad else None
+    source = open_chunked(input_path, chunk_size=chunk_size, quantity=quantity, recursive=recursive, interpolation=interp,
+                          skipped=skipped)
     from .options import verbosity
 
     quiet = quiet or verbosity() < 0
@@ -66,12 +99,34 @@ def batch_cmd(
         overwrite=overwrite,
         progress=bar,
         metadata={**provenance(interpolation=interp), "input": str(input_path), "rendering": rendering},
+        resume=resume,
     )
+    for note in summary.notes:
+        info(f"note: {note}")
+    if skipped is not None:
+        write_output(errors_path, errors_csv(skipped), overwrite=overwrite, inputs=[input_path])
     if not quiet:
         info(
             f"wrote {summary.output}: {summary.spectra} spectra in {summary.chunks} chunks, "
             f"{summary.elapsed_s:.1f} s ({summary.spectra_per_s:,.0f} spectra/s, {summary.executor})"
         )
+        if skipped:
+            info(f"skipped {len(skipped)} file{'s' if len(skipped) != 1 else ''} that could not be read; "
+                 f"see {errors_path}")
+    if skipped:
+        raise typer.Exit(EXIT_SKIPPED)
+
+
+def errors_file_for(output: Path) -> Path:
+    """Where ``batch --skip-bad`` writes its errors table: ``STEM.errors.csv`` beside ``output``."""
+    return output.with_name(f"{output.stem}.errors.csv")
+
+
+def errors_csv(errors: list[InputError]) -> str:
+    """One row per skipped input: file, line (empty when none applies), cause."""
+    from ..formats import csv_text
+
+    return csv_text(["file", "line", "cause"], ([e.source or "", e.line, e.reason] for e in errors))
 
 
 def register(app: typer.Typer) -> None:

@@ -13,7 +13,7 @@ file that ``cctkit`` itself can read back.
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any, Optional
+from typing import Any, List, Optional
 
 import typer
 
@@ -22,6 +22,14 @@ from ..spreadsheet import check_dialect
 from .options import (
     INTERPOLATION_OPTION,
     parse_interpolation,
+    RECURSIVE_OPTION,
+    SKIP_ROWS_OPTION,
+    DELIMITER_OPTION,
+    DECIMAL_OPTION,
+    WAVELENGTH_COLUMN_OPTION,
+    COLUMNS_OPTION,
+    input_files,
+    table_layout,
     CSV_DIALECT_OPTION,
     JSON_OPTION,
     OVERWRITE_OPTION,
@@ -54,30 +62,41 @@ def _worst(values, labels, count: int = 3) -> list[tuple[str, float]]:
 
 
 def versus_cmd(
-    file: Path = typer.Argument(..., help="Spectrum file (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of "
+                                       "them; spectra of any quantity (each is scaled to Y = 100)."),
     method: str = typer.Option("cie224", "--method", "-m", help=METHOD_HELP),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     cct: Optional[float] = typer.Option(None, "--cct", help="Use this CCT [K] for every spectrum instead of computing it."),
     output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the per-wavelength comparison to FILE (.csv or .xlsx)."),
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
+    recursive: bool = RECURSIVE_OPTION,
+    skip_rows: Optional[int] = SKIP_ROWS_OPTION,
+    delimiter: Optional[str] = DELIMITER_OPTION,
+    decimal: Optional[str] = DECIMAL_OPTION,
+    wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
+    columns: Optional[str] = COLUMNS_OPTION,
     csv_dialect: str = CSV_DIALECT_OPTION,
     interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
-    """Each spectrum in FILE against the reference illuminant of its CCT, per wavelength and per sample."""
+    """Each spectrum in FILES against the reference illuminant of its CCT, per wavelength and per sample."""
     import numpy as np
 
     from ..constants import DUV_LIMIT, VISIBLE_BAND_NM
-    from ..readers import read_spectra
+    from ..analysis import read_files
+    from ..formats import terminal_safe
     from ..rendering import REFERENCE_RANGE_K, colour_rendition, compare_to_reference, reference_cct, rendering_cct
-    from ..spectra import require_signal, to_working_grid
+    from ..spectra import Quantity, concatenate, to_working_grid
 
     ref_method = _method(method)
     if output is not None:
         require_suffix(output, (".csv", ".xlsx"))
         check_dialect(csv_dialect)
-    spectra = to_working_grid(require_signal(read_spectra(file, quantity=quantity)),
-                              interpolation=parse_interpolation(interpolation))
+    files = input_files(files, recursive=recursive)
+    items = read_files(files, quantity=quantity, layout=table_layout(skip_rows, delimiter, decimal,
+                                                                     wavelength_column, columns))
+    # Both test and reference are compared at Y = 100, so spectra of different quantities sit side by side.
+    spectra = concatenate([to_working_grid(s, interpolation=parse_interpolation(interpolation)).scaled(1.0, Quantity.RELATIVE) for s in items])
     values = spectra.values
     n = values.shape[0]
     if cct is not None:
@@ -128,6 +147,7 @@ def versus_cmd(
             "ces_dE": comp.ces_dE[i],
             "ces_hue_shift_deg": comp.ces_hue_shift_deg[i],
             "flags": [f.as_dict() for f in spectra.flags[i]],
+            "metadata": spectra.metadata_of(i),
         })
 
     if output is not None:
@@ -137,7 +157,12 @@ def versus_cmd(
             header += [f"{name}: test (Y=100)", f"{name}: reference (Y=100)", f"{name}: difference", f"{name}: ratio"]
             columns += [comp.test[i], comp.reference[i], comp.difference[i], comp.ratio[i]]
         rows = zip(*[c.tolist() for c in columns])
-        write_output(output, csv_text(header, rows), overwrite=overwrite, inputs=[file], dialect=csv_dialect)
+        from .. import __version__
+
+        # where the numbers came from: the SHA-256 of the bytes analysed (comment lines our readers skip)
+        origin = "".join(f"# input {terminal_safe(str(f))} sha256 {s.sha256[0]}; cctkit {__version__}\n"
+                         for f, s in zip(files, items))
+        write_output(output, origin + csv_text(header, rows), overwrite=overwrite, inputs=files, dialect=csv_dialect)
 
     if json_out:
         emit_json({"method": ref_method, "interpolation": list(spectra.interpolation),

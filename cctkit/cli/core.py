@@ -13,6 +13,14 @@ from ..spreadsheet import check_dialect
 from .options import (
     INTERPOLATION_OPTION,
     parse_interpolation,
+    RECURSIVE_OPTION,
+    SKIP_ROWS_OPTION,
+    DELIMITER_OPTION,
+    DECIMAL_OPTION,
+    WAVELENGTH_COLUMN_OPTION,
+    COLUMNS_OPTION,
+    input_files,
+    table_layout,
     CSV_DIALECT_OPTION,
     JSON_OPTION,
     OBSERVER_HELP,
@@ -116,12 +124,20 @@ def format_records(records: list[dict[str, Any]]) -> str:
 
 
 def inspect_cmd(
-    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of them."),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),
     json_out: bool = JSON_OPTION,
     output: Optional[Path] = OUTPUT_OPTION,
     overwrite: bool = OVERWRITE_OPTION,
+    recursive: bool = RECURSIVE_OPTION,
+    skip_rows: Optional[int] = SKIP_ROWS_OPTION,
+    delimiter: Optional[str] = DELIMITER_OPTION,
+    decimal: Optional[str] = DECIMAL_OPTION,
+    wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
+    columns: Optional[str] = COLUMNS_OPTION,
+    repeats: bool = typer.Option(False, "--as-repeats", help="Take every spectrum read as a repeat scan of one "
+                                 "sample: analyse their mean, and give the standard deviation per wavelength."),
     csv_dialect: str = CSV_DIALECT_OPTION,
     interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
@@ -136,7 +152,18 @@ def inspect_cmd(
         require_suffix(output, (".json", ".csv", ".xlsx"))
     check_dialect(csv_dialect)
     interp = parse_interpolation(interpolation)
-    records = analyse_groups(read_files(files, quantity=quantity), observer=obs, interpolation=interp)
+    layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
+    files = input_files(files, recursive=recursive)
+    items = read_files(files, quantity=quantity, layout=layout)
+    scans = None
+    if repeats:
+        from ..repeats import average_repeats
+
+        scans = average_repeats(items)
+        items = [scans.mean]
+    records = analyse_groups(items, observer=obs, interpolation=interp)
+    if scans is not None:
+        records[0]["repeats"] = scans.summary()
     doc = {**provenance(interpolation=interp), "spectra": records}
     if output is not None:
         if output.suffix.lower() == ".json":

@@ -21,6 +21,7 @@ from ..safe_io import atomic_write
 JSON_OPTION = typer.Option(False, "--json", help="Print one JSON document on stdout instead of a table.")
 OUTPUT_OPTION = typer.Option(None, "--output", "-o", help="Write the result to FILE (.csv, .xlsx or .json by extension).")
 OVERWRITE_OPTION = typer.Option(False, "--overwrite", help="Allow replacing an existing output file.")
+RECURSIVE_OPTION = typer.Option(False, "--recursive", "-r", help="For a folder given as input, also read its sub-folders.")
 CSV_DIALECT_OPTION = typer.Option(
     "comma", "--csv-dialect", metavar="comma|semicolon",
     help="CSV written by --output: comma (decimal point) or semicolon (decimal comma, for spreadsheets "
@@ -33,6 +34,35 @@ INTERPOLATION_OPTION = typer.Option(
          "PCHIP otherwise; line spectra that ring below zero are flagged), sprague, linear or pchip.",
 )
 OBSERVER_HELP = "CIE standard observer for colorimetry: 2 (CIE 1931) or 10 (CIE 1964)."
+
+
+SKIP_ROWS_OPTION = typer.Option(None, "--skip-rows", help="Delimited text: take the first N lines as notes, "
+                                "and look for the table below them.")
+DELIMITER_OPTION = typer.Option(None, "--delimiter", help="Delimited text: the column separator, "
+                                "tab | ';' | ',' | space (found out when not given).")
+DECIMAL_OPTION = typer.Option(None, "--decimal", help="Delimited text: the decimal mark, '.' or ',' (found out "
+                              "when not given).")
+WAVELENGTH_COLUMN_OPTION = typer.Option(None, "--wavelength-column", help="Delimited text: the column holding the "
+                                        "wavelengths, counted from 1 (default 1).")
+COLUMNS_OPTION = typer.Option(None, "--columns", help="Delimited text: the value columns to read, counted from 1, "
+                              "e.g. 2,4 or 2-5 (default: every other column).")
+
+
+def table_layout(skip_rows=None, delimiter=None, decimal=None, wavelength_column=None, columns=None):
+    """The :class:`~cctkit.readers.TableLayout` the table options ask for (None when none is given)."""
+    if skip_rows is None and delimiter is None and decimal is None and wavelength_column is None and columns is None:
+        return None
+    from ..readers import TableLayout
+
+    return TableLayout.from_options(skip_rows=skip_rows, delimiter=delimiter, decimal=decimal,
+                                    wavelength_column=wavelength_column, columns=columns)
+
+
+def input_files(paths: Iterable[Path], *, recursive: bool = False) -> list[Path]:
+    """The files named on the command line, each folder replaced by its spectrum files (sorted)."""
+    from ..readers import expand_paths
+
+    return [Path(p) for p in expand_paths(paths, recursive=recursive)]
 
 
 def emit_json(doc: Any) -> None:
@@ -59,7 +89,7 @@ def info(message: str) -> None:
 
 
 def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iterable = (),
-                 dialect: str = "comma") -> None:
+                 dialect: str = "comma", announce: bool = True) -> None:
     """Write ``text`` atomically; CSV text becomes a workbook for ``.xlsx`` or ``dialect`` CSV for ``.csv``."""
     inputs = list(inputs)
     suffix = Path(path).suffix.lower()
@@ -73,7 +103,8 @@ def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iter
 
         text = csv_in_dialect(text, dialect)
     atomic_write(path, text, overwrite=overwrite, inputs=inputs)
-    info(f"wrote {path}")
+    if announce:
+        info(f"wrote {path}")
 
 
 def parse_observer(value: str) -> int:

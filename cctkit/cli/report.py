@@ -7,36 +7,81 @@ from typing import List, Optional
 
 import typer
 
-from .options import INTERPOLATION_OPTION, OVERWRITE_OPTION, parse_interpolation, QUANTITY_HELP, info
+from .options import (
+    INTERPOLATION_OPTION,
+    parse_interpolation,
+    OVERWRITE_OPTION,
+    QUANTITY_HELP,
+    RECURSIVE_OPTION,
+    SKIP_ROWS_OPTION,
+    DELIMITER_OPTION,
+    DECIMAL_OPTION,
+    WAVELENGTH_COLUMN_OPTION,
+    COLUMNS_OPTION,
+    input_files,
+    table_layout,
+    info,
+)
 
 __all__ = ["report_cmd", "register"]
 
 
 def report_cmd(
-    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of them."),
     output: Path = typer.Option(..., "--output", "-o", help="Report file: .pdf (full report) or .png (summary, "
                                 "1600x1000 px at 150 dpi)."),
     overwrite: bool = OVERWRITE_OPTION,
     pages: bool = typer.Option(False, "--pages", help="One page per spectrum even for batches of more than 12."),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
-    paper: str = typer.Option("a4", "--paper", help="Paper size of the PDF: a4 | letter."),
+    paper: Optional[str] = typer.Option(None, "--paper", help="Paper size of the PDF: a4 | letter (default: the "
+                                        "profile's, else a4)."),
     diagram: str = typer.Option("uv", "--diagram", help="Chromaticity diagram: uv (CIE 1960) | uvp (CIE 1976 u'v') "
                                 "| xy (CIE 1931)."),
     claims_file: Optional[Path] = typer.Option(None, "--claims", help="Claims file (TOML): the PDF starts with "
-                                               "the verdict of every spectrum against it."),
+                                               "the verdict of every spectrum against it; the exit status is "
+                                               "verify's (0 pass, 1 fail, 3 inconclusive)."),
+    profile: Optional[Path] = typer.Option(None, "--profile", help="Report profile (.toml or .json): sign-off "
+                                           "fields, date, paper, logo, sections; the options below win over it."),
+    title: Optional[str] = typer.Option(None, "--title", help="Report title."),
+    project: Optional[str] = typer.Option(None, "--project", help="Project the measurements belong to."),
+    lab: Optional[str] = typer.Option(None, "--lab", help="Laboratory that measured."),
+    operator: Optional[str] = typer.Option(None, "--operator", help="Who measured (printed as 'prepared by')."),
+    instrument: Optional[str] = typer.Option(None, "--instrument", help="Instrument used (the files' own "
+                                             "instrument metadata is printed beside it)."),
+    notes: Optional[str] = typer.Option(None, "--notes", help="Free notes for the sign-off page."),
+    date: Optional[str] = typer.Option(None, "--date", help="Report date YYYY-MM-DD (default: the profile's, "
+                                       "else SOURCE_DATE_EPOCH, else today)."),
+    sections: Optional[str] = typer.Option(None, "--sections", help="Comma list of the pages to include: "
+                                           "verdict,comparison,spectra,summary,scatter (default all)."),
+    recursive: bool = RECURSIVE_OPTION,
+    skip_rows: Optional[int] = SKIP_ROWS_OPTION,
+    delimiter: Optional[str] = DELIMITER_OPTION,
+    decimal: Optional[str] = DECIMAL_OPTION,
+    wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
+    columns: Optional[str] = COLUMNS_OPTION,
     interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
-    """A report an engineer can sign off: provenance, headline numbers, spectrum, chromaticity, rendering."""
+    """A report an engineer can sign off: sign-off page, headline numbers, spectrum, rendering, chromaticity."""
     from ..report.build import check_options
+    from ..report.profile import SignOff, load_profile
     from ..safe_io import check_output_path
     from ..spectra import Quantity
 
-    paper_key = paper.strip().lower()
+    signoff = load_profile(profile) if profile is not None else SignOff()
+    signoff = signoff.merged(title=title, project=project, lab=lab, operator=operator, instrument=instrument,
+                             notes=notes, date=date, sections=sections)
+    paper_key = (paper or signoff.paper or "a4").strip().lower()
     diagram_key = diagram.strip().lower().replace("'", "p").replace("\u2032", "p")
     check_options(output, paper=paper_key, diagram=diagram_key, verdict=claims_file is not None)
     if quantity is not None:
         Quantity.parse(quantity, source="--quantity")
+    layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
+    files = input_files(files, recursive=recursive)
     inputs = [*files, claims_file] if claims_file is not None else list(files)
+    if profile is not None:
+        inputs.append(profile)
+    if signoff.logo is not None:
+        inputs.append(signoff.logo)
     check_output_path(output, overwrite=overwrite, inputs=inputs)  # before reading and drawing
     claims = None
     if claims_file is not None:
@@ -47,8 +92,9 @@ def report_cmd(
     from ..analysis import analyse_files
     from ..report import build_report
 
-    # One report holds one quantity: a mix is refused with a one-line InputError.
-    analysis = analyse_files(files, quantity=quantity, interpolation=parse_interpolation(interpolation))
+    # Spectra of different quantities share one report: colour results for all, totals each in its unit.
+    analysis = analyse_files(files, quantity=quantity, layout=layout,
+                             interpolation=parse_interpolation(interpolation))
     records = analysis.records()
     verdict = None
     if claims is not None:
@@ -56,13 +102,18 @@ def report_cmd(
 
         verdict = verify(records, claims).as_dict()
     rep = build_report(analysis, output, paper=paper_key, pages=True if pages else None, diagram=diagram_key,
-                       overwrite=overwrite, inputs=inputs, verdict=verdict, claims=claims, records=records)
+                       overwrite=overwrite, inputs=inputs, verdict=verdict, claims=claims, records=records,
+                       signoff=signoff)
     if verdict is not None:
         info(f"claims verdict: {verdict['verdict']}")
     if rep.kind == "pdf":
         info(f"wrote {output} ({len(rep.pages)} page{'s' if len(rep.pages) != 1 else ''})")
     else:
         info(f"wrote {output} ({rep.size_px[0]}x{rep.size_px[1]} px)")
+    if verdict is not None and verdict["verdict"] != "pass":
+        from .verify import EXIT_FAIL, EXIT_INCONCLUSIVE
+
+        raise typer.Exit(EXIT_FAIL if verdict["verdict"] == "fail" else EXIT_INCONCLUSIVE)
 
 
 def register(app: typer.Typer) -> None:

@@ -16,6 +16,14 @@ from ..spreadsheet import check_dialect
 from .options import (
     INTERPOLATION_OPTION,
     parse_interpolation,
+    RECURSIVE_OPTION,
+    SKIP_ROWS_OPTION,
+    DELIMITER_OPTION,
+    DECIMAL_OPTION,
+    WAVELENGTH_COLUMN_OPTION,
+    COLUMNS_OPTION,
+    input_files,
+    table_layout,
     CSV_DIALECT_OPTION,
     JSON_OPTION,
     OVERWRITE_OPTION,
@@ -34,11 +42,12 @@ _OUTPUT_CSV = typer.Option(None, "--output", "-o", help="Write the per-sample ta
 
 def _needs_rendering(claims) -> bool:
     rendering = {"Ra", "Rf", "Rg"} | {f"R{i}" for i in range(1, 15)}
-    return any(lim.metric in rendering for lim in claims.limits)
+    return bool(claims.design_intent) or any(
+        lim.metric in rendering or lim.metric.startswith(("Rf_h", "Rcs_h", "Rhs_h")) for lim in claims.limits)
 
 
 def verify_cmd(
-    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of them."),
     claims_file: Path = typer.Option(..., "--claims", help="Claims file (TOML) to check the spectra against."),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     json_out: bool = JSON_OPTION,
@@ -46,13 +55,26 @@ def verify_cmd(
     report: Optional[Path] = typer.Option(None, "--report", help="Also write the PDF report, starting with the "
                                           "verdict pages, to FILE (.pdf)."),
     overwrite: bool = OVERWRITE_OPTION,
+    recursive: bool = RECURSIVE_OPTION,
+    skip_rows: Optional[int] = SKIP_ROWS_OPTION,
+    delimiter: Optional[str] = DELIMITER_OPTION,
+    decimal: Optional[str] = DECIMAL_OPTION,
+    wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
+    columns: Optional[str] = COLUMNS_OPTION,
+    wide: bool = typer.Option(False, "--wide", help="Every cell as value [limit] margin result (wider than a "
+                              "terminal); the default table fits 100 columns."),
     csv_dialect: str = CSV_DIALECT_OPTION,
     interpolation: str = INTERPOLATION_OPTION,
+    uncertainty_model: Optional[Path] = typer.Option(
+        None, "--uncertainty-model", help="Guard bands from each sample's computed U (Monte Carlo with this "
+        "instrument model, TOML); a claims file's [uncertainty] entry still overrides its metric."),
 ) -> None:
     """Check measured spectra against a supplier's claims; exit 0 pass, 1 fail, 3 inconclusive, 2 bad input."""
     from ..claims import format_verdict, load_claims, verdict_csv, verify
 
-    inputs = [*files, claims_file]
+    layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
+    files = input_files(files, recursive=recursive)
+    inputs = [*files, claims_file] + ([uncertainty_model] if uncertainty_model is not None else [])
     check_dialect(csv_dialect)
     if output is not None:
         require_suffix(output, (".csv", ".json", ".xlsx"))
@@ -69,48 +91,87 @@ def verify_cmd(
     from ..analysis import analyse_files
 
     analysis = analyse_files(files, quantity=quantity, rendering=report is not None or _needs_rendering(claims),
-                             interpolation=parse_interpolation(interpolation))
+                             layout=layout, interpolation=parse_interpolation(interpolation))
     records = analysis.records()
-    verdict = verify(records, claims)
+    computed, model = None, None
+    if uncertainty_model is not None:
+        computed, model = _computed_uncertainties(files, quantity, uncertainty_model, claims, layout)
+    verdict = verify(records, claims, computed)
     doc = verdict.as_dict()
-    traced = _traceable(doc, records, claims_file, interpolation=parse_interpolation(interpolation))
-    if output is not None:
-        text = dumps(traced) if output.suffix.lower() == ".json" else verdict_csv(doc, claims)
-        write_output(output, text, overwrite=overwrite, inputs=inputs, dialect=csv_dialect)
-    if report is not None:
-        from ..report import build_report
-        from .options import info
+    traced = _traceable(doc, records, claims, interpolation=parse_interpolation(interpolation))
+    if model is not None:
+        traced["uncertainty_model"] = model.provenance()
+    from ..safe_io import output_group
 
-        rep = build_report(analysis, report, overwrite=overwrite, inputs=inputs, verdict=doc, claims=claims,
-                           records=records)
+    if claims.sidecar_path:
+        inputs.append(Path(claims.sidecar_path))
+    with output_group():  # --output and --report: both written, or neither
+        if output is not None:
+            text = dumps(traced) if output.suffix.lower() == ".json" else verdict_csv(traced, claims)
+            write_output(output, text, overwrite=overwrite, inputs=inputs, dialect=csv_dialect, announce=False)
+        if report is not None:
+            from ..report import build_report
+
+            rep = build_report(analysis, report, overwrite=overwrite, inputs=inputs, verdict=doc, claims=claims,
+                               records=records)
+    from .options import info
+
+    if output is not None:
+        info(f"wrote {output}")
+    if report is not None:
         info(f"wrote {report} ({len(rep.pages)} pages)")
     if json_out:
         emit_json(traced)
     else:
-        typer.echo(format_verdict(doc, claims))
+        typer.echo(format_verdict(doc, claims, wide=wide))
     code = {"pass": 0, "fail": EXIT_FAIL, "inconclusive": EXIT_INCONCLUSIVE}[verdict.verdict]
     if code:
         raise typer.Exit(code)
 
 
-def _traceable(doc: dict, records: list[dict], claims_file: Path, interpolation: str = "auto") -> dict:
-    """The verdict with what makes it traceable: versions, conventions, every input's SHA-256."""
+def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=None):
+    """U per sample and metric from a Monte Carlo run with the instrument model (and the model)."""
+    from ..analysis import read_files
+    from ..uncertainty import claim_uncertainties, grid_groups, load_model, monte_carlo
+    from .options import info
+
+    model = load_model(model_file)
+
+    def progress(i: int, n: int, m: int) -> None:
+        info(f"uncertainty: sample {i}/{n}, {m} draws")
+
+    result = monte_carlo(grid_groups(read_files(files, quantity=quantity, layout=layout)), model,
+                         rendering=_needs_rendering(claims), progress=progress)
+    return claim_uncertainties(result, claims), model
+
+
+def _traceable(doc: dict, records: list[dict], claims, interpolation: str = "auto") -> dict:
+    """The verdict with what makes it traceable: versions, conventions, every input's SHA-256
+    (of the bytes that were read and analysed)."""
     from ..analysis import provenance
-    from ..spectra import sha256_of_file
 
     samples = [{**s, "source": r.get("source"), "sha256": r.get("sha256")} for s, r in zip(doc["samples"], records)]
-    return {**provenance(interpolation=interpolation), "claims_file": str(claims_file), "claims_sha256": sha256_of_file(claims_file),
+    sidecar = {"sidecar": claims.sidecar_path, "sidecar_sha256": claims.sidecar_sha256} if claims.sidecar_path else {}
+    return {**provenance(interpolation=interpolation), "claims_file": claims.source, "claims_sha256": claims.sha256, **sidecar,
             **doc, "samples": samples}
 
 
 def bin_cmd(
-    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of them."),
     quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
-    ellipses: str = typer.Option("macadam1942", "--ellipses",
-                                 help="SDCM centres and ellipses: macadam1942 (ANSI centres) | iec60081 (lamp centres)."),
+    ellipses: str = typer.Option("iec-else-ansi", "--ellipses",
+                                 help="SDCM centres and ellipses: iec-else-ansi (default, the rule verify uses: "
+                                 "IEC 60081 lamp centre where the nominal CCT has one, else the ANSI centre with "
+                                 "MacAdam 1942) | macadam1942 (ANSI centres) | iec60081 (lamp centres only)."),
     json_out: bool = JSON_OPTION,
     output: Optional[Path] = _OUTPUT_CSV,
     overwrite: bool = OVERWRITE_OPTION,
+    recursive: bool = RECURSIVE_OPTION,
+    skip_rows: Optional[int] = SKIP_ROWS_OPTION,
+    delimiter: Optional[str] = DELIMITER_OPTION,
+    decimal: Optional[str] = DECIMAL_OPTION,
+    wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
+    columns: Optional[str] = COLUMNS_OPTION,
     csv_dialect: str = CSV_DIALECT_OPTION,
     interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
@@ -118,7 +179,6 @@ def bin_cmd(
     import numpy as np
 
     from ..binning import ELLIPSE_SETS, bin_chromaticities
-    from ..claims import cell_text as _fmt
     from ..errors import InputError
 
     if ellipses not in ELLIPSE_SETS:
@@ -129,7 +189,10 @@ def bin_cmd(
     from ..analysis import analyse_files
 
     interp = parse_interpolation(interpolation)
-    records = analyse_files(files, quantity=quantity, rendering=False, interpolation=interp).records()
+    layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
+    files = input_files(files, recursive=recursive)
+    records = analyse_files(files, quantity=quantity, rendering=False, layout=layout,
+                            interpolation=interp).records()
     xy = np.array([[np.nan if r["x"] is None else r["x"], np.nan if r["y"] is None else r["y"]] for r in records])
     result = bin_chromaticities(xy, names=[r["name"] for r in records], ellipses=ellipses)
     rows = result.records()
@@ -142,15 +205,27 @@ def bin_cmd(
 
     doc = {**provenance(interpolation=interp), "ellipses": ellipses, "samples": rows, "counts": result.counts()}
     if output is not None:
-        text = dumps(doc) if output.suffix.lower() == ".json" else result.csv()
+        if output.suffix.lower() == ".json":
+            text = dumps(doc)
+        else:  # the bins, then where each sample came from (the SHA-256 of the bytes analysed)
+            from ..formats import csv_text
+
+            cols = ["name", "x", "y", "quadrangle", "centre", "sdcm_steps", "sdcm_bin", "extrapolated",
+                    "source", "sha256"]
+            text = csv_text(cols, ([r.get(c) for c in cols] for r in rows))
         write_output(output, text, overwrite=overwrite, inputs=files, dialect=csv_dialect)
     if json_out:
         emit_json(doc)
         return
     head = ["sample", "CCT [K]", "Duv", "x", "y", "quadrangle", "centre", "SDCM", "bin"]
-    table = [[r["name"], _fmt(r["cct_K"]), _fmt(r["duv"]), f"{r['x']:.4f}", f"{r['y']:.4f}",
-              r["quadrangle"] or "none", r["centre"] + ("*" if r["extrapolated"] else ""),
-              _fmt(r["sdcm_steps"]), "n/a" if r["sdcm_bin"] is None else str(r["sdcm_bin"])] for r in rows]
+    from ..report.text import value_text
+
+    # One format per column: the metric's usual precision (cctkit.report.text.METRIC_TEXT).
+    table = [[r["name"], value_text("cct_K", r["cct_K"]), value_text("duv", r["duv"]), value_text("x", r["x"]),
+              value_text("y", r["y"]), r["quadrangle"] or "none",
+              (r["centre"] or "none") + ("*" if r["extrapolated"] else ""),
+              value_text("sdcm", r["sdcm_steps"]), "n/a" if r["sdcm_bin"] is None else str(r["sdcm_bin"])]
+             for r in rows]
     widths = [max(len(str(t[i])) for t in [head] + table) for i in range(len(head))]
     lines = ["  ".join(h.ljust(w) for h, w in zip(head, widths)), "  ".join("-" * w for w in widths)]
     lines += ["  ".join(str(c).ljust(w) for c, w in zip(t, widths)) for t in table]
@@ -160,6 +235,8 @@ def bin_cmd(
         lines.append(f"  {q:<6} " + ", ".join(f"{b} step{'s' if b != '1' else ''}: {c}" for b, c in bins.items()))
     if any(r["extrapolated"] for r in rows):
         lines.append("* centre outside the hull of MacAdam's 1942 data: nearest ellipse used")
+    lines.append(f"SDCM centres and ellipses: {ellipses}" + (" (the rule verify uses for max_sdcm)"
+                                                             if ellipses == "iec-else-ansi" else ""))
     typer.echo("\n".join(lines))
 
 

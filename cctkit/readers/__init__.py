@@ -38,7 +38,6 @@ import hashlib
 import itertools
 import os
 import re
-import stat
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Iterable, Iterator, Sequence
@@ -59,6 +58,11 @@ __all__ = [
     "content_lines",
     "combine_quantity",
     "SPECTRUM_SUFFIXES",
+    "TableLayout",
+    "normalise_unit",
+    "folder_files",
+    "expand_paths",
+    "unit_dimensions",
 ]
 
 #: Largest file :func:`read_spectra` reads unless told otherwise [bytes] (256 MiB).
@@ -86,6 +90,80 @@ class ParsedSpectra:
     columns: tuple[str, ...] | None
     quantity: Quantity | None
     flags: tuple[Flag, ...] = ()
+    metadata: tuple[tuple[str, str], ...] = ()
+
+
+@dataclass(frozen=True)
+class TableLayout:
+    """Overrides for delimited text whose table the reader cannot find on its own.
+
+    ``skip_rows`` lines at the top are taken as metadata, unread as numbers;
+    ``delimiter`` is one of ``tab``, ``;``, ``,``, ``space`` (white space);
+    ``decimal`` is ``.`` or ``,``; ``wavelength_column`` is 1-based; ``columns``
+    are the 1-based value columns to keep.  ``None`` means: find it out.
+    """
+
+    skip_rows: int = 0
+    delimiter: str | None = None
+    decimal: str | None = None
+    wavelength_column: int | None = None
+    columns: tuple[int, ...] | None = None
+
+    def __post_init__(self) -> None:
+        if isinstance(self.skip_rows, bool) or not isinstance(self.skip_rows, int) or self.skip_rows < 0:
+            raise InputError(f"--skip-rows must be a whole number >= 0, got {self.skip_rows!r}")
+        if self.delimiter is not None:
+            key = {"\\t": "tab", "\t": "tab", "tab": "tab", ";": ";", "semicolon": ";", ",": ",", "comma": ",",
+                   " ": "space", "space": "space", "whitespace": "space"}.get(str(self.delimiter).lower())
+            if key is None:
+                raise InputError(f"--delimiter must be one of tab, ';', ',', space; got {self.delimiter!r}")
+            object.__setattr__(self, "delimiter", key)
+        if self.decimal is not None:
+            key = {".": ".", "point": ".", "dot": ".", ",": ",", "comma": ","}.get(str(self.decimal).lower())
+            if key is None:
+                raise InputError(f"--decimal must be '.' or ',', got {self.decimal!r}")
+            if key == "," and self.delimiter == ",":
+                raise InputError("--decimal ',' cannot go with --delimiter ','")
+            object.__setattr__(self, "decimal", key)
+        if self.wavelength_column is not None and (
+            isinstance(self.wavelength_column, bool) or not isinstance(self.wavelength_column, int)
+            or self.wavelength_column < 1
+        ):
+            raise InputError(f"--wavelength-column must be a column number >= 1, got {self.wavelength_column!r}")
+        if self.columns is not None:
+            cols = tuple(self.columns)
+            if not cols or any(isinstance(c, bool) or not isinstance(c, int) or c < 1 for c in cols):
+                raise InputError(f"--columns must be column numbers >= 1, got {self.columns!r}")
+            if len(set(cols)) != len(cols):
+                raise InputError(f"--columns names a column twice: {self.columns!r}")
+            object.__setattr__(self, "columns", cols)
+
+    @property
+    def is_default(self) -> bool:
+        return self == TableLayout()
+
+    @classmethod
+    def from_options(cls, *, skip_rows: int | None = None, delimiter: str | None = None, decimal: str | None = None,
+                     wavelength_column: int | None = None, columns: str | None = None) -> "TableLayout":
+        """A layout from command-line text; ``columns`` as ``2,4`` or ``2-5``."""
+        cols = None
+        if columns is not None:
+            cols_list: list[int] = []
+            for part in str(columns).split(","):
+                part = part.strip()
+                m = re.fullmatch(r"(\d{1,4})\s*-\s*(\d{1,4})", part)
+                if m:
+                    lo, hi = int(m.group(1)), int(m.group(2))
+                    if hi < lo:
+                        raise InputError(f"--columns range {part!r} runs backwards")
+                    cols_list.extend(range(lo, hi + 1))
+                elif re.fullmatch(r"\d{1,4}", part):
+                    cols_list.append(int(part))
+                else:
+                    raise InputError(f"--columns must be numbers such as 2,4 or 2-5, got {columns!r}")
+            cols = tuple(cols_list)
+        return cls(skip_rows=skip_rows or 0, delimiter=delimiter, decimal=decimal,
+                   wavelength_column=wavelength_column, columns=cols)
 
 
 def read_spectra(
@@ -93,6 +171,7 @@ def read_spectra(
     *,
     quantity: Quantity | str | None = None,
     max_bytes: int = DEFAULT_MAX_BYTES,
+    layout: TableLayout | None = None,
 ) -> Spectra:
     """Read the spectra in ``path``, as measured.
 
@@ -105,6 +184,8 @@ def read_spectra(
         When the file states one and this differs, an InputError names both.
     max_bytes
         Refuse files larger than this [bytes].
+    layout
+        Overrides for finding the table in delimited text (see :class:`TableLayout`).
 
     Returns
     -------
@@ -125,14 +206,62 @@ def read_spectra(
         raise InputError(f"max_bytes must be a positive number of bytes, got {max_bytes!r}", source=source)
     data = _read_bytes(p, source, int(max_bytes))
     kind = _format_of(p, data)
+    if layout is not None and not layout.is_default and kind != "delimited":
+        raise InputError("table layout options apply to delimited text only, not to a "
+                         f"{'JSON' if kind == 'json' else 'TM-27 XML'} file", source=source)
     if kind == "json":
         from . import jsonfile as module
     elif kind == "xml":
         from . import tm27 as module
     else:
-        from . import delimited as module
+        from . import delimited
+
+        parsed = delimited.parse(data, source=source, stem=p.stem or source, layout=layout)
+        return _to_spectra(parsed, data, source, wanted)
     parsed = module.parse(data, source=source, stem=p.stem or source)
     return _to_spectra(parsed, data, source, wanted)
+
+
+def folder_files(folder: str | os.PathLike, *, recursive: bool = False) -> tuple[str, ...]:
+    """The spectrum files in ``folder``: known extensions, not hidden, sorted by path.
+
+    With ``recursive`` the sub-folders are searched too (hidden ones are not).
+    Raises InputError when the folder cannot be listed or holds no such file.
+    """
+    source = _source_of(folder)
+    root = Path(source)
+    found: list[str] = []
+    pending = [root]
+    while pending:
+        here = pending.pop()
+        try:
+            entries = sorted(os.scandir(here), key=lambda e: e.name)
+        except OSError as exc:
+            raise InputError(f"cannot list the folder ({_oserror_text(exc)})", source=str(here)) from None
+        for e in entries:
+            if e.name.startswith("."):
+                continue
+            if e.is_dir(follow_symlinks=False):
+                if recursive:
+                    pending.append(here / e.name)
+            elif e.is_file() and Path(e.name).suffix.lower() in SPECTRUM_SUFFIXES:
+                found.append(str(here / e.name))
+    if not found:
+        where = " or its sub-folders" if recursive else ""
+        raise InputError(f"folder{where} holds no spectrum files ({', '.join(SPECTRUM_SUFFIXES)})", source=source)
+    return tuple(sorted(found, key=lambda f: Path(f).relative_to(root).parts))
+
+
+def expand_paths(paths: Iterable[str | os.PathLike], *, recursive: bool = False) -> list[str]:
+    """``paths`` with every folder replaced by its spectrum files (:func:`folder_files`), in order."""
+    out: list[str] = []
+    for path in paths:
+        source = _source_of(path)
+        if os.path.isdir(source):
+            out.extend(folder_files(source, recursive=recursive))
+        else:
+            out.append(source)
+    return out
 
 
 def _source_of(path) -> str:
@@ -197,6 +326,7 @@ def _to_spectra(parsed: ParsedSpectra, data: bytes, source: str, wanted: Quantit
         sources=sources,
         sha256=(digest,) * n,
         flags=(parsed.flags,) * n,
+        metadata=(parsed.metadata,) * n,
     )
 
 
@@ -204,33 +334,9 @@ def _to_spectra(parsed: ParsedSpectra, data: bytes, source: str, wanted: Quantit
 
 
 def _read_bytes(p: Path, source: str, max_bytes: int) -> bytes:
-    try:
-        st = os.stat(p)
-    except FileNotFoundError:
-        raise InputError("file not found", source=source) from None
-    except NotADirectoryError:
-        raise InputError("file not found (a part of the path is not a folder)", source=source) from None
-    except PermissionError:
-        raise InputError("permission denied", source=source) from None
-    except (OSError, ValueError) as exc:
-        raise InputError(f"cannot read the file ({_oserror_text(exc)})", source=source) from None
-    if stat.S_ISDIR(st.st_mode):
-        raise InputError("is a folder, not a file", source=source)
-    if not stat.S_ISREG(st.st_mode):
-        raise InputError("is not a regular file (device, pipe or socket)", source=source)
-    if st.st_size > max_bytes:
-        raise InputError(f"file is {st.st_size} bytes, over the limit of {max_bytes} bytes", source=source)
-    try:
-        with open(p, "rb") as fh:
-            data = fh.read(max_bytes + 1)
-    except PermissionError:
-        raise InputError("permission denied", source=source) from None
-    except IsADirectoryError:
-        raise InputError("is a folder, not a file", source=source) from None
-    except OSError as exc:
-        raise InputError(f"cannot read the file ({_oserror_text(exc)})", source=source) from None
-    if len(data) > max_bytes:
-        raise InputError(f"file is over the limit of {max_bytes} bytes", source=source)
+    from ..safe_io import read_user_file
+
+    data = read_user_file(source, max_bytes=max_bytes).data  # regular files only, bounded, never blocks
     if not data.strip():
         raise InputError("file is empty", source=source)
     return data
@@ -473,13 +579,61 @@ _SPECTRAL_DIMENSIONS = {
 _BASE_UNIT_EXP = 9  # W/nm = 1e9 W/m; W/(m2 nm) = 1e9 W/m3; likewise with sr^-1
 
 
-class _UnitSyntax(Exception):
+class _UnitSyntax(ValueError):
     """The text is not a product of powers of known symbols."""
+
+
+# Whole words people write for units and prefixes, and the symbols they stand for (longest first).
+_UNIT_WORDS = (
+    (r"square\s+(?:metres?|meters?)", "m2"),
+    (r"square\s+(?:centimetres?|centimeters?)", "cm2"),
+    (r"micrometres?|micrometers?|microns?", "um"),
+    (r"nanometres?|nanometers?", "nm"),
+    (r"millimetres?|millimeters?", "mm"),
+    (r"centimetres?|centimeters?", "cm"),
+    (r"metres?|meters?", "m"),
+    (r"(?:milli|micro|nano)?watts?", None),
+    (r"steradians?", "sr"),
+    (r"[aå]ngstr[oö]ms?", "Å"),
+    (r"per", "/"),
+)
+_UNIT_WORD = re.compile(r"(?i)\b(" + "|".join(f"(?:{w})" for w, _ in _UNIT_WORDS) + r")\b")
+_WORD_PREFIX = {"milli": "m", "micro": "u", "nano": "n"}
+_PREFIX_WORD = re.compile(r"(?i)\b(milli|micro|nano)(?=[A-Za-z])")
+
+
+def normalise_unit(text: str) -> str:
+    """Unit text with spelled-out words as symbols: ``microwatt per cm2 per nm`` -> ``uW / cm2 / nm``.
+
+    Also ``micro``/``milli``/``nano`` glued to a symbol (``microW``) and ``^`` powers.
+    """
+
+    def word(m: re.Match) -> str:
+        w = m.group(1)
+        low = w.lower()
+        for pattern, symbol in _UNIT_WORDS:
+            if re.fullmatch(pattern, low):
+                if symbol is None:  # watts, with or without a prefix word
+                    for prefix, sym in _WORD_PREFIX.items():
+                        if low.startswith(prefix):
+                            return sym + "W"
+                    return "W"
+                return f" {symbol} " if symbol == "/" else symbol
+        return w  # pragma: no cover - the pattern admits only the listed words
+
+    s = _UNIT_WORD.sub(word, text)
+    s = _PREFIX_WORD.sub(lambda m: _WORD_PREFIX[m.group(1).lower()], s)
+    return s
+
+
+def unit_dimensions(text: str) -> tuple[tuple[int, int, int], int]:
+    """(W, m, sr) exponents and the decimal exponent of the unit's SI value; ValueError if not a unit."""
+    return _unit_dimensions(text)
 
 
 def _unit_dimensions(text: str) -> tuple[tuple[int, int, int], int]:
     """(W, m, sr) exponents and the decimal exponent of the unit's SI value."""
-    s = text.translate(_SUPERSCRIPTS).strip()
+    s = normalise_unit(text).translate(_SUPERSCRIPTS).strip()
     s = re.sub(r"(?<=[A-Za-z0-9)\]])\.(?=[A-Za-z(\[])", " ", s)  # "W.m-2.nm-1"
     pos = 0
     depth = 0
@@ -584,7 +738,8 @@ def parse_spectral_unit(text: str, *, source: str, line: int | None = None) -> t
         raise InputError(f"photon units are not supported: {t!r}; give the values in W", source=source, line=line)
     if re.search(r"\b(lm|lx|cd|lux|nit)\b", low):
         raise InputError(
-            f"{t!r} is a photometric unit; spectral radiometric values (W per nm) are needed", source=source, line=line
+            f"{t!r} is a photometric unit; spectral radiometric values are needed, e.g. W/nm, W/(m2 nm), "
+            "W/(sr m2 nm), W/(sr nm) or a.u.", source=source, line=line
         )
     try:
         dims, factor = _unit_dimensions(t)

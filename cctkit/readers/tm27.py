@@ -23,6 +23,11 @@ this toolkit measures.  Values are taken in the base unit of the quantity
 (TM-27 carries no unit element).  Several ``SpectralDistribution`` elements on
 one wavelength axis become several spectra ``stem#1``, ``stem#2``, ...
 
+The ``<Header>`` fields (Manufacturer, CatalogNumber, Description, Laboratory,
+ReportNumber, ReportDate, BandwidthFWHM, BandwidthCorrected, ...) become the
+spectra's metadata; ``CatalogNumber``, else ``Description``, names the spectrum
+in place of the file stem.
+
 colour-science's own TM-27 reader opens the path itself with the standard
 library parser, which is why this module reads the already-checked element tree
 instead; the test suite cross-checks the values against that reader.
@@ -38,6 +43,7 @@ import numpy as np
 from ..errors import InputError
 from ..spectra import Quantity
 from . import ParsedSpectra, order_axis, short
+from .metadata import MAX_ENTRIES, limit_metadata
 
 __all__ = ["parse", "QUANTITY_OF"]
 
@@ -135,10 +141,35 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
     wl, values, flags = order_axis(axes[0], np.vstack(rows), source=source,
                                    lines=lines if all(lines) else None)
     n = len(rows)
-    names = (stem,) if n == 1 else tuple(f"{stem}#{k + 1}" for k in range(n))
+    metadata = _header_fields(root)
+    fields = dict(metadata)
+    base = (fields.get("CatalogNumber") or fields.get("Description") or "").strip() or stem
+    names = (base,) if n == 1 else tuple(f"{base}#{k + 1}" for k in range(n))
     columns = None if n == 1 else tuple(str(k + 1) for k in range(n))
     return ParsedSpectra(wavelength_nm=wl, values=values, names=names, columns=columns,
-                         quantity=stated[0], flags=flags)
+                         quantity=stated[0], flags=flags, metadata=metadata)
+
+
+def _header_fields(root) -> tuple[tuple[str, str], ...]:
+    """The ``<Header>`` fields (Manufacturer, CatalogNumber, Description, Laboratory, ...) as text pairs.
+
+    Nested elements are named ``Parent/Child``; empty ones are left out.
+    """
+    pairs: list[tuple[str, str]] = []
+
+    def walk(el, prefix: str) -> None:
+        for child in el:
+            name = f"{prefix}{_local(child.tag)}"
+            text = " ".join((child.text or "").split())
+            if text:
+                pairs.append((name, text))
+            if len(pairs) < 4 * MAX_ENTRIES:
+                walk(child, f"{name}/")
+
+    for el in root:
+        if _local(el.tag) == "Header":
+            walk(el, "")
+    return limit_metadata(pairs)
 
 
 def _data_elements(dist):

@@ -128,6 +128,8 @@ def open_chunked(
     chunk_size: int = DEFAULT_CHUNK_SIZE,
     quantity: Quantity | str | None = None,
     interpolation: str = "auto",
+    recursive: bool = False,
+    skipped: list[InputError] | None = None,
 ) -> ChunkedInput:
     """Look at ``path`` and prepare to read it in chunks (see the module docstring).
 
@@ -142,6 +144,12 @@ def open_chunked(
     quantity
         Radiometric quantity when the input does not state one; an input stating
         another one is refused.
+    recursive
+        For a folder, also read the files in its sub-folders (sorted by path).
+    skipped
+        For a folder: when a list is given, a member file that cannot be read is
+        skipped and its InputError appended here (while reading the chunks)
+        instead of stopping the run.
 
     Raises
     ------
@@ -161,7 +169,8 @@ def open_chunked(
     except (OSError, ValueError) as exc:
         raise InputError(f"cannot read ({_oserror_text(exc)})", source=source) from None
     if stat.S_ISDIR(st.st_mode):
-        return _open_folder(p, source, chunk_size, wanted, interpolation)
+        return _open_folder(p, source, chunk_size, wanted, recursive=recursive, skipped=skipped,
+                            interpolation=interpolation)
     if not stat.S_ISREG(st.st_mode):
         raise InputError("is not a regular file or folder", source=source)
     if st.st_size == 0:
@@ -222,6 +231,7 @@ def _join(parts: list[Spectra]) -> Spectra:
         sha256=_chain(s.sha256 for s in parts),
         flags=_chain(s.flags for s in parts),
         measured_range_nm=_chain(s.measured_range_nm for s in parts),
+        metadata=_chain(s.metadata for s in parts),
         measured_totals=np.concatenate([s.measured_totals for s in parts]),
         interpolation=_chain(s.interpolation for s in parts),
     )
@@ -239,41 +249,46 @@ def _open_single(p: Path, source: str, chunk_size: int, wanted: Quantity | None)
     return ChunkedInput(source, "file", None, (source,), chunk_size, make)
 
 
-def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None,
-                 interpolation: str = "auto") -> ChunkedInput:
-    try:
-        entries = sorted(os.scandir(p), key=lambda e: e.name)
-    except OSError as exc:
-        raise InputError(f"cannot list the folder ({_oserror_text(exc)})", source=source) from None
-    files = tuple(
-        str(p / e.name)
-        for e in entries
-        if not e.name.startswith(".") and e.is_file() and Path(e.name).suffix.lower() in SPECTRUM_SUFFIXES
-    )
-    if not files:
-        raise InputError(f"folder holds no spectrum files ({', '.join(SPECTRUM_SUFFIXES)})", source=source)
+def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None, *, recursive: bool = False,
+                 skipped: list[InputError] | None = None, interpolation: str = "auto") -> ChunkedInput:
+    from . import folder_files
+
+    files = folder_files(p, recursive=recursive)
 
     def make() -> Iterator[Spectra]:
         from . import read_spectra
 
+        def member(f: str, first: Quantity | None) -> Iterator[Spectra]:
+            head = _wide_head(Path(f), f) if Path(f).suffix.lower() in _WIDE_SUFFIXES else None
+            if head is not None:
+                parts: Iterable[Spectra] = _open_wide(Path(f), f, chunk_size, wanted, head).chunks()
+            else:
+                parts = [read_spectra(f, quantity=wanted)]
+            for part in parts:
+                s = to_working_grid(part, interpolation=interpolation)
+                if first is not None and s.quantity is not first:
+                    raise InputError(
+                        f"holds {s.quantity.value!r} spectra while earlier files hold {first.value!r}; "
+                        "a batch needs one quantity",
+                        source=f,
+                    )
+                first = first or s.quantity
+                yield s
+
         def each() -> Iterator[Spectra]:
             first: Quantity | None = None
             for f in files:
-                head = _wide_head(Path(f), f) if Path(f).suffix.lower() in _WIDE_SUFFIXES else None
-                if head is not None:
-                    parts: Iterator[Spectra] = _open_wide(Path(f), f, chunk_size, wanted, head).chunks()
+                got: Iterable[Spectra]
+                if skipped is None:
+                    got = member(f, first)
                 else:
-                    parts = iter([read_spectra(f, quantity=wanted)])
-                for part in parts:
-                    s = to_working_grid(part, interpolation=interpolation)
-                    if first is None:
-                        first = s.quantity
-                    elif s.quantity is not first:
-                        raise InputError(
-                            f"holds {s.quantity.value!r} spectra while earlier files hold {first.value!r}; "
-                            "a batch needs one quantity",
-                            source=f,
-                        )
+                    try:  # a bad member is skipped whole, so it is read whole before any of it is used
+                        got = list(member(f, first))
+                    except InputError as exc:
+                        skipped.append(exc if exc.source else InputError(exc.reason, source=f, line=exc.line))
+                        continue
+                for s in got:
+                    first = first or s.quantity
                     yield s
 
         return _rechunk(each(), chunk_size)

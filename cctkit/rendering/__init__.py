@@ -34,7 +34,10 @@ from .reference import (
     reference_cie224,
     _to_Y100,
 )
+from .cie13_3 import from_rows as cri_from_rows
 from .tm30 import Tm30Result, tm30, tm30_samples
+from .tm30 import from_rows as tm30_from_rows
+from .tristimulus import rendering_rows
 
 __all__ = [
     "Reference",
@@ -154,7 +157,33 @@ def colour_rendition(values, *, cct_K=None, duv=None) -> Rendition:
         T = np.atleast_1d(np.asarray(cct_K, dtype=np.float64))
         duv = np.full_like(T, np.nan) if duv is None else np.atleast_1d(np.asarray(duv, dtype=np.float64))
     T_ref = reference_cct(T, None if np.all(np.isnan(duv)) else duv)
-    return Rendition(cct_K=T_ref, duv=duv, cri=cie13_3(v, T_ref), tm30=tm30(v, T_ref))
+    if v.ndim != 2 or v.shape[1] != 471 or T_ref.shape != (v.shape[0],):
+        raise ValueError(f"values must have shape (N, 471) and cct_K shape (N,), got {v.shape} and {T_ref.shape}")
+    cri_parts, tm30_parts = [], []
+    for i in range(0, v.shape[0], _CHUNK):  # chunks bound memory; both references built once per chunk
+        T_c = T_ref[i : i + _CHUNK]
+        rows = rendering_rows(v[i : i + _CHUNK], T_c, which="both")
+        cri_parts.append(cri_from_rows(rows, T_c))
+        tm30_parts.append(tm30_from_rows(rows, T_c))
+    if not cri_parts:
+        return Rendition(cct_K=T_ref, duv=duv, cri=cie13_3(v, T_ref), tm30=tm30(v, T_ref))
+    return Rendition(cct_K=T_ref, duv=duv, cri=_concatenate(cri_parts), tm30=_concatenate(tm30_parts))
+
+
+#: Spectra per block of the rendering computation (bounds the memory of the (n, 99, 3) arrays).
+_CHUNK = 4096
+
+
+def _concatenate(parts):
+    from dataclasses import fields
+
+    if len(parts) == 1:
+        return parts[0]
+    return type(parts[0])(**{
+        f.name: (sum((getattr(p, f.name) for p in parts), ()) if isinstance(getattr(parts[0], f.name), tuple)
+                 else np.concatenate([getattr(p, f.name) for p in parts]))
+        for f in fields(parts[0])
+    })
 
 
 @dataclass(frozen=True)

@@ -117,6 +117,22 @@ def _samples(test: np.ndarray, ref: np.ndarray, rho: np.ndarray):
     cmf = cmfs(2)
     XYZ_k, XYZ_ki = _source_and_samples(test, rho, cmf)
     XYZ_r, XYZ_ri = _source_and_samples(ref, rho, cmf)
+    return _differences(XYZ_k, XYZ_ki, XYZ_r, XYZ_ri)
+
+
+def _scaled(rows: np.ndarray, xyz: slice, samples: slice):
+    """Source XYZ (n, 3) scaled to Y = 100 and its samples' XYZ (n, S, 3) from weight-matrix rows."""
+    k = 100.0 / rows[:, xyz.start + 1]
+    return rows[:, xyz] * k[:, None], rows[:, samples].reshape(rows.shape[0], -1, 3) * k[:, None, None]
+
+
+def differences_from_rows(test_rows: np.ndarray, ref_rows: np.ndarray, xyz: slice, samples: slice):
+    """dE (N, S) and DC (N,) from rows of :func:`.tristimulus.rendering_rows` (any scale per row)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return _differences(*_scaled(test_rows, xyz, samples), *_scaled(ref_rows, xyz, samples))
+
+
+def _differences(XYZ_k, XYZ_ki, XYZ_r, XYZ_ri):
     uv_k, uv_ki = XYZ_to_uv(XYZ_k), XYZ_to_uv(XYZ_ki)
     uv_r, uv_ri = XYZ_to_uv(XYZ_r), XYZ_to_uv(XYZ_ri)
     dc = np.hypot(*(uv_k - uv_r).T)
@@ -160,8 +176,19 @@ def cie13_3(values, cct_K, *, round_m: bool = True) -> Cri13Result:
     T = np.atleast_1d(np.asarray(cct_K, dtype=np.float64))
     if T.shape != (test.shape[0],):
         raise ValueError(f"cct_K must have shape ({test.shape[0]},) to match values, got {T.shape}")
-    ref = reference_cie13_3(T, round_m=round_m)
-    dE, dc = cie13_3_samples(test, ref.values)
+    from .reference import _as_cct
+    from .tristimulus import rendering_rows
+
+    rows = rendering_rows(test, _as_cct(T), which="cri", round_m=round_m)
+    return from_rows(rows, T)
+
+
+def from_rows(rows: dict, T: np.ndarray) -> Cri13Result:
+    """:class:`Cri13Result` from :func:`.tristimulus.rendering_rows` (the reference built at tristimulus level)."""
+    from .reference import _kinds
+    from .tristimulus import column
+
+    dE, dc = differences_from_rows(rows["test"], rows["ref13"], column(rows, "xyz2"), column(rows, "samples2"))
     R = 100.0 - 4.6 * dE
     Ra = R[:, :8].mean(axis=1)
-    return Cri13Result(Ra=Ra, R=R, dE=dE, dc=dc, valid=dc < DC_LIMIT, cct_K=T, reference=ref.kind)
+    return Cri13Result(Ra=Ra, R=R, dE=dE, dc=dc, valid=dc < DC_LIMIT, cct_K=T, reference=_kinds(rows["m13"]))

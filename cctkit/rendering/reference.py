@@ -103,9 +103,9 @@ def _as_cct(cct_K) -> np.ndarray:
 
 
 def _kinds(m: np.ndarray) -> tuple[str, ...]:
-    return tuple(
-        "none" if not np.isfinite(w) else "planckian" if w == 1 else "daylight" if w == 0 else "blend" for w in m
-    )
+    m = np.asarray(m, dtype=np.float64)
+    kind = np.where(m == 1, "planckian", np.where(m == 0, "daylight", "blend"))
+    return tuple(np.where(np.isfinite(m), kind, "none").tolist())
 
 
 def _to_Y100(values: np.ndarray, observer: int = 2) -> np.ndarray:

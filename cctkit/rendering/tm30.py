@@ -43,6 +43,7 @@ import numpy as np
 from ..constants import WAVELENGTH_NM
 from ..tables import cmfs, table
 from .cam import xyz_to_cam02ucs
+from .tristimulus import rendering_rows
 from .reference import reference_cie224
 
 __all__ = [
@@ -160,14 +161,34 @@ def tm30_samples(values, reference_values, *, cf: float = CF_CIE224) -> dict[str
 
 
 def _chunk(test, ref, cmf, sample_w, cf) -> dict[str, np.ndarray]:
-    Jt = _jab(test, cmf, sample_w)
-    Jr = _jab(ref, cmf, sample_w)
+    return _fields(_jab(test, cmf, sample_w), _jab(ref, cmf, sample_w), cf)
+
+
+def _jab_from_rows(rows: np.ndarray, xyz: slice, samples: slice) -> np.ndarray:
+    """CAM02-UCS J'a'b' (n, 99, 3) of the CES from rows of :func:`.tristimulus.rendering_rows`."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        k = 100.0 / rows[:, xyz.start + 1]
+        XYZ_s = rows[:, samples].reshape(rows.shape[0], -1, 3) * k[:, None, None]
+        return xyz_to_cam02ucs(XYZ_s, (rows[:, xyz] * k[:, None])[:, None, :])
+
+
+def from_rows(rows: dict, T: np.ndarray, *, cf: float = CF_CIE224) -> Tm30Result:
+    """:class:`Tm30Result` from :func:`.tristimulus.rendering_rows` (the reference built at tristimulus level)."""
+    from .reference import _kinds
+    from .tristimulus import column
+
+    xyz, samples = column(rows, "xyz10"), column(rows, "samples10")
+    fields = _fields(_jab_from_rows(rows["test"], xyz, samples), _jab_from_rows(rows["ref224"], xyz, samples), cf)
+    return Tm30Result(**fields, cct_K=T, reference=_kinds(rows["m224"]))
+
+
+def _fields(Jt: np.ndarray, Jr: np.ndarray, cf: float) -> dict[str, np.ndarray]:
     dE = np.linalg.norm(Jt - Jr, axis=-1)  # (n, 99)
     hue = np.arctan2(Jr[..., 2], Jr[..., 1]) % (2.0 * np.pi)
     finite = np.isfinite(hue)
     bins = np.minimum((np.where(finite, hue, 0.0) / (2.0 * np.pi / N_BINS)).astype(np.int64), N_BINS - 1)
     bins = np.where(finite, bins, -1)  # a spectrum without a result (NaN) falls in no bin
-    n = test.shape[0]
+    n = Jt.shape[0]
     # bin sums by one bincount over the flat index (spectrum, bin); spectra without a bin drop out
     flat = np.where(bins >= 0, bins + N_BINS * np.arange(n)[:, None], n * N_BINS).ravel()
 
@@ -231,9 +252,22 @@ def tm30(values, cct_K, *, cf: float = CF_CIE224, blend_observer: int = 10) -> T
     T = np.atleast_1d(np.asarray(cct_K, dtype=np.float64))
     if T.shape != (test.shape[0],):
         raise ValueError(f"cct_K must have shape ({test.shape[0]},) to match values, got {T.shape}")
-    ref = reference_cie224(T, blend_observer=blend_observer)
-    fields = tm30_samples(test, ref.values, cf=cf)
-    return Tm30Result(**fields, cct_K=T, reference=ref.kind)
+    if blend_observer not in (2, 10):
+        raise ValueError(f"blend_observer must be 2 or 10, got {blend_observer!r}")
+    from .reference import _as_cct
+    from .tristimulus import rendering_rows
+
+    _as_cct(T)
+    parts = [
+        from_rows(rendering_rows(test[i : i + _CHUNK], T[i : i + _CHUNK], which="tm30", blend_observer=blend_observer),
+                  T[i : i + _CHUNK], cf=cf)
+        for i in range(0, test.shape[0], _CHUNK)
+    ]
+    if not parts:
+        return from_rows(rendering_rows(test, T, which="tm30", blend_observer=blend_observer), T, cf=cf)
+    from . import _concatenate
+
+    return _concatenate(parts)
 
 
 def vector_graphic_xy(result: Tm30Result) -> tuple[np.ndarray, np.ndarray]:

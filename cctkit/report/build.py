@@ -9,12 +9,13 @@ pyplot, with the report settings held in an ``rc_context`` (nothing global chang
 
 from __future__ import annotations
 
-import datetime as _dt
 import math
 import os
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Iterable, Sequence
+
+import numpy as np
 
 from ..errors import InputError
 
@@ -30,9 +31,11 @@ PNG_DPI = 150
 REPORT_SUFFIXES = (".pdf", ".png")
 
 _RC = {
-    "pdf.fonttype": 42,  # TrueType, embedded
-    "ps.fonttype": 42,
-    "font.family": "DejaVu Sans",
+    # The PDF uses the standard Helvetica (no font embedding or subsetting: fast, and every
+    # viewer has it); text is kept within its Windows-1252 character set.  PNGs use DejaVu Sans.
+    "pdf.use14corefonts": True,
+    "pdf.compression": 6,
+    "font.family": "sans-serif",
     "font.size": 7.0,
     "axes.titlesize": 7.0,
     "axes.labelsize": 6.5,
@@ -45,8 +48,10 @@ _RC = {
     "ytick.major.size": 2.5,
     "legend.fontsize": 6.0,
     "hatch.linewidth": 0.5,
-    "axes.unicode_minus": True,
+    "axes.unicode_minus": False,  # U+2212 is not in the PDF core fonts' character set
     "svg.fonttype": "none",
+    "svg.hashsalt": "cctkit",  # no random ids: the same inputs give the same bytes
+    "path.simplify": True,
 }
 
 
@@ -60,42 +65,77 @@ class Report:
     size_px: tuple[int, int] | None = None
 
 
-def plan_pages(n: int, *, pages: bool | None = None) -> list[tuple[str, Any]]:
+def plan_pages(n: int, *, pages: bool | None = None, sections: Sequence[str] | None = None) -> list[tuple[str, Any]]:
     """The page plan of a report on ``n`` spectra: a list of (kind, argument).
 
+    * the sign-off page ("cover") always comes first;
     * one spectrum: its page;
     * 2 to :data:`BATCH_PAGE_LIMIT` spectra: a comparison page, then one page per spectrum;
     * more: summary table pages (paginated) and a chromaticity scatter page, plus one page per
       spectrum only when ``pages`` is True.
 
     ``pages=False`` leaves out the per-spectrum pages at any size (except for a single spectrum).
+    ``sections`` (of :data:`cctkit.report.profile.SECTIONS`) keeps only those kinds of page
+    ("spectra" are the per-spectrum pages); verdict pages are planned by :func:`build_report`.
     """
     from .pages import SUMMARY_ROWS_PER_PAGE
+    from .profile import SECTIONS
 
     if n < 1:
         raise InputError("a report needs at least one spectrum")
+    keep = set(SECTIONS if sections is None else sections)
     if n == 1:
-        return [("sample", 0)]
-    if n <= BATCH_PAGE_LIMIT:
-        plan: list[tuple[str, Any]] = [("comparison", tuple(range(n)))]
+        plan: list[tuple[str, Any]] = [("sample", 0)]
+    elif n <= BATCH_PAGE_LIMIT:
+        plan = [("comparison", tuple(range(n)))]
         if pages is not False:
             plan += [("sample", i) for i in range(n)]
-        return plan
-    plan = [("summary", k) for k in range(math.ceil(n / SUMMARY_ROWS_PER_PAGE))] + [("scatter", None)]
-    if pages:
-        plan += [("sample", i) for i in range(n)]
-    return plan
+    else:
+        plan = [("summary", k) for k in range(math.ceil(n / SUMMARY_ROWS_PER_PAGE))] + [("scatter", None)]
+        if pages:
+            plan += [("sample", i) for i in range(n)]
+    kind_section = {"sample": "spectra", "comparison": "comparison", "summary": "summary", "scatter": "scatter"}
+    return [("cover", None)] + [(k, a) for k, a in plan if kind_section[k] in keep]
 
 
-def report_meta(*, date: str | None = None) -> dict[str, Any]:
-    """Provenance of the report itself: versions, conventions, date (ISO, today by default)."""
+def report_meta(*, date: str | None = None, signoff=None, records: Sequence[dict] = ()) -> dict[str, Any]:
+    """Provenance of the report itself: versions, conventions, the report date, sign-off fields,
+    and the SHA-256 of its inputs (the file's own for one input; for several, the SHA-256 of
+    their digests listed in order, so every page can carry one line that names the whole input)."""
+    import hashlib
+
     from ..analysis import provenance
     from ..tolerance import ANSI_EDITION
+    from .profile import SignOff, report_date
 
+    so = signoff if signoff is not None else SignOff()
     meta = dict(provenance())
-    meta["date"] = date or _dt.date.today().isoformat()
+    meta["date"] = report_date(date or so.date)
     meta["tolerance_edition"] = f"{ANSI_EDITION} (quadrangles)"
+    for key in ("title", "project", "lab", "operator", "instrument", "notes"):
+        meta[key] = getattr(so, key)
+    digests = list(dict.fromkeys(r.get("sha256") or "" for r in records))
+    digests = [d for d in digests if d]
+    meta["input_count"] = len(digests)
+    if len(digests) == 1:
+        meta["input_sha256"] = digests[0]
+    elif digests:
+        meta["input_sha256"] = hashlib.sha256("\n".join(digests).encode("ascii")).hexdigest()
+    else:
+        meta["input_sha256"] = ""
     return meta
+
+
+def design_intents(analysis) -> dict[int, tuple[str, ...]]:
+    """The TM-30-20 Annex E levels each spectrum meets (:mod:`cctkit.rendering.intents`), by index."""
+    t = analysis.tm30
+    if t is None:
+        return {}
+    from ..rendering.intents import level_names, levels
+    from ..rendering.tm30 import chroma_shift_percent
+
+    lv = levels(t.Rf, t.Rg, np.asarray(t.Rf_h)[:, 0], chroma_shift_percent(t)[:, 0])
+    return {i: tuple(level_names(lv, i)) for i in range(len(analysis))}
 
 
 def check_options(path: str | os.PathLike, *, paper: str = "a4", diagram: str = "uv", verdict: bool = False) -> None:
@@ -126,7 +166,7 @@ def build_report(
     analysis,
     path: str | os.PathLike,
     *,
-    paper: str = "a4",
+    paper: str | None = None,
     pages: bool | None = None,
     diagram: str = "uv",
     regions: Sequence | None = None,
@@ -136,6 +176,7 @@ def build_report(
     verdict: dict | None = None,
     claims=None,
     records: Sequence[dict] | None = None,
+    signoff=None,
 ) -> Report:
     """Write the report of ``analysis`` to ``path`` (``.pdf``: full report, ``.png``: one-page summary).
 
@@ -146,7 +187,8 @@ def build_report(
     path
         Output file; its suffix picks the format.
     paper
-        ``"a4"`` (default) or ``"letter"`` (PDF pages; the PNG has a fixed pixel size).
+        ``"a4"`` (default) or ``"letter"`` (PDF pages; the PNG has a fixed pixel size); None takes
+        the profile's paper, else A4.
     pages
         One page per spectrum for batches above :data:`BATCH_PAGE_LIMIT` when True; never when
         False; automatic when None (see :func:`plan_pages`).
@@ -160,18 +202,31 @@ def build_report(
     inputs
         Input files, which are never written over.
     date
-        Report date printed on every page (ISO ``YYYY-MM-DD``; today by default).
+        Report date printed on every page (ISO ``YYYY-MM-DD``); default the profile's date, else
+        ``SOURCE_DATE_EPOCH``, else today (:func:`cctkit.report.profile.report_date`).
     verdict, claims
         A verdict document (:meth:`cctkit.claims.Verdict.as_dict`) of these spectra and the
         :class:`cctkit.claims.Claims` it was checked against: the PDF then starts with the
         verdict pages (:mod:`cctkit.report.verdict`).  Give both or neither; PDF only.
     records
         ``analysis.records()`` when the caller already has them (computed here otherwise).
+    signoff
+        A :class:`cctkit.report.profile.SignOff`: title, project, lab, operator, instrument,
+        notes, date, paper, logo and sections (default: a plain title, every section).
 
     Returns
     -------
     Report
+
+    Notes
+    -----
+    The same inputs and options give the same bytes: the PDF carries no creation time and
+    the report date is a field (``date``), not the clock, once it is given.
     """
+    from .profile import SignOff
+
+    so = signoff if signoff is not None else SignOff()
+    paper = paper or so.paper or "a4"
     out = Path(path)
     suffix = out.suffix.lower()
     check_options(out, paper=paper, diagram=diagram, verdict=verdict is not None)
@@ -181,8 +236,11 @@ def build_report(
     from ..safe_io import atomic_path, check_output_path
 
     check_output_path(out, overwrite=overwrite, inputs=list(inputs))  # fail before the slow part
-    from matplotlib import rc_context
+    logo = None
+    if so.logo is not None:
+        from .profile import read_logo
 
+        logo = read_logo(Path(so.logo))
     records = analysis.records() if records is None else list(records)
     if len(records) != len(analysis):
         raise InputError(f"{len(records)} records for an analysis of {len(analysis)} spectra", source="records")
@@ -190,8 +248,9 @@ def build_report(
         from .verdict import check_verdict_matches
 
         check_verdict_matches(records, verdict)
-    meta = report_meta(date=date)
-    with rc_context(_RC):
+    meta = report_meta(date=date, signoff=so, records=records)
+    meta["design_intents"] = design_intents(analysis)
+    with report_style():
         from .charts import reference_comparison
 
         comparison = reference_comparison(analysis)
@@ -200,8 +259,79 @@ def build_report(
                 _write_png(analysis, records, meta, tmp, comparison=comparison, diagram=diagram, regions=regions)
                 return Report(path=out, kind="png", pages=("summary",), size_px=PNG_SIZE_PX)
             titles = _write_pdf(analysis, records, meta, tmp, paper=paper, pages=pages, comparison=comparison,
-                                diagram=diagram, regions=regions, verdict=verdict, claims=claims)
+                                diagram=diagram, regions=regions, verdict=verdict, claims=claims,
+                                sections=so.sections, logo=logo)
     return Report(path=out, kind="pdf", pages=tuple(titles))
+
+
+# Characters outside Windows-1252 (the PDF core fonts' set) and what the PDF prints instead.
+_PDF_TEXT = {"\u2265": ">=", "\u2264": "<=", "\u2192": "->", "\u2190": "<-", "\u0394": "d", "\u2212": "-",
+             "\u2032": "'", "\u2033": "''", "\u03b1": "alpha", "\u03b2": "beta", "\u03b3": "gamma",
+             "\u03c3": "sigma", "\u03bb": "lambda", "\u03bc": "\u00b5", "\u25b2": "!", "\u207b": "-",
+             "\u2248": "~", "\u221a": "sqrt", "\u2009": " ", "\u202f": " "}
+
+
+def pdf_text(text: str) -> str:
+    """``text`` with every character the PDF core fonts lack replaced (see :data:`_PDF_TEXT`;
+    others by their ASCII decomposition, else "?")."""
+    import unicodedata
+
+    out = []
+    for ch in text:
+        try:
+            ch.encode("cp1252")
+            out.append(ch)
+        except UnicodeEncodeError:
+            alt = _PDF_TEXT.get(ch)
+            if alt is None:
+                alt = unicodedata.normalize("NFKD", ch).encode("ascii", "ignore").decode("ascii") or "?"
+            out.append(alt)
+    return "".join(out)
+
+
+def save_pdf_page(pdf, fig) -> None:
+    """Add ``fig`` to an open :class:`matplotlib.backends.backend_pdf.PdfPages`, its text made
+    printable in the core fonts (:func:`pdf_text`)."""
+    from matplotlib.text import Text
+
+    for t in fig.findobj(Text):
+        s = t.get_text()
+        if s and not s.isascii():
+            t.set_text(pdf_text(s))
+    pdf.savefig(fig)
+
+
+#: Metadata every report PDF carries: no clock, so the same inputs give the same bytes.
+PDF_METADATA = {"CreationDate": None}
+
+
+def report_style():
+    """The context reports are drawn in: :data:`_RC` and quiet font lookup (see :class:`_quiet_font_lookup`)."""
+    from contextlib import ExitStack
+
+    from matplotlib import rc_context
+
+    stack = ExitStack()
+    stack.enter_context(rc_context(_RC))
+    stack.enter_context(_quiet_font_lookup())
+    return stack
+
+
+class _quiet_font_lookup:
+    """Silence matplotlib's notes that the core Helvetica has "medium" where "normal" was asked
+    (the same weight); restored on exit."""
+
+    def __enter__(self):
+        import logging
+
+        self._log = logging.getLogger("matplotlib.font_manager")
+        self._level = self._log.level
+        self._log.setLevel(logging.ERROR)
+        return self
+
+    def __exit__(self, *exc):
+        self._log.setLevel(self._level)
+        return False
 
 
 def _write_png(analysis, records, meta, tmp: Path, *, comparison, diagram, regions) -> None:
@@ -212,56 +342,84 @@ def _write_png(analysis, records, meta, tmp: Path, *, comparison, diagram, regio
     fig.savefig(tmp, format="png", dpi=PNG_DPI, metadata={"Software": f"cctkit {meta['cctkit_version']}"})
 
 
+def _title(kind: str, arg, records) -> str:
+    if kind == "cover":
+        return "sign-off and inputs"
+    if kind == "sample":
+        return f"spectrum: {records[arg]['name']}"
+    if kind == "comparison":
+        return "comparison"
+    if kind == "summary":
+        return f"summary table {arg + 1}"
+    return "chromaticity scatter"
+
+
 def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, diagram, regions,
-               verdict=None, claims=None) -> list[str]:
+               verdict=None, claims=None, sections=None, logo=None) -> list[str]:
     from matplotlib.backends.backend_pdf import PdfPages
 
     from . import pages as pg
+    from .profile import SECTIONS
 
-    plan = plan_pages(len(records), pages=pages)
+    sections = SECTIONS if sections is None else sections
+    plan = plan_pages(len(records), pages=pages, sections=sections)
     n_verdict = 0
-    if verdict is not None:
+    if verdict is not None and "verdict" in sections:
         from .verdict import verdict_page_count
 
         n_verdict = verdict_page_count(verdict)
     total = n_verdict + len(plan)
     labels = [f"page {k + 1} of {total}" for k in range(total)]
+    contents = [f"{labels[0]}: {_title('cover', None, records)}"]
+    contents += [f"{labels[1 + k]}: claims verdict" + (" (overview)" if k == 0 else f" table {k}")
+                 for k in range(n_verdict)]
+    contents += [f"{labels[1 + n_verdict + k]}: {_title(kind, arg, records)}"
+                 for k, (kind, arg) in enumerate(plan[1:])]
     titles: list[str] = []
     n_summary = sum(1 for kind, _ in plan if kind == "summary")
     summary_figs = None
     info = {
-        "Title": f"cctkit report: {records[0]['name']}" if len(records) == 1 else f"cctkit report: {len(records)} spectra",
+        "Title": shorten_title(meta, records),
         "Creator": f"cctkit {meta['cctkit_version']}",
         "Subject": "CCT, Duv, chromaticity, photometry and colour rendering of measured spectra",
+        **PDF_METADATA,
     }
     with PdfPages(tmp, metadata=info) as pdf:
-        if verdict is not None:
+        fig = pg.cover_page(records, meta, paper=paper, contents=contents, page_label=labels[0], logo=logo)
+        titles.append(_title("cover", None, records))
+        save_pdf_page(pdf, fig)
+        if n_verdict:
             from .verdict import verdict_pages
 
             for title, fig in verdict_pages(analysis, verdict, claims, meta, paper=paper, diagram=diagram,
-                                            page_labels=labels[:n_verdict]):
+                                            page_labels=labels[1:1 + n_verdict]):
                 titles.append(title)
-                pdf.savefig(fig)
-        labels = labels[n_verdict:]
-        for k, (kind, arg) in enumerate(plan):
+                save_pdf_page(pdf, fig)
+        body = labels[1 + n_verdict:]
+        for k, (kind, arg) in enumerate(plan[1:]):
             common = {"paper": paper}
             if kind == "sample":
+                ident = arg if len(records) <= BATCH_PAGE_LIMIT else None
                 fig = pg.sample_page(analysis, arg, records[arg], meta, comparison=comparison, diagram=diagram,
-                                     regions=regions, page_label=labels[k], **common)
-                titles.append(f"spectrum: {records[arg]['name']}")
+                                     regions=regions, page_label=body[k], identity=ident, **common)
             elif kind == "comparison":
                 fig = pg.comparison_page(analysis, list(arg), records, meta, comparison=comparison,
-                                         diagram=diagram, regions=regions, page_label=labels[k], **common)
-                titles.append("comparison")
+                                         diagram=diagram, regions=regions, page_label=body[k], **common)
             elif kind == "summary":
                 if summary_figs is None:
                     summary_figs = pg.summary_table_pages(analysis, records, meta,
-                                                          page_labels=labels[k:k + n_summary], **common)
+                                                          page_labels=body[k:k + n_summary], **common)
                 fig = next(summary_figs)
-                titles.append(f"summary table {arg + 1}")
             else:
                 fig = pg.scatter_page(analysis, records, meta, comparison=comparison, diagram=diagram,
-                                      regions=regions, page_label=labels[k], **common)
-                titles.append("chromaticity scatter")
-            pdf.savefig(fig)
+                                      regions=regions, page_label=body[k], **common)
+            titles.append(_title(kind, arg, records))
+            save_pdf_page(pdf, fig)
     return titles
+
+
+def shorten_title(meta: dict[str, Any], records) -> str:
+    """The PDF's document title: the report title, else what it covers."""
+    if meta.get("title") and meta["title"] != "Spectral measurement report":
+        return meta["title"]
+    return f"cctkit report: {records[0]['name']}" if len(records) == 1 else f"cctkit report: {len(records)} spectra"

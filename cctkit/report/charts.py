@@ -17,6 +17,7 @@ functions use only Axes methods), so importing this module costs nothing.
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 from typing import Any, Sequence
 
@@ -44,32 +45,151 @@ __all__ = [
     "chroma_shift_chart",
     "vector_graphic_chart",
     "index_comparison_chart",
+    "hue_wheel_chart",
+    "number_text",
+    "declutter",
+    "layout_problems",
+    "measured_mask",
+    "IDENTITIES",
 ]
 
 #: Chromaticity diagrams a chart can be drawn in, with their axis names.
 DIAGRAMS = {
     "uv": ("u (CIE 1960) [1]", "v (CIE 1960) [1]"),
-    "uvp": ("u\u2032 (CIE 1976) [1]", "v\u2032 (CIE 1976) [1]"),
+    "uvp": ("u' (CIE 1976) [1]", "v' (CIE 1976) [1]"),
     "xy": ("x (CIE 1931) [1]", "y (CIE 1931) [1]"),
 }
 
 INK = "#111111"
 GREY = "#777777"
 LIGHT = "#d9d9d9"
-# Dark, well-separated hues for screens; every series also has its own line style and
-# marker, so a greyscale print stays legible.
-_SERIES_COLOURS = ("#1b1b1b", "#1f4e9a", "#b35900", "#2d7a3a", "#7a1f6b", "#8a6d00")
-_SERIES_LINES = ("-", "--", "-.", ":")
-_SERIES_MARKERS = ("o", "s", "^", "D", "v", "P", "X", "<", ">", "h", "*", "p")
+# One identity per spectrum, the same on every chart of a report: a colour for screens,
+# and a marker, a hatch and a line style that keep the spectra apart in a greyscale print.
+# Twelve of each, chosen so that no two identities share colour, marker or hatch.
+IDENTITY_COLOURS = ("#1b1b1b", "#1f4e9a", "#b35900", "#2d7a3a", "#7a1f6b", "#8a6d00",
+                    "#0e7c86", "#a3243b", "#5448c8", "#6b6b6b", "#c0569b", "#4a6b00")
+IDENTITY_MARKERS = ("o", "s", "^", "D", "v", "P", "X", "<", ">", "h", "*", "p")
+IDENTITY_HATCHES = ("", "////", "....", "xxxx", "\\\\\\\\", "++++", "oo", "----", "||||", "**", "OO", "..//")
+IDENTITY_LINES = ("-", "--", "-.", ":")
+#: Spectra that get an identity of their own; larger batches are drawn as one grey cloud.
+IDENTITIES = len(IDENTITY_COLOURS)
 
 
 def series_style(i: int) -> dict[str, Any]:
-    """Colour, line style and marker of series ``i`` (distinct in greyscale for i < 12)."""
+    """The identity of spectrum ``i`` of a report: colour, line style, marker, hatch, marker face.
+
+    Identities 0-11 differ in every one of colour, marker and hatch, so twelve spectra stay
+    apart in greyscale; beyond twelve they repeat.
+    """
+    k = i % IDENTITIES
     return {
-        "color": _SERIES_COLOURS[i % len(_SERIES_COLOURS)],
-        "linestyle": _SERIES_LINES[i % len(_SERIES_LINES)],
-        "marker": _SERIES_MARKERS[i % len(_SERIES_MARKERS)],
+        "color": IDENTITY_COLOURS[k],
+        "linestyle": IDENTITY_LINES[k % len(IDENTITY_LINES)],
+        "marker": IDENTITY_MARKERS[k],
+        "hatch": IDENTITY_HATCHES[k],
+        "mfc": "white" if k % 2 else IDENTITY_COLOURS[k],
     }
+
+
+def number_text(value: float, fmt: str = "{:.0f}") -> str:
+    """``fmt.format(value)`` with no negative zero (a chroma shift of -0.3 % reads "0", not "-0")."""
+    from ..formats import format_number
+
+    text = format_number(float(value), fmt)
+    return text.lstrip("+") if text.startswith("+") and float(text) == 0.0 else text
+
+
+# ---------------------------------------------------------------- text layout
+
+
+def renderer_of(fig):
+    """A renderer for measuring text on ``fig`` (an Agg canvas is attached when it has none)."""
+    canvas = fig.canvas
+    if not hasattr(canvas, "get_renderer"):
+        from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+        canvas = FigureCanvasAgg(fig)
+    return canvas.get_renderer()
+
+
+def _shown_texts(ax) -> list:
+    return [t for t in ax.texts if t.get_visible() and t.get_text().strip()]
+
+
+def text_collisions(texts, renderer, *, pad_px: float = 0.0) -> list[tuple[Any, Any]]:
+    """Pairs of visible texts whose boxes (as drawn by ``renderer``) overlap."""
+    boxes = [(t, t.get_window_extent(renderer)) for t in texts if t.get_visible() and t.get_text().strip()]
+    out = []
+    for a in range(len(boxes)):
+        ba = boxes[a][1].expanded(1.0, 1.0).padded(pad_px)
+        for b in range(a + 1, len(boxes)):
+            if ba.overlaps(boxes[b][1]):
+                out.append((boxes[a][0], boxes[b][0]))
+    return out
+
+
+def layout_problems(ax) -> list[str]:
+    """What is wrong with the text of a chart: labels overlapping each other or the axes frame.
+
+    Empty for a chart drawn by this module (each chart calls :func:`declutter`).
+    """
+    r = renderer_of(ax.figure)
+    ax.apply_aspect()
+    frame = ax.get_window_extent(r)
+    texts = _shown_texts(ax)
+    out = [f"{a.get_text()!r} overlaps {b.get_text()!r}" for a, b in text_collisions(texts, r)]
+    for t in texts:
+        if getattr(t, "_cctkit_outside", False):
+            continue
+        bb = t.get_window_extent(r)
+        if not (frame.x0 - 0.5 <= bb.x0 and bb.x1 <= frame.x1 + 0.5 and frame.y0 - 0.5 <= bb.y0
+                and bb.y1 <= frame.y1 + 0.5):
+            out.append(f"{t.get_text()!r} crosses the axes frame")
+    leg = ax.get_legend()
+    if leg is not None:
+        lb = leg.get_window_extent(r)
+        out += [f"{t.get_text()!r} under the legend" for t in texts if t.get_window_extent(r).overlaps(lb)]
+    return out
+
+
+_OFFSETS_PT = ((3, 3), (3, -8), (-9, 3), (-9, -8), (5, -2), (-11, -2), (-2, 5), (-2, -10))
+
+
+def declutter(ax) -> None:
+    """Keep the chart's labels apart: highest ``zorder`` first, each label placed where it
+    overlaps no label already placed, the legend or the axes frame; an annotation tries
+    the offsets of :data:`_OFFSETS_PT` around its point; a label that fits nowhere is hidden.
+
+    Labels marked ``_cctkit_outside`` (drawn beside the axes on purpose) are left alone.
+    """
+    from matplotlib.text import Annotation
+
+    r = renderer_of(ax.figure)
+    ax.apply_aspect()
+    frame = ax.get_window_extent(r)
+    placed = []
+    leg = ax.get_legend()
+    if leg is not None:
+        placed.append(leg.get_window_extent(r))
+
+    def fits(bb) -> bool:
+        inside = frame.x0 <= bb.x0 and bb.x1 <= frame.x1 and frame.y0 <= bb.y0 and bb.y1 <= frame.y1
+        return inside and not any(bb.overlaps(p) for p in placed)
+
+    texts = [t for t in _shown_texts(ax) if not getattr(t, "_cctkit_outside", False)]
+    for t in sorted(texts, key=lambda t: -t.get_zorder()):
+        tries = [None]
+        if isinstance(t, Annotation) and t.anncoords == "offset points" and getattr(t, "_cctkit_movable", False):
+            tries = list(_OFFSETS_PT)
+        for off in tries:
+            if off is not None:
+                t.xyann = off
+            bb = t.get_window_extent(r)
+            if fits(bb):
+                placed.append(bb)
+                break
+        else:
+            t.set_visible(False)
 
 
 def shorten(text: str, width: int, *, keep: str = "end") -> str:
@@ -125,6 +245,19 @@ def reference_comparison(analysis):
         return compare_to_reference(analysis.spectra.values, reported_cct_K(analysis), rendition=rendition)
 
 
+def row_first_legend(ax, handles, labels, *, ncol: int, **kw):
+    """A legend read row by row (#1 #2 #3 / #4 #5 #6), though matplotlib fills columns first."""
+    ncol = max(1, min(ncol, len(handles)))
+    rows = -(-len(handles) // ncol)
+    order = []
+    for c in range(ncol):
+        for r in range(rows):
+            k = r * ncol + c
+            if k < len(handles):
+                order.append(k)
+    return ax.legend([handles[k] for k in order], [labels[k] for k in order], ncol=ncol, **kw)
+
+
 # ---------------------------------------------------------------- spectra
 
 
@@ -135,40 +268,74 @@ def _band(ax) -> None:
     ax.axvline(hi, color=LIGHT, lw=0.6, zorder=0)
 
 
+def measured_mask(analysis, index: int, wavelength_nm) -> np.ndarray:
+    """True where ``wavelength_nm`` lies inside the range spectrum ``index`` was measured over.
+
+    Outside it the working-grid values are extrapolated (the nearest measured value repeated),
+    not measured: charts draw them apart.
+    """
+    wl = np.asarray(wavelength_nm, dtype=np.float64)
+    ranges = getattr(analysis.spectra, "measured_range_nm", ())
+    if not ranges or index >= len(ranges) or ranges[index] is None:
+        return np.ones(wl.shape, dtype=bool)
+    lo, hi = float(ranges[index][0]), float(ranges[index][1])
+    return (wl >= lo - 1e-9) & (wl <= hi + 1e-9)
+
+
+def _split(wl, y, mask):
+    """``y`` where measured and NaN elsewhere; and the extrapolated part joined to it."""
+    measured = np.where(mask, y, np.nan)
+    near_gap = np.convolve((~mask).astype(int), [1, 1, 1], mode="same") > 0
+    return measured, np.where(near_gap, y, np.nan)
+
+
 def spectrum_chart(analysis, ax, *, index: int = 0, comparison=None, legend: bool = True) -> None:
     """Test spectrum and its reference illuminant at the same CCT, both scaled to Y = 100.
 
     The scaling (equal luminance, CIE 1931 2 deg) and the reference (CIE 224:2017
     Planckian / daylight / blend) are those of :func:`cctkit.rendering.compare_to_reference`.
     The shaded band is 380-780 nm, the range CIE 15:2018 requires a measurement to cover.
+    Working-grid values outside the measured range (extrapolated) are drawn thin and dotted.
+    The legend sits above the plot, clear of the curves.
     """
     cmp = comparison if comparison is not None else reference_comparison(analysis)
     wl = cmp.wavelength_nm
     _band(ax)
     test = cmp.test[index]
     ref = cmp.reference[index]
-    ax.plot(wl, test, color=INK, lw=1.0, label="test source")
+    mask = measured_mask(analysis, index, wl)
+    measured, extra = _split(wl, test, mask)
+    ax.plot(wl, measured, color=INK, lw=1.0, label="test source (measured)")
+    if not mask.all():
+        ax.plot(wl, extra, color=GREY, lw=0.7, linestyle=(0, (1, 1.5)), label="extrapolated, not measured")
     has_ref = bool(np.all(np.isfinite(ref)))
     if has_ref:
         kind = cmp.reference_kind[index]
         ax.plot(wl, ref, color=GREY, lw=1.0, linestyle="--",
                 label=f"reference ({kind}, {cmp.cct_K[index]:.0f} K)")
     else:
-        ax.text(0.98, 0.95, "no reference: CCT not reported", transform=ax.transAxes, ha="right", va="top",
-                color=GREY, fontsize="small")
+        t = ax.text(0.98, 0.95, "no reference: CCT not reported", transform=ax.transAxes, ha="right", va="top",
+                    color=GREY, fontsize="small")
+        t.set_zorder(5)
     ax.set_xlim(wl[0], wl[-1])
     top = np.nanmax(np.concatenate([test, ref if has_ref else test]))
     ax.set_ylim(min(0.0, float(np.nanmin(test))), 1.08 * top if np.isfinite(top) and top > 0 else 1.0)
     ax.set_ylabel("Rel. power [Y = 100]")
     ax.set_xlabel("Wavelength [nm]")
-    ax.text(0.5 * sum(VISIBLE_BAND_NM), 0.0, "380\u2013780 nm", transform=ax.get_xaxis_transform(),
-            ha="center", va="bottom", fontsize="x-small", color=GREY)
+    ax.text(0.5 * sum(VISIBLE_BAND_NM), 0.0, "380-780 nm", transform=ax.get_xaxis_transform(),
+            ha="center", va="bottom", fontsize="x-small", color=GREY, zorder=1)
     if legend:
-        ax.legend(loc="upper left", fontsize="x-small", frameon=False)
+        ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.0), fontsize="x-small", frameon=False, ncol=3,
+                  borderaxespad=0.2, handlelength=2.0)
+    declutter(ax)
 
 
 def difference_chart(analysis, ax, *, index: int = 0, comparison=None) -> None:
-    """Test minus reference per wavelength, on the Y = 100 scale of :func:`spectrum_chart`."""
+    """Test minus reference per wavelength, on the Y = 100 scale of :func:`spectrum_chart`.
+
+    Only the measured range is filled (grey: test above, hatched: test below); the
+    extrapolated tail is a dotted line.
+    """
     cmp = comparison if comparison is not None else reference_comparison(analysis)
     wl = cmp.wavelength_nm
     d = cmp.difference[index]
@@ -176,43 +343,55 @@ def difference_chart(analysis, ax, *, index: int = 0, comparison=None) -> None:
     ax.axhline(0.0, color=GREY, lw=0.6)
     ax.set_xlim(wl[0], wl[-1])
     ax.set_xlabel("Wavelength [nm]")
-    ax.set_ylabel("\u0394 [Y = 100]")
+    ax.set_ylabel("Test - ref. [Y = 100]")
     if not np.all(np.isfinite(d)):
         ax.text(0.5, 0.5, "no reference: CCT not reported", transform=ax.transAxes, ha="center", va="center",
                 color=GREY, fontsize="small")
         ax.set_ylim(-1, 1)
         return
-    ax.fill_between(wl, 0.0, d, where=d >= 0, color="#bdbdbd", lw=0, step=None, label="test above")
-    ax.fill_between(wl, 0.0, d, where=d < 0, facecolor="white", edgecolor=GREY, hatch="////", lw=0,
+    mask = measured_mask(analysis, index, wl)
+    ax.fill_between(wl, 0.0, d, where=(d >= 0) & mask, color="#bdbdbd", lw=0, label="test above")
+    ax.fill_between(wl, 0.0, d, where=(d < 0) & mask, facecolor="white", edgecolor=GREY, hatch="////", lw=0,
                     label="test below")
-    ax.plot(wl, d, color=INK, lw=0.7)
-    lim = float(np.max(np.abs(d))) * 1.15 or 1.0
+    measured, extra = _split(wl, d, mask)
+    ax.plot(wl, measured, color=INK, lw=0.7)
+    if not mask.all():
+        ax.plot(wl, extra, color=GREY, lw=0.7, linestyle=(0, (1, 1.5)))
+    lim = float(np.max(np.abs(d[mask] if mask.any() else d))) * 1.15 or 1.0
     ax.set_ylim(-lim, lim)
-    ax.legend(loc="upper right", fontsize="x-small", frameon=False, ncol=2)
+    ax.legend(loc="lower right", bbox_to_anchor=(1.0, 1.0), fontsize="x-small", frameon=False, ncol=2,
+              borderaxespad=0.1)
 
 
 def spectra_overlay_chart(analysis, ax, *, indices: Sequence[int] | None = None, comparison=None,
                           labels: Sequence[str] | None = None, legend: bool = True) -> None:
-    """Several test spectra overlaid, each scaled to Y = 100 (so their shapes compare)."""
+    """Several test spectra overlaid, each scaled to Y = 100 (so their shapes compare).
+
+    Up to :data:`IDENTITIES` spectra each get their identity (:func:`series_style`); the
+    legend sits above the plot.  Extrapolated tails are left out (only measured data drawn).
+    """
     cmp = comparison if comparison is not None else reference_comparison(analysis)
     idx = list(range(len(analysis))) if indices is None else list(indices)
     wl = cmp.wavelength_nm
     _band(ax)
-    many = len(idx) > 12
+    many = len(idx) > IDENTITIES
     for k, i in enumerate(idx):
+        y = np.where(measured_mask(analysis, i, wl), cmp.test[i], np.nan)
         if many:
-            ax.plot(wl, cmp.test[i], color=INK, lw=0.4, alpha=0.35)
+            ax.plot(wl, y, color=INK, lw=0.4, alpha=0.35)
             continue
         st = series_style(k)
         label = labels[k] if labels is not None else f"{k + 1}"
-        ax.plot(wl, cmp.test[i], color=st["color"], linestyle=st["linestyle"], marker=st["marker"],
+        ax.plot(wl, y, color=st["color"], linestyle=st["linestyle"], marker=st["marker"], mfc=st["mfc"],
                 markevery=(5 * k % 40, 40), markersize=3, lw=0.9, label=label)
     ax.set_xlim(wl[0], wl[-1])
     ax.set_ylim(bottom=min(0.0, float(np.nanmin(cmp.test[idx]))))
     ax.set_xlabel("Wavelength [nm]")
     ax.set_ylabel("Rel. power [Y = 100]")
     if legend and not many:
-        ax.legend(loc="upper left", fontsize="x-small", frameon=False, ncol=2 if len(idx) > 4 else 1)
+        h, lab = ax.get_legend_handles_labels()
+        row_first_legend(ax, h, lab, ncol=6, loc="lower left", bbox_to_anchor=(0.0, 1.0), fontsize="x-small",
+                         frameon=False, borderaxespad=0.2, handlelength=2.2, columnspacing=1.0)
     if many:
         ax.text(0.99, 0.97, f"{len(idx)} spectra", transform=ax.transAxes, ha="right", va="top",
                 fontsize="small", color=GREY)
@@ -275,6 +454,33 @@ _DUV_LINES = (-0.05, -0.04, -0.03, -0.02, -0.01, 0.01, 0.02, 0.03, 0.04, 0.05)
 _MIN_HALF_SPAN = {"uv": (0.022, 0.016), "uvp": (0.022, 0.024), "xy": (0.035, 0.03)}
 
 
+@functools.lru_cache(maxsize=4)
+def _locus_geometry(observer: int) -> dict[str, Any]:
+    """The lines every chromaticity chart draws, in CIE 1960 uv, computed once per observer:
+    the Planckian locus, the constant-Duv lines, the isotemperature lines of :data:`_ISO_LEVELS`
+    (:func:`cctkit.locus.uv_from_cct_duv`, i.e. :func:`cctkit.locus.isotemperature_line`) and
+    the spectrum locus (the colour-matching functions' chromaticities)."""
+    from ..colorimetry import XYZ_to_uv
+    from ..locus import planckian_locus, uv_from_cct_duv
+    from ..tables import cmfs
+
+    T = np.geomspace(1000.0, 100000.0, 700)
+    duvs = np.asarray(_DUV_LINES, dtype=np.float64)
+    duv_lines = uv_from_cct_duv(np.tile(T, duvs.size), np.repeat(duvs, T.size), observer=observer)
+    temps = sorted({t for level in _ISO_LEVELS for t in level})
+    grid = np.linspace(-DUV_LIMIT, DUV_LIMIT, 41)
+    iso = uv_from_cct_duv(np.repeat(np.asarray(temps, dtype=np.float64), grid.size), np.tile(grid, len(temps)),
+                          observer=observer).reshape(len(temps), grid.size, 2)
+    with np.errstate(all="ignore"):
+        spectral = XYZ_to_uv(np.asarray(cmfs(observer), dtype=np.float64))
+    return {
+        "locus": planckian_locus(T, observer=observer).uv,
+        "duv_lines": duv_lines.reshape(duvs.size, T.size, 2),
+        "iso": dict(zip(temps, iso)),
+        "spectral": spectral[np.all(np.isfinite(spectral), axis=1)],
+    }
+
+
 def _window(points: np.ndarray, diagram: str, *, observer: int = 2) -> tuple[float, float, float, float]:
     pts = points[np.all(np.isfinite(points), axis=1)]
     hu, hv = _MIN_HALF_SPAN[diagram]
@@ -299,6 +505,16 @@ def _fit_box(ax, win):
     s = max(sx, sy)
     cx, cy = 0.5 * (x0 + x1), 0.5 * (y0 + y1)
     return cx - 0.5 * s * w_in, cx + 0.5 * s * w_in, cy - 0.5 * s * h_in, cy + 0.5 * s * h_in
+
+
+def _near(line: np.ndarray, win, grow: float = 2.0) -> np.ndarray:
+    """The points of ``line`` within the window widened by ``grow`` of its size on every side,
+    with one neighbour beyond, so the drawn part runs past the axes edge (clipped there)."""
+    w, h = win[1] - win[0], win[3] - win[2]
+    big = (win[0] - grow * w, win[1] + grow * w, win[2] - grow * h, win[3] + grow * h)
+    keep = _inside(line, big)
+    keep = np.convolve(keep.astype(int), [1, 1, 1], mode="same") > 0
+    return line[keep]
 
 
 def _inside(p: np.ndarray, win) -> np.ndarray:
@@ -350,8 +566,6 @@ def chromaticity_chart(
         The view (x0, x1, y0, y1) in ``diagram`` coordinates, before it is widened to equal
         scales on both axes (default: around the points).
     """
-    from ..locus import isotemperature_line, planckian_locus, uv_from_cct_duv
-
     if diagram not in DIAGRAMS:
         raise ValueError(f"diagram must be one of {', '.join(DIAGRAMS)}, got {diagram!r}")
     observer = int(analysis.observer)
@@ -360,27 +574,33 @@ def chromaticity_chart(
     win = _window(np.asarray(sample, dtype=np.float64), diagram, observer=observer) if window is None else \
         tuple(float(w) for w in window)
 
-    T = np.geomspace(1000.0, 100000.0, 700)
-    locus = _convert(planckian_locus(T, observer=observer).uv, "uv", diagram)
-    for duv in _DUV_LINES:
-        line = _convert(uv_from_cct_duv(T, np.full_like(T, duv), observer=observer), "uv", diagram)
+    geo = _locus_geometry(observer)
+    locus = _convert(geo["locus"], "uv", diagram)
+    for duv, line_uv in zip(_DUV_LINES, geo["duv_lines"]):
+        line = _near(_convert(line_uv, "uv", diagram), win)  # draw only what is shown
+        if line.shape[0] < 2:
+            continue
         ax.plot(line[:, 0], line[:, 1], color=GREY, lw=0.5, linestyle=":", zorder=1)
         inside = np.flatnonzero(_inside(line, win))
         if inside.size:
             j = inside[len(inside) // 2]
             ax.text(line[j, 0], line[j, 1], f"{duv:+.2f}", fontsize=5, color=GREY, ha="center", va="center",
                     zorder=2, bbox={"boxstyle": "square,pad=0.05", "fc": "white", "ec": "none"})
+    locus = _near(locus, win)
     ax.plot(locus[:, 0], locus[:, 1], color=INK, lw=1.1, zorder=3, label="Planckian locus")
+    spectral = _convert(geo["spectral"], "uv", diagram)
+    if spectral.size:  # the spectrum locus, closed by the line of purples
+        closed = np.vstack([spectral, spectral[:1]])
+        ax.plot(closed[:, 0], closed[:, 1], color=INK, lw=0.8, zorder=3, gid="spectrum-locus")
 
     win = _fit_box(ax, win)
     ax.set_xlim(win[0], win[1])
     ax.set_ylim(win[2], win[3])
     placed: list[float] = []
     span_x = win[1] - win[0]
-    duv_grid = np.linspace(-DUV_LIMIT, DUV_LIMIT, 41)
     for level in _ISO_LEVELS:
         for t in level:
-            line = _convert(isotemperature_line(float(t), duv_grid, observer=observer), "uv", diagram)
+            line = _convert(geo["iso"][t], "uv", diagram)
             inside = np.flatnonzero(_inside(line, win))
             if inside.size < 2:
                 continue
@@ -391,7 +611,7 @@ def chromaticity_chart(
             placed.append(fx)
             ax.plot(line[:, 0], line[:, 1], color=GREY, lw=0.6, zorder=2)
             ax.text(line[j, 0], line[j, 1], f"{t} K", fontsize=5.5, color=INK, ha="center", va="bottom",
-                    zorder=4, bbox={"boxstyle": "square,pad=0.1", "fc": "white", "ec": "none"})
+                    zorder=4, bbox={"boxstyle": "square,pad=0.1", "fc": "white", "ec": "none"}, clip_on=True)
 
     # ANSI C78.377 quadrangles are defined for the 2 deg observer: not drawn by default on a 10 deg diagram.
     outlines = (ansi_outlines() if observer == 2 else ()) if regions is None else tuple(regions)
@@ -409,23 +629,25 @@ def chromaticity_chart(
                         ha="center", va="bottom", zorder=2)
         drawn_region = True
 
-    annotate = (1 < len(idx) <= 12) if annotate is None else annotate
+    annotate = (1 < len(idx) <= IDENTITIES) if annotate is None else annotate
     pts = np.asarray(sample, dtype=np.float64)
     if not mark_samples:
         pass
-    elif len(idx) <= 12:
+    elif len(idx) <= IDENTITIES:
         for k, p in enumerate(pts):
             st = series_style(k)
             lab = legend_labels[k] if legend_labels is not None else None
-            ax.plot(p[0], p[1], linestyle="none", marker=st["marker"], markersize=5, mfc="white" if k % 2 else
-                    st["color"], mec=st["color"], mew=1.0, zorder=5, label=lab)
+            ax.plot(p[0], p[1], linestyle="none", marker=st["marker"], markersize=5, mfc=st["mfc"],
+                    mec=st["color"], mew=1.0, zorder=5, label=lab)
     else:
         ax.plot(pts[:, 0], pts[:, 1], linestyle="none", marker="o", markersize=2.5, mfc="white", mec=INK,
                 mew=0.6, zorder=5)
     if annotate and mark_samples:
         for k, p in enumerate(pts):
             if np.all(np.isfinite(p)):
-                ax.annotate(str(k + 1), p, xytext=(3, 3), textcoords="offset points", fontsize=5, zorder=6)
+                t = ax.annotate(str(k + 1), p, xytext=(3, 3), textcoords="offset points", fontsize=5, zorder=6,
+                                color=series_style(k)["color"])
+                t._cctkit_movable = True
 
     ax.set_aspect("equal", adjustable="box")
     ax.set_xlabel(DIAGRAMS[diagram][0])
@@ -438,8 +660,9 @@ def chromaticity_chart(
     width_in = ax.get_position().width * ax.figure.get_figwidth()
     ax.set_title(textwrap.fill("; ".join(notes), max(20, int(width_in / 0.037))), fontsize=5.5, color=GREY,
                  loc="left")
-    if legend_labels is not None and len(idx) <= 12 and mark_samples:
+    if legend_labels is not None and len(idx) <= IDENTITIES and mark_samples:
         ax.legend(loc="lower right", fontsize="x-small", frameon=True, framealpha=0.9, edgecolor=LIGHT)
+    declutter(ax)
 
 
 # ---------------------------------------------------------------- colour rendering
@@ -448,7 +671,9 @@ def chromaticity_chart(
 def _bar_labels(ax, xs, values, fmt="{:.0f}", fontsize=5.5) -> None:
     for x, v in zip(xs, values):
         if np.isfinite(v):
-            ax.text(x, v, fmt.format(v), ha="center", va="bottom" if v >= 0 else "top", fontsize=fontsize)
+            text = number_text(v, fmt)
+            up = not text.startswith("-")
+            ax.text(x, v, text, ha="center", va="bottom" if up else "top", fontsize=fontsize)
 
 
 def cri_chart(analysis, ax, *, index: int = 0) -> None:
@@ -483,7 +708,7 @@ def cri_chart(analysis, ax, *, index: int = 0) -> None:
     note = "R1\u2013R8 average to Ra; R9 (strong red) hatched"
     if not valid:
         dc = float(np.asarray(cri.dc)[index])
-        note += f"; NOT VALID: DC = {dc:.4f} \u2265 {DC_LIMIT:g}"
+        note += f"; NOT VALID: DC = {dc:.4f} >= {DC_LIMIT:g}"
     ax.set_title(note, fontsize=6, loc="left", color=INK if not valid else GREY)
 
 
@@ -569,8 +794,8 @@ def vector_graphic_chart(analysis, ax, *, index: int = 0) -> None:
     ax.set_aspect("equal", adjustable="box")
     ax.set_xticks([-1, 0, 1])
     ax.set_yticks([-1, 0, 1])
-    ax.set_xlabel("a\u2032 / C\u2032ref [1]")
-    ax.set_ylabel("b\u2032 / C\u2032ref [1]")
+    ax.set_xlabel("a' / C'ref [1]")
+    ax.set_ylabel("b' / C'ref [1]")
     rf = float(np.asarray(t.Rf)[index])
     rg = float(np.asarray(t.Rg)[index])
     if np.isfinite(rf):
@@ -579,8 +804,14 @@ def vector_graphic_chart(analysis, ax, *, index: int = 0) -> None:
               handlelength=1.5)
 
 
-def index_comparison_chart(analysis, ax, *, indices: Sequence[int] | None = None) -> None:
-    """Ra, R9, Rf and Rg of several spectra as grouped bars (one hatch per spectrum)."""
+def index_comparison_chart(analysis, ax, *, indices: Sequence[int] | None = None,
+                           legend_labels: Sequence[str] | None = None) -> None:
+    """Ra, R9, Rf and Rg of several spectra as grouped bars, each spectrum in its identity.
+
+    Bars carry the spectrum's colour and hatch (:func:`series_style`), in the order #1, #2, ...
+    within each group; the legend reads row by row and sits above the plot, clear of the bars.
+    Values are written on the bars for up to six spectra.
+    """
     cri = analysis.cri
     t = analysis.tm30
     if cri is None and t is None:
@@ -594,20 +825,110 @@ def index_comparison_chart(analysis, ax, *, indices: Sequence[int] | None = None
         ("Rf", np.asarray(t.Rf) if t is not None else nan),
         ("Rg", np.asarray(t.Rg) if t is not None else nan),
     ]
-    hatches = ("", "////", "....", "xxxx", "\\\\", "++", "oo", "--", "||", "**", "OO", "..//")
-    width = 0.8 / len(idx)
+    width = 0.84 / len(idx)
     lo = 0.0
+    handles = []
     for k, i in enumerate(idx):
+        st = series_style(k)
         vals = np.array([s[1][i] for s in series], dtype=np.float64)
-        xs = np.arange(len(series)) - 0.4 + (k + 0.5) * width
-        shade = ("#636363", "#bdbdbd", "white")[k % 3]
-        ax.bar(xs, np.nan_to_num(vals), width=width * 0.92, color=shade, edgecolor=INK, lw=0.5,
-               hatch=hatches[k % len(hatches)], label=f"#{k + 1}")
+        xs = np.arange(len(series)) - 0.42 + (k + 0.5) * width
+        bars = ax.bar(xs, np.nan_to_num(vals), width=width * 0.9, facecolor="white", edgecolor=st["color"],
+                      lw=0.8, hatch=st["hatch"] or None, label=legend_labels[k] if legend_labels else f"#{k + 1}")
+        handles.append(bars)
         if len(idx) <= 6:
             _bar_labels(ax, xs, vals, fontsize=5)
         lo = min(lo, float(np.nanmin(vals)) if np.any(np.isfinite(vals)) else 0.0)
     ax.axhline(0.0, color=INK, lw=0.5)
     ax.set_xticks(np.arange(len(series)), [s[0] for s in series])
-    ax.set_ylim(min(0.0, lo - 12.0), 125)
+    ax.set_ylim(min(0.0, lo - 12.0), 118)
     ax.set_ylabel("Index [1]")
-    ax.legend(loc="upper right", fontsize=5.5, frameon=False, ncol=min(len(idx), 6))
+    labels = [h.get_label() for h in handles]
+    row_first_legend(ax, handles, labels, ncol=min(len(idx), 6), loc="lower left", bbox_to_anchor=(0.0, 1.0),
+                     fontsize=5.5, frameon=False, borderaxespad=0.2, handlelength=2.4, handleheight=1.2,
+                     columnspacing=1.2)
+    declutter(ax)
+
+
+# ---------------------------------------------------------------- TM-30 hue wheel
+
+
+#: Rings of the hue wheel, inner to outer radius, in units of the reference circle.
+_RING_RCS = (1.42, 1.82)
+_RING_RF = (1.86, 2.26)
+_RING_RHS = (2.30, 2.70)
+_RING_BIN = 2.86
+
+
+def _wedge(ax, r0, r1, a0, a1, **kw):
+    from matplotlib.patches import Wedge
+
+    ax.add_patch(Wedge((0.0, 0.0), r1, np.degrees(a0), np.degrees(a1), width=r1 - r0, **kw))
+
+
+def hue_wheel_chart(analysis, ax, *, index: int = 0, identity: int | None = None) -> None:
+    """TM-30 rendering detail in one wheel: the colour vector graphic in the middle and, in the
+    hue-bin sectors around it, Rcs,h [%] (inner ring), Rf,h (middle ring) and Rhs,h [1] (outer ring).
+
+    The vector graphic is the standard's (:func:`cctkit.rendering.tm30.vector_graphic_xy`):
+    the reference circle (dashed) and the test polygon, with an arrow per bin from the
+    reference to the test.  Rings: a chroma decrease is hatched; the Rf,h sector is shaded
+    darker the lower the fidelity (white at 100, dark grey at 50 and below); a hue shift
+    is written with its sign.  Bin numbers run round the outside.  Readable in greyscale.
+    """
+    from ..rendering.tm30 import chroma_shift_percent, vector_graphic_xy
+
+    t = _tm30(analysis, ax, "TM-30 hue-bin measures")
+    if t is None:
+        return
+    colour = INK if identity is None else series_style(identity)["color"]
+    ref_xy, test_xy = vector_graphic_xy(t)
+    c, s = ref_xy[index, :, 0], ref_xy[index, :, 1]
+    tx, ty = test_xy[index, :, 0], test_xy[index, :, 1]
+    theta = np.arctan2(s, c)
+    half = np.pi / 16.0
+    circle = np.linspace(0.0, 2.0 * np.pi, 181)
+    rcs = chroma_shift_percent(t)[index]
+    rf = np.asarray(t.Rf_h[index], dtype=np.float64)
+    rhs = np.asarray(t.Rhs_h[index], dtype=np.float64)
+    for j in range(16):
+        a0, a1 = theta[j] - half, theta[j] + half
+        dec = np.isfinite(rcs[j]) and rcs[j] < -0.5
+        _wedge(ax, *_RING_RCS, a0, a1, facecolor="white", edgecolor=LIGHT if not dec else GREY, lw=0.4,
+               hatch="////" if dec else None)
+        shade = 1.0 - 0.7 * np.clip((100.0 - rf[j]) / 50.0, 0.0, 1.0) if np.isfinite(rf[j]) else 1.0
+        _wedge(ax, *_RING_RF, a0, a1, facecolor=str(round(float(shade), 3)), edgecolor="white", lw=0.6)
+        _wedge(ax, *_RING_RHS, a0, a1, facecolor="white", edgecolor=LIGHT, lw=0.4)
+        for ring, text, dark in (
+            (_RING_RCS, number_text(rcs[j], "{:+.0f}") if np.isfinite(rcs[j]) else "n/a", False),
+            (_RING_RF, number_text(rf[j], "{:.0f}") if np.isfinite(rf[j]) else "n/a", shade < 0.55),
+            (_RING_RHS, number_text(rhs[j], "{:+.2f}") if np.isfinite(rhs[j]) else "n/a", False),
+        ):
+            r = 0.5 * (ring[0] + ring[1])
+            ax.text(r * np.cos(theta[j]), r * np.sin(theta[j]), text, ha="center", va="center", fontsize=4.8,
+                    color="white" if dark else INK, zorder=4,
+                    bbox={"boxstyle": "square,pad=0.05", "fc": "white", "ec": "none"} if ring is _RING_RCS and dec
+                    else None)
+        ax.text(_RING_BIN * np.cos(theta[j]), _RING_BIN * np.sin(theta[j]), str(j + 1), ha="center",
+                va="center", fontsize=5.2, weight="bold", color=GREY, zorder=4)
+    for r in (0.8, 1.2):
+        ax.plot(r * np.cos(circle), r * np.sin(circle), color=LIGHT, lw=0.5, linestyle=":", zorder=1)
+    ax.plot(np.cos(circle), np.sin(circle), color=GREY, lw=1.0, linestyle="--", zorder=2)
+    if not np.all(np.isfinite(tx)):
+        ax.text(0, 0, "no result", ha="center", va="center", color=GREY)
+    else:
+        ax.fill(tx, ty, facecolor="none", edgecolor=colour, lw=1.2, zorder=3)
+        ax.plot(tx, ty, linestyle="none", marker="o", markersize=2.0, color=colour, zorder=3)
+        for k in range(16):
+            ax.annotate("", (tx[k], ty[k]), (c[k], s[k]),
+                        arrowprops={"arrowstyle": "-|>", "lw": 0.5, "color": INK, "mutation_scale": 5})
+    lim = _RING_BIN + 0.2
+    ax.set_xlim(-lim, lim)
+    ax.set_ylim(-lim, lim)
+    ax.set_aspect("equal", adjustable="box")
+    ax.set_axis_off()
+    rf_all = float(np.asarray(t.Rf)[index])
+    rg_all = float(np.asarray(t.Rg)[index])
+    if np.isfinite(rf_all):
+        ax.text(0.0, -0.12, f"Rf {rf_all:.0f}\nRg {rg_all:.0f}", ha="center", va="center", fontsize=6,
+                weight="bold", zorder=5, bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": LIGHT, "lw": 0.4})
+    declutter(ax)

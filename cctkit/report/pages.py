@@ -27,6 +27,11 @@ __all__ = [
     "summary_table_pages",
     "scatter_page",
     "summary_picture",
+    "summary_cells",
+    "headline_cells",
+    "cover_page",
+    "footer_line",
+    "APPROVAL_BOXES",
     "SUMMARY_ROWS_PER_PAGE",
 ]
 
@@ -39,7 +44,7 @@ STANDARDS = (
     "CIE 13.3-1995 (Ra, R1\u2013R14)",
     "CIE 224:2017 (Rf)",
     "ANSI/IES TM-30-20 (Rg, hue bins)",
-    "CIE S 026:2018 (\u03b1-opic)",
+    "CIE S 026:2018 (alpha-opic)",
 )
 
 CAUTIONS = (
@@ -57,11 +62,11 @@ HEADLINE_ROWS: tuple[tuple[str, str, str, str], ...] = (
     ("y", "y (CIE 1931)", "1", "{:.4f}"),
     ("u", "u (CIE 1960)", "1", "{:.4f}"),
     ("v", "v (CIE 1960)", "1", "{:.4f}"),
-    ("u_prime", "u\u2032 (CIE 1976)", "1", "{:.4f}"),
-    ("v_prime", "v\u2032 (CIE 1976)", "1", "{:.4f}"),
+    ("u_prime", "u' (CIE 1976)", "1", "{:.4f}"),
+    ("v_prime", "v' (CIE 1976)", "1", "{:.4f}"),
     ("luminous_flux_lm", "Luminous flux", "lm", "{:.1f}"),
     ("illuminance_lx", "Illuminance", "lx", "{:.1f}"),
-    ("luminance_cd_per_m2", "Luminance", "cd\u00b7m\u207b\u00b2", "{:.1f}"),
+    ("luminance_cd_per_m2", "Luminance", "cd/m\u00b2", "{:.1f}"),
     ("intensity_cd", "Luminous intensity", "cd", "{:.1f}"),
     ("ler_lm_per_W", "LER", "lm/W", "{:.1f}"),
     ("sp_ratio", "S/P ratio", "1", "{:.3f}"),
@@ -98,12 +103,22 @@ def format_value(rec: dict[str, Any], key: str) -> str:
     ``"not computed"`` where the key is absent.
     """
     if key not in rec and not (key == "R9" and "R" in rec):
+        if key in _LUMINOUS_KEYS:  # a column of one luminous total, a spectrum of another quantity
+            if rec.get("quantity") == "relative":
+                return "rel."
+            own = next((k for k in _LUMINOUS_KEYS if rec.get(k) is not None), None)
+            if own is not None:  # short enough for a narrow column: 32.8 lx, 32.8k lx
+                v = float(rec[own])
+                unit = {"luminance_cd_per_m2": "cd/m\u00b2"}.get(own, _ROW[own][2])
+                return f"{v / 1000:.1f}k {unit}" if abs(v) >= 1000 else f"{v:.1f} {unit}"
         return "not computed"
     v = _value(rec, key)
     if v is None:
         return "n/a"
     if isinstance(v, (int, float)) and not isinstance(v, bool):
-        return _ROW[key][3].format(float(v)) if key in _ROW else f"{v:g}"
+        from ..formats import format_number
+
+        return format_number(float(v), _ROW[key][3]) if key in _ROW else f"{v:g}"
     return str(v)
 
 
@@ -172,33 +187,56 @@ def _header(page: _Page, title: str, subtitle: str, page_label: str) -> float:
     return page.MARGIN + 0.5
 
 
-def _footer(page: _Page, meta: dict[str, Any]) -> None:
+def footer_line(meta: dict[str, Any], page_label: str = "", sha256: str | None = None) -> str:
+    """The line every page ends with: input SHA-256, report date, software, page n of N."""
+    sha = sha256 or meta.get("input_sha256") or ""
+    what = "input SHA-256" if sha256 or meta.get("input_count", 1) == 1 else \
+        f"SHA-256 of the {meta.get('input_count')} inputs' digests"
+    parts = [f"{what} {sha}" if sha else "input not from a file",
+             f"report date {meta['date']}", f"cctkit {meta['cctkit_version']}"]
+    if page_label:
+        parts.append(page_label)
+    return "  |  ".join(parts)
+
+
+def _footer(page: _Page, meta: dict[str, Any], page_label: str = "", sha256: str | None = None) -> None:
     y0 = page.h - page.MARGIN - 0.62
     page.rule(y0, lw=0.4)
     page.text(page.left, y0 + 0.05, "Cautions", fontsize=6, weight="bold")
     for k, line in enumerate(CAUTIONS):
-        page.text(page.left, y0 + 0.16 + 0.1 * k, f"\u2022 {line}", fontsize=5.5)
-    page.text(page.right, y0 + 0.05,
-              f"cctkit {meta['cctkit_version']} \u2022 report date {meta['date']}", fontsize=5.5, ha="right",
-              color=GREY)
+        page.text(page.left, y0 + 0.16 + 0.085 * k, f"- {line}", fontsize=5.2)
+    page.text(page.left, page.h - page.MARGIN - 0.02, footer_line(meta, page_label, sha256), fontsize=5.2,
+              color=GREY, va="bottom", family="monospace")
 
 
 _FOOTER_H = 0.62 + 0.1
 
 
 def _kv_block(page: _Page, x: float, y: float, rows: Sequence[tuple[str, str]], *, label_w: float,
-              pitch: float = 0.125, fontsize: float = 6.0, value_chars: int = 62) -> float:
-    """Label/value lines; long values wrap (at most 3 lines); returns the y below the block."""
+              pitch: float = 0.125, fontsize: float = 6.0, value_chars: int = 62, max_lines: int = 4) -> float:
+    """Label/value lines; long values wrap (at most ``max_lines`` lines); returns the y below the block."""
     for label, value in rows:
         page.text(x, y, label, fontsize=fontsize, weight="bold")
         lines = textwrap.wrap(value, value_chars, break_long_words=True) or [""]
-        if len(lines) > 4:
-            lines = lines[:3] + [shorten(" ".join(lines[3:]), value_chars)]
+        if len(lines) > max_lines:
+            lines = lines[:max_lines - 1] + [shorten(" ".join(lines[max_lines - 1:]), value_chars)]
         for k, line in enumerate(lines):
             page.text(x + label_w, y + k * pitch, line, fontsize=fontsize,
-                      family="DejaVu Sans Mono" if label.startswith("SHA") else None)
+                      family="monospace" if label.startswith("SHA") else None)
         y += pitch * len(lines)
     return y
+
+
+def metadata_rows(rec: dict[str, Any]) -> list[tuple[str, str]]:
+    """The file's own notes for the identity block: recognised keys by label, the rest on one line."""
+    from ..readers.metadata import identity_rows
+
+    meta = rec.get("metadata") or {}
+    if not meta:
+        return []
+    shown, rest = identity_rows(meta)
+    notes = [v if k.startswith("(text") else (k if not v else f"{k}: {v}") for k, v in rest]
+    return shown + ([("File notes", "; ".join(notes))] if notes else [])
 
 
 def provenance_rows(rec: dict[str, Any], meta: dict[str, Any]) -> list[tuple[str, str]]:
@@ -206,16 +244,23 @@ def provenance_rows(rec: dict[str, Any], meta: dict[str, Any]) -> list[tuple[str
     conv = meta["conventions"]
     lo, hi = rec.get("measured_range_nm", [None, None])
     step = rec.get("measured_step_nm")
-    measured = f"{lo:g}\u2013{hi:g} nm, step {step:g} nm" if lo is not None else "unknown"
+    measured = f"{lo:g}-{hi:g} nm, step {step:g} nm" if lo is not None else "unknown"
     sha = rec.get("sha256") or "(not from a file)"
     obs = rec.get("observer", 2)
     observer = "CIE 1931 2\u00b0" if obs == 2 else "CIE 1964 10\u00b0"
-    return [
+    from_file = metadata_rows(rec)
+    rows = [
         ("Sample", rec["name"]),
+        *from_file,
         ("Input file", shorten(rec.get("source") or "(not from a file)", 110, keep="tail")),
         ("SHA-256", sha),
         ("Quantity", f"{rec['quantity']} [{rec.get('spectral_unit', '')}]"),
         ("Measured", measured),
+    ]
+    inst = instrument_text(rec)
+    if inst and not from_file:
+        rows.append(("Instrument", inst + " (from the file)"))
+    rows += [
         ("Observer", f"{observer} for chromaticity and CCT; rendering metrics use their standard's observer"),
         ("Interpolation", f"{conv['interpolation']}; extrapolation: {conv['extrapolation']}"),
         ("Constants", f"c2 = {conv['c2_m_K']:.4e} m\u00b7K; Km = {conv['Km_lm_per_W']} lm/W; "
@@ -224,26 +269,23 @@ def provenance_rows(rec: dict[str, Any], meta: dict[str, Any]) -> list[tuple[str
         ("Standards", "; ".join(STANDARDS + ((meta["tolerance_edition"],) if meta.get("tolerance_edition") else ()))),
         ("Software", f"cctkit {meta['cctkit_version']}; tables from colour-science "
                      f"{meta.get('colour_science_version') or 'n/a'}"),
-        ("Report date", meta["date"]),
     ]
+    return rows
 
 
-def _headline_block(page: _Page, x: float, y: float, w: float, rec: dict[str, Any], *, extra=()) -> float:
-    page.text(x, y, "Headline numbers", fontsize=7.5, weight="bold")
-    y += 0.18
-    pitch = 0.118
-    for label, value, unit, note in headline_rows(rec):
-        page.text(x, y, label, fontsize=6.3)
-        page.text(x + 1.55, y, value, fontsize=6.3, ha="right", weight="bold")
-        page.text(x + 1.6, y, unit, fontsize=6.3)
-        if note:
-            page.text(x + 2.05, y, f"\u25b2 {note}", fontsize=5.8, weight="bold")
-        y += pitch
-    for label, value in extra:
-        page.text(x, y, label, fontsize=6.3)
-        page.text(x + 1.55, y, value, fontsize=6.3, ha="right", weight="bold")
-        y += pitch
-    return y
+_INSTRUMENT_KEYS = ("instrument", "model", "manufacturer", "serial", "serial_number", "integration_time",
+                    "integration_time_ms", "calibration", "calibration_date", "operator", "measured_at", "date")
+
+
+def instrument_text(rec: dict[str, Any]) -> str:
+    """The instrument metadata a reader found in the spectrum's file, as one line ("" when none)."""
+    md = rec.get("metadata")
+    if not isinstance(md, dict) or not md:
+        return ""
+    keys = [k for k in _INSTRUMENT_KEYS if md.get(k) not in (None, "")]
+    keys += [k for k in sorted(md) if k not in keys and isinstance(md[k], (str, int, float))
+             and not isinstance(md[k], bool)][: max(0, 6 - len(keys))]
+    return "; ".join(f"{k.replace('_', ' ')} {md[k]}" for k in keys[:8])
 
 
 def _flags_block(page: _Page, x: float, y: float, rec: dict[str, Any], *, max_lines: int = 4) -> float:
@@ -255,87 +297,249 @@ def _flags_block(page: _Page, x: float, y: float, rec: dict[str, Any], *, max_li
     y += 0.13
     shown = flags if len(flags) <= max_lines else flags[: max_lines - 1]
     for f in shown:
-        page.text(x, y, shorten(f"\u25b2 [{f['code']}] {f['message']}", 150), fontsize=5.8)
+        page.text(x, y, shorten(f"! [{f['code']}] {f['message']}", 150), fontsize=5.8)
         y += 0.11
     if len(shown) < len(flags):
-        page.text(x, y, f"\u2026 and {len(flags) - len(shown)} more (see the JSON record)", fontsize=5.8)
+        page.text(x, y, f"... and {len(flags) - len(shown)} more (see the JSON record)", fontsize=5.8)
         y += 0.11
     return y
 
 
-def _ansi_text(analysis, i: int) -> tuple[tuple[str, str], ...]:
+def ansi_bin(analysis, i: int) -> str:
+    """The ANSI C78.377 quadrangle holding spectrum ``i`` ("none" outside all of them)."""
     from ..tolerance import classify_ansi
 
     name = classify_ansi(np.asarray(analysis.uv[i]), space="uv")
     name = name.item() if hasattr(name, "item") else name
-    return (("ANSI C78.377 quadrangle", name or "none"),)
+    return name or "none"
+
+
+_LUMINOUS_LABEL = {"luminous_flux_lm": "Luminous flux", "illuminance_lx": "Illuminance",
+                   "luminance_cd_per_m2": "Luminance", "intensity_cd": "Luminous intensity"}
+
+
+def headline_cells(rec: dict[str, Any], *, ansi: str = "", intents: Sequence[str] = ()) -> list[tuple[str, str, str]]:
+    """The headline strip of a spectrum page: (label, value, detail) per cell, from the record."""
+    def v(key):
+        return format_value(rec, key)
+
+    cct = v("cct_K")
+    cct_text = f"{cct} K" if cct not in ("n/a", "not computed") else "CCT n/a"
+    duv_note = " (|Duv| > 0.05)" if rec.get("cct_K") is None and rec.get("duv") is not None else ""
+    cells = [("CCT", cct_text, f"Duv {v('duv')}{duv_note}; ANSI {ansi or 'n/a'}")]
+    ra_note = "CRI not valid" if rec.get("cri_valid") is False else "CIE 13.3-1995"
+    cells.append(("Ra / R9", f"{v('Ra')} / {v('R9')}", ra_note))
+    cells.append(("Rf / Rg", f"{v('Rf')} / {v('Rg')}", "ANSI/IES TM-30-20"))
+    lum = next((k for k in _LUMINOUS_KEYS if k in rec), None)
+    if lum is not None:
+        unit = _ROW[lum][2]
+        cells.append((_LUMINOUS_LABEL[lum], f"{v(lum)} {unit}", rec["quantity"]))
+    else:
+        cells.append(("Luminous total", "relative", "no absolute scale in the data"))
+    cells.append(("Efficacy of radiation", f"{v('ler_lm_per_W')} lm/W", "LER; lamp efficacy needs power"))
+    cells.append(("Melanopic DER", v("melanopic_der"), "CIE S 026, D65 = 1"))
+    cells.append(("TM-30 design intent", " ".join(intents) if intents else "none met",
+                  "Annex E levels (1 strictest)"))
+    return cells
+
+
+def _numbers_grid(page: _Page, y: float, rows, *, ncol: int = 3, pitch: float = 0.108) -> float:
+    """(label, value, unit, note) rows in ``ncol`` columns, filled column by column; returns the y below."""
+    per = -(-len(rows) // ncol)
+    w = page.width / ncol
+    for k, (label, value, unit, note) in enumerate(rows):
+        x = page.left + (k // per) * w
+        yy = y + (k % per) * pitch
+        page.text(x, yy, label, fontsize=5.8)
+        page.text(x + 1.45, yy, value, fontsize=5.8, ha="right", weight="bold")
+        page.text(x + 1.5, yy, unit, fontsize=5.8)
+        if note:
+            page.text(x + 1.5 + (0.3 if unit else 0.0), yy, f"! {note}", fontsize=5.4, weight="bold")
+    return y + per * pitch
+
+
+def _strip(page: _Page, y: float, cells: Sequence[tuple[str, str, str]], *, h: float = 0.62) -> float:
+    from matplotlib.patches import Rectangle
+
+    w = page.width / len(cells)
+    for k, (label, value, detail) in enumerate(cells):
+        x = page.left + k * w
+        page.fig.add_artist(Rectangle((x / page.w, 1 - (y + h) / page.h), (w - 0.05) / page.w, h / page.h,
+                                      transform=page.fig.transFigure, fc="#f0f0f0" if k % 2 == 0 else "white",
+                                      ec="#9a9a9a", lw=0.5))
+        chars = int((w - 0.12) / 0.042)
+        page.text(x + 0.06, y + 0.06, shorten(label, chars), fontsize=5.8, color=GREY)
+        size = 10.5 if len(value) <= int((w - 0.1) / 0.085) else 8.0
+        page.text(x + 0.06, y + 0.2, shorten(value, int((w - 0.1) / (0.085 if size > 9 else 0.065))),
+                  fontsize=size, weight="bold")
+        lines = textwrap.wrap(detail, chars)[:2]
+        for j, line in enumerate(lines):
+            page.text(x + 0.06, y + 0.42 + 0.085 * j, line, fontsize=5.0, color=INK)
+    return y + h
 
 
 # ---------------------------------------------------------------- pages
 
 
 def sample_page(analysis, i: int, rec: dict[str, Any], meta: dict[str, Any], *, paper: str, comparison,
-                diagram: str, regions, page_label: str):
-    """One page for spectrum ``i``: identity, headline numbers, spectrum, chromaticity, colour rendering."""
+                diagram: str, regions, page_label: str, identity: int | None = None):
+    """One page for spectrum ``i``: the headline strip and the spectrum against its reference first,
+    then the rendering detail (hue wheel, CIE 13.3 bars, chromaticity), then identity and provenance."""
     p = _Page(paper)
-    y = _header(p, f"Spectrum report \u2014 {rec['name']}", f"{rec.get('source') or ''}", page_label)
-    half = p.width / 2.0
-    # Identity/provenance (left) and headline numbers (right).
-    p.text(p.left, y, "Identity and provenance", fontsize=7.5, weight="bold")
-    y_left = _kv_block(p, p.left, y + 0.18, provenance_rows(rec, meta), label_w=0.72, value_chars=58)
-    y_right = _headline_block(p, p.left + half + 0.35, y, half - 0.35, rec, extra=_ansi_text(analysis, i))
-    y = max(y_left, y_right) + 0.04
-    y = _flags_block(p, p.left, y, rec) + 0.1
+    sub = " | ".join(t for t in (meta.get("title"), meta.get("project"), meta.get("lab")) if t)
+    y = _header(p, f"{rec['name']}", sub or (rec.get("source") or ""), page_label)
+    intents = (meta.get("design_intents") or {}).get(i, ())
+    y = _strip(p, y, headline_cells(rec, ansi=ansi_bin(analysis, i), intents=intents)) + 0.12
 
-    bottom = p.h - p.MARGIN - _FOOTER_H
-    avail = bottom - y
-    # Rows: spectrum+difference | chromaticity ; CRI bars | vector graphic ; Rf,h | Rcs,h.
-    # Each panel: a bold heading, room for the chart's own note line, the plot, its x label.
-    head, note, xlab = 0.14, 0.2, 0.34
-    r1 = avail * 0.38
-    r2 = avail * 0.33
-    r3 = avail - r1 - r2
     gx = p.left + 0.45
-    lw = p.width * 0.56 - 0.45
-    cx = p.left + p.width * 0.56 + 0.55
-    cw = p.right - cx
-    # Row 1
-    top = y + head + note
-    plot_h = r1 - head - note - xlab
-    spec_h = plot_h * 0.66
-    ax = p.axes(gx, top, lw, spec_h)
+    full = p.right - gx
+    # Spectrum and reference, difference below; legends sit above each plot.
+    p.text(p.left, y, "Spectrum against its reference at the same CCT (equal Y)", fontsize=7.5, weight="bold")
+    spec_top = y + 0.36
+    spec_h = 1.15
+    ax = p.axes(gx, spec_top, full, spec_h)
     charts.spectrum_chart(analysis, ax, index=i, comparison=comparison)
     ax.set_xlabel("")
     ax.tick_params(labelbottom=False)
-    p.text(p.left, y, "Spectrum and its reference at the same CCT (equal Y)", fontsize=7, weight="bold")
-    ax2 = p.axes(gx, top + spec_h + 0.05, lw, plot_h - spec_h - 0.05, sharex=ax)
+    ax2 = p.axes(gx, spec_top + spec_h + 0.18, full, 0.42, sharex=ax)
     charts.difference_chart(analysis, ax2, index=i, comparison=comparison)
-    side = min(cw, plot_h)
-    axc = p.axes(cx + (cw - side) / 2.0, top, side, side)
-    charts.chromaticity_chart(analysis, axc, indices=[i], diagram=diagram, regions=regions)
-    p.text(cx - 0.45, y, "Chromaticity", fontsize=7, weight="bold")
-    # Row 2
-    y2 = y + r1
-    plot_h = r2 - head - note - xlab + 0.1
-    ax = p.axes(gx, y2 + head + note, lw, plot_h)
+    y = spec_top + spec_h + 0.18 + 0.42 + 0.36
+
+    # Rendering detail: the hue wheel (left), CIE 13.3 bars and chromaticity (right).
+    p.text(p.left, y, "Colour rendering and chromaticity", fontsize=7.5, weight="bold")
+    y += 0.16
+    side = 3.0
+    axw = p.axes(p.left, y + 0.05, side, side)
+    charts.hue_wheel_chart(analysis, axw, index=i, identity=identity)
+    key = ("Hue wheel (TM-30-20): the colour vector graphic in the middle (dashed: reference; arrows: reference "
+           "to test per hue bin); around it per bin, inner ring Rcs,h [%] (hatched: less chroma), middle ring "
+           "Rf,h (darker: lower fidelity), outer ring Rhs,h [1]; bin numbers outside.")
+    for j, line in enumerate(textwrap.wrap(key, 88)):
+        p.text(p.left, y + side + 0.1 + 0.085 * j, line, fontsize=5.0, color=INK)
+    rx = p.left + side + 0.75
+    rw = p.right - rx
+    ax = p.axes(rx, y + 0.3, rw, 0.95)
     charts.cri_chart(analysis, ax, index=i)
-    p.text(p.left, y2, "CIE 13.3-1995 colour rendering", fontsize=7, weight="bold")
-    side = min(cw, plot_h)
-    axv = p.axes(cx + (cw - side) / 2.0, y2 + head + note, side, side)
-    charts.vector_graphic_chart(analysis, axv, index=i)
-    p.text(cx - 0.45, y2, "TM-30 colour vector graphic", fontsize=7, weight="bold")
-    # Row 3
-    y3 = y2 + r2
-    bw = (p.width - 0.45 - 0.55) / 2.0
-    plot_h = r3 - head - 0.05 - xlab
-    ax = p.axes(gx, y3 + head + 0.05, bw, plot_h)
-    charts.hue_fidelity_chart(analysis, ax, index=i)
-    p.text(p.left, y3, "TM-30 local fidelity Rf,h", fontsize=7, weight="bold")
-    ax = p.axes(gx + bw + 0.55, y3 + head + 0.05, bw, plot_h)
-    charts.chroma_shift_chart(analysis, ax, index=i)
-    p.text(gx + bw + 0.1, y3, "TM-30 local chroma shift Rcs,h", fontsize=7, weight="bold")
-    _footer(p, meta)
+    p.text(rx - 0.4, y, "CIE 13.3-1995 Ra and R1-R14", fontsize=6.5, weight="bold")
+    cy = y + 0.3 + 0.95 + 0.3
+    p.text(rx - 0.4, cy, "Chromaticity", fontsize=6.5, weight="bold")
+    c_top = cy + 0.45
+    cside = min(rw, y + side + 0.55 - c_top)
+    axc = p.axes(rx + (rw - cside) / 2.0, c_top, cside, cside)
+    charts.chromaticity_chart(analysis, axc, indices=[i], diagram=diagram, regions=regions)
+    y = c_top + cside + 0.45
+
+    # Every headline number with its unit and flag note, three columns.
+    p.text(p.left, y - 0.17, "All numbers", fontsize=6.5, weight="bold")
+    y = _numbers_grid(p, y, headline_rows(rec)) + 0.12
+    # Identity and provenance, two columns, then flags.
+    rows = provenance_rows(rec, meta)
+    half = (len(rows) + 1) // 2
+    yl = _kv_block(p, p.left, y, rows[:half], label_w=0.68, value_chars=62, pitch=0.105, fontsize=5.6,
+                   max_lines=2)
+    yr = _kv_block(p, p.left + p.width / 2 + 0.1, y, rows[half:], label_w=0.68, value_chars=62, pitch=0.105,
+                   fontsize=5.6, max_lines=3)
+    _flags_block(p, p.left, max(yl, yr) + 0.04, rec, max_lines=2)
+    _footer(p, meta, page_label, rec.get("sha256"))
     return p.fig
+
+
+def cover_page(records, meta: dict[str, Any], *, paper: str, contents: Sequence[str], page_label: str,
+               logo=None):
+    """The sign-off page: title, sign-off fields, inputs with their SHA-256, contents and the approval block."""
+    p = _Page(paper)
+    title = meta.get("title") or "Spectral measurement report"
+    sub = " | ".join(t for t in (meta.get("project"), meta.get("lab")) if t)
+    y = _header(p, title, sub or f"{len(records)} spectr{'um' if len(records) == 1 else 'a'}", page_label)
+    if logo is not None:
+        h_img, w_img = logo.shape[0], logo.shape[1]
+        lw = min(1.4, 0.7 * w_img / max(h_img, 1))
+        lh = lw * h_img / max(w_img, 1)
+        ax = p.axes(p.right - lw, y + 0.05, lw, lh)
+        ax.imshow(logo, interpolation="nearest")
+        ax.set_axis_off()
+    fields = [("Project", meta.get("project") or "(not given)"),
+              ("Laboratory", meta.get("lab") or "(not given)"),
+              ("Operator", meta.get("operator") or "(not given)"),
+              ("Instrument", meta.get("instrument") or "(not given)")]
+    from_files = sorted({instrument_text(r) for r in records} - {""})
+    if from_files:
+        fields.append(("From the files", "; ".join(from_files)))
+    fields += [("Report date", meta["date"]), ("Notes", meta.get("notes") or "(none)")]
+    p.text(p.left, y + 0.05, "Sign-off fields", fontsize=7.5, weight="bold")
+    y = _kv_block(p, p.left, y + 0.25, fields, label_w=1.0, value_chars=95, pitch=0.14, fontsize=7.0,
+                  max_lines=4) + 0.15
+
+    p.text(p.left, y, f"Inputs ({len(records)} spectra)", fontsize=7.5, weight="bold")
+    y += 0.2
+    p.text(p.left, y, "#", fontsize=6, weight="bold")
+    p.text(p.left + 0.3, y, "Spectrum", fontsize=6, weight="bold")
+    p.text(p.left + 2.2, y, "File", fontsize=6, weight="bold")
+    p.text(p.left + 4.15, y, "SHA-256 of the file", fontsize=6, weight="bold")
+    y += 0.14
+    shown = records if len(records) <= 24 else records[:20]
+    for k, r in enumerate(shown):
+        p.text(p.left, y, str(k + 1), fontsize=5.8)
+        p.text(p.left + 0.3, y, shorten(r["name"], 38), fontsize=5.8)
+        p.text(p.left + 2.2, y, shorten(r.get("source") or "(not from a file)", 40, keep="tail"), fontsize=5.8)
+        p.text(p.left + 4.15, y, r.get("sha256") or "-", fontsize=5.0, family="monospace")
+        y += 0.12
+    if len(shown) < len(records):
+        p.text(p.left, y, f"... and {len(records) - len(shown)} more: every file and SHA-256 is in the JSON "
+                          "output", fontsize=5.8)
+        y += 0.12
+    y += 0.15
+    p.text(p.left, y, "Contents", fontsize=7.5, weight="bold")
+    y += 0.2
+    listed = list(contents) if len(contents) <= 18 else list(contents[:17]) + [f"... {len(contents) - 17} more pages"]
+    col = (len(listed) + 1) // 2
+    for k, line in enumerate(listed):
+        x = p.left if k < col else p.left + p.width / 2
+        p.text(x, y + 0.12 * (k % col), shorten(line, 70), fontsize=6.2)
+    y += 0.12 * col + 0.15
+    p.text(p.left, y, "Standards and conventions", fontsize=7.5, weight="bold")
+    y += 0.2
+    conv = meta["conventions"]
+    y = _kv_block(p, p.left, y, [
+        ("Standards", "; ".join(STANDARDS + ((meta["tolerance_edition"],) if meta.get("tolerance_edition") else ()))),
+        ("Conventions", f"{conv['summation']}; c2 = {conv['c2_m_K']:.4e} m\u00b7K; CCT: {conv['cct_method']}"),
+        ("Software", f"cctkit {meta['cctkit_version']}; tables from colour-science "
+                     f"{meta.get('colour_science_version') or 'n/a'}"),
+    ], label_w=1.0, value_chars=110, pitch=0.12, fontsize=6.0, max_lines=3)
+    _approval_block(p, p.h - p.MARGIN - _FOOTER_H - 1.45, meta)
+    _footer(p, meta, page_label)
+    return p.fig
+
+
+#: The approval block's boxes: heading and the name printed in it (from the sign-off fields).
+APPROVAL_BOXES = (("Prepared by", "operator"), ("Checked by", None), ("Approved for release", None))
+
+
+def _approval_block(p: _Page, y: float, meta: dict[str, Any]) -> None:
+    from matplotlib.patches import Rectangle
+
+    p.text(p.left, y, "Approval", fontsize=7.5, weight="bold")
+    y += 0.2
+    w = (p.width - 0.2) / len(APPROVAL_BOXES)
+    h = 1.1
+    for k, (head, key) in enumerate(APPROVAL_BOXES):
+        x = p.left + k * (w + 0.1)
+        p.fig.add_artist(Rectangle((x / p.w, 1 - (y + h) / p.h), w / p.w, h / p.h, transform=p.fig.transFigure,
+                                   fc="white", ec=INK, lw=0.7))
+        p.text(x + 0.08, y + 0.08, head, fontsize=7, weight="bold")
+        name = meta.get(key) if key else ""
+        for j, (label, value) in enumerate((("Name", name or ""), ("Signature", ""), ("Date", ""))):
+            ly = y + 0.42 + 0.25 * j
+            p.text(x + 0.08, ly - 0.1, label, fontsize=6, color=GREY)
+            p.fig.add_artist(_line(p, x + 0.65, x + w - 0.1, ly + 0.02))
+            if value:
+                p.text(x + 0.7, ly - 0.12, shorten(value, int((w - 0.8) / 0.05)), fontsize=6.5)
+
+
+def _line(p: _Page, x0: float, x1: float, y: float):
+    from matplotlib.lines import Line2D
+
+    return Line2D([x0 / p.w, x1 / p.w], [1 - y / p.h] * 2, transform=p.fig.transFigure, color=INK, lw=0.5)
 
 
 _COMPARE_KEYS = ("cct_K", "duv", "x", "y", "u_prime", "v_prime", "luminous", "ler_lm_per_W", "sp_ratio",
@@ -347,6 +551,19 @@ def _luminous_key(records) -> str | None:
         if any(k in r for r in records):
             return k
     return None
+
+
+def _identity_key(p: _Page, x: float, y: float, k: int) -> None:
+    """A small swatch of identity ``k``: its hatch and colour, with its marker on top."""
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import Rectangle
+
+    st = charts.series_style(k)
+    p.fig.add_artist(Rectangle(((x - 0.06) / p.w, 1 - (y + 0.05) / p.h), 0.12 / p.w, 0.1 / p.h,
+                               transform=p.fig.transFigure, fc="white", ec=st["color"], lw=0.6,
+                               hatch=st["hatch"] or None))
+    p.fig.add_artist(Line2D([x / p.w], [1 - y / p.h], transform=p.fig.transFigure, linestyle="none",
+                            marker=st["marker"], markersize=3.5, mfc=st["mfc"], mec=st["color"], mew=0.8))
 
 
 def comparison_page(analysis, indices: Sequence[int], records, meta, *, paper: str, comparison, diagram: str,
@@ -368,6 +585,7 @@ def comparison_page(analysis, indices: Sequence[int], records, meta, *, paper: s
         x = p.left + label_w + (k + 0.5) * col_w
         st = charts.series_style(k)
         p.text(x, y, f"#{k + 1}", fontsize=7, weight="bold", ha="center", color=st["color"])
+        _identity_key(p, x - 0.22, y + 0.06, k)
         name = records[i]["name"]
         lines = textwrap.wrap(name, chars, break_long_words=True) or [""]
         if len(lines) > 2:
@@ -396,25 +614,29 @@ def comparison_page(analysis, indices: Sequence[int], records, meta, *, paper: s
     for k, i in enumerate(indices):
         r = records[i]
         codes = ", ".join(f["code"] for f in r.get("flags", []))
-        p.text(p.left, y, shorten(f"#{k + 1}  {r['name']}  \u2014  {r.get('source') or 'no file'}"
-                                  + (f"  \u2014 flags: {codes}" if codes else ""), 150), fontsize=5.6)
+        _identity_key(p, p.left + 0.05, y + 0.04, k)
+        p.text(p.left + 0.15, y, shorten(f"#{k + 1}  {r['name']}  -  {r.get('source') or 'no file'}"
+                                         + (f"  -  flags: {codes}" if codes else ""), 150), fontsize=5.6,
+               color=charts.series_style(k)["color"])
         y += 0.1
-    y += 0.15
+    y += 0.3 + 0.12 * (-(-n // 6))  # room for the legend rows above the spectra
     bottom = p.h - p.MARGIN - _FOOTER_H
     avail = bottom - y
-    side = min(p.width / 2.0 - 0.55, avail * 0.6 - 0.5)
+    side = min(p.width / 2.0 - 0.55, avail * 0.6 - 0.7)
     ax = p.axes(p.left + 0.5, y + 0.15, side, side)
     charts.chromaticity_chart(analysis, ax, indices=indices, diagram=diagram, regions=regions)  # numbered
     ax = p.axes(p.left + p.width / 2.0 + 0.5, y + 0.15, p.width / 2.0 - 0.5, side)
     charts.spectra_overlay_chart(analysis, ax, indices=indices, comparison=comparison,
                                  labels=[f"#{k + 1}" for k in range(n)])
-    ax.set_title("Spectra, each scaled to Y = 100", fontsize=7, loc="left")
-    y_bars = y + 0.15 + side + 0.55
+    p.text(p.left + p.width / 2.0 + 0.1, y - 0.12 - 0.12 * (-(-n // 6)), "Spectra, each scaled to Y = 100",
+           fontsize=7, weight="bold")
+    y_bars = y + 0.15 + side + 0.85
     if bottom - y_bars > 1.0:
         ax = p.axes(p.left + 0.5, y_bars, p.width - 0.5, bottom - y_bars - 0.35)
         charts.index_comparison_chart(analysis, ax, indices=indices)
-        ax.set_title("Colour rendering indices by spectrum (bars in the order #1, #2, ...)", fontsize=7, loc="left")
-    _footer(p, meta)
+        p.text(p.left, y_bars - 0.42, "Colour rendering indices by spectrum (bars in the order #1, #2, ... "
+               "within each index)", fontsize=7, weight="bold")
+    _footer(p, meta, page_label)
     return p.fig
 
 
@@ -462,7 +684,7 @@ def summary_table_pages(analysis, records, meta, *, paper: str, page_labels: Seq
             y += pitch
             if (i - start) % 5 == 4:
                 p.rule(y - 0.06, lw=0.15)
-        _footer(p, meta)
+        _footer(p, meta, page_labels[page_no])
         yield p.fig
 
 
@@ -479,9 +701,71 @@ def scatter_page(analysis, records, meta, *, paper: str, comparison, diagram: st
     y2 = y + side + 0.65
     ax = p.axes(p.left + 0.55, y2, p.width - 0.6, bottom - y2 - 0.45)
     charts.spectra_overlay_chart(analysis, ax, comparison=comparison, legend=n <= 12)
-    ax.set_title("Spectra, each scaled to Y = 100", fontsize=7, loc="left")
-    _footer(p, meta)
+    p.text(p.left, y2 - 0.45, "Spectra, each scaled to Y = 100", fontsize=7, weight="bold")
+    _footer(p, meta, page_label)
     return p.fig
+
+
+def summary_cells(records) -> tuple[list[str], list[list[str]]]:
+    """The comparison table of the PNG summary: header and one row of cell texts per spectrum.
+
+    Columns: #, name, CCT, Duv, the luminous total of the quantity (left out for relative
+    data, which have none), Ra, R9, Rf, Rg.  Each cell holds its own record value only.
+    """
+    lum = _luminous_key(records)
+    cols: list[tuple[str, str | None]] = [("#", None), ("Name", "name"), ("CCT [K]", "cct_K"), ("Duv", "duv")]
+    if lum is not None:
+        cols.append((f"{_LUMINOUS_LABEL[lum].replace('Luminous ', '').capitalize()} [{_ROW[lum][2]}]", lum))
+    cols += [("Ra", "Ra"), ("R9", "R9"), ("Rf", "Rf"), ("Rg", "Rg")]
+    header = [c[0] for c in cols]
+    rows = []
+    for k, r in enumerate(records):
+        row = []
+        for _, key in cols:
+            if key is None:
+                row.append(str(k + 1))
+            elif key == "name":
+                row.append(shorten(r["name"], 22))
+            else:
+                row.append(format_value(r, key))
+        rows.append(row)
+    return header, rows
+
+
+def _table(fig, x_in: float, y_in: float, header, rows, *, w_in: float, h_in: float, fontsize: float = 6.0,
+           pitch: float = 0.17, right_from: int = 2) -> float:
+    """Draw a table with columns as wide as their widest text (measured), numbers right-aligned."""
+    from .charts import renderer_of
+
+    r = renderer_of(fig)
+    probe = fig.text(0, 0, "", fontsize=fontsize)
+    widths = []
+    for j in range(len(header)):
+        wmax = 0.0
+        for text, bold in [(header[j], True)] + [(row[j], False) for row in rows]:
+            probe.set_text(text)
+            probe.set_weight("bold" if bold else "normal")
+            wmax = max(wmax, probe.get_window_extent(r).width / fig.dpi)
+        widths.append(wmax)
+    probe.remove()
+    gap = 0.12
+    xs = [x_in]
+    for wv in widths[:-1]:
+        xs.append(xs[-1] + wv + gap)
+    for j, head in enumerate(header):
+        right = j >= right_from
+        x = xs[j] + (widths[j] if right else 0.0)
+        fig.text(x / w_in, 1 - y_in / h_in, head, fontsize=fontsize, va="top", weight="bold",
+                 ha="right" if right else "left", gid="summary-head")
+    y = y_in + pitch
+    for row in rows:
+        for j, cell in enumerate(row):
+            right = j >= right_from
+            x = xs[j] + (widths[j] if right else 0.0)
+            fig.text(x / w_in, 1 - y / h_in, cell, fontsize=fontsize, va="top", ha="right" if right else "left",
+                     gid=f"summary-cell-{j}")
+        y += pitch
+    return y
 
 
 def summary_picture(analysis, records, meta, *, comparison, diagram: str, regions, size_px=(1600, 1000),
@@ -493,58 +777,42 @@ def summary_picture(analysis, records, meta, *, comparison, diagram: str, region
     fig = Figure(figsize=(w_in, h_in), dpi=dpi)
     n = len(records)
     rec = records[0]
-    title = f"cctkit summary \u2014 {shorten(rec['name'], 60)}" if n == 1 else f"cctkit summary \u2014 {n} spectra"
-    fig.text(0.015, 0.975, title, fontsize=11, weight="bold", va="top")
-    fig.text(0.985, 0.975, f"cctkit {meta['cctkit_version']} \u2022 {meta['date']}", fontsize=6, ha="right",
-             va="top", color=GREY)
+    title = meta.get("title") if meta.get("title") not in (None, "", "Spectral measurement report") else None
+    head = title or (f"cctkit summary - {shorten(rec['name'], 60)}" if n == 1 else f"cctkit summary - {n} spectra")
+    fig.text(0.015, 0.975, shorten(head, 90), fontsize=11, weight="bold", va="top")
+    fig.text(0.985, 0.975, f"cctkit {meta['cctkit_version']} | report date {meta['date']}", fontsize=6,
+             ha="right", va="top", color=GREY)
 
     def box(x, y, w, h):  # inches from top-left
         return fig.add_axes((x / w_in, 1 - (y + h) / h_in, w / w_in, h / h_in))
 
-    lines: list[tuple[str, str]] = []
-    if n == 1:
-        for label, value, unit, note in headline_rows(rec):
-            lines.append((label, f"{value} {unit}".strip() + (f"  \u25b2 {note}" if note else "")))
-        lines.append(("Flags", ", ".join(f["code"] for f in rec.get("flags", [])) or "none"))
     y = 0.5
     if n > 1:
-        # A compact comparison table: the headline numbers side by side, one row per spectrum.
-        lum = _luminous_key(records)
-        lum_unit = {"luminous_flux_lm": "lm", "illuminance_lx": "lx", "luminance_cd_per_m2": "cd/m\u00b2",
-                    "intensity_cd": "cd"}.get(lum or "", "")
-        cols = [("#", None, 0.0), ("name", None, 0.2), ("CCT K", "cct_K", 1.22), ("Duv", "duv", 1.58),
-                (lum_unit or "Y", lum, 2.02), ("Ra", "Ra", 2.42), ("R9", "R9", 2.7), ("Rf", "Rf", 2.98),
-                ("Rg", "Rg", 3.26)]
-        for label, _, x in cols:
-            fig.text((0.15 + x) / w_in, 1 - y / h_in, label, fontsize=6, va="top", weight="bold")
-        y += 0.2
-        shown = records[:22] if n <= 24 else records[:20]
-        for k, r in enumerate(shown):
-            for label, key, x in cols:
-                if key is None:
-                    text = f"{k + 1}" if label == "#" else shorten(r["name"], 16)
-                else:
-                    text = format_value(r, key) if key else "n/a"
-                fig.text((0.15 + x) / w_in, 1 - y / h_in, text, fontsize=6, va="top")
-            y += 0.17
+        header, rows = summary_cells(records)
+        shown = rows if n <= 24 else rows[:20]
+        y = _table(fig, 0.15, y, header, shown, w_in=w_in, h_in=h_in)
         if len(shown) < n:
-            fig.text(0.15 / w_in, 1 - y / h_in, f"\u2026 and {n - len(shown)} more (see the PDF report)",
+            fig.text(0.15 / w_in, 1 - y / h_in, f"... and {n - len(shown)} more (see the PDF report)",
                      fontsize=6, va="top", color=GREY)
             y += 0.17
-        if n <= 12:
-            ax = box(0.55, y + 0.35, 3.05, min(2.4, 5.6 - y))
+        if n <= charts.IDENTITIES:
+            ax = box(0.55, y + 0.45, 3.3, min(2.3, 5.7 - y))
             charts.index_comparison_chart(analysis, ax)
-    for label, value in lines:
-        fig.text(0.15 / w_in, 1 - y / h_in, label, fontsize=6.3, va="top")
-        fig.text(1.45 / w_in, 1 - y / h_in, shorten(value, 34), fontsize=6.3, va="top", weight="bold")
-        y += 0.165
-    if n == 1:
-        y += 0.1
+    else:
+        for label, value, unit, note in headline_rows(rec):
+            fig.text(0.15 / w_in, 1 - y / h_in, label, fontsize=6.3, va="top")
+            text = f"{value} {unit}".strip() + (f"  ! {note}" if note else "")
+            fig.text(1.45 / w_in, 1 - y / h_in, shorten(text, 34), fontsize=6.3, va="top", weight="bold")
+            y += 0.165
+        flags = ", ".join(f["code"] for f in rec.get("flags", [])) or "none"
+        fig.text(0.15 / w_in, 1 - y / h_in, "Flags", fontsize=6.3, va="top")
+        fig.text(1.45 / w_in, 1 - y / h_in, shorten(flags, 34), fontsize=6.3, va="top", weight="bold")
+        y += 0.265
         for label, value in (("File", shorten(rec.get("source") or "(not from a file)", 44, keep="tail")),
-                             ("SHA-256", (rec.get("sha256") or "")[:16] + "\u2026"),
+                             ("SHA-256", (rec.get("sha256") or "")[:16] + "..."),
                              ("Quantity", f"{rec['quantity']} [{rec.get('spectral_unit', '')}]"),
-                             ("Measured", "{:g}\u2013{:g} nm, step {:g} nm".format(*rec["measured_range_nm"],
-                                                                                rec["measured_step_nm"]))):
+                             ("Measured", "{:g}-{:g} nm, step {:g} nm".format(*rec["measured_range_nm"],
+                                                                           rec["measured_step_nm"]))):
             fig.text(0.15 / w_in, 1 - y / h_in, label, fontsize=5.8, va="top", color=GREY)
             fig.text(1.45 / w_in, 1 - y / h_in, value, fontsize=5.8, va="top", color=GREY)
             y += 0.14
@@ -555,21 +823,21 @@ def summary_picture(analysis, records, meta, *, comparison, diagram: str, region
                  color=GREY, va="bottom")
 
     if n == 1:
-        ax = box(3.85, 0.5, 3.3, 2.35)
+        ax = box(3.85, 0.75, 3.3, 2.1)
         charts.spectrum_chart(analysis, ax, index=0, comparison=comparison)
-        ax.set_title("Spectrum and reference (equal Y)", fontsize=7, loc="left")
-        ax = box(3.85, 3.6, 3.3, 2.35)
+        fig.text(3.45 / w_in, 1 - 0.38 / h_in, "Spectrum and reference (equal Y)", fontsize=7, va="top",
+                 weight="bold")
+        ax = box(3.85, 3.6, 3.3, 2.0)
         charts.cri_chart(analysis, ax, index=0)
         ax = box(7.85, 0.75, 2.5, 2.5)
         charts.chromaticity_chart(analysis, ax, indices=[0], diagram=diagram, regions=regions)
-        ax = box(7.9, 3.9, 2.1, 2.1)
-        charts.vector_graphic_chart(analysis, ax, index=0)
+        ax = box(7.75, 3.55, 2.6, 2.6)
+        charts.hue_wheel_chart(analysis, ax, index=0)
     else:
         idx = list(range(n))
-        ax = box(4.35, 0.5, 2.85, 5.3)
+        ax = box(4.55, 0.75, 2.75, 5.0)
         charts.spectra_overlay_chart(analysis, ax, comparison=comparison,
-                                     labels=[f"#{k + 1}" for k in idx] if n <= 12 else None)
-        ax.set_title("Spectra (Y = 100)", fontsize=7, loc="left")
+                                     labels=[f"#{k + 1}" for k in idx] if n <= charts.IDENTITIES else None)
         ax = box(7.75, 0.75, 2.75, 4.8)
         charts.chromaticity_chart(analysis, ax, diagram=diagram, regions=regions)
     return fig

@@ -352,10 +352,9 @@ def build_tuning_report(path, out: str | os.PathLike, *, overwrite: bool = False
     ``document`` is ``path.document()`` when the caller has it (with any inputs it added).
     Returns the :class:`cctkit.report.Report` written.
     """
-    from matplotlib import rc_context
 
     from ..safe_io import atomic_path, check_output_path
-    from .build import _RC, Report, check_options, report_meta
+    from .build import PDF_METADATA, Report, check_options, report_meta, report_style, save_pdf_page
 
     target = Path(out)
     check_options(target, paper=paper)
@@ -363,7 +362,7 @@ def build_tuning_report(path, out: str | os.PathLike, *, overwrite: bool = False
     meta = report_meta(date=date)
     doc = path.document() if document is None else document
     name = title or "Tuning: " + ", ".join(path.channels.names)
-    with rc_context(_RC), atomic_path(target, overwrite=overwrite, inputs=list(inputs)) as tmp:
+    with report_style(), atomic_path(target, overwrite=overwrite, inputs=list(inputs)) as tmp:
         if target.suffix.lower() == ".png":
             fig = _picture(path, doc, meta, shorten(name, 90))
             fig.savefig(tmp, format="png", dpi=_PNG_DPI, metadata={"Software": f"cctkit {meta['cctkit_version']}"})
@@ -375,13 +374,14 @@ def build_tuning_report(path, out: str | os.PathLike, *, overwrite: bool = False
         labels = [f"page {k + 1} of {total}" for k in range(total)]
         titles = []
         with PdfPages(tmp, metadata={"Title": name, "Creator": f"cctkit {meta['cctkit_version']}",
-                                     "Subject": "Drive levels of a multi-channel luminaire along a path"}) as pdf:
-            pdf.savefig(_fixture_page(path, doc, meta, paper=paper, page_label=labels[0], title=shorten(name, 70)))
+                                     "Subject": "Drive levels of a multi-channel luminaire along a path",
+                                     **PDF_METADATA}) as pdf:
+            save_pdf_page(pdf, _fixture_page(path, doc, meta, paper=paper, page_label=labels[0], title=shorten(name, 70)))
             titles.append("fixture")
-            pdf.savefig(_metrics_page(path, doc, meta, paper=paper, page_label=labels[1], title=shorten(name, 70)))
+            save_pdf_page(pdf, _metrics_page(path, doc, meta, paper=paper, page_label=labels[1], title=shorten(name, 70)))
             titles.append("metrics along the path")
             for k, fig in enumerate(_table_pages(path, doc, meta, paper=paper, labels=labels[2:],
                                                  title=shorten(name, 70))):
-                pdf.savefig(fig)
+                save_pdf_page(pdf, fig)
                 titles.append(f"drive table {k + 1}")
     return Report(path=target, kind="pdf", pages=tuple(titles))

@@ -34,6 +34,7 @@ __all__ = [
     "verdict_chart",
     "claim_outlines",
     "check_verdict_matches",
+    "chromaticity_verdicts",
 ]
 
 #: How each result is drawn: word, chart marker, marker face, table hatch.
@@ -98,8 +99,8 @@ def _limit_text(check: dict, quadrangle: str | None) -> str:
         return f"inside ANSI {quadrangle}" if quadrangle else "inside"
     lo, hi = check["min"], check["max"]
     if lo is not None and hi is not None:
-        return f"{_num(lo)} \u2264 \u2026 \u2264 {_num(hi)}"
-    return f"\u2265 {_num(lo)}" if lo is not None else f"\u2264 {_num(hi)}"
+        return f"{_num(lo)} to {_num(hi)}"
+    return f">= {_num(lo)}" if lo is not None else f"<= {_num(hi)}"
 
 
 def check_verdict_matches(records: Sequence[dict], doc: dict) -> None:
@@ -177,10 +178,32 @@ def _count_numbered(pts, verdicts, win, outside) -> int:
     return int(show.sum())
 
 
+CHROMATICITY_METRICS = ("ansi_quadrangle", "sdcm")
+
+
+def chromaticity_verdicts(doc: dict) -> tuple[np.ndarray, str]:
+    """Each sample's verdict on the chromaticity claims alone (quadrangle, SDCM), and its basis.
+
+    A sample that fails on flux but sits inside the claimed regions is a pass here: the chart
+    shows where the chromaticity is.  Without chromaticity claims, the overall verdict is used
+    and the basis reads "overall".
+    """
+    from ..claims import combine_results
+
+    out = []
+    any_chroma = False
+    for s in doc["samples"]:
+        results = [c["result"] for c in s["checks"] if c["metric"] in CHROMATICITY_METRICS]
+        any_chroma |= bool(results)
+        out.append(combine_results(results) if results else s["verdict"])
+    return np.array(out, dtype=object), ("chromaticity" if any_chroma else "overall")
+
+
 def verdict_chart(analysis, ax, doc: dict, claims, *, diagram: str = "uv", zoom: bool = False,
                   legend: bool = True, number_outside=None,
                   outlines: Sequence[charts.Outline] | None = None) -> list:
-    """Chromaticity chart of the verdict: claimed regions and every sample, marker by sample verdict.
+    """Chromaticity chart of the verdict: claimed regions and every sample, marked by its
+    chromaticity verdict (:func:`chromaticity_verdicts`).
 
     Draws :func:`cctkit.report.charts.chromaticity_chart` with the outlines of
     :func:`claim_outlines`, then marks each sample by its verdict (:data:`VERDICT_STYLE`:
@@ -208,7 +231,7 @@ def verdict_chart(analysis, ax, doc: dict, claims, *, diagram: str = "uv", zoom:
             else:
                 t.set_visible(False)
     pts = np.asarray({"uv": analysis.uv, "uvp": analysis.uvp, "xy": analysis.xy}[diagram], dtype=np.float64)
-    verdicts = np.array([s["verdict"] for s in doc["samples"]])
+    verdicts, basis = chromaticity_verdicts(doc)
     n_numbered = _count_numbered(pts, verdicts, win, number_outside)
     handles = []
     for key in ("pass", "inconclusive", "fail"):
@@ -219,7 +242,7 @@ def verdict_chart(analysis, ax, doc: dict, claims, *, diagram: str = "uv", zoom:
         ax.plot(pts[sel, 0], pts[sel, 1], linestyle="none", marker=st["marker"], markersize=size,
                 mfc=st["mfc"], mec=INK, mew=0.7, zorder=6 if key != "pass" else 5, label=f"verdict-{key}")
         handles.append(Line2D([], [], linestyle="none", marker=st["marker"], markersize=st["size"] * 1.3,
-                              mfc=st["mfc"], mec=INK, mew=0.7, label=f"{st['word']} ({n})"))
+                              mfc=st["mfc"], mec=INK, mew=0.7, label=f"{basis} {st['word']} ({n})"))
         if key != "pass" and n_numbered <= _MAX_NUMBERED:
             for k in np.flatnonzero(sel):
                 inside = win is None or (win[0] <= pts[k, 0] <= win[1] and win[2] <= pts[k, 1] <= win[3])
@@ -227,9 +250,11 @@ def verdict_chart(analysis, ax, doc: dict, claims, *, diagram: str = "uv", zoom:
                 if o is not None and o[0] <= pts[k, 0] <= o[1] and o[2] <= pts[k, 1] <= o[3]:
                     continue
                 if np.all(np.isfinite(pts[k])) and inside:
-                    ax.annotate(f"#{k + 1}", pts[k], xytext=(4, 3), textcoords="offset points", fontsize=5.5,
+                    t = ax.annotate(f"#{k + 1}", pts[k], xytext=(4, 3), textcoords="offset points", fontsize=5.5,
                                 weight="bold", zorder=7,
                                 bbox={"boxstyle": "square,pad=0.05", "fc": "white", "ec": "none", "alpha": 0.8})
+                    t._cctkit_movable = True
+    charts.declutter(ax)
     for o in outlines:
         handles.append(Line2D([], [], color="#4d4d4d", lw=0.7, linestyle=o.linestyle, label=o.label))
     if legend:
@@ -292,17 +317,22 @@ def _kv(page: _Page, x: float, y: float, rows, *, label_w: float, chars: int, pi
     return y
 
 
-def _verdict_badge(page: _Page, x: float, y: float, verdict: str) -> None:
+def _verdict_badge(page: _Page, x: float, y: float, verdict: str):
+    """The overall verdict in a box: a hatched strip at the left (FAIL: lines, inconclusive: dots)
+    beside the words, which stay on white.  Returns (strip, word) artists."""
     from matplotlib.patches import Rectangle
 
     st = VERDICT_STYLE[verdict]
-    w, h = 1.6, 0.34
+    w, h, strip = 1.6, 0.34, 0.28
     page.fig.add_artist(Rectangle((x / page.w, 1 - (y + h) / page.h), w / page.w, h / page.h,
-                                  transform=page.fig.transFigure, fc="white", ec=INK, lw=1.0,
-                                  hatch=st["hatch"] or None))
-    page.text(x + w / 2, y + h / 2, f"verdict: {st['word'].upper() if verdict != 'pass' else 'PASS'}",
-              fontsize=10, weight="bold", ha="center", va="center",
-              bbox={"boxstyle": "square,pad=0.15", "fc": "white", "ec": "none"})
+                                  transform=page.fig.transFigure, fc="white", ec=INK, lw=1.0))
+    band = page.fig.add_artist(Rectangle((x / page.w, 1 - (y + h) / page.h), strip / page.w, h / page.h,
+                                         transform=page.fig.transFigure, fc="white", ec=INK, lw=1.0,
+                                         hatch=st["hatch"] or None))
+    word = page.text(x + strip + (w - strip) / 2, y + h / 2,
+                     f"verdict: {st['word'].upper() if verdict != 'pass' else 'PASS'}",
+                     fontsize=10, weight="bold", ha="center", va="center")
+    return band, word
 
 
 def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram: str = "uv", page_label: str):
@@ -355,8 +385,8 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
     p.text(p.left, y, "Batch summary (statistics of the measured values over all samples; ANSI quadrangle: of the "
            "uv margin to the nearest edge)", fontsize=7.5, weight="bold")
     y += 0.2
-    cols = (("Claim", 1.35), ("Limit", 0.95), ("U (k = 2)", 0.6), ("Pass", 0.6), ("Mean", 0.75), ("Std", 0.75),
-            ("Min", 0.75), ("Max", 0.75), ("Unit", 0.5))
+    cols = (("Claim", 1.2), ("Limit", 0.95), ("U (k = 2)", 0.55), ("pass/incon./FAIL", 0.95), ("Mean", 0.7),
+            ("Std", 0.7), ("Min", 0.7), ("Max", 0.7), ("Unit", 0.5))
     xs = np.concatenate([[p.left], p.left + np.cumsum([w for _, w in cols[:-1]])])
     for (head, _), x in zip(cols, xs):
         p.text(x, y, head, fontsize=6.3, weight="bold")
@@ -371,7 +401,8 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
         stat = (lambda v: "n/a" if v is None else f"{v:+.4f}") if m == "ansi_quadrangle" else \
             (lambda v, m=m: _value_text(m, v))
         cells = [label, _limit_text(check, quad), "\u2013" if U is None else _num(U),
-                 f"{st['count_pass']}/{n}", stat(st["mean"]), stat(st["std"]).lstrip("+"), stat(st["min"]),
+                 f"{st['count_pass']} / {st.get('count_inconclusive', 0)} / {st.get('count_fail', 0)}",
+                 stat(st["mean"]), stat(st["std"]).lstrip("+"), stat(st["min"]),
                  stat(st["max"]),
                  "uv" if m == "ansi_quadrangle" else unit]
         for text, x in zip(cells, xs):
@@ -381,7 +412,8 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
     y += 0.12
 
     # Charts: the whole batch, and a zoom on the claimed ellipse.
-    p.text(p.left, y, "Chromaticity of the samples against the claimed regions", fontsize=7.5, weight="bold")
+    p.text(p.left, y, "Chromaticity of the samples against the claimed regions (markers: the result of the "
+           "chromaticity claims alone; the table gives every claim)", fontsize=7.5, weight="bold")
     y += 0.2
     bottom = p.h - p.MARGIN - _FOOTER_H
     gap = 0.78
@@ -410,7 +442,7 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
     p.fig.legend(handles=handles, loc="upper center", ncol=len(handles), fontsize=6.3, frameon=False,
                  bbox_to_anchor=(0.5, 1.0 - (y + 0.25 + side + 0.42) / p.h), handlelength=2.4,
                  title=None)
-    _footer(p, meta)
+    _footer(p, meta, page_label)
     return p.fig
 
 
@@ -434,6 +466,14 @@ def _marker(p: _Page, x: float, y: float, verdict: str) -> None:
     st = VERDICT_STYLE[verdict]
     p.fig.add_artist(Line2D([x / p.w], [1 - y / p.h], transform=p.fig.transFigure, linestyle="none",
                             marker=st["marker"], markersize=st["size"], mfc=st["mfc"], mec=INK, mew=0.7))
+
+
+def _wrap_cell(text: str, chars: int) -> list[str]:
+    """A header cell's text in at most two lines of ``chars``, never cut mid-number."""
+    lines = textwrap.wrap(text, max(6, chars), break_long_words=False) or [""]
+    if len(lines) > 2:
+        lines = [lines[0], shorten(" ".join(lines[1:]), max(6, chars))]
+    return lines
 
 
 def verdict_table_pages(doc: dict, claims, meta: dict, *, paper: str,
@@ -479,8 +519,9 @@ def verdict_table_pages(doc: dict, claims, meta: dict, *, paper: str,
                 if unit_below and unit:
                     lim += f" {unit}"
                 lim += f", U {_num(U)}" if U is not None else ""
-                p.text(x + 0.05, y + 0.12, shorten(lim, int((col_w - 0.05) / 0.045)), fontsize=5.8)
-            y += 0.27
+                for j, line in enumerate(_wrap_cell(lim, int((col_w - 0.05) / 0.045))):
+                    p.text(x + 0.05, y + 0.12 + 0.09 * j, line, fontsize=5.8)
+            y += 0.36
             p.rule(y - 0.04, lw=0.4)
             pitch = 0.235
             for i in range(start, stop):
@@ -521,7 +562,7 @@ def verdict_table_pages(doc: dict, claims, meta: dict, *, paper: str,
                 p.text(p.left, y, "ANSI quadrangle: the value is the quadrangle that holds the sample "
                        "(none: outside all ANSI C78.377 quadrangles).", fontsize=6)
                 y += 0.11
-            _footer(p, meta)
+            _footer(p, meta, page_labels[k_page - 1])
             yield p.fig
 
 
