@@ -28,7 +28,8 @@ __all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files
 CONVENTIONS = {
     "wavelength_grid_nm": "360-830 nm at 1 nm",
     "summation": "plain sum at 1 nm, no end-point halving (CIE 15:2018)",
-    "interpolation": "as measured on the 1 nm grid; Sprague (CIE 167:2005) for uniform steps; PCHIP otherwise",
+    "interpolation": "as measured on the 1 nm grid; auto: Sprague (CIE 167:2005) for uniform steps, PCHIP "
+                     "otherwise; sprague / linear / pchip on request; the method of each spectrum in its record",
     "extrapolation": "nearest measured value repeated (CIE 15:2018 section 7.2.2), for colour measures only",
     "totals": "radiant and photon totals over the measured range as measured; PPF over 400-700 nm measured; "
               "luminous, scotopic and alpha-opic totals over the measured part of 360-830 nm; LER = luminous / radiant",
@@ -150,6 +151,7 @@ def _columns(a: Analysis) -> dict[str, np.ndarray]:
         "measured_range_nm_lo": rng[:, 0].copy(),
         "measured_range_nm_hi": rng[:, 1].copy(),
         "measured_step_nm": rng[:, 2].copy(),
+        "interpolation": _text_column(s.interpolation),
         "observer": np.full(n, a.observer, dtype=np.int64),
         "cct_K": cct_K,
         "duv": _finite(a.cct.duv),
@@ -195,6 +197,7 @@ def _record(a: Analysis, i: int, in_domain: bool | None = None) -> dict[str, Any
         "spectral_unit": s.quantity.unit,
         "measured_range_nm": [lo, hi],
         "measured_step_nm": step,
+        "interpolation": s.interpolation[i],
         "observer": a.observer,
         "cct_K": _f(a.cct.cct_K, i) if (bool(a.cct.in_domain[i]) if in_domain is None else in_domain) else None,
         "duv": _f(a.cct.duv, i),
@@ -285,13 +288,14 @@ def one_blas_thread():
     return _BLAS.limit(limits=1, user_api="blas")
 
 
-def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> Analysis:
+def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, interpolation: str = "auto") -> Analysis:
     """Every measure for every spectrum in ``spectra``, vectorised.
 
     Parameters
     ----------
     spectra
-        N spectra on any grid; they are resampled once to 360-830 nm at 1 nm.
+        N spectra on any grid; they are resampled once to 360-830 nm at 1 nm by ``interpolation``
+        (``"auto"``, ``"sprague"``, ``"linear"`` or ``"pchip"``, see :mod:`cctkit.spectra`).
     observer
         Observer for chromaticity and CCT: 2 (CIE 1931, the CCT convention) or 10 (CIE 1964).
         Photometry always uses V(lambda) (CIE 1924) and rendering uses the observers its
@@ -301,7 +305,7 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> A
     """
     if int(observer) not in (2, 10):
         raise ValueError(f"observer must be 2 or 10, got {observer!r}")
-    g = to_working_grid(spectra)
+    g = to_working_grid(spectra, interpolation=interpolation)
     # Spectra nothing can be computed from (no visible data, no signal) get every measure withheld
     # and a flag; the command line refuses them before this point (analysis.read_files).
     problems = signal_problems(g)
@@ -451,10 +455,12 @@ def read_files(files, *, quantity=None, layout=None) -> list[Spectra]:
     return out
 
 
-def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True, layout=None) -> Analysis:
+def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True, layout=None,
+                  interpolation: str = "auto") -> Analysis:
     """:func:`analyse` of the spectra of ``files`` as one batch; they may differ in quantity
     (see :func:`analyse_mixed`)."""
-    return analyse_mixed(read_files(files, quantity=quantity, layout=layout), observer=observer, rendering=rendering)
+    return analyse_mixed(read_files(files, quantity=quantity, layout=layout), observer=observer, rendering=rendering,
+                         interpolation=interpolation)
 
 
 @dataclass(frozen=True)
@@ -479,7 +485,8 @@ class MixedAnalysis(Analysis):
         return records_table(self.records())
 
 
-def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = True) -> Analysis:
+def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = True,
+                  interpolation: str = "auto") -> Analysis:
     """One analysis of several Spectra that may differ in quantity, in input order.
 
     Spectra of one quantity are joined and analysed as one batch (vectorised).
@@ -498,7 +505,7 @@ def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = 
     for i, s in enumerate(items):
         groups.setdefault(s.quantity, []).append(i)
     if len(groups) == 1:
-        return analyse(concatenate(items), observer=observer, rendering=rendering)
+        return analyse(concatenate(items, interpolation=interpolation), observer=observer, rendering=rendering)
     parts = []
     where: dict[int, tuple[int, int]] = {}  # item -> (part, first spectrum in it)
     for k, idx in enumerate(groups.values()):
@@ -506,7 +513,8 @@ def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = 
         for i in idx:
             where[i] = (k, pos)
             pos += len(items[i])
-        parts.append(analyse(concatenate([items[i] for i in idx]), observer=observer, rendering=rendering))
+        parts.append(analyse(concatenate([items[i] for i in idx], interpolation=interpolation), observer=observer,
+                             rendering=rendering))
     offsets = np.cumsum([0] + [len(a) for a in parts])
     perm = np.array([offsets[where[i][0]] + where[i][1] + j for i in range(len(items)) for j in range(len(items[i]))])
     all_records = [r for a in parts for r in a.records()]
@@ -522,6 +530,7 @@ def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = 
         measured_range_nm=_pick(_chain(g.measured_range_nm for g in grids), perm),
         metadata=_pick(_chain(g.metadata for g in grids), perm),
         measured_totals=np.concatenate([g.measured_totals for g in grids])[perm],
+        interpolation=_pick(_chain(g.interpolation for g in grids), perm),
     )
     return MixedAnalysis(
         spectra=joined,
@@ -567,7 +576,8 @@ def _join_results(parts: list, perm: np.ndarray):
     return out
 
 
-def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True) -> list[dict[str, Any]]:
+def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True,
+                   interpolation: str = "auto") -> list[dict[str, Any]]:
     """Records for several Spectra that may differ in quantity, in input order.
 
     Spectra of one quantity are joined and analysed as one batch (vectorised); the
@@ -580,7 +590,8 @@ def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool =
         order.setdefault(s.quantity, []).append(i)
     per_item: dict[int, list[dict[str, Any]]] = {}
     for idx in order.values():
-        recs = analyse(concatenate([items[i] for i in idx]), observer=observer, rendering=rendering).records()
+        recs = analyse(concatenate([items[i] for i in idx], interpolation=interpolation), observer=observer,
+                       rendering=rendering).records()
         pos = 0
         for i in idx:
             n = len(items[i])
@@ -628,7 +639,7 @@ def records_csv(records: list[dict[str, Any]]) -> str:
     return csv_text(header, ([r.get(k, "") for k in header] for r in flat))
 
 
-def provenance() -> dict[str, Any]:
+def provenance(*, interpolation: str = "auto") -> dict[str, Any]:
     """What every output carries so a number can be traced."""
     from importlib import metadata
 
@@ -636,4 +647,5 @@ def provenance() -> dict[str, Any]:
         colour_v = metadata.version("colour-science")
     except metadata.PackageNotFoundError:  # pragma: no cover
         colour_v = None
-    return {"cctkit_version": __version__, "colour_science_version": colour_v, "conventions": CONVENTIONS}
+    return {"cctkit_version": __version__, "colour_science_version": colour_v,
+            "conventions": {**CONVENTIONS, "interpolation_method": interpolation}}

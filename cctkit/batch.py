@@ -68,7 +68,8 @@ _STRING_COLUMNS = frozenset(
 # --------------------------------------------------------------------------- the chunk function
 
 
-def spectra_results(spectra: Spectra, *, observer: int = 2, rendering: bool = True) -> dict[str, np.ndarray]:
+def spectra_results(spectra: Spectra, *, observer: int = 2, rendering: bool = True,
+                    interpolation: str = "auto") -> dict[str, np.ndarray]:
     """Every measure for a chunk of spectra, as a table of columns (see :func:`records_table`).
 
     ``observer`` and ``rendering`` are passed to :func:`cctkit.analysis.analyse`.  The table ends with a ``cctkit_version`` column, as the CSV of ``inspect`` does.
@@ -76,7 +77,7 @@ def spectra_results(spectra: Spectra, *, observer: int = 2, rendering: bool = Tr
     from . import __version__
     from .analysis import analyse
 
-    analysis = analyse(spectra, observer=observer, rendering=rendering)
+    analysis = analyse(spectra, observer=observer, rendering=rendering, interpolation=interpolation)
     # Analysis.columns() equals records_table(analysis.records()) (tests hold it), built from
     # the arrays without a dict per spectrum; so batch output and `inspect` output agree.
     table = analysis.columns()
@@ -166,14 +167,16 @@ class _ChunkResult:
     arrow: Any = None
 
 
-def _work(spectra: Spectra, observer: int, rendering: bool, output: str = ".csv") -> _ChunkResult:
+def _work(spectra: Spectra, observer: int, rendering: bool, output: str = ".csv",
+          interpolation: str = "auto") -> _ChunkResult:
     """What a worker runs: one chunk in, its formatted output out (module level so it pickles).
 
     Formatting here rather than in the writing process spreads the cost of turning some
     250 numbers per spectrum into text over the workers, and the parent receives the text
     (or the Arrow table) only.
     """
-    table = spectra_results(spectra, observer=observer, rendering=rendering)  # one BLAS thread: see analyse()
+    table = spectra_results(spectra, observer=observer, rendering=rendering,
+                            interpolation=interpolation)  # one BLAS thread: see analyse()
     if output == ".csv":
         return _ChunkResult(list(table), csv_text=table_csv(table, list(table)))
     return _ChunkResult(list(table), arrow=_arrow_table(table))
@@ -628,6 +631,7 @@ def run_batch(
     scheduler: str | None = None,
     observer: int = 2,
     rendering: bool = True,
+    interpolation: str = "auto",
     overwrite: bool = False,
     progress: Progress | None = None,
     metadata: dict[str, Any] | None = None,
@@ -646,8 +650,9 @@ def run_batch(
         Local worker processes (default :func:`default_workers`); 1 runs in this process.
     scheduler
         Address of a Dask scheduler (``tcp://host:port``); when given, chunks run there.
-    observer, rendering
-        Passed to :func:`cctkit.analysis.analyse`.
+    observer, rendering, interpolation
+        Passed to :func:`cctkit.analysis.analyse` (folder members on other grids are resampled by
+        the reader, see :func:`cctkit.readers.wide.open_chunked`).
     progress
         Told of every finished chunk.
     metadata
@@ -688,7 +693,7 @@ def run_batch(
     if state is not None:
         chunks = itertools.islice(chunks, state["chunks"], None)  # read again, not analysed again
         notes.append(f"resumed after {state['chunks']} complete chunks ({state['spectra']} spectra)")
-    opts = (observer, rendering, suffix)
+    opts = (observer, rendering, suffix, interpolation)
     if scheduler:
         executor = f"dask {scheduler}"
         results = _dask(chunks, scheduler, opts)

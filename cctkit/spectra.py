@@ -5,14 +5,26 @@ keep the data as measured; :func:`to_working_grid` brings it once to the
 working grid (360-830 nm at 1 nm, CIE 15:2018 practice), after which every
 measure is a matrix product against tables on that grid.
 
-Interpolation rules (written down here and in DEVELOPERS.md):
+Interpolation rules (written down here and in DEVELOPERS.md), ``interpolation=``:
 
-* grid already a subset of the working grid at 1 nm: values are taken as they are;
-* uniformly spaced data with at least 6 points: Sprague (1880) quintic
-  interpolation as recommended by CIE 167:2005 section 5, with the CIE 167 end
-  extension of two points on each side;
-* non-uniform data, or fewer than 6 points: shape-preserving piecewise cubic
-  Hermite (PCHIP, Fritsch-Carlson), which never overshoots between measured points.
+* data already at 1 nm on whole nanometres: values are taken as they are (every method);
+* ``"auto"`` (default): uniformly spaced data with at least 6 points by Sprague (1880) quintic
+  interpolation, as CIE 167:2005 section 5 recommends for uniformly spaced data, with the CIE 167
+  end extension of two points on each side; non-uniform data, or fewer than 6 points, by PCHIP.
+  Line spectra at 5 nm or coarser (low-pressure sodium, high-pressure lamps, fluorescent
+  tri-band) keep Sprague too: the tabulated CIE illuminants and the reference library are
+  evaluated that way, so results stay comparable; but a quintic through a narrow line rings,
+  and where that drives values below zero (more than 0.1 % of the peak, below the measured
+  data's own minimum) the spectrum gets an ``interpolation-overshoot`` flag with the worst
+  value relative to the peak.  CIE 167 itself warns that no interpolation recovers lines
+  narrower than the step (from memory); measure such sources at 1 nm or finer where possible;
+* ``"sprague"``: Sprague, refused for non-uniform data;
+* ``"linear"``: straight lines between measured points: never overshoots, the choice for line
+  spectra when the flag appears;
+* ``"pchip"``: shape-preserving piecewise cubic Hermite (Fritsch-Carlson), no overshoot.
+
+Sprague is applied as a six-point stencil per output sample, so memory and time grow linearly
+with the number of measured points (a 0.02 nm file of 20,000 points costs a few MB).
 
 Extrapolation outside the measured range repeats the nearest measured value
 (CIE 15:2018 section 7.2.2, "closest measured value" rule); it serves the colour
@@ -30,7 +42,6 @@ from __future__ import annotations
 import hashlib
 from dataclasses import dataclass, field, replace
 from enum import Enum
-from functools import lru_cache
 from typing import Iterable, Sequence
 
 import numpy as np
@@ -43,6 +54,8 @@ __all__ = [
     "Quantity",
     "Spectra",
     "to_working_grid",
+    "resample",
+    "INTERPOLATION_METHODS",
     "interpolation_matrix",
     "sha256_of_file",
     "concatenate",
@@ -143,6 +156,7 @@ class Spectra:
     measured_range_nm: tuple[tuple[float, float, float], ...] = field(default=())
     metadata: tuple[tuple[tuple[str, str], ...], ...] = ()
     measured_totals: np.ndarray | None = None
+    interpolation: tuple[str, ...] = ()
 
     def __post_init__(self) -> None:
         source = self.sources[0] if self.sources else None
@@ -209,6 +223,7 @@ class Spectra:
         else:
             object.__setattr__(self, "measured_range_nm", _per_spectrum(self.measured_range_nm, n, None))
         object.__setattr__(self, "flags", flags)
+        object.__setattr__(self, "interpolation", _per_spectrum(self.interpolation, n, "as measured"))
         if self.measured_totals is None:
             from .photometry import measured_sums
 
@@ -246,6 +261,7 @@ class Spectra:
             measured_range_nm=tuple(self.measured_range_nm[i] for i in idx),
             metadata=tuple(self.metadata[i] for i in idx),
             measured_totals=self.measured_totals[idx],
+            interpolation=tuple(self.interpolation[i] for i in idx),
         )
 
     def scaled(self, factor: float, quantity: Quantity | None = None) -> "Spectra":
@@ -324,91 +340,145 @@ def _range_flag(lo: float, hi: float) -> Flag:
 # --------------------------------------------------------------------------- resampling
 
 
-def _sprague_matrix(n_in: int, positions: np.ndarray) -> np.ndarray:
-    """Sprague interpolation weights for uniformly spaced data (CIE 167:2005 section 5).
+#: Interpolation methods :func:`to_working_grid` accepts (the ``--interpolation`` choices).
+INTERPOLATION_METHODS = ("auto", "sprague", "linear", "pchip")
+#: Overshoot below this share of the peak (0.1 %) is treated as rounding, not ringing (our rule).
+OVERSHOOT_LIMIT = 1e-3
 
-    ``positions`` are fractional indices into the input samples (0 .. n_in-1); the
-    result ``W`` has shape (len(positions), n_in) so that ``y_out = W @ y_in``.
-    """
-    # CIE 167:2005 Table 4: two extra points at each end, from the first/last six.
-    ext_lo = np.array([[884, -1960, 3033, -2648, 1080, -180], [508, -540, 488, -367, 144, -24]]) / 209.0
-    ext = np.zeros((n_in + 4, n_in))
-    ext[2 : n_in + 2] = np.eye(n_in)
-    ext[0, :6] = ext_lo[0]
-    ext[1, :6] = ext_lo[1]
-    ext[n_in + 3, n_in - 6 :] = ext_lo[0][::-1]
-    ext[n_in + 2, n_in - 6 :] = ext_lo[1][::-1]
-    # Sprague (1880) quintic coefficients a0..a5 from p[i-2..i+3], CIE 167:2005 eq. (5).
-    coef = (
-        np.array(
-            [
-                [0, 0, 24, 0, 0, 0],
-                [2, -16, 0, 16, -2, 0],
-                [-1, 16, -30, 16, -1, 0],
-                [-9, 39, -70, 66, -33, 7],
-                [13, -64, 126, -124, 61, -12],
-                [-5, 25, -50, 50, -25, 5],
-            ],
-            dtype=np.float64,
-        )
-        / 24.0
-    )
-    i = np.clip(np.floor(positions).astype(int), 0, n_in - 2)
-    t = positions - i
-    powers = t[:, None] ** np.arange(6)[None, :]  # (M, 6)
-    local = powers @ coef  # (M, 6) weights on p[i-2..i+3]
-    W = np.zeros((positions.shape[0], n_in))
-    for k in range(6):
-        W += local[:, k : k + 1] * ext[i + k]  # ext row i+k is p[i-2+k]
-    return W
+# CIE 167:2005 Table 4 (from memory): two extra points at each end, from the first/last six.
+_SPRAGUE_EXT = np.array([[884, -1960, 3033, -2648, 1080, -180], [508, -540, 488, -367, 144, -24]]) / 209.0
+# Sprague (1880) quintic coefficients a0..a5 from p[i-2..i+3], CIE 167:2005 eq. (5) (from memory).
+_SPRAGUE_COEF = np.array(
+    [
+        [0, 0, 24, 0, 0, 0],
+        [2, -16, 0, 16, -2, 0],
+        [-1, 16, -30, 16, -1, 0],
+        [-9, 39, -70, 66, -33, 7],
+        [13, -64, 126, -124, 61, -12],
+        [-5, 25, -50, 50, -25, 5],
+    ],
+    dtype=np.float64,
+) / 24.0
 
 
-@lru_cache(maxsize=32)
-def _cached_matrix(wl_key: bytes, n: int) -> np.ndarray:
-    wl = np.frombuffer(wl_key, dtype=np.float64, count=n)
-    return _build_matrix(wl)
-
-
-def _build_matrix(wl: np.ndarray) -> np.ndarray:
-    target = WAVELENGTH_NM
+def _positions(wl: np.ndarray, target: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Segment index i and fraction t of each target inside ``wl`` (targets clipped to the range)."""
     clipped = np.clip(target, wl[0], wl[-1])  # constant extrapolation
-    steps = np.diff(wl)
-    uniform = np.allclose(steps, steps[0], rtol=1e-6, atol=1e-9)
-    if not (uniform and wl.shape[0] >= 6):
-        return np.empty((0, 0))  # PCHIP is not linear in the data: no matrix exists
-    W = _sprague_matrix(wl.shape[0], (clipped - wl[0]) / steps[0])
-    # Exact 1 nm samples already on the grid are copied, not re-interpolated.
-    on_grid = np.isclose(clipped[:, None], wl[None, :], rtol=0, atol=1e-9)
-    rows = on_grid.any(axis=1)
-    W[rows] = on_grid[rows].astype(np.float64)
-    W.setflags(write=False)
-    return W
+    i = np.clip(np.searchsorted(wl, clipped, side="right") - 1, 0, wl.shape[0] - 2)
+    t = (clipped - wl[i]) / (wl[i + 1] - wl[i])
+    return i, t
+
+
+def _sprague(wl: np.ndarray, values: np.ndarray, target: np.ndarray) -> np.ndarray:
+    """Sprague interpolation of uniformly spaced data (CIE 167:2005 section 5), applied as a 6-point
+    stencil per output sample: memory and time linear in the number of input points."""
+    n = wl.shape[0]
+    i, t = _positions(wl, target)
+    local = (t[:, None] ** np.arange(6)[None, :]) @ _SPRAGUE_COEF  # (M, 6) weights on p[i-2 .. i+3]
+    p = np.empty((values.shape[0], n + 4))
+    p[:, 2 : n + 2] = values
+    p[:, 1] = values[:, :6] @ _SPRAGUE_EXT[1]
+    p[:, 0] = values[:, :6] @ _SPRAGUE_EXT[0]
+    p[:, n + 2] = values[:, -6:] @ _SPRAGUE_EXT[1][::-1]
+    p[:, n + 3] = values[:, -6:] @ _SPRAGUE_EXT[0][::-1]
+    out = np.zeros((values.shape[0], target.shape[0]))
+    for k in range(6):
+        out += local[:, k] * p[:, i + k]  # padded index i+k is p[i-2+k]
+    return out
+
+
+def _linear(wl: np.ndarray, values: np.ndarray, target: np.ndarray) -> np.ndarray:
+    i, t = _positions(wl, target)
+    return values[:, i] * (1.0 - t) + values[:, i + 1] * t
+
+
+def _pchip(wl: np.ndarray, values: np.ndarray, target: np.ndarray) -> np.ndarray:
+    from scipy.interpolate import PchipInterpolator
+
+    return PchipInterpolator(wl, values, axis=1, extrapolate=False)(np.clip(target, wl[0], wl[-1]))
+
+
+def _copy_exact(wl: np.ndarray, values: np.ndarray, target: np.ndarray, out: np.ndarray) -> np.ndarray:
+    """Samples measured exactly on a grid wavelength are copied, not re-interpolated (and the nearest
+    measured value is repeated outside the measured range)."""
+    target = np.clip(target, wl[0], wl[-1])
+    j = np.clip(np.searchsorted(wl, target), 0, wl.shape[0] - 1)
+    hit = np.abs(wl[j] - target) <= 1e-9
+    out[:, hit] = values[:, j[hit]]
+    return out
+
+
+def _overshoot(values: np.ndarray, resampled: np.ndarray, lo: float, hi: float) -> np.ndarray:
+    """Per spectrum, the worst value resampling drove below the measured data's own minimum (and
+    below zero), relative to the measured peak; 0 where it did not."""
+    inside = (WAVELENGTH_NM >= lo - 1e-9) & (WAVELENGTH_NM <= hi + 1e-9)
+    peak = np.max(np.abs(values), axis=1)
+    floor = np.minimum(values.min(axis=1), 0.0)
+    low = resampled[:, inside].min(axis=1) if inside.any() else np.zeros(values.shape[0])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        rel = np.where(peak > 0, low / np.where(peak > 0, peak, 1.0), 0.0)
+    return np.where(low < floor - OVERSHOOT_LIMIT * peak, rel, 0.0)
+
+
+def _overshoot_flag(rel: float, method: str) -> Flag:
+    return Flag(
+        "interpolation-overshoot",
+        f"resampling to 1 nm ({method}) drove values negative, down to {rel:.2%} of the peak, between measured "
+        "points (ringing around narrow lines); consider --interpolation linear",
+    )
 
 
 def interpolation_matrix(wavelength_nm: np.ndarray) -> np.ndarray | None:
-    """The (471, L) matrix taking values on ``wavelength_nm`` to the working grid.
+    """The (471, L) Sprague matrix taking values on ``wavelength_nm`` to the working grid.
 
-    ``None`` when the grid is non-uniform (PCHIP is used, which is not linear in the data).
+    ``None`` when the grid is non-uniform or has fewer than 6 points.  For inspection and tests:
+    :func:`to_working_grid` applies the stencil directly and never builds this matrix.
     """
     wl = np.ascontiguousarray(wavelength_nm, dtype=np.float64)
-    W = _cached_matrix(wl.tobytes(), wl.shape[0])
-    return None if W.size == 0 else W
+    steps = np.diff(wl)
+    if wl.shape[0] < 6 or not np.allclose(steps, steps[0], rtol=1e-6, atol=1e-9):
+        return None
+    W = _sprague(wl, np.eye(wl.shape[0]), WAVELENGTH_NM).T
+    return _copy_exact(wl, np.eye(wl.shape[0]), WAVELENGTH_NM, W.T.copy()).T
 
 
-def to_working_grid(spectra: Spectra) -> Spectra:
+def resample(wavelength_nm: np.ndarray, values: np.ndarray, method: str = "auto") -> tuple[np.ndarray, tuple[str, ...], np.ndarray]:
+    """Values (N, L) on ``wavelength_nm`` brought to the working grid by ``method``.
+
+    Returns the (N, 471) values, the method used for each spectrum, and each spectrum's overshoot
+    (worst value driven below zero, relative to the peak; 0 where none).  Rules in the module notes.
+    """
+    if method not in INTERPOLATION_METHODS:
+        raise InputError(f"interpolation must be one of {', '.join(INTERPOLATION_METHODS)}, got {method!r}")
+    wl = np.asarray(wavelength_nm, dtype=np.float64)
+    v = np.atleast_2d(np.asarray(values, dtype=np.float64))
+    n, target = v.shape[0], WAVELENGTH_NM
+    steps = np.diff(wl)
+    uniform = wl.shape[0] >= 6 and bool(np.allclose(steps, steps[0], rtol=1e-6, atol=1e-9))
+    on_grid = bool(np.all(np.abs(wl - np.rint(wl)) <= 1e-9)) and uniform and abs(steps[0] - 1.0) <= 1e-9
+    if on_grid:  # 1 nm data on whole nanometres: copied; every method agrees
+        out = _copy_exact(wl, v, target, _linear(wl, v, target))
+        return out, ("as measured (1 nm)",) * n, np.zeros(n)
+    if method == "sprague" and not uniform:
+        raise InputError("--interpolation sprague needs at least 6 uniformly spaced wavelengths; "
+                         "use linear or pchip for this file")
+    if method == "linear":
+        out, used = _linear(wl, v, target), ("linear",) * n
+    elif method == "pchip" or (method == "auto" and not uniform):
+        out, used = _pchip(wl, v, target), ("pchip",) * n
+    else:
+        out, used = _sprague(wl, v, target), ("sprague",) * n
+    out = _copy_exact(wl, v, target, out)
+    return out, used, _overshoot(v, out, wl[0], wl[-1])
+
+
+def to_working_grid(spectra: Spectra, *, interpolation: str = "auto") -> Spectra:
     """Resample ``spectra`` to 360-830 nm at 1 nm, once, by the rules in the module docstring."""
     if spectra.on_working_grid:
         return spectra
     wl = spectra.wavelength_nm
-    W = interpolation_matrix(wl)
-    if W is not None:
-        values = spectra.values @ W.T
-    else:
-        from scipy.interpolate import PchipInterpolator
-
-        clipped = np.clip(WAVELENGTH_NM, wl[0], wl[-1])
-        values = PchipInterpolator(wl, spectra.values, axis=1, extrapolate=False)(clipped)
-    flags = spectra.flags
+    values, used, over = resample(wl, spectra.values, interpolation)
+    flags = tuple(f + ((_overshoot_flag(float(o), m),) if o < 0 else ()) for f, o, m in zip(spectra.flags, over, used))
     lo, hi = float(wl[0]), float(wl[-1])
     if lo > VISIBLE_BAND_NM[0] + 1e-9 or hi < VISIBLE_BAND_NM[1] - 1e-9:
         flags = tuple(f + (_range_flag(lo, hi),) for f in flags)
@@ -423,15 +493,16 @@ def to_working_grid(spectra: Spectra) -> Spectra:
         measured_range_nm=spectra.measured_range_nm,
         metadata=spectra.metadata,
         measured_totals=spectra.measured_totals,
+        interpolation=used,
     )
 
 
-def concatenate(items: Iterable[Spectra]) -> Spectra:
-    """Join several Spectra (each brought to the working grid) into one batch.
+def concatenate(items: Iterable[Spectra], *, interpolation: str = "auto") -> Spectra:
+    """Join several Spectra (each brought to the working grid by ``interpolation``) into one batch.
 
     All items must share one radiometric quantity.
     """
-    items = [to_working_grid(s) for s in items]
+    items = [to_working_grid(s, interpolation=interpolation) for s in items]
     if not items:
         raise InputError("no spectra given")
     quantities = {s.quantity for s in items}
@@ -451,6 +522,7 @@ def concatenate(items: Iterable[Spectra]) -> Spectra:
         measured_range_nm=sum((s.measured_range_nm for s in items), ()),
         metadata=sum((s.metadata for s in items), ()),
         measured_totals=np.concatenate([s.measured_totals for s in items]),
+        interpolation=sum((s.interpolation for s in items), ()),
     )
 
 

@@ -10,6 +10,8 @@ import typer
 
 from ..errors import InputError
 from .options import (
+    INTERPOLATION_OPTION,
+    parse_interpolation,
     OBSERVER_HELP,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
@@ -40,6 +42,7 @@ def batch_cmd(
     overwrite: bool = OVERWRITE_OPTION,
     progress: bool = typer.Option(False, "--progress", help="Show progress on stderr even when it is not a terminal."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress and no summary line (as cctkit --quiet)."),
+    interpolation: str = INTERPOLATION_OPTION,
     resume: bool = typer.Option(False, "--resume", help="CSV output: keep the finished chunks if the run is stopped "
                                 "or killed, and continue an earlier such run from its last complete chunk."),
     recursive: bool = RECURSIVE_OPTION,
@@ -62,6 +65,7 @@ def batch_cmd(
 
     require_suffix(output, (".csv", ".parquet"))
     obs = parse_observer(observer)
+    interp = parse_interpolation(interpolation)
     if chunk_size < 1:
         raise InputError(f"--chunk-size must be at least 1, got {chunk_size}")
     if workers is not None and workers < 1:
@@ -77,7 +81,7 @@ def batch_cmd(
             raise InputError("--skip-bad applies to a folder of spectrum files", source=str(input_path))
         check_output_path(errors_path, overwrite=overwrite, inputs=[input_path])
     skipped: list[InputError] | None = [] if skip_bad else None
-    source = open_chunked(input_path, chunk_size=chunk_size, quantity=quantity, recursive=recursive,
+    source = open_chunked(input_path, chunk_size=chunk_size, quantity=quantity, recursive=recursive, interpolation=interp,
                           skipped=skipped)
     from .options import verbosity
 
@@ -91,9 +95,10 @@ def batch_cmd(
         scheduler=scheduler,
         observer=obs,
         rendering=rendering,
+        interpolation=interp,
         overwrite=overwrite,
         progress=bar,
-        metadata={**provenance(), "input": str(input_path), "rendering": rendering},
+        metadata={**provenance(interpolation=interp), "input": str(input_path), "rendering": rendering},
         resume=resume,
     )
     for note in summary.notes:

@@ -20,6 +20,8 @@ import typer
 from ..errors import InputError
 from ..spreadsheet import check_dialect
 from .options import (
+    INTERPOLATION_OPTION,
+    parse_interpolation,
     RECURSIVE_OPTION,
     SKIP_ROWS_OPTION,
     DELIMITER_OPTION,
@@ -75,6 +77,7 @@ def versus_cmd(
     wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
     columns: Optional[str] = COLUMNS_OPTION,
     csv_dialect: str = CSV_DIALECT_OPTION,
+    interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
     """Each spectrum in FILES against the reference illuminant of its CCT, per wavelength and per sample."""
     import numpy as np
@@ -93,7 +96,7 @@ def versus_cmd(
     items = read_files(files, quantity=quantity, layout=table_layout(skip_rows, delimiter, decimal,
                                                                      wavelength_column, columns))
     # Both test and reference are compared at Y = 100, so spectra of different quantities sit side by side.
-    spectra = concatenate([to_working_grid(s).scaled(1.0, Quantity.RELATIVE) for s in items])
+    spectra = concatenate([to_working_grid(s, interpolation=parse_interpolation(interpolation)).scaled(1.0, Quantity.RELATIVE) for s in items])
     values = spectra.values
     n = values.shape[0]
     if cct is not None:
@@ -162,7 +165,8 @@ def versus_cmd(
         write_output(output, origin + csv_text(header, rows), overwrite=overwrite, inputs=files, dialect=csv_dialect)
 
     if json_out:
-        emit_json({"method": ref_method, "wavelength_nm": comp.wavelength_nm, "spectra": [
+        emit_json({"method": ref_method, "interpolation": list(spectra.interpolation),
+                   "wavelength_nm": comp.wavelength_nm, "spectra": [
             dict(d, test_Y100=comp.test[i], reference_Y100=comp.reference[i], ratio=comp.ratio[i])
             for i, d in enumerate(docs)
         ]})

@@ -11,6 +11,8 @@ from ..errors import InputError
 from ..formats import format_number
 from ..spreadsheet import check_dialect
 from .options import (
+    INTERPOLATION_OPTION,
+    parse_interpolation,
     RECURSIVE_OPTION,
     SKIP_ROWS_OPTION,
     DELIMITER_OPTION,
@@ -137,6 +139,7 @@ def inspect_cmd(
     repeats: bool = typer.Option(False, "--as-repeats", help="Take every spectrum read as a repeat scan of one "
                                  "sample: analyse their mean, and give the standard deviation per wavelength."),
     csv_dialect: str = CSV_DIALECT_OPTION,
+    interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
     """Every measure for each spectrum: CCT, Duv, chromaticity, photometry, colour rendering."""
     from ..analysis import analyse_groups, provenance, read_files, records_csv
@@ -148,6 +151,7 @@ def inspect_cmd(
     if output is not None:
         require_suffix(output, (".json", ".csv", ".xlsx"))
     check_dialect(csv_dialect)
+    interp = parse_interpolation(interpolation)
     layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
     files = input_files(files, recursive=recursive)
     items = read_files(files, quantity=quantity, layout=layout)
@@ -157,10 +161,10 @@ def inspect_cmd(
 
         scans = average_repeats(items)
         items = [scans.mean]
-    records = analyse_groups(items, observer=obs)
+    records = analyse_groups(items, observer=obs, interpolation=interp)
     if scans is not None:
         records[0]["repeats"] = scans.summary()
-    doc = {**provenance(), "spectra": records}
+    doc = {**provenance(interpolation=interp), "spectra": records}
     if output is not None:
         if output.suffix.lower() == ".json":
             write_output(output, dumps(doc), overwrite=overwrite, inputs=files)

@@ -28,6 +28,11 @@ CSV_DIALECT_OPTION = typer.Option(
     "in European locales).",
 )
 QUANTITY_HELP = "Radiometric quantity of the values: radiant-flux | irradiance | radiance | intensity | relative."
+INTERPOLATION_OPTION = typer.Option(
+    "auto", "--interpolation",
+    help="How spectra not at 1 nm are brought to the 1 nm grid: auto (Sprague, CIE 167, for uniform steps; "
+         "PCHIP otherwise; line spectra that ring below zero are flagged), sprague, linear or pchip.",
+)
 OBSERVER_HELP = "CIE standard observer for colorimetry: 2 (CIE 1931) or 10 (CIE 1964)."
 
 
@@ -132,3 +137,13 @@ def spectrum_file_text(suffix: str, name: str, values, *, quantity: str, unit: s
     doc["wavelength_nm"] = WAVELENGTH_NM.tolist()
     doc["spectra"] = [{"name": name, "values": values.tolist()}]
     return dumps(doc)
+
+
+def parse_interpolation(value: str) -> str:
+    """The ``--interpolation`` choice, checked (one of :data:`cctkit.spectra.INTERPOLATION_METHODS`)."""
+    from ..spectra import INTERPOLATION_METHODS
+
+    key = str(value).strip().lower()
+    if key not in INTERPOLATION_METHODS:
+        raise InputError(f"--interpolation must be one of {', '.join(INTERPOLATION_METHODS)}, got {value!r}")
+    return key

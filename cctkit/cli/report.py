@@ -8,6 +8,8 @@ from typing import List, Optional
 import typer
 
 from .options import (
+    INTERPOLATION_OPTION,
+    parse_interpolation,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
     RECURSIVE_OPTION,
@@ -57,6 +59,7 @@ def report_cmd(
     decimal: Optional[str] = DECIMAL_OPTION,
     wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
     columns: Optional[str] = COLUMNS_OPTION,
+    interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
     """A report an engineer can sign off: sign-off page, headline numbers, spectrum, rendering, chromaticity."""
     from ..report.build import check_options
@@ -90,7 +93,8 @@ def report_cmd(
     from ..report import build_report
 
     # Spectra of different quantities share one report: colour results for all, totals each in its unit.
-    analysis = analyse_files(files, quantity=quantity, layout=layout)
+    analysis = analyse_files(files, quantity=quantity, layout=layout,
+                             interpolation=parse_interpolation(interpolation))
     records = analysis.records()
     verdict = None
     if claims is not None:

@@ -14,6 +14,8 @@ import typer
 
 from ..spreadsheet import check_dialect
 from .options import (
+    INTERPOLATION_OPTION,
+    parse_interpolation,
     RECURSIVE_OPTION,
     SKIP_ROWS_OPTION,
     DELIMITER_OPTION,
@@ -62,6 +64,7 @@ def verify_cmd(
     wide: bool = typer.Option(False, "--wide", help="Every cell as value [limit] margin result (wider than a "
                               "terminal); the default table fits 100 columns."),
     csv_dialect: str = CSV_DIALECT_OPTION,
+    interpolation: str = INTERPOLATION_OPTION,
     uncertainty_model: Optional[Path] = typer.Option(
         None, "--uncertainty-model", help="Guard bands from each sample's computed U (Monte Carlo with this "
         "instrument model, TOML); a claims file's [uncertainty] entry still overrides its metric."),
@@ -88,14 +91,14 @@ def verify_cmd(
     from ..analysis import analyse_files
 
     analysis = analyse_files(files, quantity=quantity, rendering=report is not None or _needs_rendering(claims),
-                             layout=layout)
+                             layout=layout, interpolation=parse_interpolation(interpolation))
     records = analysis.records()
     computed, model = None, None
     if uncertainty_model is not None:
         computed, model = _computed_uncertainties(files, quantity, uncertainty_model, claims, layout)
     verdict = verify(records, claims, computed)
     doc = verdict.as_dict()
-    traced = _traceable(doc, records, claims)
+    traced = _traceable(doc, records, claims, interpolation=parse_interpolation(interpolation))
     if model is not None:
         traced["uncertainty_model"] = model.provenance()
     from ..safe_io import output_group
@@ -142,14 +145,14 @@ def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=No
     return claim_uncertainties(result, claims), model
 
 
-def _traceable(doc: dict, records: list[dict], claims) -> dict:
+def _traceable(doc: dict, records: list[dict], claims, interpolation: str = "auto") -> dict:
     """The verdict with what makes it traceable: versions, conventions, every input's SHA-256
     (of the bytes that were read and analysed)."""
     from ..analysis import provenance
 
     samples = [{**s, "source": r.get("source"), "sha256": r.get("sha256")} for s, r in zip(doc["samples"], records)]
     sidecar = {"sidecar": claims.sidecar_path, "sidecar_sha256": claims.sidecar_sha256} if claims.sidecar_path else {}
-    return {**provenance(), "claims_file": claims.source, "claims_sha256": claims.sha256, **sidecar,
+    return {**provenance(interpolation=interpolation), "claims_file": claims.source, "claims_sha256": claims.sha256, **sidecar,
             **doc, "samples": samples}
 
 
@@ -170,6 +173,7 @@ def bin_cmd(
     wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
     columns: Optional[str] = COLUMNS_OPTION,
     csv_dialect: str = CSV_DIALECT_OPTION,
+    interpolation: str = INTERPOLATION_OPTION,
 ) -> None:
     """ANSI C78.377 quadrangle and SDCM step of each spectrum, with counts per bin."""
     import numpy as np
@@ -184,9 +188,11 @@ def bin_cmd(
         require_suffix(output, (".csv", ".json", ".xlsx"))
     from ..analysis import analyse_files
 
+    interp = parse_interpolation(interpolation)
     layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
     files = input_files(files, recursive=recursive)
-    records = analyse_files(files, quantity=quantity, rendering=False, layout=layout).records()
+    records = analyse_files(files, quantity=quantity, rendering=False, layout=layout,
+                            interpolation=interp).records()
     xy = np.array([[np.nan if r["x"] is None else r["x"], np.nan if r["y"] is None else r["y"]] for r in records])
     result = bin_chromaticities(xy, names=[r["name"] for r in records], ellipses=ellipses)
     rows = result.records()
@@ -197,7 +203,7 @@ def bin_cmd(
         row["source"], row["sha256"] = rec.get("source"), rec.get("sha256")
     from ..analysis import provenance
 
-    doc = {**provenance(), "ellipses": ellipses, "samples": rows, "counts": result.counts()}
+    doc = {**provenance(interpolation=interp), "ellipses": ellipses, "samples": rows, "counts": result.counts()}
     if output is not None:
         if output.suffix.lower() == ".json":
             text = dumps(doc)

@@ -127,10 +127,13 @@ def open_chunked(
     *,
     chunk_size: int = DEFAULT_CHUNK_SIZE,
     quantity: Quantity | str | None = None,
+    interpolation: str = "auto",
     recursive: bool = False,
     skipped: list[InputError] | None = None,
 ) -> ChunkedInput:
     """Look at ``path`` and prepare to read it in chunks (see the module docstring).
+
+    ``interpolation`` is how folder members on different grids are brought to the working grid.
 
     Parameters
     ----------
@@ -166,7 +169,8 @@ def open_chunked(
     except (OSError, ValueError) as exc:
         raise InputError(f"cannot read ({_oserror_text(exc)})", source=source) from None
     if stat.S_ISDIR(st.st_mode):
-        return _open_folder(p, source, chunk_size, wanted, recursive=recursive, skipped=skipped)
+        return _open_folder(p, source, chunk_size, wanted, recursive=recursive, skipped=skipped,
+                            interpolation=interpolation)
     if not stat.S_ISREG(st.st_mode):
         raise InputError("is not a regular file or folder", source=source)
     if st.st_size == 0:
@@ -229,6 +233,7 @@ def _join(parts: list[Spectra]) -> Spectra:
         measured_range_nm=_chain(s.measured_range_nm for s in parts),
         metadata=_chain(s.metadata for s in parts),
         measured_totals=np.concatenate([s.measured_totals for s in parts]),
+        interpolation=_chain(s.interpolation for s in parts),
     )
 
 
@@ -245,7 +250,7 @@ def _open_single(p: Path, source: str, chunk_size: int, wanted: Quantity | None)
 
 
 def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None, *, recursive: bool = False,
-                 skipped: list[InputError] | None = None) -> ChunkedInput:
+                 skipped: list[InputError] | None = None, interpolation: str = "auto") -> ChunkedInput:
     from . import folder_files
 
     files = folder_files(p, recursive=recursive)
@@ -260,7 +265,7 @@ def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None,
             else:
                 parts = [read_spectra(f, quantity=wanted)]
             for part in parts:
-                s = to_working_grid(part)
+                s = to_working_grid(part, interpolation=interpolation)
                 if first is not None and s.quantity is not first:
                     raise InputError(
                         f"holds {s.quantity.value!r} spectra while earlier files hold {first.value!r}; "
