@@ -431,11 +431,24 @@ def read_files(files, *, quantity=None, layout=None) -> list[Spectra]:
     """
     from .errors import InputError
     from .readers import read_spectra
+    from .limits import MAX_SPECTRA, MAX_VALUES, too_many_spectra
     from .spectra import require_signal
 
     if not files:
         raise InputError("no input files given")
-    return [require_signal(read_spectra(f, quantity=quantity, layout=layout)) for f in files]
+    out: list[Spectra] = []
+    count = values = 0
+    for f in files:  # refuse as soon as the limit is passed, before reading further files
+        s = read_spectra(f, quantity=quantity, layout=layout)
+        count += len(s)
+        values += s.values.size
+        if count > MAX_SPECTRA:
+            raise InputError(too_many_spectra(count), source=str(f))
+        if values > MAX_VALUES:
+            raise InputError(f"over {MAX_VALUES} spectral values (spectra x points) by this file, the limit for "
+                             "one command; use `cctkit batch` for large lots", source=str(f))
+        out.append(require_signal(s))
+    return out
 
 
 def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True, layout=None) -> Analysis:

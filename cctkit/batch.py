@@ -26,6 +26,7 @@ over the same chunks give identical bytes.
 
 from __future__ import annotations
 
+import contextlib
 import itertools
 import json
 import math
@@ -40,8 +41,8 @@ from typing import Any, Callable, Iterator, Sequence, TextIO
 import numpy as np
 
 from .analysis import flatten_record, metadata_text  # flatten_record re-exported: the flattening rule records_table follows
-from .errors import InputError
-from .formats import csv_text
+from .errors import CctkitError, InputError, Stopped
+from .formats import FORMULA_LEAD, csv_text
 from .progress import Progress  # a live bar on a terminal, plain lines elsewhere
 from .spectra import Spectra
 
@@ -185,9 +186,16 @@ class _CsvWriter:
     """CSV rows appended chunk by chunk, in the cell format of :func:`cctkit.formats.csv_text`
     (the one ``inspect`` writes: floats at repr precision, empty for missing)."""
 
-    def __init__(self, path: Path):
-        self._fh: TextIO = open(path, "w", encoding="utf-8", newline="")
-        self.columns: list[str] | None = None
+    def __init__(self, path: Path, columns: list[str] | None = None):
+        # with ``columns`` the file already holds the header and some rows (a resumed run): append
+        self._fh: TextIO = open(path, "a" if columns else "w", encoding="utf-8", newline="")
+        self.columns: list[str] | None = list(columns) if columns else None
+
+    def durable_size(self) -> int:
+        """Flush the rows written so far to the disk; the file's size in bytes."""
+        self._fh.flush()
+        os.fsync(self._fh.fileno())
+        return self._fh.tell()
 
     def write(self, result: _ChunkResult) -> None:
         if self.columns is None:
@@ -213,7 +221,7 @@ def _text_cells(col: np.ndarray) -> list[str]:
     for v in uniq:
         if v is None or v == "":
             uniq[v] = ""
-        elif isinstance(v, str) and _CSV_SPECIAL.isdisjoint(v):
+        elif isinstance(v, str) and _CSV_SPECIAL.isdisjoint(v) and not v.startswith(FORMULA_LEAD):
             uniq[v] = v
         else:  # quoting (or a non-str cell): exactly what csv_text does for it
             uniq[v] = csv_text(["", ""], [[v, ""]], write_header=False)[:-2]
@@ -400,6 +408,7 @@ class BatchSummary:
     chunks: int
     elapsed_s: float
     executor: str
+    notes: tuple[str, ...] = ()  # what the run found and did besides (leftovers removed, resumed)
 
     @property
     def spectra_per_s(self) -> float:
@@ -427,45 +436,188 @@ def _inline(chunks: Iterator[Spectra], opts: tuple) -> Iterator[tuple[int, _Chun
 
 
 def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> Iterator[tuple[int, _ChunkResult]]:
+    """Chunks on local worker processes, in input order.
+
+    A worker that dies (killed, out of memory) breaks the pool; the chunk function is pure,
+    so a new pool runs the chunks that were in flight again, each at most
+    :data:`LOCAL_RETRIES` times; past that the run stops with one line.
+    """
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures.process import BrokenProcessPool
 
     # fork shares the already-built tables with the workers; elsewhere the default context is used
     methods = multiprocessing.get_all_start_methods()
     context = multiprocessing.get_context("fork") if "fork" in methods and sys.platform.startswith("linux") else None
-    pool = ProcessPoolExecutor(max_workers=workers, mp_context=context)
+
+    def new_pool():
+        return ProcessPoolExecutor(max_workers=workers, mp_context=context, initializer=_worker_init,
+                                   initargs=(os.getpid(),))
+
+    pool = new_pool()
+    pending: deque[list] = deque()  # [chunk, future, attempts], in input order
+    window = 2 * workers
     try:
-        yield from _ordered_map(
-            lambda c: pool.submit(_work, c, *opts), lambda f: f.result(), chunks, 2 * workers
-        )
+        source = iter(chunks)
+        exhausted = False
+        while True:
+            while not exhausted and len(pending) < window:
+                chunk = next(source, None)
+                if chunk is None:
+                    exhausted = True
+                    break
+                pending.append([chunk, pool.submit(_work, chunk, *opts), 0])
+            if not pending:
+                break
+            item = pending[0]
+            try:
+                result = item[1].result()
+            except BrokenProcessPool:
+                item[2] += 1
+                if item[2] > LOCAL_RETRIES:
+                    raise InputError(f"a worker process died {item[2]} times running the same chunk "
+                                     "(out of memory?); try a smaller --chunk-size", source="--workers") from None
+                _stop_workers(pool)
+                pool.shutdown(wait=True, cancel_futures=True)
+                pool = new_pool()
+                for entry in pending:  # run what was in flight again, in order
+                    entry[1] = pool.submit(_work, entry[0], *opts)
+                continue
+            pending.popleft()
+            yield len(item[0]), result
+    except BaseException:  # stopped, or a chunk failed: do not wait for the chunks still running
+        _stop_workers(pool)
+        raise
     finally:
         pool.shutdown(wait=True, cancel_futures=True)
 
 
+#: How often a chunk runs again after a local worker process died while running it.
+LOCAL_RETRIES = 3
+
+
+def _worker_init(parent: int) -> None:
+    """In each local worker: die with the parent, and leave Ctrl-C and SIGTERM to the parent."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C reaches the whole process group; the parent acts
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    _die_with_parent(parent)
+
+
+def _die_with_parent(parent: int) -> None:
+    """Ask Linux to send SIGTERM to this process when its parent ends (prctl PR_SET_PDEATHSIG)."""
+    if not sys.platform.startswith("linux"):
+        return
+    import ctypes
+    import signal
+
+    PR_SET_PDEATHSIG = 1  # <linux/prctl.h>
+    try:
+        libc = ctypes.CDLL(None, use_errno=True)
+        libc.prctl(PR_SET_PDEATHSIG, int(signal.SIGTERM), 0, 0, 0)
+    except (OSError, AttributeError):  # pragma: no cover - no prctl
+        return
+    if os.getppid() != parent:  # the parent ended before the request was made
+        os._exit(1)
+
+
+def _stop_workers(pool) -> None:
+    processes = list((getattr(pool, "_processes", None) or {}).values())
+    for p in processes:
+        with contextlib.suppress(Exception):
+            p.terminate()
+    for p in processes:
+        with contextlib.suppress(Exception):
+            p.join(timeout=5)
+
+
 def _dask(chunks: Iterator[Spectra], address: str, opts: tuple) -> Iterator[tuple[int, _ChunkResult]]:
+    """Chunks on a Dask cluster.  The chunk function is pure, so a chunk whose worker is lost
+    is simply run again elsewhere (``retries``); the chunk travels inside its task rather than
+    being scattered to one worker, so losing that worker does not lose the chunk."""
+    import warnings
+
+    _check_scheduler(address)  # before importing distributed, which takes seconds
     try:
         from distributed import Client
     except ImportError:  # pragma: no cover - a declared dependency
         raise InputError("--scheduler needs the dask[distributed] package") from None
     try:
         client = Client(address, timeout=f"{SCHEDULER_TIMEOUT_S}s", set_as_default=False)
-    except (OSError, TimeoutError, ValueError) as exc:
-        raise InputError(f"cannot reach the Dask scheduler ({type(exc).__name__}: {str(exc).splitlines()[0] if str(exc) else ''})", source="--scheduler") from None
+    except Exception as exc:  # noqa: BLE001 - distributed raises many types for one cause
+        raise InputError(f"cannot reach the Dask scheduler at {address} ({_first_line(exc)})",
+                         source="--scheduler") from None
     futures: list[Any] = []
     try:
         workers = max(1, len(client.scheduler_info().get("workers", {})))
 
         def submit(chunk: Spectra):
-            data = client.scatter(chunk)  # large arguments travel directly to a worker, not in the task graph
-            fut = client.submit(_work, data, *opts, pure=False)
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore", UserWarning)  # "large object in the task graph": on purpose
+                fut = client.submit(_work, chunk, *opts, pure=False, retries=DASK_RETRIES)
             futures.append(fut)
             return fut
 
-        yield from _ordered_map(submit, lambda f: f.result(), chunks, 2 * workers)
+        def result(fut):
+            try:
+                return fut.result()
+            except CctkitError:
+                raise
+            except Exception as exc:  # noqa: BLE001 - lost scheduler, workers gone past the retries
+                raise InputError(f"the Dask cluster at {address} could not finish a chunk ({_first_line(exc)})",
+                                 source="--scheduler") from None
+
+        yield from _ordered_map(submit, result, chunks, 2 * workers)
     finally:
-        if futures:
-            client.cancel(futures)
-        client.close()
+        with contextlib.suppress(Exception):
+            if futures:
+                client.cancel(futures)
+            client.close(timeout=SCHEDULER_TIMEOUT_S)
+
+
+#: How often a chunk is run again after its worker was lost (the chunk function is pure).
+DASK_RETRIES = 3
+#: How long to wait for a TCP connection to a Dask scheduler before saying it is unreachable [s].
+SCHEDULER_CONNECT_S = 3.0
+
+
+def _first_line(exc: BaseException) -> str:
+    text = str(exc).strip().splitlines()
+    return (text[0] if text else "no details").strip()[:200]
+
+
+def _check_scheduler(address: str) -> None:
+    """Refuse at once, in one line, an address that cannot work: unknown scheme, TLS without
+    certificates, a host that does not resolve, a port where nothing listens."""
+    import socket
+
+    scheme, _, rest = address.partition("://")
+    if not rest:
+        scheme, rest = "tcp", address
+    if scheme in ("inproc", "ucx"):  # in this process, or a fabric with its own addressing: no socket to try
+        return
+    if scheme not in ("tcp", "tls", "ws", "wss"):
+        raise InputError(f"{address!r}: expected tcp://host:port (or tls://host:port)", source="--scheduler")
+    if scheme in ("tls", "wss"):
+        try:
+            import dask
+
+            configured = dask.config.get("distributed.comm.tls.ca-file", None)
+        except ImportError:  # pragma: no cover - a declared dependency
+            configured = None
+        if not configured:
+            raise InputError(f"{address!r}: tls:// needs certificates from the Dask configuration "
+                             "(distributed.comm.tls.*), and none are set", source="--scheduler")
+    host, sep, port_text = rest.rstrip("/").rpartition(":")
+    host = host.strip("[]")
+    if not sep or not host or not port_text.isdigit() or not 0 < int(port_text) < 65536:
+        raise InputError(f"{address!r}: expected host:port, e.g. tcp://127.0.0.1:8786", source="--scheduler")
+    try:
+        socket.create_connection((host, int(port_text)), timeout=SCHEDULER_CONNECT_S).close()
+    except OSError as exc:
+        reason = "timed out" if isinstance(exc, TimeoutError) else (exc.strerror or _first_line(exc))
+        raise InputError(f"cannot reach the Dask scheduler at {address} ({reason})", source="--scheduler") from None
 
 
 def run_batch(
@@ -479,6 +631,7 @@ def run_batch(
     overwrite: bool = False,
     progress: Progress | None = None,
     metadata: dict[str, Any] | None = None,
+    resume: bool = False,
 ) -> BatchSummary:
     """Analyse every spectrum of ``source`` and write one row per spectrum to ``output``.
 
@@ -499,6 +652,14 @@ def run_batch(
         Told of every finished chunk.
     metadata
         Provenance written into the Parquet schema metadata (key ``cctkit``, JSON).
+    resume
+        CSV output only.  Write the rows to ``OUTPUT.partial`` with a journal
+        (``OUTPUT.partial.json``) of the chunks completed; a run stopped or killed
+        leaves both, and the next run with ``resume`` continues after the last complete
+        chunk (same input, unchanged, same options and chunk size) with identical results.
+        Without ``resume`` a run's temporary file is removed when it is stopped, and
+        temporary files of earlier killed runs (and an earlier run's partial results)
+        are removed at the start.
 
     Raises
     ------
@@ -517,8 +678,16 @@ def run_batch(
         raise InputError(f"workers must be a positive number, got {workers!r}", source="--workers")
     inputs = list(source.files) + [source.path]
     check_output_path(out, overwrite=overwrite, inputs=inputs)
+    if resume and suffix != ".csv":
+        raise InputError("--resume works with .csv output", source="--output")
     progress = progress or Progress(source.total, enabled=False)
+    notes = _clear_leftovers(out, resume)
+    identity = _identity(source, out, observer=observer, rendering=rendering)
+    state = _journal_state(out, identity) if resume else None
     chunks = source.chunks()
+    if state is not None:
+        chunks = itertools.islice(chunks, state["chunks"], None)  # read again, not analysed again
+        notes.append(f"resumed after {state['chunks']} complete chunks ({state['spectra']} spectra)")
     opts = (observer, rendering, suffix)
     if scheduler:
         executor = f"dask {scheduler}"
@@ -532,6 +701,12 @@ def run_batch(
     count = 0
     n_chunks = 0
     t0 = time.perf_counter()
+    if resume:
+        count = _resumable(out, results, state, identity, progress, overwrite=overwrite, inputs=inputs,
+                           source=source)
+        n_chunks = -(-count // source.chunk_size)
+        progress.finish()
+        return BatchSummary(str(out), count, n_chunks, time.perf_counter() - t0, executor, tuple(notes))
     with atomic_path(out, overwrite=overwrite, inputs=inputs) as tmp:
         if suffix == ".csv":
             writer: Any = _CsvWriter(tmp)
@@ -548,8 +723,128 @@ def run_batch(
             writer.close()
         if count == 0:
             raise InputError("no spectra found", source=source.path)
+        _unchanged(source, identity)
     progress.finish()
-    return BatchSummary(str(out), count, n_chunks, time.perf_counter() - t0, executor)
+    return BatchSummary(str(out), count, n_chunks, time.perf_counter() - t0, executor, tuple(notes))
+
+
+# --------------------------------------------------------------------------- faults: leftovers, resume
+
+
+def _partial_paths(out: Path) -> tuple[Path, Path]:
+    return out.with_name(out.name + ".partial"), out.with_name(out.name + ".partial.json")
+
+
+def _clear_leftovers(out: Path, resume: bool) -> list[str]:
+    """Remove what killed runs left beside ``out``: their temporary files, and without
+    ``resume`` the partial results of a resumable run.  Returns a note per removal."""
+    from .safe_io import _alive, glob_escape, remove_stale_temps
+
+    notes = [f"removed {p.name}, left by an earlier run that was killed" for p in remove_stale_temps(out)]
+    journal = _partial_paths(out)[1]
+    for p in journal.parent.glob(glob_escape(journal.name) + ".*.tmp"):  # a journal being replaced when killed
+        pid = p.name[len(journal.name) + 1:-len(".tmp")]
+        if pid.isdigit() and not _alive(int(pid)):
+            with contextlib.suppress(OSError):
+                p.unlink()
+    if not resume:
+        for p in _partial_paths(out):
+            if p.exists():
+                p.unlink()
+                notes.append(f"removed {p.name} of an earlier unfinished run (--resume continues such a run)")
+    return notes
+
+
+def _identity(source, out: Path, *, observer: int, rendering: bool) -> dict[str, Any]:
+    """What must be the same for a run to continue another: the input files (size, modification
+    time), the chunking, the options and the version."""
+    from . import __version__
+
+    files = []
+    for f in dict.fromkeys([*source.files, source.path]):
+        try:
+            st = os.stat(f)
+        except OSError:
+            continue
+        if not os.path.isdir(f):
+            files.append([str(f), st.st_size, st.st_mtime_ns])
+    return {"cctkit_version": __version__, "output": str(out), "input": str(source.path), "files": files,
+            "chunk_size": source.chunk_size, "observer": observer, "rendering": rendering}
+
+
+def _unchanged(source, identity: dict[str, Any]) -> None:
+    """Refuse results of an input that changed while it was read: the hashes recorded in the
+    rows are of the data analysed only if the file stayed the same throughout."""
+    now = _identity(source, Path(identity["output"]), observer=identity["observer"], rendering=identity["rendering"])
+    if now["files"] != identity["files"]:
+        changed = next((a[0] for a, b in zip(identity["files"], now["files"]) if a != b), source.path)
+        raise InputError("the input changed while the run read it; results not written", source=str(changed))
+
+
+def _journal_state(out: Path, identity: dict[str, Any]) -> dict[str, Any] | None:
+    """The journal of an earlier run to continue, or None to start afresh."""
+    partial, journal = _partial_paths(out)
+    if not journal.exists() or not partial.exists():
+        return None
+    try:
+        state = json.loads(journal.read_text(encoding="utf-8"))
+        keys = ("identity", "chunks", "spectra", "bytes", "columns")
+        if not isinstance(state, dict) or any(k not in state for k in keys):
+            raise ValueError("incomplete")
+    except (OSError, ValueError):
+        raise InputError(f"cannot continue: the journal {journal.name} is unreadable; remove it and "
+                         f"{partial.name} to start again", source=str(journal)) from None
+    if state["identity"] != identity:
+        raise InputError("cannot continue: the input, the options or the chunk size differ from the earlier run's; "
+                         "run without --resume to start again", source=str(journal))
+    if partial.stat().st_size < state["bytes"]:
+        raise InputError(f"cannot continue: {partial.name} is shorter than its journal says; run without "
+                         "--resume to start again", source=str(partial))
+    return state
+
+
+def _resumable(out: Path, results, state, identity, progress: Progress, *, overwrite: bool, inputs, source) -> int:
+    """Write the rows to ``OUTPUT.partial``, journalling each complete chunk; put it in place at the end."""
+    from .safe_io import place, write_journal
+
+    partial, journal = _partial_paths(out)
+    count = 0
+    if state is not None:
+        with open(partial, "r+b") as fh:  # drop the rows of a chunk that was being written when the run ended
+            fh.truncate(state["bytes"])
+        count = state["spectra"]
+        progress.update(count)
+        writer = _CsvWriter(partial, columns=state["columns"])
+        chunks = state["chunks"]
+    else:
+        writer = _CsvWriter(partial)
+        chunks = 0
+    try:
+        for n, result in results:
+            writer.write(result)
+            count += n
+            chunks += 1
+            write_journal(journal, {"identity": identity, "chunks": chunks, "spectra": count,
+                                    "bytes": writer.durable_size(), "columns": writer.columns})
+            progress.update(n)
+    except Stopped as exc:
+        exc.note = f"the {chunks} complete chunks are kept in {partial.name}; run again with --resume to continue"
+        raise
+    except OSError as exc:  # disk full, read-only: the finished chunks stay for a later --resume
+        from .safe_io import os_error_text
+
+        raise InputError(f"cannot write the output ({os_error_text(exc)}); the {chunks} complete chunks are kept "
+                         f"in {partial.name}: run again with --resume to continue", source=str(out)) from None
+    finally:
+        results.close()
+        with contextlib.suppress(OSError):
+            writer.close()
+    if count == 0:
+        raise InputError("no spectra found", source=source.path)
+    _unchanged(source, identity)
+    place(partial, out, overwrite=overwrite, inputs=inputs)
+    journal.unlink()
+    return count
 
 
 def _warmed(chunks: Iterator[Spectra], observer: int, rendering: bool) -> Iterator[Spectra]:

@@ -4,7 +4,7 @@ Each chromaticity gets:
 
 * ``quadrangle``: the ANSI C78.377-2017 quadrangle that holds it ("3000K", ...),
   or None (see :func:`cctkit.tolerance.classify_ansi`);
-* ``centre``: the nearest nominal centre, by distance in CIE 1960 uv;
+* ``centre``: the nearest nominal centre, by distance in CIE 1960 uv (None without a chromaticity);
 * ``sdcm_steps``: its distance from that centre in SDCM steps;
 * ``sdcm_bin``: the smallest whole number of steps whose ellipse holds it
   (ceil of the steps, at least 1), or -1 when it cannot be computed.
@@ -50,7 +50,7 @@ class BinResult:
     names: tuple[str, ...]
     xy: np.ndarray
     quadrangle: np.ndarray  # object: str or None
-    centre: np.ndarray  # object: str
+    centre: np.ndarray  # object: str, None where the chromaticity is not finite
     sdcm_steps: np.ndarray
     sdcm_bin: np.ndarray  # int, -1 where undefined
     extrapolated: np.ndarray  # bool
@@ -157,7 +157,8 @@ def bin_chromaticities(xy, *, names=None, ellipses: str = DEFAULT_ELLIPSES) -> B
         names=names,
         xy=xy,
         quadrangle=tol.classify_ansi(xy, space="xy"),
-        centre=np.array(cnames, dtype=object)[k] if n else np.zeros(0, dtype=object),
+        # no chromaticity (all tristimulus values zero, NaN): no nearest centre either
+        centre=np.where(finite, np.array(cnames, dtype=object)[k], None) if n else np.zeros(0, dtype=object),
         sdcm_steps=steps,
         sdcm_bin=bins,
         extrapolated=cextra[k] & finite,

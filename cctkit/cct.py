@@ -118,27 +118,101 @@ def _hermite(tab: _Table, k: np.ndarray, t: np.ndarray, *, second: bool = True):
     return out
 
 
+def _g(tab: _Table, k: np.ndarray, pu: np.ndarray, pv: np.ndarray) -> np.ndarray:
+    """g at node k: (p - uv(m_k)) . uv'(m_k), positive below the foot point's mired, negative above."""
+    return (pu - tab.u[k]) * tab.du[k] + (pv - tab.v[k]) * tab.dv[k]
+
+
+def _bisect(tab: _Table, pu: np.ndarray, pv: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Node k with g(k) >= 0 > g(k + 1) by bisection over the whole table, and whether a bracket exists."""
+    K = tab.m.shape[0]
+    n = pu.shape[0]
+    lo = np.zeros(n, dtype=np.intp)
+    hi = np.full(n, K - 1, dtype=np.intp)
+    # g falls as m rises near the locus; a point whose foot is outside the table has no sign change.
+    bracketed = (_g(tab, lo, pu, pv) >= 0) & (_g(tab, hi, pu, pv) < 0)
+    for _ in range(int(np.ceil(np.log2(K)))):
+        mid = (lo + hi) >> 1
+        up = _g(tab, mid, pu, pv) >= 0
+        lo = np.where(up, mid, lo)
+        hi = np.where(up, hi, mid)
+    return np.minimum(lo, K - 2), bracketed
+
+
+@dataclass(frozen=True)
+class _Grid:
+    origin: tuple[float, float]  # u, v of the grid's corner
+    inv_step: float  # cells per unit of u and of v
+    cells: int  # cells per side
+    lo: np.ndarray  # (cells * cells,) lowest node a point of the cell can bracket
+    span: np.ndarray  # (cells * cells,) nodes to search from lo (large where the cell needs the full search)
+
+
+_GRID_CELLS = 512
+_GRID_SPAN = 32  # a cell whose bracket can lie among more nodes than this is searched in full
+_GRID_STEPS = 5  # = log2(_GRID_SPAN)
+
+
+@lru_cache(maxsize=8)
+def _grid(observer: int, c2: float) -> _Grid:
+    """A 2-D lookup of uv: for each cell, the few table nodes its points' brackets lie among.
+
+    Built once from the full bisection at the cell corners (the bracket node is monotone along
+    the locus and moves by less than a node between neighbouring corners, so it is widened by
+    one node each side); every bracket found through it is verified, and a point whose cell
+    or verification fails is searched in full, so the result is the full search's.
+    """
+    tab = _table(observer, c2)
+    G = _GRID_CELLS
+    pad = 0.07  # beyond |Duv| = 0.05 everywhere along the locus
+    u0, v0 = float(tab.u.min()) - pad, float(tab.v.min()) - pad
+    size = max(float(tab.u.max()) - u0, float(tab.v.max()) - v0) + pad
+    step = size / G
+    edges = u0 + step * np.arange(G + 1), v0 + step * np.arange(G + 1)
+    cu, cv = (a.ravel() for a in np.meshgrid(*edges, indexing="ij"))
+    k, ok = _bisect(tab, cu, cv)
+    k = np.where(ok, k, -(10**9)).reshape(G + 1, G + 1)
+    corners = np.stack([k[:-1, :-1], k[1:, :-1], k[:-1, 1:], k[1:, 1:]])
+    K = tab.m.shape[0]
+    lo = np.clip(corners.min(axis=0) - 1, 0, K - 2)
+    hi = np.clip(corners.max(axis=0) + 2, 1, K - 1)
+    span = np.where(corners.min(axis=0) < 0, np.iinfo(np.int32).max, hi - lo)
+    return _Grid((u0, v0), 1.0 / step, G, lo.ravel().astype(np.intp), span.ravel().astype(np.intp))
+
+
+def _bracket(tab: _Table, grid: _Grid, pu: np.ndarray, pv: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`_bisect`'s node and bracket flag, through the 2-D lookup (full search where it cannot say)."""
+    with np.errstate(invalid="ignore"):
+        iu = np.floor((pu - grid.origin[0]) * grid.inv_step)
+        iv = np.floor((pv - grid.origin[1]) * grid.inv_step)
+        inside = (iu >= 0) & (iu < grid.cells) & (iv >= 0) & (iv < grid.cells)
+    cell = np.where(inside, iu * grid.cells + iv, 0).astype(np.intp)
+    lo = grid.lo[cell]
+    hi = lo + np.minimum(grid.span[cell], _GRID_SPAN)
+    for _ in range(_GRID_STEPS):
+        mid = (lo + hi) >> 1
+        up = _g(tab, mid, pu, pv) >= 0
+        lo = np.where(up, mid, lo)
+        hi = np.where(up, hi, mid)
+    k = lo
+    good = inside & (grid.span[cell] <= _GRID_SPAN) & (_g(tab, k, pu, pv) >= 0) & (_g(tab, k + 1, pu, pv) < 0)
+    bracketed = good.copy()
+    rest = np.flatnonzero(~good)
+    if rest.size:
+        k[rest], bracketed[rest] = _bisect(tab, pu[rest], pv[rest])
+    return k, bracketed
+
+
 def _exact(uv: np.ndarray, observer: int, c2: float) -> tuple[np.ndarray, np.ndarray]:
     tab = _table(observer, c2)
     p = uv.reshape(-1, 2)
     pu = np.ascontiguousarray(p[:, 0])
     pv = np.ascontiguousarray(p[:, 1])
-    K = tab.m.shape[0]
+    k, bracketed = _bracket(tab, _grid(observer, c2), pu, pv)
 
     def g(k):
-        return (pu - tab.u[k]) * tab.du[k] + (pv - tab.v[k]) * tab.dv[k]
+        return _g(tab, k, pu, pv)
 
-    n = pu.shape[0]
-    lo = np.zeros(n, dtype=np.intp)
-    hi = np.full(n, K - 1, dtype=np.intp)
-    # g falls as m rises near the locus; a point whose foot is outside the table has no sign change.
-    bracketed = (g(lo) >= 0) & (g(hi) < 0)
-    for _ in range(int(np.ceil(np.log2(K)))):
-        mid = (lo + hi) >> 1
-        up = g(mid) >= 0
-        lo = np.where(up, mid, lo)
-        hi = np.where(up, hi, mid)
-    k = np.minimum(lo, K - 2)
     gk, gk1 = g(k), g(k + 1)
     with np.errstate(divide="ignore", invalid="ignore"):
         t = np.clip(np.where(gk != gk1, gk / (gk - gk1), 0.5), 0.0, 1.0)

@@ -59,6 +59,7 @@ from __future__ import annotations
 import csv
 import difflib
 import math
+import os
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -160,6 +161,9 @@ class Claims:
     declared_id: Mapping[str, str] = field(default_factory=dict)
     sidecar: Mapping[str, Mapping[str, str]] = field(default_factory=dict)
     design_intent: Mapping[str, int] = field(default_factory=dict)
+    sha256: str | None = None  # of the claims file's bytes as read
+    sidecar_path: str | None = None  # the sidecar's path, when one is named
+    sidecar_sha256: str | None = None  # of the sidecar's bytes as read
 
     @property
     def metrics(self) -> tuple[str, ...]:
@@ -206,21 +210,37 @@ def _table(doc: Mapping, name: str, source: str) -> Mapping:
     return value
 
 
+#: Largest claims file read [bytes]: a datasheet's claims are a few hundred bytes.
+MAX_CLAIMS_BYTES = 1024 * 1024
+#: Largest sidecar read [bytes]: some 100,000 samples of name, power and identifier.
+MAX_SIDECAR_BYTES = 16 * 1024 * 1024
+
+
 def load_claims(path: str | Path) -> Claims:
-    """Read and check a claims TOML file (see the module docstring for its layout)."""
+    """Read and check a claims TOML file (see the module docstring for its layout).
+
+    The file must be a regular file of at most :data:`MAX_CLAIMS_BYTES`; a sidecar it
+    names must lie in the claims file's folder or below it (no absolute path, no ``..``).
+    """
+    from dataclasses import replace
+
+    from .safe_io import read_user_file
+
     p = Path(path)
     source = str(p)
     try:
-        raw = p.read_bytes()
-    except OSError as exc:
-        raise InputError(f"cannot read claims file ({exc.strerror or exc})", source=source) from None
+        raw = read_user_file(p, max_bytes=MAX_CLAIMS_BYTES)
+    except InputError as exc:
+        raise InputError(f"cannot read claims file ({exc.reason})", source=source) from None
     try:
-        doc = tomllib.loads(raw.decode("utf-8"))
+        doc = tomllib.loads(raw.data.decode("utf-8"))
     except UnicodeDecodeError:
         raise InputError("claims file is not UTF-8 text", source=source) from None
     except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"not valid TOML ({exc})", source=source) from None
-    return parse_claims(doc, source=source, base_dir=p.parent)
+        raise InputError(f"not valid TOML ({str(exc).splitlines()[0]})", source=source) from None
+    except RecursionError:
+        raise InputError("not a claims file: nested too deeply", source=source) from None
+    return replace(parse_claims(doc, source=source, base_dir=p.parent), sha256=raw.sha256)
 
 
 def parse_claims(doc: Mapping[str, Any], *, source: str = "<claims>", base_dir: str | Path = ".") -> Claims:
@@ -269,7 +289,7 @@ def parse_claims(doc: Mapping[str, Any], *, source: str = "<claims>", base_dir: 
             raise InputError(f"{where}: an uncertainty cannot be negative, got {u:g}", source=source)
         uncertainty[metric] = u
 
-    power, declared, *sidecar = _parse_samples(_table(doc, "samples", source), source, Path(base_dir))
+    power, declared, side = _parse_samples(_table(doc, "samples", source), source, Path(base_dir))
     needs_power = [m for m in ("efficacy_lm_per_W", "power_W") if m in checked]
     if needs_power and not power:
         raise InputError(
@@ -289,8 +309,10 @@ def parse_claims(doc: Mapping[str, Any], *, source: str = "<claims>", base_dir: 
         uncertainty=uncertainty,
         power_W=power,
         declared_id=declared,
-        sidecar=sidecar[0] if sidecar else {},
+        sidecar=side[2] if side else {},
         design_intent=intent,
+        sidecar_path=side[0] if side else None,
+        sidecar_sha256=side[1] if side else None,
     )
 
 
@@ -346,7 +368,7 @@ def _parse_chromaticity(table: Mapping, source: str) -> ChromaticityClaim | None
     return ChromaticityClaim(int(nominal), quad, max_sdcm, centre)
 
 
-def _parse_samples(table: Mapping, source: str, base_dir: Path) -> tuple[dict[str, float], dict[str, str]]:
+def _parse_samples(table: Mapping, source: str, base_dir: Path) -> tuple[dict, dict, tuple[str, str, dict] | None]:
     _check_keys(table, _SAMPLES_KEYS, "[samples]", source)
     if "power_W" in table and "sidecar" in table:
         raise InputError("[samples]: give power_W or sidecar, not both", source=source)
@@ -354,22 +376,49 @@ def _parse_samples(table: Mapping, source: str, base_dir: Path) -> tuple[dict[st
         p = _number(table["power_W"], "[samples] power_W", source)
         if p <= 0:
             raise InputError(f"[samples] power_W: must be positive, got {p:g}", source=source)
-        return {"*": p}, {}
+        return {"*": p}, {}, None
     if "sidecar" not in table:
-        return {}, {}
+        return {}, {}, None
     name = table["sidecar"]
     if not isinstance(name, str) or not name:
         raise InputError(f"[samples] sidecar: expected a file name, got {name!r}", source=source)
-    path = Path(name) if Path(name).is_absolute() else base_dir / name
-    return _read_sidecar(path, f"{source}: [samples] sidecar")
+    path = _confined(name, base_dir, source)
+    power, declared, columns, sha = _read_sidecar(path, f"{source}: [samples] sidecar")
+    return power, declared, (str(path), sha, columns)
 
 
-def _read_sidecar(path: Path, where: str) -> tuple[dict[str, float], dict[str, str]]:
+def _confined(name: str, base_dir: Path, source: str) -> Path:
+    """The sidecar's path: relative to the claims file's folder and inside it (after symbolic links)."""
+    where = "[samples] sidecar"
+    if "\x00" in name:
+        raise InputError(f"{where}: the name holds a NUL character", source=source)
+    rel = Path(name)
+    if rel.is_absolute() or rel.drive:
+        raise InputError(f"{where}: {name!r} is an absolute path; name a file in the claims file's folder",
+                         source=source)
+    if ".." in rel.parts:
+        raise InputError(f"{where}: {name!r} leaves the claims file's folder ('..' is not allowed)", source=source)
+    path = base_dir / rel
+    try:
+        inside = Path(os.path.realpath(path)).is_relative_to(Path(os.path.realpath(base_dir)))
+    except (OSError, ValueError):
+        inside = False
+    if not inside:
+        raise InputError(f"{where}: {name!r} leads outside the claims file's folder (symbolic link)",
+                         source=source)
+    return path
+
+
+def _read_sidecar(path: Path, where: str) -> tuple[dict[str, float], dict[str, str], dict, str]:
+    from .safe_io import read_user_file
+
     src = str(path)
     try:
-        text = path.read_text(encoding="utf-8-sig")
-    except OSError as exc:
-        raise InputError(f"cannot read sidecar ({exc.strerror or exc}), named in {where}", source=src) from None
+        raw = read_user_file(path, max_bytes=MAX_SIDECAR_BYTES)
+    except InputError as exc:
+        raise InputError(f"cannot read sidecar ({exc.reason}), named in {where}", source=src) from None
+    try:
+        text = raw.data.decode("utf-8-sig")
     except UnicodeDecodeError:
         raise InputError("sidecar is not UTF-8 text", source=src) from None
     # Line numbers are kept for messages; blank lines and lines starting with "#" are skipped.
@@ -409,7 +458,7 @@ def _read_sidecar(path: Path, where: str) -> tuple[dict[str, float], dict[str, s
         columns[nm] = {h: row[j].strip() for j, h in enumerate(header) if h and h != "name"}
     if not power:
         raise InputError("sidecar lists no samples", source=src)
-    return power, declared, columns
+    return power, declared, columns, raw.sha256
 
 
 # ------------------------------------------------------------------ verdicts
@@ -770,4 +819,16 @@ def verdict_csv(doc: Mapping[str, Any], claims: Claims) -> str:
     column; per claim its value, limits, margin, U and result (:func:`cctkit.report.text.verdict_rows_csv`)."""
     from .report.text import verdict_rows_csv
 
-    return verdict_rows_csv(doc, claims)
+    text = verdict_rows_csv(doc, claims)
+    # A traceable verdict (samples with their file's SHA-256) keeps its provenance in the CSV too.
+    if not (doc["samples"] and all("sha256" in s for s in doc["samples"])):
+        return text
+    import csv
+    import io
+
+    from .formats import csv_text
+
+    header, *rows = list(csv.reader(io.StringIO(text)))
+    extra = [[s.get("source"), s.get("sha256"), claims.sha256] for s in doc["samples"]]
+    return csv_text(header + ["source", "sha256", "claims_sha256"],
+                    [row + ["" if v is None else v for v in more] for row, more in zip(rows, extra)])

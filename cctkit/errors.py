@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-__all__ = ["CctkitError", "InputError", "Flag"]
+__all__ = ["CctkitError", "InputError", "Stopped", "Flag"]
 
 
 class CctkitError(ValueError):
@@ -36,6 +36,23 @@ class InputError(CctkitError):
         if source is not None:
             where = f"{source}:{line}: " if line is not None else f"{source}: "
         super().__init__(f"{where}{message}")
+
+
+class Stopped(BaseException):
+    """The run was stopped by a signal (Ctrl-C or SIGTERM).
+
+    A ``BaseException``, like ``KeyboardInterrupt``, so that no ``except Exception`` swallows it;
+    ``code`` is the conventional exit status, 128 + the signal number.
+    """
+
+    def __init__(self, signum: int):
+        import signal
+
+        self.signum = int(signum)
+        self.code = 128 + self.signum
+        self.reason = "interrupted" if self.signum == signal.SIGINT else f"stopped by {signal.Signals(self.signum).name}"
+        self.note = "nothing was written"  # what was left behind, for the one-line message
+        super().__init__(self.reason)
 
 
 @dataclass(frozen=True)

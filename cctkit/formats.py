@@ -8,9 +8,10 @@ from __future__ import annotations
 
 import json
 import math
+import re
 from typing import Any, Iterable
 
-__all__ = ["clean", "dumps", "csv_text", "format_number", "finite_or_none"]
+__all__ = ["clean", "dumps", "csv_text", "csv_cell", "terminal_safe", "format_number", "finite_or_none"]
 
 
 def clean(obj: Any) -> Any:
@@ -33,8 +34,48 @@ def clean(obj: Any) -> Any:
 
 
 def dumps(doc: Any) -> str:
-    """Deterministic JSON text (same input, same bytes)."""
-    return json.dumps(clean(doc), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    """Deterministic JSON text (same input, same bytes).
+
+    Control characters are escaped (``\\u001b``), C1 and DEL included, so the text is safe to
+    print on a terminal; the JSON values are unchanged.
+    """
+    text = json.dumps(clean(doc), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    return _JSON_UNSAFE.sub(lambda m: f"\\u{ord(m.group()):04x}", text)
+
+
+_JSON_UNSAFE = re.compile("[\x7f-\x9f\u2028\u2029\u202a-\u202e\u2066-\u2069]")
+#: Characters a terminal may act on: C0 controls (but tab and line feed), DEL, C1 controls, and the
+#: Unicode line/paragraph separators and bidirectional overrides that change how a line reads.
+_TERMINAL_UNSAFE = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\u2028\u2029\u202a-\u202e\u2066-\u2069]")
+
+
+def terminal_safe(text: str, *, keep: str = "") -> str:
+    """``text`` with every control character written as a visible escape (``\\x1b``, ``\\u202e``).
+
+    Tab and line feed stay; so do the characters in ``keep`` (e.g. ``"\\r"`` for a progress line).
+    """
+    def escape(m: re.Match) -> str:
+        c = m.group()
+        if c in keep:
+            return c
+        return f"\\x{ord(c):02x}" if ord(c) < 0x100 else f"\\u{ord(c):04x}"
+
+    return _TERMINAL_UNSAFE.sub(escape, text)
+
+
+#: Leading characters a spreadsheet reads as the start of a formula (or that hide one).
+FORMULA_LEAD = ("=", "+", "-", "@", "\t", "\r", "\n")
+
+
+def csv_cell(value: Any) -> Any:
+    """A text cell a spreadsheet will not run as a formula: a leading ``'`` is added to text starting
+    with ``= + - @``, tab or CR/LF (OWASP's advice for CSV injection), unless the text is a plain number."""
+    if isinstance(value, str) and value.startswith(FORMULA_LEAD):
+        try:
+            float(value)
+        except ValueError:
+            return "'" + value
+    return value
 
 
 def csv_text(header: list[str], rows: Iterable[Iterable[Any]], *, write_header: bool = True) -> str:
@@ -48,9 +89,10 @@ def csv_text(header: list[str], rows: Iterable[Iterable[Any]], *, write_header: 
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     if write_header:
-        w.writerow(header)
+        w.writerow([csv_cell(h) for h in header])
     for row in rows:
-        w.writerow(["" if (isinstance(v, float) and not math.isfinite(v)) else (repr(float(v)) if isinstance(v, float) else v) for v in row])
+        w.writerow(["" if (isinstance(v, float) and not math.isfinite(v)) else
+                    (repr(float(v)) if isinstance(v, float) else csv_cell(v)) for v in row])
     return buf.getvalue()
 
 

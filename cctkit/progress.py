@@ -40,7 +40,8 @@ class Progress:
     def __init__(self, total: int | None, *, stream: TextIO | None = None, enabled: bool = True,
                  interval_s: float = 2.0):
         self.total = total
-        self.stream = stream if stream is not None else sys.stderr
+        # the command line escapes control characters on stderr; the bar's own escape codes must pass
+        self.stream = stream if stream is not None else getattr(sys.stderr, "trusted", sys.stderr)
         self.enabled = enabled
         self.interval_s = interval_s
         self.done = 0

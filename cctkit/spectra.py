@@ -37,6 +37,7 @@ import numpy as np
 
 from .constants import VISIBLE_BAND_NM, WAVELENGTH_NM
 from .errors import Flag, InputError
+from .limits import MAX_POINTS, MAX_WAVELENGTH_NM
 
 __all__ = [
     "Quantity",
@@ -160,8 +161,14 @@ class Spectra:
             raise InputError("no spectra found", source=source)
         if wl.shape[0] < MIN_POINTS:
             raise InputError(f"only {wl.shape[0]} wavelength points; at least {MIN_POINTS} are needed", source=source)
+        if wl.shape[0] > MAX_POINTS:
+            raise InputError(f"{wl.shape[0]} wavelength points, over the limit of {MAX_POINTS} per spectrum",
+                             source=source)
         if not np.all(np.isfinite(wl)):
             raise InputError("wavelengths contain NaN or infinite values", source=source)
+        if wl.min() <= 0 or wl.max() > MAX_WAVELENGTH_NM:
+            bad = wl.min() if wl.min() <= 0 else wl.max()
+            raise InputError(f"wavelength {bad:g} nm is outside 0-{MAX_WAVELENGTH_NM:g} nm (wrong unit?)", source=source)
         steps = np.diff(wl)
         if np.any(steps <= 0):
             i = int(np.argmax(steps <= 0)) + 1

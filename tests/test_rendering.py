@@ -341,7 +341,11 @@ def test_cli_versus_json_and_csv(cli, tmp_path):
     assert rec["reference"] == "blend" and rec["cri_valid"] is True
     assert len(rec["ces_dE"]) == 99 and len(rec["tcs_dE"]) == 14 and len(doc["wavelength_nm"]) == 471
     lines = (tmp_path / "cmp.csv").read_text().splitlines()
-    assert lines[0].startswith("wavelength_nm,bench lamp: test (Y=100)") and len(lines) == 472
+    import hashlib
+
+    # first line: the input and the SHA-256 of the bytes analysed (common practice, no source)
+    assert lines[0].startswith(f"# input lamp.csv sha256 {hashlib.sha256((tmp_path / 'lamp.csv').read_bytes()).hexdigest()}")
+    assert lines[1].startswith("wavelength_nm,bench lamp: test (Y=100)") and len(lines) == 473
     # refuses to overwrite without --overwrite: one line on stderr, exit 2, file untouched
     before = (tmp_path / "cmp.csv").read_bytes()
     res = cli("versus", "lamp.csv", "--output", "cmp.csv")

@@ -9,16 +9,21 @@ matplotlib, scipy.optimize) happen inside the commands, never here.
 
 from __future__ import annotations
 
+import contextlib
+import errno
 import importlib
 import os
 import sys
 import time
 
+import click
 import typer
 from typer.core import TyperCommand, TyperGroup
 
 from .. import __version__
-from ..errors import CctkitError
+from ..errors import CctkitError, Stopped
+from ..formats import terminal_safe
+from ..safe_io import os_error_text
 
 __all__ = ["app", "main"]
 
@@ -54,13 +59,17 @@ class _OneLineErrors(TyperGroup):
     """A group whose ``main`` reports every expected failure as one line, exit status 2."""
 
     def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):
+        from ..safe_io import forget_inputs
         from .options import set_verbosity, verbosity
 
         set_verbosity(0)
         started = time.perf_counter()
+        forget_inputs()
+        streams = _guard_streams()
         try:
-            rv = super().main(args=args, prog_name=prog_name or "cctkit", complete_var=complete_var,
-                              standalone_mode=False, **extra)
+            with _one_line_warnings(), _stop_signals():
+                rv = super().main(args=args, prog_name=prog_name or "cctkit", complete_var=complete_var,
+                                  standalone_mode=False, **extra)
         except typer.TyperException as exc:  # usage errors (exit 2) and other framework errors
             ctx = getattr(exc, "ctx", None)
             name = getattr(ctx, "info_name", None)
@@ -69,12 +78,25 @@ class _OneLineErrors(TyperGroup):
             _fail(f"{where}: {message}".replace("\n", " "), getattr(exc, "exit_code", 2))
         except CctkitError as exc:
             _fail(f"cctkit: {exc}".replace("\n", " "), 2)
-        except typer.Abort:
-            _fail("cctkit: aborted", 130)
+        except Stopped as exc:
+            _fail(f"cctkit: {exc.reason}; {exc.note}", exc.code)
+        except (typer.Abort, click.exceptions.Abort, KeyboardInterrupt):
+            _fail("cctkit: interrupted; nothing was written", 130)
+        except OSError as exc:  # the file system refused (full, read-only, gone): name the file
+            if exc.errno == errno.EPIPE:  # the reader of our output went away (e.g. `| head`)
+                _quiet_exit(0)
+            where = f"{exc.filename}: " if exc.filename is not None else ""
+            _fail(f"cctkit: {where}{os_error_text(exc)}", 2)
+        except MemoryError:
+            _fail("cctkit: out of memory; for large lots use `cctkit batch`, which works in chunks", 2)
+        except RecursionError:
+            _fail("cctkit: input nested too deeply", 2)
         except Exception as exc:  # noqa: BLE001 - the last line of defence against tracebacks
             if os.environ.get("CCTKIT_DEBUG") or verbosity() > 0:
                 raise
-            _fail(f"cctkit: internal error ({type(exc).__name__}: {exc}); set CCTKIT_DEBUG=1 for a traceback", 1)
+            _fail(f"cctkit: internal error, please report it ({_plain(exc)}); set CCTKIT_DEBUG=1 for the details", 1)
+        finally:
+            _restore_streams(streams)
         code = rv if isinstance(rv, int) else 0
         if verbosity() > 0:
             typer.echo(f"cctkit: finished in {time.perf_counter() - started:.2f} s (exit status {code})", err=True)
@@ -83,9 +105,93 @@ class _OneLineErrors(TyperGroup):
         return code
 
 
+@contextlib.contextmanager
+def _stop_signals():
+    """Ctrl-C (SIGINT) and SIGTERM raise :class:`Stopped`, so every temporary file is removed on the way out."""
+    import signal
+    import threading
+
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+
+    def stop(signum, frame):
+        raise Stopped(signum)
+
+    saved = {sig: signal.signal(sig, stop) for sig in (signal.SIGINT, signal.SIGTERM)}
+    try:
+        yield
+    finally:
+        for sig, handler in saved.items():
+            signal.signal(sig, handler)
+
+
+def _plain(exc: BaseException) -> str:
+    """The exception's own words, on one line and without the name of a Python type."""
+    text = " ".join(str(exc).split())[:200]
+    return text or "no message"
+
+
 def _fail(message: str, code: int):
     typer.echo(message, err=True)
     sys.exit(code)
+
+
+def _quiet_exit(code: int):
+    with contextlib.suppress(OSError, ValueError):
+        sys.stdout = open(os.devnull, "w")  # nothing more can reach the closed pipe
+    sys.exit(code)
+
+
+class _SafeText:
+    """A text stream that writes control characters from untrusted text as visible escapes."""
+
+    def __init__(self, stream, keep: str):
+        self._stream = stream
+        self._keep = keep
+        self.trusted = stream  # for text cctkit makes itself with terminal codes (the progress bar)
+
+    def write(self, text):
+        if isinstance(text, str):
+            text = terminal_safe(text, keep=self._keep)
+        return self._stream.write(text)
+
+    def __getattr__(self, name):
+        return getattr(self._stream, name)
+
+
+def _guard_streams():
+    saved = (sys.stdout, sys.stderr)
+    if not isinstance(sys.stdout, _SafeText):
+        sys.stdout = _SafeText(sys.stdout, keep="")
+    if not isinstance(sys.stderr, _SafeText):
+        sys.stderr = _SafeText(sys.stderr, keep="\r")  # the progress line redraws itself with \r
+    return saved
+
+
+def _restore_streams(saved) -> None:
+    sys.stdout, sys.stderr = saved
+
+
+@contextlib.contextmanager
+def _one_line_warnings():
+    """Python warnings (numpy's RuntimeWarning and the like) as one line each, without source lines."""
+    import warnings
+
+    seen: set[str] = set()
+
+    def show(message, category, filename, lineno, file=None, line=None):
+        text = " ".join(str(message).split())
+        if text not in seen:
+            seen.add(text)
+            typer.echo(f"cctkit: warning: {text}", err=True)
+
+    saved = warnings.showwarning
+    warnings.showwarning = show
+    try:
+        yield
+    finally:
+        warnings.showwarning = saved
 
 
 def _version(value: bool) -> None:

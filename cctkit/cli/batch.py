@@ -40,6 +40,8 @@ def batch_cmd(
     overwrite: bool = OVERWRITE_OPTION,
     progress: bool = typer.Option(False, "--progress", help="Show progress on stderr even when it is not a terminal."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress and no summary line (as cctkit --quiet)."),
+    resume: bool = typer.Option(False, "--resume", help="CSV output: keep the finished chunks if the run is stopped "
+                                "or killed, and continue an earlier such run from its last complete chunk."),
     recursive: bool = RECURSIVE_OPTION,
     skip_bad: bool = typer.Option(
         False, "--skip-bad",
@@ -92,7 +94,10 @@ def batch_cmd(
         overwrite=overwrite,
         progress=bar,
         metadata={**provenance(), "input": str(input_path), "rendering": rendering},
+        resume=resume,
     )
+    for note in summary.notes:
+        info(f"note: {note}")
     if skipped is not None:
         write_output(errors_path, errors_csv(skipped), overwrite=overwrite, inputs=[input_path])
     if not quiet:

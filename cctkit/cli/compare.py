@@ -81,6 +81,7 @@ def versus_cmd(
 
     from ..constants import DUV_LIMIT, VISIBLE_BAND_NM
     from ..analysis import read_files
+    from ..formats import terminal_safe
     from ..rendering import REFERENCE_RANGE_K, colour_rendition, compare_to_reference, reference_cct, rendering_cct
     from ..spectra import Quantity, concatenate, to_working_grid
 
@@ -153,7 +154,12 @@ def versus_cmd(
             header += [f"{name}: test (Y=100)", f"{name}: reference (Y=100)", f"{name}: difference", f"{name}: ratio"]
             columns += [comp.test[i], comp.reference[i], comp.difference[i], comp.ratio[i]]
         rows = zip(*[c.tolist() for c in columns])
-        write_output(output, csv_text(header, rows), overwrite=overwrite, inputs=files, dialect=csv_dialect)
+        from .. import __version__
+
+        # where the numbers came from: the SHA-256 of the bytes analysed (comment lines our readers skip)
+        origin = "".join(f"# input {terminal_safe(str(f))} sha256 {s.sha256[0]}; cctkit {__version__}\n"
+                         for f, s in zip(files, items))
+        write_output(output, origin + csv_text(header, rows), overwrite=overwrite, inputs=files, dialect=csv_dialect)
 
     if json_out:
         emit_json({"method": ref_method, "wavelength_nm": comp.wavelength_nm, "spectra": [

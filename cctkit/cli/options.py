@@ -84,7 +84,7 @@ def info(message: str) -> None:
 
 
 def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iterable = (),
-                 dialect: str = "comma") -> None:
+                 dialect: str = "comma", announce: bool = True) -> None:
     """Write ``text`` atomically; CSV text becomes a workbook for ``.xlsx`` or ``dialect`` CSV for ``.csv``."""
     inputs = list(inputs)
     suffix = Path(path).suffix.lower()
@@ -98,7 +98,8 @@ def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iter
 
         text = csv_in_dialect(text, dialect)
     atomic_write(path, text, overwrite=overwrite, inputs=inputs)
-    info(f"wrote {path}")
+    if announce:
+        info(f"wrote {path}")
 
 
 def parse_observer(value: str) -> int:

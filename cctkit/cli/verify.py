@@ -95,18 +95,27 @@ def verify_cmd(
         computed, model = _computed_uncertainties(files, quantity, uncertainty_model, claims, layout)
     verdict = verify(records, claims, computed)
     doc = verdict.as_dict()
-    traced = _traceable(doc, records, claims_file)
+    traced = _traceable(doc, records, claims)
     if model is not None:
         traced["uncertainty_model"] = model.provenance()
-    if output is not None:
-        text = dumps(traced) if output.suffix.lower() == ".json" else verdict_csv(doc, claims)
-        write_output(output, text, overwrite=overwrite, inputs=inputs, dialect=csv_dialect)
-    if report is not None:
-        from ..report import build_report
-        from .options import info
+    from ..safe_io import output_group
 
-        rep = build_report(analysis, report, overwrite=overwrite, inputs=inputs, verdict=doc, claims=claims,
-                           records=records)
+    if claims.sidecar_path:
+        inputs.append(Path(claims.sidecar_path))
+    with output_group():  # --output and --report: both written, or neither
+        if output is not None:
+            text = dumps(traced) if output.suffix.lower() == ".json" else verdict_csv(traced, claims)
+            write_output(output, text, overwrite=overwrite, inputs=inputs, dialect=csv_dialect, announce=False)
+        if report is not None:
+            from ..report import build_report
+
+            rep = build_report(analysis, report, overwrite=overwrite, inputs=inputs, verdict=doc, claims=claims,
+                               records=records)
+    from .options import info
+
+    if output is not None:
+        info(f"wrote {output}")
+    if report is not None:
         info(f"wrote {report} ({len(rep.pages)} pages)")
     if json_out:
         emit_json(traced)
@@ -133,13 +142,14 @@ def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=No
     return claim_uncertainties(result, claims), model
 
 
-def _traceable(doc: dict, records: list[dict], claims_file: Path) -> dict:
-    """The verdict with what makes it traceable: versions, conventions, every input's SHA-256."""
+def _traceable(doc: dict, records: list[dict], claims) -> dict:
+    """The verdict with what makes it traceable: versions, conventions, every input's SHA-256
+    (of the bytes that were read and analysed)."""
     from ..analysis import provenance
-    from ..spectra import sha256_of_file
 
     samples = [{**s, "source": r.get("source"), "sha256": r.get("sha256")} for s, r in zip(doc["samples"], records)]
-    return {**provenance(), "claims_file": str(claims_file), "claims_sha256": sha256_of_file(claims_file),
+    sidecar = {"sidecar": claims.sidecar_path, "sidecar_sha256": claims.sidecar_sha256} if claims.sidecar_path else {}
+    return {**provenance(), "claims_file": claims.source, "claims_sha256": claims.sha256, **sidecar,
             **doc, "samples": samples}
 
 
@@ -189,7 +199,14 @@ def bin_cmd(
 
     doc = {**provenance(), "ellipses": ellipses, "samples": rows, "counts": result.counts()}
     if output is not None:
-        text = dumps(doc) if output.suffix.lower() == ".json" else result.csv()
+        if output.suffix.lower() == ".json":
+            text = dumps(doc)
+        else:  # the bins, then where each sample came from (the SHA-256 of the bytes analysed)
+            from ..formats import csv_text
+
+            cols = ["name", "x", "y", "quadrangle", "centre", "sdcm_steps", "sdcm_bin", "extrapolated",
+                    "source", "sha256"]
+            text = csv_text(cols, ([r.get(c) for c in cols] for r in rows))
         write_output(output, text, overwrite=overwrite, inputs=files, dialect=csv_dialect)
     if json_out:
         emit_json(doc)
@@ -199,7 +216,8 @@ def bin_cmd(
 
     # One format per column: the metric's usual precision (cctkit.report.text.METRIC_TEXT).
     table = [[r["name"], value_text("cct_K", r["cct_K"]), value_text("duv", r["duv"]), value_text("x", r["x"]),
-              value_text("y", r["y"]), r["quadrangle"] or "none", r["centre"] + ("*" if r["extrapolated"] else ""),
+              value_text("y", r["y"]), r["quadrangle"] or "none",
+              (r["centre"] or "none") + ("*" if r["extrapolated"] else ""),
               value_text("sdcm", r["sdcm_steps"]), "n/a" if r["sdcm_bin"] is None else str(r["sdcm_bin"])]
              for r in rows]
     widths = [max(len(str(t[i])) for t in [head] + table) for i in range(len(head))]

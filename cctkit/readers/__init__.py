@@ -38,7 +38,6 @@ import hashlib
 import itertools
 import os
 import re
-import stat
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Iterable, Iterator, Sequence
@@ -335,33 +334,9 @@ def _to_spectra(parsed: ParsedSpectra, data: bytes, source: str, wanted: Quantit
 
 
 def _read_bytes(p: Path, source: str, max_bytes: int) -> bytes:
-    try:
-        st = os.stat(p)
-    except FileNotFoundError:
-        raise InputError("file not found", source=source) from None
-    except NotADirectoryError:
-        raise InputError("file not found (a part of the path is not a folder)", source=source) from None
-    except PermissionError:
-        raise InputError("permission denied", source=source) from None
-    except (OSError, ValueError) as exc:
-        raise InputError(f"cannot read the file ({_oserror_text(exc)})", source=source) from None
-    if stat.S_ISDIR(st.st_mode):
-        raise InputError("is a folder, not a file", source=source)
-    if not stat.S_ISREG(st.st_mode):
-        raise InputError("is not a regular file (device, pipe or socket)", source=source)
-    if st.st_size > max_bytes:
-        raise InputError(f"file is {st.st_size} bytes, over the limit of {max_bytes} bytes", source=source)
-    try:
-        with open(p, "rb") as fh:
-            data = fh.read(max_bytes + 1)
-    except PermissionError:
-        raise InputError("permission denied", source=source) from None
-    except IsADirectoryError:
-        raise InputError("is a folder, not a file", source=source) from None
-    except OSError as exc:
-        raise InputError(f"cannot read the file ({_oserror_text(exc)})", source=source) from None
-    if len(data) > max_bytes:
-        raise InputError(f"file is over the limit of {max_bytes} bytes", source=source)
+    from ..safe_io import read_user_file
+
+    data = read_user_file(source, max_bytes=max_bytes).data  # regular files only, bounded, never blocks
     if not data.strip():
         raise InputError("file is empty", source=source)
     return data

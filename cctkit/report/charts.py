@@ -17,6 +17,7 @@ functions use only Axes methods), so importing this module costs nothing.
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 from typing import Any, Sequence
 
@@ -453,6 +454,33 @@ _DUV_LINES = (-0.05, -0.04, -0.03, -0.02, -0.01, 0.01, 0.02, 0.03, 0.04, 0.05)
 _MIN_HALF_SPAN = {"uv": (0.022, 0.016), "uvp": (0.022, 0.024), "xy": (0.035, 0.03)}
 
 
+@functools.lru_cache(maxsize=4)
+def _locus_geometry(observer: int) -> dict[str, Any]:
+    """The lines every chromaticity chart draws, in CIE 1960 uv, computed once per observer:
+    the Planckian locus, the constant-Duv lines, the isotemperature lines of :data:`_ISO_LEVELS`
+    (:func:`cctkit.locus.uv_from_cct_duv`, i.e. :func:`cctkit.locus.isotemperature_line`) and
+    the spectrum locus (the colour-matching functions' chromaticities)."""
+    from ..colorimetry import XYZ_to_uv
+    from ..locus import planckian_locus, uv_from_cct_duv
+    from ..tables import cmfs
+
+    T = np.geomspace(1000.0, 100000.0, 700)
+    duvs = np.asarray(_DUV_LINES, dtype=np.float64)
+    duv_lines = uv_from_cct_duv(np.tile(T, duvs.size), np.repeat(duvs, T.size), observer=observer)
+    temps = sorted({t for level in _ISO_LEVELS for t in level})
+    grid = np.linspace(-DUV_LIMIT, DUV_LIMIT, 41)
+    iso = uv_from_cct_duv(np.repeat(np.asarray(temps, dtype=np.float64), grid.size), np.tile(grid, len(temps)),
+                          observer=observer).reshape(len(temps), grid.size, 2)
+    with np.errstate(all="ignore"):
+        spectral = XYZ_to_uv(np.asarray(cmfs(observer), dtype=np.float64))
+    return {
+        "locus": planckian_locus(T, observer=observer).uv,
+        "duv_lines": duv_lines.reshape(duvs.size, T.size, 2),
+        "iso": dict(zip(temps, iso)),
+        "spectral": spectral[np.all(np.isfinite(spectral), axis=1)],
+    }
+
+
 def _window(points: np.ndarray, diagram: str, *, observer: int = 2) -> tuple[float, float, float, float]:
     pts = points[np.all(np.isfinite(points), axis=1)]
     hu, hv = _MIN_HALF_SPAN[diagram]
@@ -477,6 +505,16 @@ def _fit_box(ax, win):
     s = max(sx, sy)
     cx, cy = 0.5 * (x0 + x1), 0.5 * (y0 + y1)
     return cx - 0.5 * s * w_in, cx + 0.5 * s * w_in, cy - 0.5 * s * h_in, cy + 0.5 * s * h_in
+
+
+def _near(line: np.ndarray, win, grow: float = 2.0) -> np.ndarray:
+    """The points of ``line`` within the window widened by ``grow`` of its size on every side,
+    with one neighbour beyond, so the drawn part runs past the axes edge (clipped there)."""
+    w, h = win[1] - win[0], win[3] - win[2]
+    big = (win[0] - grow * w, win[1] + grow * w, win[2] - grow * h, win[3] + grow * h)
+    keep = _inside(line, big)
+    keep = np.convolve(keep.astype(int), [1, 1, 1], mode="same") > 0
+    return line[keep]
 
 
 def _inside(p: np.ndarray, win) -> np.ndarray:
@@ -528,8 +566,6 @@ def chromaticity_chart(
         The view (x0, x1, y0, y1) in ``diagram`` coordinates, before it is widened to equal
         scales on both axes (default: around the points).
     """
-    from ..locus import isotemperature_line, planckian_locus, uv_from_cct_duv
-
     if diagram not in DIAGRAMS:
         raise ValueError(f"diagram must be one of {', '.join(DIAGRAMS)}, got {diagram!r}")
     observer = int(analysis.observer)
@@ -538,23 +574,21 @@ def chromaticity_chart(
     win = _window(np.asarray(sample, dtype=np.float64), diagram, observer=observer) if window is None else \
         tuple(float(w) for w in window)
 
-    T = np.geomspace(1000.0, 100000.0, 700)
-    locus = _convert(planckian_locus(T, observer=observer).uv, "uv", diagram)
-    for duv in _DUV_LINES:
-        line = _convert(uv_from_cct_duv(T, np.full_like(T, duv), observer=observer), "uv", diagram)
+    geo = _locus_geometry(observer)
+    locus = _convert(geo["locus"], "uv", diagram)
+    for duv, line_uv in zip(_DUV_LINES, geo["duv_lines"]):
+        line = _near(_convert(line_uv, "uv", diagram), win)  # draw only what is shown
+        if line.shape[0] < 2:
+            continue
         ax.plot(line[:, 0], line[:, 1], color=GREY, lw=0.5, linestyle=":", zorder=1)
         inside = np.flatnonzero(_inside(line, win))
         if inside.size:
             j = inside[len(inside) // 2]
             ax.text(line[j, 0], line[j, 1], f"{duv:+.2f}", fontsize=5, color=GREY, ha="center", va="center",
                     zorder=2, bbox={"boxstyle": "square,pad=0.05", "fc": "white", "ec": "none"})
+    locus = _near(locus, win)
     ax.plot(locus[:, 0], locus[:, 1], color=INK, lw=1.1, zorder=3, label="Planckian locus")
-    from ..colorimetry import XYZ_to_uv
-    from ..tables import cmfs
-
-    with np.errstate(all="ignore"):
-        spectral = _convert(XYZ_to_uv(np.asarray(cmfs(observer), dtype=np.float64)), "uv", diagram)
-    spectral = spectral[np.all(np.isfinite(spectral), axis=1)]
+    spectral = _convert(geo["spectral"], "uv", diagram)
     if spectral.size:  # the spectrum locus, closed by the line of purples
         closed = np.vstack([spectral, spectral[:1]])
         ax.plot(closed[:, 0], closed[:, 1], color=INK, lw=0.8, zorder=3, gid="spectrum-locus")
@@ -564,10 +598,9 @@ def chromaticity_chart(
     ax.set_ylim(win[2], win[3])
     placed: list[float] = []
     span_x = win[1] - win[0]
-    duv_grid = np.linspace(-DUV_LIMIT, DUV_LIMIT, 41)
     for level in _ISO_LEVELS:
         for t in level:
-            line = _convert(isotemperature_line(float(t), duv_grid, observer=observer), "uv", diagram)
+            line = _convert(geo["iso"][t], "uv", diagram)
             inside = np.flatnonzero(_inside(line, win))
             if inside.size < 2:
                 continue

@@ -1,0 +1,37 @@
+"""The CCT solver's 2-D lookup bracket equals the full bisection over the locus table, node for node.
+
+The lookup only narrows where the bisection searches, and every bracket it finds is
+verified (else the point is searched in full), so the node -- and with it every CCT and
+Duv -- is bit-identical to the full search.  Held on random points within |Duv| <= 0.05
+over 1000-25000 K and on points anywhere in and around the diagram (no outside source:
+the full bisection is the definition this speeds up; the solver's accuracy is checked
+against published tables and brute force in test_cct.py).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+import cctkit.cct as cct
+from cctkit.locus import uv_from_cct_duv
+from cctkit.planck import resolve_c2
+
+
+@pytest.mark.parametrize("observer", [2, 10])
+def test_lookup_bracket_equals_full_bisection(observer):
+    rng = np.random.default_rng(12)
+    n = 100_000
+    T = np.exp(rng.uniform(np.log(1000.0), np.log(25000.0), n))
+    near = uv_from_cct_duv(T, rng.uniform(-0.05, 0.05, n), observer=observer)
+    anywhere = rng.uniform(-0.2, 0.8, (50_000, 2))
+    anywhere[:6] = [[np.nan, 0.3], [0.2, np.inf], [0.0, 0.0], [0.18, 0.27], [0.45, 0.36], [0.6, 0.4]]
+    c2 = resolve_c2("cie")
+    tab, grid = cct._table(observer, c2), cct._grid(observer, c2)
+    for pts in (near, anywhere):
+        pu, pv = np.ascontiguousarray(pts[:, 0]), np.ascontiguousarray(pts[:, 1])
+        k_full, ok_full = cct._bisect(tab, pu, pv)
+        k, ok = cct._bracket(tab, grid, pu, pv)
+        np.testing.assert_array_equal(ok, ok_full)
+        np.testing.assert_array_equal(k[ok], k_full[ok])
+    assert ok_full.sum() > 1000  # the second set reaches the locus too
