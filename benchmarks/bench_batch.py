@@ -94,11 +94,11 @@ def main() -> None:
             out.unlink()
         src.unlink()
     print(f"{'N':>9} {'workers':>8} {'input MiB':>10} {'wall s':>8} {'spectra/s':>10} {'peak RSS MiB':>13} {'output MiB':>11}")
-    for n, w, mb, gen, t, rate, rss, omb in rows:
+    for n, w, mb, _gen, _t, rate, rss, omb in rows:
         print(f"{n:9d} {w:>8} {mb:10.1f} {t:8.2f} {rate:10.0f} {rss:13.0f} {omb:11.1f}")
     base = {w: next((r for r in rows if r[1] == w), None) for w in opts.workers.split(",")}
     print("\nscaling (rate relative to the smallest N, same workers; RSS growth):")
-    for n, w, _, _, t, rate, rss, _ in rows:
+    for n, w, _, _, _t, rate, rss, _ in rows:
         b = base[w]
         print(f"  N={n:<9d} workers={w:<8} rate x{rate / b[5]:.2f}  RSS x{rss / b[6]:.2f}")
     pairs = {(r[0], r[1]): r for r in rows}

@@ -39,7 +39,7 @@ def _claims(doc: dict, tmp_path: Path | None = None) -> cl.Claims:
 
 
 def test_reference_ra_matches_published_values():
-    for rec, (i, ra) in zip(_fl_records(), PUBLISHED_RA.items()):
+    for rec, (_i, ra) in zip(_fl_records(), PUBLISHED_RA.items()):
         # Published values are integers (0.5 rounding); FL8 computes to 95.534 against a published 95
         # (reference library: colour-science 0.4.7 at 5 nm; measured max over FL1-FL12: 0.534, FL8).
         assert abs(rec["Ra"] - ra) < 0.55, rec["name"]

@@ -191,7 +191,7 @@ def test_wash_power_file_names_every_channel():
     rows = dict(ln.split(",") for ln in lines[1:])
     assert list(rows) == [c[0] for c in demo.WASH_CHANNELS]
     # wall-plug efficiency of the die, 0.34-0.55 in the model: electrical power above the die's radiant output
-    for name, kind, design, die_W, wall_plug in demo.WASH_CHANNELS:
+    for name, _kind, _design, die_W, wall_plug in demo.WASH_CHANNELS:
         assert float(rows[name]) == pytest.approx(die_W / wall_plug, abs=0.005)
 
 

@@ -191,7 +191,6 @@ def test_chart_marks_a_sample_that_fails_on_flux_only_as_a_chromaticity_pass(lot
 
 
 def test_badge_words_do_not_sit_on_the_hatching(lot):
-    from cctkit.report.build import report_meta
     from cctkit.report.pages import _Page
 
     p = _Page("a4")

@@ -26,7 +26,6 @@ import numpy as np
 
 from ..colorimetry import XYZ_to_uv
 from ..tables import cmfs, table
-from .reference import reference_cie13_3
 
 __all__ = ["Cri13Result", "cie13_3", "cie13_3_samples", "DC_LIMIT"]
 

@@ -43,8 +43,6 @@ import numpy as np
 from ..constants import WAVELENGTH_NM
 from ..tables import cmfs, table
 from .cam import xyz_to_cam02ucs
-from .tristimulus import rendering_rows
-from .reference import reference_cie224
 
 __all__ = [
     "vector_graphic_xy",

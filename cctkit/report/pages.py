@@ -665,7 +665,7 @@ def summary_table_pages(analysis, records, meta, *, paper: str, page_labels: Seq
         widths = [w for _, _, w in _SUMMARY_COLS]
         widths[-1] = p.width - sum(widths[:-1])
         xs = np.concatenate([[p.left], p.left + np.cumsum(widths[:-1])])
-        for (head, key, _), x, w in zip(_SUMMARY_COLS, xs, widths):
+        for (head, key, _), x, _w in zip(_SUMMARY_COLS, xs, widths):
             if key == "luminous":
                 head = f"{_ROW[lum][1]} [{_ROW[lum][2]}]" if lum else "Luminous"
                 head = shorten(head.replace("Luminous ", "").replace("Illuminance", "E"), 14)
@@ -675,7 +675,7 @@ def summary_table_pages(analysis, records, meta, *, paper: str, page_labels: Seq
         pitch = 0.19
         for i in range(start, stop):
             r = records[i]
-            for (head, key, _), x, w in zip(_SUMMARY_COLS, xs, widths):
+            for (_head, key, _), x, w in zip(_SUMMARY_COLS, xs, widths):
                 if key is None:
                     text = str(i + 1)
                 elif key == "name":

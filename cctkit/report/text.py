@@ -195,7 +195,7 @@ def verdict_table(doc: Mapping[str, Any], claims, *, width: int = 100) -> str:
             used = fixed
         blocks[-1].append(j)
         used += 2 + w
-    for b, block in enumerate(blocks):
+    for _b, block in enumerate(blocks):
         if len(blocks) > 1:
             lines.append(f"claims {block[0] + 1}-{block[-1] + 1} of {len(cols)}:")
         widths = [num_w, name_w, verdict_w] + [cols[j][2] for j in block]
