@@ -54,6 +54,15 @@ def _index(analysis: Any, index: int | None) -> int:
     return i % n
 
 
+def _one(chart: str, analysis: Any, index: int | None, ax: Any, size: tuple[float, float] = (6.0, 4.0)) -> Any:
+    """Draw the report chart ``chart`` (a name in :mod:`cctkit.report.charts`) for one spectrum."""
+    from .report import charts
+
+    ax = _axes(ax, size)
+    getattr(charts, chart)(analysis, ax, index=_index(analysis, index))
+    return ax
+
+
 def chromaticity(analysis: Any, index: int | None = None, ax: Any = None, *, diagram: str = "uv") -> Any:
     """The region around the Planckian locus with each spectrum's chromaticity.
 
@@ -85,47 +94,27 @@ def spectrum(analysis: Any, index: int | None = None, ax: Any = None) -> Any:
 
 def difference(analysis: Any, index: int | None = None, ax: Any = None) -> Any:
     """Test minus reference per wavelength (both Y = 100)."""
-    from .report import charts
-
-    ax = _axes(ax)
-    charts.difference_chart(analysis, ax, index=_index(analysis, index))
-    return ax
+    return _one("difference_chart", analysis, index, ax)
 
 
 def rendering(analysis: Any, index: int | None = None, ax: Any = None) -> Any:
     """CIE 13.3 Ra and R1-R14 as bars."""
-    from .report import charts
-
-    ax = _axes(ax)
-    charts.cri_chart(analysis, ax, index=_index(analysis, index))
-    return ax
+    return _one("cri_chart", analysis, index, ax)
 
 
 def hue_fidelity(analysis: Any, index: int | None = None, ax: Any = None) -> Any:
     """TM-30 local fidelity Rf,h per hue bin."""
-    from .report import charts
-
-    ax = _axes(ax)
-    charts.hue_fidelity_chart(analysis, ax, index=_index(analysis, index))
-    return ax
+    return _one("hue_fidelity_chart", analysis, index, ax)
 
 
 def chroma_shift(analysis: Any, index: int | None = None, ax: Any = None) -> Any:
     """TM-30 local chroma shift Rcs,h per hue bin [%]."""
-    from .report import charts
-
-    ax = _axes(ax)
-    charts.chroma_shift_chart(analysis, ax, index=_index(analysis, index))
-    return ax
+    return _one("chroma_shift_chart", analysis, index, ax)
 
 
 def vector_graphic(analysis: Any, index: int | None = None, ax: Any = None) -> Any:
     """TM-30 colour vector graphic of one spectrum."""
-    from .report import charts
-
-    ax = _axes(ax, (5.0, 5.0))
-    charts.vector_graphic_chart(analysis, ax, index=_index(analysis, index))
-    return ax
+    return _one("vector_graphic_chart", analysis, index, ax, (5.0, 5.0))
 
 
 def indices(analysis: Any, index: int | None = None, ax: Any = None) -> Any:
