@@ -27,6 +27,7 @@ def test_blackbodies_at_the_reference_range_ends_get_ra_and_rf(T, tmp_path):
     rec = analyse(Spectra(WAVELENGTH_NM, spectral_exitance(T)[None], ("bb",), quantity="irradiance")).records()[0]
     assert rec["Ra"] is not None and rec["Rf"] is not None, rec["flags"]
     if T == 1000.0:
+        # CIE 13.3-1995 / CIE 224:2017: a Planckian source is its own reference below 5000 K, so Ra = Rf = 100
         assert rec["Ra"] == pytest.approx(100.0, abs=1e-6) and rec["Rf"] == pytest.approx(100.0, abs=1e-3)
     # through files, as a user does it (the CSV's rounding moves the CCT a hair either side of the bound)
     out = tmp_path / "bb.csv"
@@ -57,6 +58,7 @@ def test_robertson_below_its_table_is_null_with_the_range_named():
     r = cct_duv(planckian_uv(1200.0), method="robertson1968")
     # Robertson (1968) / Wyszecki & Stiles Table 1(3.11) spans 0-600 mired, i.e. 1667 K and above
     assert np.isnan(r.cct_K) and np.isnan(r.duv)
+    # inside the table Robertson's interpolation is good to about 1 K near 2000 K (from memory)
     assert cct_duv(planckian_uv(2000.0), method="robertson1968").cct_K == pytest.approx(2000.0, abs=2.0)
     uv = planckian_uv(1200.0)
     res = runner.invoke(app, ["cct", "--uv", f"{uv[0]:.6f}", f"{uv[1]:.6f}", "--method", "robertson1968", "--json"])
