@@ -48,14 +48,16 @@ def batch_cmd(
     recursive: bool = RECURSIVE_OPTION,
     skip_bad: bool = typer.Option(
         False, "--skip-bad",
-        help="For a folder: skip files that cannot be read and go on; each one becomes a row (file, line, cause) "
-        f"of OUTPUT-STEM.errors.csv beside the output, and the exit status is {EXIT_SKIPPED} when any was skipped.",
+        help="Skip what cannot be read and go on: a folder's unreadable files, a wide CSV's or Parquet file's bad "
+        "rows (text, empty, NaN or infinite cells, wrong cell count, no positive value in 380-780 nm), a long "
+        "file's bad value columns.  Each becomes a row (file, line, skipped, cause) of OUTPUT-STEM.errors.csv "
+        f"beside the output, and the exit status is {EXIT_SKIPPED} when anything was skipped.",
     ),
 ) -> None:
     """Every measure for many spectra, written chunk by chunk to one CSV or Parquet file.
 
-    Exit status: 0 all read; 2 bad input (without --skip-bad the first bad file stops the run and
-    no output is left); 4 finished with --skip-bad but some files were skipped (see the errors file).
+    Exit status: 0 all read; 2 bad input (without --skip-bad the first bad file, row or cell stops the
+    run and no output is left); 4 finished with --skip-bad but something was skipped (see the errors file).
     """
     from ..analysis import provenance
     from ..batch import Progress, run_batch
@@ -77,8 +79,6 @@ def batch_cmd(
     check_output_path(output, overwrite=overwrite, inputs=[input_path])  # fail before reading anything
     errors_path = errors_file_for(output)
     if skip_bad:
-        if not input_path.is_dir():
-            raise InputError("--skip-bad applies to a folder of spectrum files", source=str(input_path))
         check_output_path(errors_path, overwrite=overwrite, inputs=[input_path])
     skipped: list[InputError] | None = [] if skip_bad else None
     source = open_chunked(input_path, chunk_size=chunk_size, quantity=quantity, recursive=recursive, interpolation=interp,
@@ -111,8 +111,7 @@ def batch_cmd(
             f"{summary.elapsed_s:.1f} s ({summary.spectra_per_s:,.0f} spectra/s, {summary.executor})"
         )
         if skipped:
-            info(f"skipped {len(skipped)} file{'s' if len(skipped) != 1 else ''} that could not be read; "
-                 f"see {errors_path}")
+            info(f"skipped {skipped_text(skipped)} that could not be read; see {errors_path}")
     if skipped:
         raise typer.Exit(EXIT_SKIPPED)
 
@@ -123,10 +122,19 @@ def errors_file_for(output: Path) -> Path:
 
 
 def errors_csv(errors: list[InputError]) -> str:
-    """One row per skipped input: file, line (empty when none applies), cause."""
+    """One row per skipped part of the input: file, line (empty when none applies), what was
+    skipped (file, row or column), cause."""
     from ..formats import csv_text
 
-    return csv_text(["file", "line", "cause"], ([e.source or "", e.line, e.reason] for e in errors))
+    return csv_text(["file", "line", "skipped", "cause"], ([e.source or "", e.line, e.part, e.reason] for e in errors))
+
+
+def skipped_text(errors: list[InputError]) -> str:
+    """``"3 files, 25 rows"``: what was skipped, counted by kind."""
+    counts: dict[str, int] = {}
+    for e in errors:
+        counts[e.part] = counts.get(e.part, 0) + 1
+    return ", ".join(f"{n} {part}{'s' if n != 1 else ''}" for part, n in counts.items())
 
 
 def register(app: typer.Typer) -> None:
