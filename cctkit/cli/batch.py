@@ -10,6 +10,7 @@ import typer
 
 from ..errors import InputError
 from .options import (
+    CSV_DIALECT_OPTION,
     INTERPOLATION_OPTION,
     parse_interpolation,
     OBSERVER_HELP,
@@ -32,7 +33,8 @@ def batch_cmd(
         help="Wide CSV (one spectrum per row, header = wavelengths in nm), a spectrum file, "
         "a folder of spectrum files, or a Parquet file.",
     ),
-    output: Path = typer.Option(..., "--output", "-o", help="Results file: .csv or .parquet (one row per spectrum)."),
+    output: Path = typer.Option(..., "--output", "-o", help="Results file: .csv, .parquet or .xlsx (one row per "
+                                "spectrum; .xlsx holds at most 1,048,575 rows)."),
     chunk_size: int = typer.Option(4096, "--chunk-size", help="Spectra per chunk; memory grows with it [spectra]."),
     workers: Optional[int] = typer.Option(None, "--workers", help="Local worker processes (default: one per available CPU, at most one per chunk)."),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", help="Run the chunks on a Dask scheduler, e.g. tcp://host:8786."),
@@ -46,6 +48,7 @@ def batch_cmd(
     resume: bool = typer.Option(False, "--resume", help="CSV output: keep the finished chunks if the run is stopped "
                                 "or killed, and continue an earlier such run from its last complete chunk."),
     recursive: bool = RECURSIVE_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
     skip_bad: bool = typer.Option(
         False, "--skip-bad",
         help="Skip what cannot be read and go on: a folder's unreadable files, a wide CSV's or Parquet file's bad "
@@ -54,7 +57,7 @@ def batch_cmd(
         f"beside the output, and the exit status is {EXIT_SKIPPED} when anything was skipped.",
     ),
 ) -> None:
-    """Every measure for many spectra, written chunk by chunk to one CSV or Parquet file.
+    """Every measure for many spectra, written chunk by chunk to one CSV, Parquet or Excel file.
 
     Exit status: 0 all read; 2 bad input (without --skip-bad the first bad file, row or cell stops the
     run and no output is left); 4 finished with --skip-bad but something was skipped (see the errors file).
@@ -65,7 +68,14 @@ def batch_cmd(
     from ..safe_io import check_output_path
     from ..spectra import Quantity
 
-    require_suffix(output, (".csv", ".parquet"))
+    from ..spreadsheet import check_dialect
+
+    suffix = require_suffix(output, (".csv", ".parquet", ".xlsx"))
+    csv_dialect = check_dialect(csv_dialect)
+    if csv_dialect != "comma" and suffix != ".csv":
+        raise InputError(f"--csv-dialect applies to .csv output, not {suffix}")
+    if resume and suffix != ".csv":
+        raise InputError("--resume works with .csv output")
     obs = parse_observer(observer)
     interp = parse_interpolation(interpolation)
     if chunk_size < 1:
@@ -100,11 +110,12 @@ def batch_cmd(
         progress=bar,
         metadata={**provenance(interpolation=interp), "input": str(input_path), "rendering": rendering},
         resume=resume,
+        csv_dialect=csv_dialect,
     )
     for note in summary.notes:
         info(f"note: {note}")
     if skipped is not None:
-        write_output(errors_path, errors_csv(skipped), overwrite=overwrite, inputs=[input_path])
+        write_output(errors_path, errors_csv(skipped), overwrite=overwrite, inputs=[input_path], dialect=csv_dialect)
     if not quiet:
         info(
             f"wrote {summary.output}: {summary.spectra} spectra in {summary.chunks} chunks, "
