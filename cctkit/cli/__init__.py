@@ -157,6 +157,7 @@ class _OneLineErrors(TyperGroup):
         from .options import set_verbosity, verbosity
 
         set_verbosity(0)
+        args = _verbosity_first(sys.argv[1:] if args is None else list(args))
         started = time.perf_counter()
         safe_io = sys.modules.get(f"{__package__.rpartition('.')[0]}.safe_io")
         if safe_io is not None:  # only a module already loaded can hold inputs of an earlier command
@@ -201,6 +202,28 @@ class _OneLineErrors(TyperGroup):
         if standalone_mode:
             sys.exit(code)
         return code
+
+
+#: Options of the whole program that a user may also type after the command (``cctkit inspect f --quiet``).
+_ANYWHERE = ("--quiet", "--verbose")
+
+
+def _verbosity_first(args: list[str]) -> list[str]:
+    """``args`` with ``--quiet``/``--verbose`` given after the command moved before it, where the
+    program's own options are read (nothing after a ``--`` is touched)."""
+    front: list[str] = []
+    rest: list[str] = []
+    command_seen = False
+    for k, a in enumerate(args):
+        if a == "--":
+            rest.extend(args[k:])
+            break
+        if command_seen and a in _ANYWHERE:
+            front.append(a)
+            continue
+        command_seen = command_seen or not a.startswith("-")
+        rest.append(a)
+    return front + rest
 
 
 @contextlib.contextmanager
@@ -303,9 +326,9 @@ def _version(value: bool) -> None:
 def _root(
     version: bool = typer.Option(False, "--version", callback=_version, is_eager=True, help="Print the version and exit."),
     quiet: bool = typer.Option(False, "--quiet", help="Only results and errors: no progress, notes or 'wrote' lines "
-                               "(give it before the command)."),
+                               "(before or after the command)."),
     verbose: bool = typer.Option(False, "--verbose", help="Also the run time on stderr, and a traceback on an "
-                                 "internal error (give it before the command)."),
+                                 "internal error (before or after the command)."),
 ) -> None:
     """Colour temperature, chromaticity, colour rendering and photometry from measured spectra."""
     from .options import set_verbosity
