@@ -348,7 +348,7 @@ def _texts(fig):
                                 (a.get_minor_formatter(), a.set_minor_formatter)):
                 if isinstance(fmt, (FixedFormatter, FuncFormatter)) and not getattr(fmt, "_cctkit_printable", False):
                     wrapped = FuncFormatter(lambda x, pos=None, f=fmt: pdf_text(str(f(x, pos))))
-                    wrapped._cctkit_printable = True  # type: ignore[attr-defined]
+                    wrapped._cctkit_printable = True
                     setter(wrapped)
             continue
         stack.extend(a.get_children())
