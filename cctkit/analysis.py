@@ -22,7 +22,8 @@ from .errors import Flag
 from .formats import finite_or_none
 from .spectra import Quantity, Spectra, signal_problems, to_working_grid
 
-__all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "metadata_text", "records_csv", "provenance", "CONVENTIONS"]
+__all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "metadata_text", "records_csv", "provenance",
+           "interpolation_summary", "CONVENTIONS"]
 
 #: The conventions every number is computed under (written into every output).
 CONVENTIONS = {
@@ -332,7 +333,7 @@ def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: b
     flags = _add_flags(flags, _flagged(parts["photometry"].flags, parts["alphaopic"].flags),
                        lambda i: parts["photometry"].flags[i] + parts["alphaopic"].flags[i])
     if rendering:
-        cri, fid, rendering_flags = _rendering(V, cct, observer=int(observer))
+        cri, fid, rendering_flags = _rendering(V, cct, observer=int(observer), measured_range_nm=g.measured_range_nm)
         parts.update(cri=cri, tm30=fid)
         flags = tuple(f + e if e else f for f, e in zip(flags, rendering_flags))
     return Analysis(
@@ -396,15 +397,17 @@ def _tm30_columns(r) -> dict[str, list]:
     }
 
 
-def _rendering(V: np.ndarray, cct: CctResult, *, observer: int):
+def _rendering(V: np.ndarray, cct: CctResult, *, observer: int, measured_range_nm=None):
     """CIE 13.3 and CIE 224 / TM-30 results and their flags.
 
     Both standards use the CIE 1931 2 deg CCT, so with ``observer=10`` it is computed anew.
+    Spectra not covering 380-780 nm get Rf/Rg by CIE 224's own rule (see
+    :func:`cctkit.rendering.tm30.short_range_rule`) and a ``cie224-short-range`` flag.
     """
     from .rendering import DC_LIMIT, REFERENCE_RANGE_K, colour_rendition, rendering_cct
 
     T, duv = (cct.cct_K, cct.duv) if observer == 2 else rendering_cct(V)
-    r = colour_rendition(V, cct_K=T, duv=duv)
+    r = colour_rendition(V, cct_K=T, duv=duv, measured_range_nm=measured_range_nm)
     # flags built for the flagged spectra only, from plain Python values
     flags: list[tuple[Flag, ...]] = [()] * V.shape[0]
     has_ref = np.isfinite(r.cct_K)
@@ -423,6 +426,20 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int):
     none = Flag("no-rendering", "no CCT, so no reference illuminant: colour rendering not computed")
     for i in np.flatnonzero(~has_ref & ~above).tolist():
         flags[i] = (none,)
+    if measured_range_nm is not None:
+        from .rendering.tm30 import RANGE_NM
+
+        lo_hi = np.array([r_[:2] for r_ in measured_range_nm], dtype=np.float64).reshape(-1, 2)
+        short = has_ref & ((lo_hi[:, 0] > RANGE_NM[0]) | (lo_hi[:, 1] < RANGE_NM[1]))
+        for i in np.flatnonzero(short).tolist():
+            lo, hi = lo_hi[i]
+            t = float(r.tm30.cct_K[i])
+            at = f"the CCT of that spectrum, {t:.0f} K" if np.isfinite(t) else "no CCT: Rf and Rg withheld"
+            flags[i] = flags[i] + (Flag(
+                "cie224-short-range",
+                f"measured {lo:g}-{hi:g} nm does not cover 380-780 nm: Rf, Rg and the hue bins take the spectrum "
+                f"as zero where it was not measured (CIE 224:2017 / TM-30-20 rule), reference at {at}; "
+                "Ra uses the nearest measured value"),)
     return r.cri, r.tm30, tuple(flags)
 
 
@@ -639,13 +656,29 @@ def records_csv(records: list[dict[str, Any]]) -> str:
     return csv_text(header, ([r.get(k, "") for k in header] for r in flat))
 
 
-def provenance(*, interpolation: str = "auto") -> dict[str, Any]:
-    """What every output carries so a number can be traced."""
+def interpolation_summary(methods) -> str:
+    """The resampling methods actually used, with counts: ``"sprague (3 spectra); as measured (1 nm) (1 spectrum)"``."""
+    counts: dict[str, int] = {}
+    for m in methods:
+        if m:
+            counts[str(m)] = counts.get(str(m), 0) + 1
+    return "; ".join(f"{m} ({k} spectr{'um' if k == 1 else 'a'})" for m, k in counts.items())
+
+
+def provenance(*, interpolation: str = "auto", used=None) -> dict[str, Any]:
+    """What every output carries so a number can be traced.
+
+    ``interpolation`` is the method asked for (``--interpolation``); ``used``, when given, the
+    method each spectrum was actually resampled by (records' ``interpolation``), summarised in
+    ``conventions.interpolation_used``.
+    """
     from importlib import metadata
 
     try:
         colour_v = metadata.version("colour-science")
     except metadata.PackageNotFoundError:  # pragma: no cover
         colour_v = None
-    return {"cctkit_version": __version__, "colour_science_version": colour_v,
-            "conventions": {**CONVENTIONS, "interpolation_method": interpolation}}
+    conventions = {**CONVENTIONS, "interpolation_method": interpolation}
+    if used is not None:
+        conventions["interpolation_used"] = interpolation_summary(used)
+    return {"cctkit_version": __version__, "colour_science_version": colour_v, "conventions": conventions}

@@ -164,12 +164,14 @@ def inspect_cmd(
     records = analyse_groups(items, observer=obs, interpolation=interp)
     if scans is not None:
         records[0]["repeats"] = scans.summary()
-    doc = {**provenance(interpolation=interp), "spectra": records}
+    prov = provenance(interpolation=interp, used=[r.get("interpolation") for r in records])
+    doc = {**prov, "spectra": records}
     if output is not None:
         if output.suffix.lower() == ".json":
             write_output(output, dumps(doc), overwrite=overwrite, inputs=files)
         else:
-            write_output(output, records_csv(records), overwrite=overwrite, inputs=files, dialect=csv_dialect)
+            write_output(output, records_csv(records), overwrite=overwrite, inputs=files, dialect=csv_dialect,
+                         provenance_doc=prov)
     if json_out:
         emit_json(doc)
     else:

@@ -89,15 +89,18 @@ def info(message: str) -> None:
 
 
 def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iterable = (),
-                 dialect: str = "comma", announce: bool = True) -> None:
-    """Write ``text`` atomically; CSV text becomes a workbook for ``.xlsx`` or ``dialect`` CSV for ``.csv``."""
+                 dialect: str = "comma", announce: bool = True, provenance_doc: dict | None = None) -> None:
+    """Write ``text`` atomically; CSV text becomes a workbook for ``.xlsx`` or ``dialect`` CSV for ``.csv``.
+
+    ``provenance_doc`` (the command's :func:`cctkit.analysis.provenance`, with the interpolation
+    actually used) fills the workbook's provenance sheet; default: the library defaults."""
     inputs = list(inputs)
     suffix = Path(path).suffix.lower()
     if suffix == ".xlsx" and isinstance(text, str):
         from ..analysis import provenance
         from ..spreadsheet import csv_to_xlsx
 
-        text = csv_to_xlsx(text, provenance=provenance(), inputs=inputs)
+        text = csv_to_xlsx(text, provenance=provenance_doc or provenance(), inputs=inputs)
     elif suffix == ".csv" and isinstance(text, str):
         from ..spreadsheet import csv_in_dialect
 
