@@ -124,17 +124,20 @@ def _part_columns(part, n: int) -> dict[str, np.ndarray]:
     The check keeps the columns equal to the records when a measure's record changes
     before its ``columns`` method follows.
     """
-    cols = {k: _finite(v) for k, v in part.columns().items()} if hasattr(part, "columns") else None
+    cols = ({k: v if np.asarray(v).dtype == object else _finite(v) for k, v in part.columns().items()}
+            if hasattr(part, "columns") else None)
     if n and cols is not None:
         first = flatten_record(part.record(0))
         same = list(first) == list(cols) and all(
-            (v is None and np.isnan(cols[k][0])) or (isinstance(v, float) and v == cols[k][0]) for k, v in first.items()
+            (v is None and np.isnan(cols[k][0])) or (isinstance(v, (float, str)) and v == cols[k][0])
+            for k, v in first.items()
         )
         if same:
             return cols
     recs = [flatten_record(part.record(i)) for i in range(n)]
     keys = list(dict.fromkeys(k for r in recs for k in r)) if recs else list(cols or {})
-    return {k: np.array([r.get(k) for r in recs], dtype=np.float64) for k in keys}
+    return {k: (_text_column([r.get(k) for r in recs]) if any(isinstance(r.get(k), str) for r in recs)
+                else np.array([r.get(k) for r in recs], dtype=np.float64)) for k in keys}
 
 
 def _columns(a: Analysis) -> dict[str, np.ndarray]:
@@ -330,8 +333,8 @@ def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: b
     flags = _add_flags(g.flags, _cct_flag_rows(cct, problems),
                        lambda i: (problems[i],) if problems[i] is not None else _cct_flags(cct, i, uv))
     parts = _extra_measures(g, V, xy, observer=int(observer))
-    flags = _add_flags(flags, _flagged(parts["photometry"].flags, parts["alphaopic"].flags),
-                       lambda i: parts["photometry"].flags[i] + parts["alphaopic"].flags[i])
+    flags = _add_flags(flags, _flagged(parts["photometry"].flags, parts["alphaopic"].flags, parts["shape"].flags),
+                       lambda i: parts["photometry"].flags[i] + parts["alphaopic"].flags[i] + parts["shape"].flags[i])
     if rendering:
         cri, fid, rendering_flags = _rendering(V, cct, observer=int(observer), measured_range_nm=g.measured_range_nm)
         parts.update(cri=cri, tm30=fid)
@@ -352,7 +355,7 @@ def _extra_measures(g: Spectra, V: np.ndarray, xy, *, observer: int) -> dict[str
         "photometry": photometry(V, g.quantity, measured_range_nm=g.measured_range_nm,
                                  measured_totals=g.measured_totals),
         "alphaopic": alpha_opic(V, g.quantity, measured_range_nm=g.measured_range_nm),
-        "shape": spectral_shape(V),
+        "shape": spectral_shape(V, measured_range_nm=g.measured_range_nm),
         "dominant": dominant_wavelength(xy, observer=observer),
     }
 
