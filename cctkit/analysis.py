@@ -31,7 +31,8 @@ CONVENTIONS = {
     "summation": "plain sum at 1 nm, no end-point halving (CIE 15:2018)",
     "interpolation": "as measured on the 1 nm grid; auto: Sprague (CIE 167:2005) for uniform steps, PCHIP "
                      "otherwise; sprague / linear / pchip on request; the method of each spectrum in its record",
-    "extrapolation": "nearest measured value repeated (CIE 15:2018 section 7.2.2), for colour measures only",
+    "extrapolation": "nearest measured value repeated (CIE 15:2018 section 7.2.2), for colour measures only "
+                     "(CIE 224 / TM-30: zero, their own rule)",
     "totals": "radiant and photon totals over the measured range as measured; PPF over 400-700 nm measured; "
               "luminous, scotopic and alpha-opic totals over the measured part of 360-830 nm; LER = luminous / radiant",
     "coverage_rule": "a total is withheld when its weighting function has more than 1 % of its integral "
@@ -39,6 +40,12 @@ CONVENTIONS = {
     "c2_m_K": C2_M_K,
     "Km_lm_per_W": KM_LM_PER_W,
     "cct_method": "exact: nearest Planckian point in CIE 1960 uv (CIE 15:2018 section 9.5)",
+    "dominant_wavelength": "CIE 15:2018 section 9.1, from the white point each record names (dominant_white; "
+                           "default E, equal energy, the achromatic stimulus used for light sources)",
+    "shape": "peak withheld at an end of the measured range and for flat spectra; FWHM only where the "
+             "spectrum is below half its maximum at both ends of the measured range",
+    "cie224_short_range": "Rf, Rg and hue bins of spectra not covering 380-780 nm: zero where not measured "
+                          "(CIE 224:2017 / TM-30-20 rule); CIE 13.3 keeps the nearest measured value",
     "duv_sign": "positive above the Planckian locus (towards larger v)",
     "duv_limit": DUV_LIMIT,
 }
@@ -292,7 +299,8 @@ def one_blas_thread():
     return _BLAS.limit(limits=1, user_api="blas")
 
 
-def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, interpolation: str = "auto") -> Analysis:
+def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, interpolation: str = "auto",
+            dominant_white: Any = "E") -> Analysis:
     """Every measure for every spectrum in ``spectra``, vectorised.
 
     Parameters
@@ -306,9 +314,16 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, inte
         standard prescribes.
     rendering
         Compute CIE 13.3 and CIE 224 / TM-30 colour rendering (the costly part).
+    dominant_white
+        White point of the dominant wavelength and excitation purity: ``"E"`` (default, the
+        equal-energy white used for light sources), ``"D65"``, ``"D50"``, ``"A"`` or (x, y)
+        (:func:`cctkit.dominant.resolve_white`); every record names it (``dominant_white``).
     """
     if int(observer) not in (2, 10):
         raise ValueError(f"observer must be 2 or 10, got {observer!r}")
+    from .dominant import resolve_white
+
+    white = resolve_white(dominant_white, observer=int(observer))  # a bad white fails before any work
     g = to_working_grid(spectra, interpolation=interpolation)
     # Spectra nothing can be computed from (no visible data, no signal) get every measure withheld
     # and a flag; the command line refuses them before this point (analysis.read_files).
@@ -316,10 +331,11 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, inte
     empty = np.array([p is not None for p in problems])
     V = np.where(empty[:, None], np.nan, g.values) if empty.any() else g.values
     with np.errstate(invalid="ignore", divide="ignore"), one_blas_thread():
-        return _analyse(g, V, problems, observer=int(observer), rendering=rendering)
+        return _analyse(g, V, problems, observer=int(observer), rendering=rendering, white=white)
 
 
-def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: bool) -> Analysis:
+def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: bool,
+             white: tuple = ("E", (1.0 / 3.0, 1.0 / 3.0))) -> Analysis:
     raw = XYZ(V, observer=observer)
     if g.quantity is Quantity.RELATIVE:
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -332,7 +348,7 @@ def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: b
     cct = cct_duv(uv, observer=observer)
     flags = _add_flags(g.flags, _cct_flag_rows(cct, problems),
                        lambda i: (problems[i],) if problems[i] is not None else _cct_flags(cct, i, uv))
-    parts = _extra_measures(g, V, xy, observer=int(observer))
+    parts = _extra_measures(g, V, xy, observer=int(observer), white=white)
     flags = _add_flags(flags, _flagged(parts["photometry"].flags, parts["alphaopic"].flags, parts["shape"].flags),
                        lambda i: parts["photometry"].flags[i] + parts["alphaopic"].flags[i] + parts["shape"].flags[i])
     if rendering:
@@ -344,7 +360,8 @@ def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: b
     )
 
 
-def _extra_measures(g: Spectra, V: np.ndarray, xy, *, observer: int) -> dict[str, Any]:
+def _extra_measures(g: Spectra, V: np.ndarray, xy, *, observer: int,
+                    white: tuple = ("E", (1.0 / 3.0, 1.0 / 3.0))) -> dict[str, Any]:
     """Photometry, alpha-opic quantities, spectral shape, dominant wavelength."""
     from .alphaopic import alpha_opic
     from .dominant import dominant_wavelength
@@ -356,7 +373,7 @@ def _extra_measures(g: Spectra, V: np.ndarray, xy, *, observer: int) -> dict[str
                                  measured_totals=g.measured_totals),
         "alphaopic": alpha_opic(V, g.quantity, measured_range_nm=g.measured_range_nm),
         "shape": spectral_shape(V, measured_range_nm=g.measured_range_nm),
-        "dominant": dominant_wavelength(xy, observer=observer),
+        "dominant": dominant_wavelength(xy, white_xy=white[0], observer=observer),
     }
 
 
@@ -476,11 +493,11 @@ def read_files(files, *, quantity=None, layout=None) -> list[Spectra]:
 
 
 def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True, layout=None,
-                  interpolation: str = "auto") -> Analysis:
+                  interpolation: str = "auto", dominant_white: Any = "E") -> Analysis:
     """:func:`analyse` of the spectra of ``files`` as one batch; they may differ in quantity
     (see :func:`analyse_mixed`)."""
     return analyse_mixed(read_files(files, quantity=quantity, layout=layout), observer=observer, rendering=rendering,
-                         interpolation=interpolation)
+                         interpolation=interpolation, dominant_white=dominant_white)
 
 
 @dataclass(frozen=True)
@@ -506,7 +523,7 @@ class MixedAnalysis(Analysis):
 
 
 def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = True,
-                  interpolation: str = "auto") -> Analysis:
+                  interpolation: str = "auto", dominant_white: Any = "E") -> Analysis:
     """One analysis of several Spectra that may differ in quantity, in input order.
 
     Spectra of one quantity are joined and analysed as one batch (vectorised).
@@ -525,7 +542,8 @@ def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = 
     for i, s in enumerate(items):
         groups.setdefault(s.quantity, []).append(i)
     if len(groups) == 1:
-        return analyse(concatenate(items, interpolation=interpolation), observer=observer, rendering=rendering)
+        return analyse(concatenate(items, interpolation=interpolation), observer=observer, rendering=rendering,
+                       dominant_white=dominant_white)
     parts = []
     where: dict[int, tuple[int, int]] = {}  # item -> (part, first spectrum in it)
     for k, idx in enumerate(groups.values()):
@@ -534,7 +552,7 @@ def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = 
             where[i] = (k, pos)
             pos += len(items[i])
         parts.append(analyse(concatenate([items[i] for i in idx], interpolation=interpolation), observer=observer,
-                             rendering=rendering))
+                             rendering=rendering, dominant_white=dominant_white))
     offsets = np.cumsum([0] + [len(a) for a in parts])
     perm = np.array([offsets[where[i][0]] + where[i][1] + j for i in range(len(items)) for j in range(len(items[i]))])
     all_records = [r for a in parts for r in a.records()]
@@ -597,7 +615,7 @@ def _join_results(parts: list, perm: np.ndarray):
 
 
 def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True,
-                   interpolation: str = "auto") -> list[dict[str, Any]]:
+                   interpolation: str = "auto", dominant_white: Any = "E") -> list[dict[str, Any]]:
     """Records for several Spectra that may differ in quantity, in input order.
 
     Spectra of one quantity are joined and analysed as one batch (vectorised); the
@@ -611,7 +629,7 @@ def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool =
     per_item: dict[int, list[dict[str, Any]]] = {}
     for idx in order.values():
         recs = analyse(concatenate([items[i] for i in idx], interpolation=interpolation), observer=observer,
-                       rendering=rendering).records()
+                       rendering=rendering, dominant_white=dominant_white).records()
         pos = 0
         for i in idx:
             n = len(items[i])

@@ -14,7 +14,9 @@ import typer
 
 from ..spreadsheet import check_dialect
 from .options import (
+    DOMINANT_WHITE_OPTION,
     INTERPOLATION_OPTION,
+    parse_dominant_white,
     parse_interpolation,
     RECURSIVE_OPTION,
     SKIP_ROWS_OPTION,
@@ -65,6 +67,7 @@ def verify_cmd(
                               "terminal); the default table fits 100 columns."),
     csv_dialect: str = CSV_DIALECT_OPTION,
     interpolation: str = INTERPOLATION_OPTION,
+    dominant_white: str = DOMINANT_WHITE_OPTION,
     uncertainty_model: Optional[Path] = typer.Option(
         None, "--uncertainty-model", help="Guard bands from each sample's computed U (Monte Carlo with this "
         "instrument model, TOML); a claims file's [uncertainty] entry still overrides its metric."),
@@ -91,7 +94,8 @@ def verify_cmd(
     from ..analysis import analyse_files
 
     analysis = analyse_files(files, quantity=quantity, rendering=report is not None or _needs_rendering(claims),
-                             layout=layout, interpolation=parse_interpolation(interpolation))
+                             layout=layout, interpolation=parse_interpolation(interpolation),
+                             dominant_white=parse_dominant_white(dominant_white))
     records = analysis.records()
     computed, model = None, None
     if uncertainty_model is not None:

@@ -19,6 +19,7 @@ values in ``tests/test_rendering.py`` and ``tests/test_reference.py``.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -196,7 +197,7 @@ def _put_rows(result, rows: np.ndarray, sub):
     """A copy of the per-spectrum dataclass ``result`` with ``rows`` replaced by the rows of ``sub``."""
     from dataclasses import fields
 
-    out = {}
+    out: dict[str, Any] = {}
     for f in fields(result):
         a, b = getattr(result, f.name), getattr(sub, f.name)
         if isinstance(a, tuple):
