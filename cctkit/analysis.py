@@ -693,12 +693,9 @@ def provenance(*, interpolation: str = "auto", used=None) -> dict[str, Any]:
     method each spectrum was actually resampled by (records' ``interpolation``), summarised in
     ``conventions.interpolation_used``.
     """
-    from importlib import metadata
+    from .tables import colour_version
 
-    try:
-        colour_v = metadata.version("colour-science")
-    except metadata.PackageNotFoundError:  # pragma: no cover
-        colour_v = None
+    colour_v = colour_version()
     conventions = {**CONVENTIONS, "interpolation_method": interpolation}
     if used is not None:
         conventions["interpolation_used"] = interpolation_summary(used)

@@ -57,7 +57,7 @@ __all__ = [
     "OUTPUT_SUFFIXES",
 ]
 
-OUTPUT_SUFFIXES = (".csv", ".parquet")
+OUTPUT_SUFFIXES = (".csv", ".parquet", ".xlsx")
 #: How long to try reaching a Dask scheduler before giving up [s].
 SCHEDULER_TIMEOUT_S = 10.0
 _STRING_COLUMNS = frozenset(
@@ -170,7 +170,7 @@ class _ChunkResult:
 
 
 def _work(spectra: Spectra, observer: int, rendering: bool, output: str = ".csv",
-          interpolation: str = "auto", dominant_white: str = "E") -> _ChunkResult:
+          interpolation: str = "auto", csv_dialect: str = "comma", dominant_white: str = "E") -> _ChunkResult:
     """What a worker runs: one chunk in, its formatted output out (module level so it pickles).
 
     Formatting here rather than in the writing process spreads the cost of turning some
@@ -180,7 +180,12 @@ def _work(spectra: Spectra, observer: int, rendering: bool, output: str = ".csv"
     table = spectra_results(spectra, observer=observer, rendering=rendering, interpolation=interpolation,
                             dominant_white=dominant_white)  # one BLAS thread: see analyse()
     if output == ".csv":
-        return _ChunkResult(list(table), csv_text=table_csv(table, list(table)))
+        text = table_csv(table, list(table))
+        if csv_dialect != "comma":  # the rule every command's --csv-dialect follows, run in the workers
+            from .spreadsheet import csv_in_dialect
+
+            text = csv_in_dialect(text, csv_dialect)
+        return _ChunkResult(list(table), csv_text=text)
     return _ChunkResult(list(table), arrow=_arrow_table(table))
 
 
@@ -191,10 +196,11 @@ class _CsvWriter:
     """CSV rows appended chunk by chunk, in the cell format of :func:`cctkit.formats.csv_text`
     (the one ``inspect`` writes: floats at repr precision, empty for missing)."""
 
-    def __init__(self, path: Path, columns: list[str] | None = None):
+    def __init__(self, path: Path, columns: list[str] | None = None, csv_dialect: str = "comma"):
         # with ``columns`` the file already holds the header and some rows (a resumed run): append
         self._fh: TextIO = open(path, "a" if columns else "w", encoding="utf-8", newline="")
         self.columns: list[str] | None = list(columns) if columns else None
+        self._dialect = csv_dialect
 
     def durable_size(self) -> int:
         """Flush the rows written so far to the disk; the file's size in bytes."""
@@ -205,7 +211,12 @@ class _CsvWriter:
     def write(self, result: _ChunkResult) -> None:
         if self.columns is None:
             self.columns = list(result.columns)
-            self._fh.write(csv_text(self.columns, ()))  # the header, once
+            header = csv_text(self.columns, ())  # the header, once
+            if self._dialect != "comma":
+                from .spreadsheet import csv_in_dialect
+
+                header = csv_in_dialect(header, self._dialect)
+            self._fh.write(header)
         _checked_columns(self.columns, result.columns)
         if result.columns != self.columns:
             raise RuntimeError("a chunk produced its columns in another order than the first chunk")
@@ -639,6 +650,7 @@ def run_batch(
     progress: Progress | None = None,
     metadata: dict[str, Any] | None = None,
     resume: bool = False,
+    csv_dialect: str = "comma",
 ) -> BatchSummary:
     """Analyse every spectrum of ``source`` and write one row per spectrum to ``output``.
 
@@ -647,8 +659,10 @@ def run_batch(
     source
         A :class:`~cctkit.readers.wide.ChunkedInput` (see :func:`cctkit.readers.wide.open_chunked`).
     output
-        ``.csv`` or ``.parquet`` file; written atomically, never over an input, never over an
-        existing file unless ``overwrite``.
+        ``.csv``, ``.parquet`` or ``.xlsx`` file; written atomically, never over an input, never
+        over an existing file unless ``overwrite``.  An ``.xlsx`` workbook (sheets ``results``
+        and ``provenance``, see :mod:`cctkit.spreadsheet`) is streamed from a CSV written to a
+        temporary folder first; it holds at most :data:`~cctkit.spreadsheet.XLSX_MAX_ROWS` - 1 rows.
     workers
         Local worker processes (default :func:`default_workers`); 1 runs in this process.
     scheduler
@@ -660,6 +674,8 @@ def run_batch(
         Told of every finished chunk.
     metadata
         Provenance written into the Parquet schema metadata (key ``cctkit``, JSON).
+    csv_dialect
+        ``.csv`` output: ``"comma"`` or ``"semicolon"`` (see :data:`cctkit.spreadsheet.CSV_DIALECTS`).
     resume
         CSV output only.  Write the rows to ``OUTPUT.partial`` with a journal
         (``OUTPUT.partial.json``) of the chunks completed; a run stopped or killed
@@ -688,15 +704,26 @@ def run_batch(
     check_output_path(out, overwrite=overwrite, inputs=inputs)
     if resume and suffix != ".csv":
         raise InputError("--resume works with .csv output", source="--output")
+    from .spreadsheet import check_dialect
+
+    csv_dialect = check_dialect(csv_dialect)
+    if csv_dialect != "comma" and suffix != ".csv":
+        raise InputError(f"--csv-dialect applies to .csv output, not {suffix}", source="--csv-dialect")
+    if suffix == ".xlsx":
+        return _batch_xlsx(source, out, workers=workers, scheduler=scheduler, observer=observer,
+                           rendering=rendering, interpolation=interpolation, dominant_white=dominant_white,
+                           overwrite=overwrite, progress=progress, metadata=metadata, inputs=inputs)
     progress = progress or Progress(source.total, enabled=False)
     notes = _clear_leftovers(out, resume)
     identity = _identity(source, out, observer=observer, rendering=rendering, dominant_white=dominant_white)
+    if csv_dialect != "comma":
+        identity["csv_dialect"] = csv_dialect
     state = _journal_state(out, identity) if resume else None
     chunks = source.chunks()
     if state is not None:
         chunks = itertools.islice(chunks, state["chunks"], None)  # read again, not analysed again
         notes.append(f"resumed after {state['chunks']} complete chunks ({state['spectra']} spectra)")
-    opts = (observer, rendering, suffix, interpolation, dominant_white)
+    opts = (observer, rendering, suffix, interpolation, csv_dialect, dominant_white)
     if scheduler:
         executor = f"dask {scheduler}"
         results = _dask(chunks, scheduler, opts)
@@ -711,13 +738,13 @@ def run_batch(
     t0 = time.perf_counter()
     if resume:
         count = _resumable(out, results, state, identity, progress, overwrite=overwrite, inputs=inputs,
-                           source=source)
+                           source=source, csv_dialect=csv_dialect)
         n_chunks = -(-count // source.chunk_size)
         progress.finish()
         return BatchSummary(str(out), count, n_chunks, time.perf_counter() - t0, executor, tuple(notes))
     with atomic_path(out, overwrite=overwrite, inputs=inputs) as tmp:
         if suffix == ".csv":
-            writer: Any = _CsvWriter(tmp)
+            writer: Any = _CsvWriter(tmp, csv_dialect=csv_dialect)
         else:
             writer = _ParquetWriter(tmp, {"cctkit": json.dumps(metadata or {}, default=str)})
         try:
@@ -734,6 +761,21 @@ def run_batch(
         _unchanged(source, identity)
     progress.finish()
     return BatchSummary(str(out), count, n_chunks, time.perf_counter() - t0, executor, tuple(notes))
+
+
+def _batch_xlsx(source, out: Path, *, overwrite: bool, inputs, metadata, **options) -> BatchSummary:
+    """``run_batch`` into a CSV in a temporary folder, then that CSV streamed into the workbook ``out``."""
+    import tempfile
+
+    from .safe_io import atomic_path
+    from .spreadsheet import csv_file_to_xlsx
+
+    with tempfile.TemporaryDirectory(prefix="cctkit-batch-") as folder:
+        rows = Path(folder) / f"{out.stem}.csv"
+        summary = run_batch(source, rows, **options)
+        with atomic_path(out, overwrite=overwrite, inputs=inputs) as tmp:
+            csv_file_to_xlsx(rows, tmp, provenance=metadata, inputs=[source.path])
+    return BatchSummary(str(out), summary.spectra, summary.chunks, summary.elapsed_s, summary.executor, summary.notes)
 
 
 # --------------------------------------------------------------------------- faults: leftovers, resume
@@ -813,7 +855,8 @@ def _journal_state(out: Path, identity: dict[str, Any]) -> dict[str, Any] | None
     return state
 
 
-def _resumable(out: Path, results, state, identity, progress: Progress, *, overwrite: bool, inputs, source) -> int:
+def _resumable(out: Path, results, state, identity, progress: Progress, *, overwrite: bool, inputs, source,
+               csv_dialect: str = "comma") -> int:
     """Write the rows to ``OUTPUT.partial``, journalling each complete chunk; put it in place at the end."""
     from .safe_io import place, write_journal
 
@@ -824,10 +867,10 @@ def _resumable(out: Path, results, state, identity, progress: Progress, *, overw
             fh.truncate(state["bytes"])
         count = state["spectra"]
         progress.update(count)
-        writer = _CsvWriter(partial, columns=state["columns"])
+        writer = _CsvWriter(partial, columns=state["columns"], csv_dialect=csv_dialect)
         chunks = state["chunks"]
     else:
-        writer = _CsvWriter(partial)
+        writer = _CsvWriter(partial, csv_dialect=csv_dialect)
         chunks = 0
     try:
         for n, result in results:

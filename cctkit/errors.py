@@ -28,6 +28,11 @@ class InputError(CctkitError):
         1-based line number in ``source`` where it applies.
     """
 
+    #: What a reader skipping bad input (``skipped=`` lists) left out because of this error:
+    #: ``"file"``, ``"row"`` (a spectrum of a wide CSV or Parquet file) or ``"column"``
+    #: (a spectrum of a long delimited file).
+    part: str = "file"
+
     def __init__(self, message: str, *, source: str | None = None, line: int | None = None):
         self.source = source
         self.line = line

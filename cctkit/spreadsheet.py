@@ -21,7 +21,11 @@ import io
 import re
 from typing import Any, Iterable
 
-__all__ = ["CSV_DIALECTS", "check_dialect", "csv_in_dialect", "csv_to_xlsx", "read_xlsx_table"]
+__all__ = ["CSV_DIALECTS", "XLSX_MAX_ROWS", "check_dialect", "csv_in_dialect", "csv_to_xlsx", "csv_file_to_xlsx",
+           "read_xlsx_table"]
+
+#: Rows a worksheet holds (the header included): the format's limit, 2**20.
+XLSX_MAX_ROWS = 1_048_576
 
 #: CSV dialects ``--csv-dialect`` accepts: (field separator, decimal mark).
 CSV_DIALECTS = {"comma": (",", "."), "semicolon": (";", ",")}
@@ -90,9 +94,6 @@ def csv_to_xlsx(text: str, *, provenance: dict[str, Any] | None = None, inputs: 
         from .errors import InputError
 
         raise InputError("writing .xlsx needs openpyxl; install it with: pip install 'cctkit[excel]'") from None
-    import datetime
-    from pathlib import Path
-
     comments, rows = _split(text)
     wb = Workbook()
     ws = wb.active
@@ -106,11 +107,20 @@ def csv_to_xlsx(text: str, *, provenance: dict[str, Any] | None = None, inputs: 
     if rows:
         ws.freeze_panes = "B2"
     meta = wb.create_sheet("provenance")
-    meta.append(["key", "value"])
-    for note in comments:
-        _append_text(meta, ["note", note])
-    for key, value in _flat(provenance or {}):
-        _append_text(meta, [key, value])
+    for row in _provenance_rows(comments, provenance, inputs):
+        _append_text(meta, row)
+    _fixed_dates(wb)
+    buf = io.BytesIO()
+    wb.save(buf)
+    return buf.getvalue()
+
+
+def _provenance_rows(comments: list[str], provenance: dict[str, Any] | None, inputs: Iterable) -> list[list[Any]]:
+    from pathlib import Path
+
+    rows: list[list[Any]] = [["key", "value"]]
+    rows += [["note", note] for note in comments]
+    rows += [[key, value] for key, value in _flat(provenance or {})]
     for item in inputs:
         p = Path(item)
         digest = ""
@@ -118,16 +128,67 @@ def csv_to_xlsx(text: str, *, provenance: dict[str, Any] | None = None, inputs: 
             from .spectra import sha256_of_file
 
             digest = sha256_of_file(p)
-        _append_text(meta, [f"input {p.name}", str(p)])
-        _append_text(meta, [f"input {p.name} sha256", digest])
-    # Fixed document dates: the same table gives the same workbook contents.
+        rows.append([f"input {p.name}", str(p)])
+        rows.append([f"input {p.name} sha256", digest])
+    return rows
+
+
+def _fixed_dates(wb) -> None:
+    """Fixed document dates: the same table gives the same workbook contents."""
+    import datetime
+
     fixed = datetime.datetime(2000, 1, 1)
     wb.properties.created = fixed
     wb.properties.modified = fixed
     wb.properties.creator = "cctkit"
-    buf = io.BytesIO()
-    wb.save(buf)
-    return buf.getvalue()
+
+
+def csv_file_to_xlsx(csv_path, xlsx_path, *, provenance: dict[str, Any] | None = None, inputs: Iterable = ()) -> int:
+    """Stream the CSV file ``csv_path`` (comma, decimal point) into the workbook ``xlsx_path``,
+    row by row in constant memory; sheets and cells as :func:`csv_to_xlsx` makes them.
+
+    Returns the number of data rows.  A table of more rows than a worksheet holds
+    (:data:`XLSX_MAX_ROWS` with the header) is refused with an
+    :class:`~cctkit.errors.InputError` before anything is written.
+    """
+    try:
+        from openpyxl import Workbook
+        from openpyxl.cell import WriteOnlyCell
+    except ImportError:
+        from .errors import InputError
+
+        raise InputError("writing .xlsx needs openpyxl; install it with: pip install 'cctkit[excel]'") from None
+    from .errors import InputError
+
+    with open(csv_path, encoding="utf-8", newline="") as fh:
+        lines = sum(1 for _ in csv.reader(fh))
+    if lines > XLSX_MAX_ROWS:
+        raise InputError(f"{lines - 1:,} rows do not fit in one worksheet (at most {XLSX_MAX_ROWS - 1:,}); "
+                         "write .csv or .parquet instead", source=str(xlsx_path))
+    wb = Workbook(write_only=True)
+    ws = wb.create_sheet("results")
+    ws.freeze_panes = "B2"
+
+    def text(value: str, sheet=ws):
+        cell = WriteOnlyCell(sheet, value=value)
+        cell.data_type = "s"  # text stays text, even when it starts with "="
+        return cell
+
+    count = 0
+    with open(csv_path, encoding="utf-8", newline="") as fh:
+        for r, row in enumerate(csv.reader(fh)):
+            if r == 0:
+                ws.append([text(c) if c else None for c in row])
+                continue
+            values = [_cell_value(c) for c in row]
+            ws.append([text(v) if isinstance(v, str) else v for v in values])
+            count += 1
+    meta = wb.create_sheet("provenance")
+    for prow in _provenance_rows([], provenance, inputs):
+        meta.append([text(v, meta) if isinstance(v, str) else v for v in prow])
+    _fixed_dates(wb)
+    wb.save(xlsx_path)
+    return count
 
 
 def _append_text(ws, values: list[Any]) -> None:

@@ -133,7 +133,7 @@ def test_batch_skip_bad_clean_run_exits_0_with_an_empty_errors_file(lot, tmp_pat
     out = tmp_path / "r.csv"
     r = run("batch", lot, "--output", out, "--skip-bad", "--workers", 1)
     assert r.exit_code == 0, r.stderr
-    assert (tmp_path / "r.errors.csv").read_text() == "file,line,cause\n"
+    assert (tmp_path / "r.errors.csv").read_text() == "file,line,skipped,cause\n"
 
 
 # --------------------------------------------------------------------------- mixed quantities

@@ -10,6 +10,7 @@ import typer
 
 from ..errors import InputError
 from .options import (
+    CSV_DIALECT_OPTION,
     DOMINANT_WHITE_OPTION,
     INTERPOLATION_OPTION,
     parse_dominant_white,
@@ -34,7 +35,8 @@ def batch_cmd(
         help="Wide CSV (one spectrum per row, header = wavelengths in nm), a spectrum file, "
         "a folder of spectrum files, or a Parquet file.",
     ),
-    output: Path = typer.Option(..., "--output", "-o", help="Results file: .csv or .parquet (one row per spectrum)."),
+    output: Path = typer.Option(..., "--output", "-o", help="Results file: .csv, .parquet or .xlsx (one row per "
+                                "spectrum; .xlsx holds at most 1,048,575 rows)."),
     chunk_size: int = typer.Option(4096, "--chunk-size", help="Spectra per chunk; memory grows with it [spectra]."),
     workers: Optional[int] = typer.Option(None, "--workers", help="Local worker processes (default: one per available CPU, at most one per chunk)."),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", help="Run the chunks on a Dask scheduler, e.g. tcp://host:8786."),
@@ -49,16 +51,19 @@ def batch_cmd(
     resume: bool = typer.Option(False, "--resume", help="CSV output: keep the finished chunks if the run is stopped "
                                 "or killed, and continue an earlier such run from its last complete chunk."),
     recursive: bool = RECURSIVE_OPTION,
+    csv_dialect: str = CSV_DIALECT_OPTION,
     skip_bad: bool = typer.Option(
         False, "--skip-bad",
-        help="For a folder: skip files that cannot be read and go on; each one becomes a row (file, line, cause) "
-        f"of OUTPUT-STEM.errors.csv beside the output, and the exit status is {EXIT_SKIPPED} when any was skipped.",
+        help="Skip what cannot be read and go on: a folder's unreadable files, a wide CSV's or Parquet file's bad "
+        "rows (text, empty, NaN or infinite cells, wrong cell count, no positive value in 380-780 nm), a long "
+        "file's bad value columns.  Each becomes a row (file, line, skipped, cause) of OUTPUT-STEM.errors.csv "
+        f"beside the output, and the exit status is {EXIT_SKIPPED} when anything was skipped.",
     ),
 ) -> None:
-    """Every measure for many spectra, written chunk by chunk to one CSV or Parquet file.
+    """Every measure for many spectra, written chunk by chunk to one CSV, Parquet or Excel file.
 
-    Exit status: 0 all read; 2 bad input (without --skip-bad the first bad file stops the run and
-    no output is left); 4 finished with --skip-bad but some files were skipped (see the errors file).
+    Exit status: 0 all read; 2 bad input (without --skip-bad the first bad file, row or cell stops the
+    run and no output is left); 4 finished with --skip-bad but something was skipped (see the errors file).
     """
     from ..analysis import provenance
     from ..batch import Progress, run_batch
@@ -66,7 +71,14 @@ def batch_cmd(
     from ..safe_io import check_output_path
     from ..spectra import Quantity
 
-    require_suffix(output, (".csv", ".parquet"))
+    from ..spreadsheet import check_dialect
+
+    suffix = require_suffix(output, (".csv", ".parquet", ".xlsx"))
+    csv_dialect = check_dialect(csv_dialect)
+    if csv_dialect != "comma" and suffix != ".csv":
+        raise InputError(f"--csv-dialect applies to .csv output, not {suffix}")
+    if resume and suffix != ".csv":
+        raise InputError("--resume works with .csv output")
     obs = parse_observer(observer)
     interp = parse_interpolation(interpolation)
     white = parse_dominant_white(dominant_white)
@@ -81,8 +93,6 @@ def batch_cmd(
     check_output_path(output, overwrite=overwrite, inputs=[input_path])  # fail before reading anything
     errors_path = errors_file_for(output)
     if skip_bad:
-        if not input_path.is_dir():
-            raise InputError("--skip-bad applies to a folder of spectrum files", source=str(input_path))
         check_output_path(errors_path, overwrite=overwrite, inputs=[input_path])
     skipped: list[InputError] | None = [] if skip_bad else None
     source = open_chunked(input_path, chunk_size=chunk_size, quantity=quantity, recursive=recursive, interpolation=interp,
@@ -105,19 +115,19 @@ def batch_cmd(
         progress=bar,
         metadata={**provenance(interpolation=interp), "input": str(input_path), "rendering": rendering},
         resume=resume,
+        csv_dialect=csv_dialect,
     )
     for note in summary.notes:
         info(f"note: {note}")
     if skipped is not None:
-        write_output(errors_path, errors_csv(skipped), overwrite=overwrite, inputs=[input_path])
+        write_output(errors_path, errors_csv(skipped), overwrite=overwrite, inputs=[input_path], dialect=csv_dialect)
     if not quiet:
         info(
             f"wrote {summary.output}: {summary.spectra} spectra in {summary.chunks} chunks, "
             f"{summary.elapsed_s:.1f} s ({summary.spectra_per_s:,.0f} spectra/s, {summary.executor})"
         )
         if skipped:
-            info(f"skipped {len(skipped)} file{'s' if len(skipped) != 1 else ''} that could not be read; "
-                 f"see {errors_path}")
+            info(f"skipped {skipped_text(skipped)} that could not be read; see {errors_path}")
     if skipped:
         raise typer.Exit(EXIT_SKIPPED)
 
@@ -128,10 +138,19 @@ def errors_file_for(output: Path) -> Path:
 
 
 def errors_csv(errors: list[InputError]) -> str:
-    """One row per skipped input: file, line (empty when none applies), cause."""
+    """One row per skipped part of the input: file, line (empty when none applies), what was
+    skipped (file, row or column), cause."""
     from ..formats import csv_text
 
-    return csv_text(["file", "line", "cause"], ([e.source or "", e.line, e.reason] for e in errors))
+    return csv_text(["file", "line", "skipped", "cause"], ([e.source or "", e.line, e.part, e.reason] for e in errors))
+
+
+def skipped_text(errors: list[InputError]) -> str:
+    """``"3 files, 25 rows"``: what was skipped, counted by kind."""
+    counts: dict[str, int] = {}
+    for e in errors:
+        counts[e.part] = counts.get(e.part, 0) + 1
+    return ", ".join(f"{n} {part}{'s' if n != 1 else ''}" for part, n in counts.items())
 
 
 def register(app: typer.Typer) -> None:

@@ -9,7 +9,6 @@ import typer
 
 from ..errors import InputError
 from ..formats import format_number
-from ..spreadsheet import check_dialect
 from .options import (
     DOMINANT_WHITE_OPTION,
     INTERPOLATION_OPTION,
@@ -156,6 +155,8 @@ def inspect_cmd(
         Quantity.parse(quantity, source="--quantity")
     if output is not None:
         require_suffix(output, (".json", ".csv", ".xlsx"))
+    from ..spreadsheet import check_dialect
+
     check_dialect(csv_dialect)
     interp = parse_interpolation(interpolation)
     white = parse_dominant_white(dominant_white)
@@ -285,6 +286,8 @@ def locus_cmd(
             raise InputError(f"{option} must be between {lo:.0f} and {hi:.0f} K, got {value:g}")
     if not t_min < t_max:
         raise InputError(f"--from must be below --to, got {t_min:g} and {t_max:g} K")
+    from ..spreadsheet import check_dialect
+
     check_dialect(csv_dialect)
     if step is not None:
         if not step > 0:

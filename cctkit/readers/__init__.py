@@ -172,6 +172,7 @@ def read_spectra(
     quantity: Quantity | str | None = None,
     max_bytes: int = DEFAULT_MAX_BYTES,
     layout: TableLayout | None = None,
+    skipped: list[InputError] | None = None,
 ) -> Spectra:
     """Read the spectra in ``path``, as measured.
 
@@ -186,6 +187,13 @@ def read_spectra(
         Refuse files larger than this [bytes].
     layout
         Overrides for finding the table in delimited text (see :class:`TableLayout`).
+    skipped
+        When a list is given, a spectrum (value column) of delimited text with a bad cell
+        (text, empty, missing, beyond floating-point range), or with no positive value in
+        380-780 nm (:func:`cctkit.spectra.signal_problems`), is left out and its
+        :class:`InputError` (``part`` ``"column"``) appended here instead of refusing the
+        file; the file is still refused when nothing is left or when the problem is not
+        one column's (the wavelength column, a row's cell count, the header).
 
     Returns
     -------
@@ -216,8 +224,14 @@ def read_spectra(
     else:
         from . import delimited
 
-        parsed = delimited.parse(data, source=source, stem=p.stem or source, layout=layout)
-        return _to_spectra(parsed, data, source, wanted)
+        own: list[InputError] | None = None if skipped is None else []
+        parsed = delimited.parse(data, source=source, stem=p.stem or source, layout=layout, skipped=own)
+        spectra = _to_spectra(parsed, data, source, wanted)
+        if own is None or skipped is None:
+            return spectra
+        spectra = _without_dark_columns(spectra, own, source)
+        skipped.extend(own)  # only once the file as a whole was read
+        return spectra
     parsed = module.parse(data, source=source, stem=p.stem or source)
     return _to_spectra(parsed, data, source, wanted)
 
@@ -308,6 +322,22 @@ def combine_quantity(
             line=line,
         )
     return stated or unit_q
+
+
+def _without_dark_columns(spectra: Spectra, skipped: list[InputError], source: str) -> Spectra:
+    """``spectra`` without those nothing can be computed from, each reported on ``skipped``."""
+    from ..spectra import signal_problems
+
+    dark = {i: f.message for i, f in enumerate(signal_problems(spectra)) if f is not None and f.code == "no-signal"}
+    if not dark:
+        return spectra
+    if len(dark) == len(spectra):
+        raise InputError(dark[0], source=source)
+    for i, message in dark.items():
+        exc = InputError(f"spectrum {short(spectra.names[i])} left out: {message}", source=source)
+        exc.part = "column"
+        skipped.append(exc)
+    return spectra.select([i for i in range(len(spectra)) if i not in dark])
 
 
 def _to_spectra(parsed: ParsedSpectra, data: bytes, source: str, wanted: Quantity | None) -> Spectra:

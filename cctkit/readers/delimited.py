@@ -82,8 +82,14 @@ _GENERIC_NAMES = {"value", "values", "irradiance", "radiance", "intensity", "flu
                   "irradianza", "radianza", "intensità", "valore", "spectral value", "spectral values"}
 
 
-def parse(data: bytes, *, source: str, stem: str, layout: TableLayout | None = None) -> ParsedSpectra:
-    """Parse delimited text (see the module docstring) into spectra in base units."""
+def parse(data: bytes, *, source: str, stem: str, layout: TableLayout | None = None,
+          skipped: list[InputError] | None = None) -> ParsedSpectra:
+    """Parse delimited text (see the module docstring) into spectra in base units.
+
+    With ``skipped`` a list, a value column holding a bad cell (text, empty, missing, beyond
+    floating-point range) is left out and its first error appended there (``part`` ``"column"``);
+    bad cells of the wavelength column, or rows with the wrong number of cells, still refuse the file.
+    """
     layout = layout or TableLayout()
     text, flags = decode_text(data, source)
     lines = _LINES.split(text)
@@ -122,9 +128,23 @@ def parse(data: bytes, *, source: str, stem: str, layout: TableLayout | None = N
                          line=data_rows[0][0])
     value_cols = _value_columns(layout, wcol, ncol, source, data_rows[0][0])
 
-    numbers = _numbers(data_rows, split, ncol, decimal_comma, source)  # (L, ncol)
+    column_errors: dict[int, InputError] | None = None if skipped is None else {}
+    numbers = _numbers(data_rows, split, ncol, decimal_comma, source, wcol=wcol, column_errors=column_errors)
     line_numbers = [n for n, _ in data_rows]
     wl = numbers[:, wcol]
+    if column_errors:
+        assert skipped is not None
+        bad = [c for c in value_cols if c in column_errors]
+        if len(bad) == len(value_cols):
+            raise column_errors[bad[0]]  # nothing left to read: the file is bad
+        for c in bad:
+            exc = column_errors[c]
+            what = f"column {c + 1}" if header is None else f"spectrum {short(header[c])}"
+            exc = InputError(f"{what} left out: {exc.reason}", source=source, line=exc.line)
+            exc.part = "column"
+            skipped.append(exc)
+        value_cols = [c for c in value_cols if c not in column_errors]
+    all_count = len(value_cols) + (len(column_errors) if column_errors else 0)
     values = numbers[:, value_cols].T
 
     wl_unit = None if header is None else _wavelength_unit(header[wcol])
@@ -134,7 +154,8 @@ def parse(data: bytes, *, source: str, stem: str, layout: TableLayout | None = N
     else:
         check_plain_nm(wl, source=source, line=header_line)
 
-    names, columns, quantity, factors = _columns(header, header_line, value_cols, directives, stem, source)
+    names, columns, quantity, factors = _columns(header, header_line, value_cols, directives, stem, source,
+                                                 count=all_count)
     values = values * factors[:, None]
     wl, values, order_flags = order_axis(wl, values, source=source, lines=line_numbers)
     _check_finite(values, source)
@@ -441,7 +462,10 @@ def _is_number(cell: str, decimal_comma: bool) -> bool:
     return bool((_NUMBER_COMMA if decimal_comma else _NUMBER).fullmatch(cell))
 
 
-def _numbers(rows, split, ncol: int, decimal_comma: bool, source: str) -> np.ndarray:
+def _numbers(rows, split, ncol: int, decimal_comma: bool, source: str, *, wcol: int = 0,
+             column_errors: dict[int, InputError] | None = None) -> np.ndarray:
+    """The table's numbers (rows, ncol).  With ``column_errors`` a dict, a bad cell outside the
+    wavelength column ``wcol`` is NaN and the first error of each column is recorded there."""
     pattern = _NUMBER_COMMA if decimal_comma else _NUMBER
     out = np.empty((len(rows), ncol), dtype=np.float64)
     for r, (line, text) in enumerate(rows):
@@ -450,15 +474,26 @@ def _numbers(rows, split, ncol: int, decimal_comma: bool, source: str) -> np.nda
             _row_error(cells, ncol, line, source, decimal_comma)
         for c, cell in enumerate(cells):
             if not pattern.fullmatch(cell):
-                _row_error(cells, ncol, line, source, decimal_comma, column=c)
+                if column_errors is None or c == wcol:
+                    _row_error(cells, ncol, line, source, decimal_comma, column=c)
+                else:
+                    try:
+                        _row_error(cells, ncol, line, source, decimal_comma, column=c)
+                    except InputError as bad_cell:
+                        column_errors.setdefault(c, bad_cell)
+                    cells[c] = "nan"
         if decimal_comma:
             cells = [cell.replace(",", ".") for cell in cells]
         out[r] = [float(cell) for cell in cells]
     if not np.all(np.isfinite(out)):
-        r, c = np.argwhere(~np.isfinite(out))[0]
-        raise InputError(
-            f"value in column {c + 1} is beyond floating-point range", source=source, line=rows[r][0]
-        )
+        for r, c in np.argwhere(~np.isfinite(out)).tolist():
+            if column_errors is not None and c in column_errors:
+                continue
+            too_big = InputError(f"value in column {c + 1} is beyond floating-point range", source=source,
+                                 line=rows[r][0])
+            if column_errors is None or c == wcol:
+                raise too_big
+            column_errors[c] = too_big
     return out
 
 
@@ -570,8 +605,12 @@ def _is_generic(name: str) -> bool:
     return key in _GENERIC_NAMES or is_relative_unit(name) or is_relative_unit(key)
 
 
-def _columns(header, header_line, value_cols, directives, stem, source):
-    """Names, source columns, the stated quantity and per-column factors of the value columns."""
+def _columns(header, header_line, value_cols, directives, stem, source, count=None):
+    """Names, source columns, the stated quantity and per-column factors of the value columns.
+
+    ``count`` is the number of value columns the file has (default ``len(value_cols)``; more
+    when bad columns were left out), so that names do not depend on what was left out."""
+    total = count or len(value_cols)
     count = len(value_cols)
     default_unit = directives.get("unit")
     stated_q = None
@@ -595,7 +634,7 @@ def _columns(header, header_line, value_cols, directives, stem, source):
             cell = None
         units.append((unit, line, cell))
         if not name or _is_generic(name):
-            name = stem if count == 1 else f"{stem}#{column_number}"
+            name = stem if total == 1 else f"{stem}#{column_number}"
         names.append(name)
 
     seen: dict[str, int] = {}
@@ -641,7 +680,7 @@ def _columns(header, header_line, value_cols, directives, stem, source):
     unit_q = next(iter(stated_units)) if stated_units else None
     quantity = combine_quantity(stated_q, unit_q, source=source, line=quantity_line)
 
-    if count == 1:
+    if total == 1:
         columns = None
     elif header is not None:
         columns = tuple(names)

@@ -147,9 +147,15 @@ def open_chunked(
     recursive
         For a folder, also read the files in its sub-folders (sorted by path).
     skipped
-        For a folder: when a list is given, a member file that cannot be read is
-        skipped and its InputError appended here (while reading the chunks)
-        instead of stopping the run.
+        When a list is given, bad parts of the input are skipped and go on the list (as
+        :class:`~cctkit.errors.InputError`, in input order, while the chunks are read)
+        instead of stopping the run: a folder member that cannot be read (``part``
+        ``"file"``); a row of a wide CSV or Parquet file with a non-numeric, empty, missing
+        or non-finite cell, the wrong number of cells, or no positive value in 380-780 nm
+        (``"row"``, see :func:`cctkit.spectra.signal_problems`); a value column of a long
+        delimited file with such a cell (``"column"``, see :func:`cctkit.readers.read_spectra`).
+        What cannot be cut out (the header, the wavelength column, the file as a whole) still
+        stops the run.
 
     Raises
     ------
@@ -177,18 +183,18 @@ def open_chunked(
         raise InputError("file is empty", source=source)
     suffix = p.suffix.lower()
     if suffix in _PARQUET_SUFFIXES:
-        return _open_parquet(p, source, chunk_size, wanted)
+        return _open_parquet(p, source, chunk_size, wanted, skipped)
     if suffix in _WIDE_SUFFIXES:
         head = _wide_head(p, source)
         if head is not None:
-            return _open_wide(p, source, chunk_size, wanted, head)
+            return _open_wide(p, source, chunk_size, wanted, head, skipped)
     if suffix not in SPECTRUM_SUFFIXES:
         raise InputError(
             f"unknown input type {suffix or '(no extension)'!r}; expected a folder, "
             + ", ".join(SPECTRUM_SUFFIXES + _PARQUET_SUFFIXES),
             source=source,
         )
-    return _open_single(p, source, chunk_size, wanted)
+    return _open_single(p, source, chunk_size, wanted, skipped)
 
 
 def _rechunk(items: Iterator[Spectra], chunk_size: int) -> Iterator[Spectra]:
@@ -240,11 +246,12 @@ def _join(parts: list[Spectra]) -> Spectra:
 # --------------------------------------------------------------------------- single files and folders
 
 
-def _open_single(p: Path, source: str, chunk_size: int, wanted: Quantity | None) -> ChunkedInput:
+def _open_single(p: Path, source: str, chunk_size: int, wanted: Quantity | None,
+                 skipped: list[InputError] | None = None) -> ChunkedInput:
     from . import read_spectra
 
     def make() -> Iterator[Spectra]:
-        return _rechunk(iter([read_spectra(p, quantity=wanted)]), chunk_size)
+        return _rechunk(iter([read_spectra(p, quantity=wanted, skipped=skipped)]), chunk_size)
 
     return ChunkedInput(source, "file", None, (source,), chunk_size, make)
 
@@ -258,12 +265,13 @@ def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None,
     def make() -> Iterator[Spectra]:
         from . import read_spectra
 
-        def member(f: str, first: Quantity | None) -> Iterator[Spectra]:
+        def member(f: str, first: Quantity | None, parts_skipped: list[InputError] | None = None
+                   ) -> Iterator[Spectra]:
             head = _wide_head(Path(f), f) if Path(f).suffix.lower() in _WIDE_SUFFIXES else None
             if head is not None:
-                parts: Iterable[Spectra] = _open_wide(Path(f), f, chunk_size, wanted, head).chunks()
+                parts: Iterable[Spectra] = _open_wide(Path(f), f, chunk_size, wanted, head, parts_skipped).chunks()
             else:
-                parts = [read_spectra(f, quantity=wanted)]
+                parts = [read_spectra(f, quantity=wanted, skipped=parts_skipped)]
             for part in parts:
                 s = to_working_grid(part, interpolation=interpolation)
                 if first is not None and s.quantity is not first:
@@ -282,11 +290,15 @@ def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None,
                 if skipped is None:
                     got = member(f, first)
                 else:
+                    parts_skipped: list[InputError] = []
                     try:  # a bad member is skipped whole, so it is read whole before any of it is used
-                        got = list(member(f, first))
+                        got = list(member(f, first, parts_skipped))
                     except InputError as exc:
-                        skipped.append(exc if exc.source else InputError(exc.reason, source=f, line=exc.line))
+                        whole = exc if exc.source else InputError(exc.reason, source=f, line=exc.line)
+                        whole.part = "file"
+                        skipped.append(whole)
                         continue
+                    skipped.extend(parts_skipped)  # its bad rows or columns, once the rest of it was read
                 for s in got:
                     first = first or s.quantity
                     yield s
@@ -404,17 +416,19 @@ def _wide_head(p: Path, source: str) -> _WideHead | None:
     )
 
 
-def _open_wide(p: Path, source: str, chunk_size: int, wanted: Quantity | None, head: _WideHead) -> ChunkedInput:
+def _open_wide(p: Path, source: str, chunk_size: int, wanted: Quantity | None, head: _WideHead,
+               skipped: list[InputError] | None = None) -> ChunkedInput:
     quantity = resolve_quantity(head.quantity, wanted, source=source)
     estimate = max(head.line_ends - head.header_line, 0)
 
     def make() -> Iterator[Spectra]:
-        return _iter_wide(p, source, chunk_size, quantity, head)
+        return _iter_wide(p, source, chunk_size, quantity, head, skipped)
 
     return ChunkedInput(source, "wide-csv", estimate, (source,), chunk_size, make)
 
 
-def _iter_wide(p: Path, source: str, chunk_size: int, quantity: Quantity, head: _WideHead) -> Iterator[Spectra]:
+def _iter_wide(p: Path, source: str, chunk_size: int, quantity: Quantity, head: _WideHead,
+               skipped: list[InputError] | None = None) -> Iterator[Spectra]:
     stem = p.stem or source
     count = 0
     directives = dict(head.directives)
@@ -435,22 +449,28 @@ def _iter_wide(p: Path, source: str, chunk_size: int, quantity: Quantity, head: 
                 rows.append((number, s))
                 if len(rows) == chunk_size:
                     no_late_directive()
-                    yield _wide_chunk(rows, source, stem, count, quantity, head)
+                    chunk = _wide_chunk(rows, source, stem, count, quantity, head, skipped)
+                    if chunk is not None:  # None: every row of it was bad and skipped
+                        yield chunk
                     count += len(rows)
                     rows = []
         except UnicodeDecodeError:
             raise InputError(f"not valid {head.label} text", source=source) from None
     no_late_directive()
     if rows:
-        yield _wide_chunk(rows, source, stem, count, quantity, head)
+        chunk = _wide_chunk(rows, source, stem, count, quantity, head, skipped)
+        if chunk is not None:
+            yield chunk
         count += len(rows)
     if count == 0:
         raise InputError("header but no data rows", source=source, line=head.header_line)
 
 
 def _wide_chunk(
-    rows: list[tuple[int, str]], source: str, stem: str, offset: int, quantity: Quantity, head: _WideHead
-) -> Spectra:
+    rows: list[tuple[int, str]], source: str, stem: str, offset: int, quantity: Quantity, head: _WideHead,
+    skipped: list[InputError] | None = None,
+) -> Spectra | None:
+    """The spectra of ``rows``; with ``skipped`` a list, bad rows go there instead (None when none is left)."""
     d = head.delimiter
     split = _splitter(d)
     if head.named:
@@ -469,17 +489,24 @@ def _wide_chunk(
         names = [f"{stem}#{offset + k + 1}" for k in range(len(rows))]
         bodies = [s for _, s in rows]
     L = head.wavelength_nm.size
+    bad_rows: dict[int, InputError] = {}
     try:  # the fast path; what it refuses is read (or refused) cell by cell by the delimited rules
         values = np.loadtxt(io.StringIO("\n".join(bodies)), delimiter=d, dtype=np.float64, ndmin=2, comments=None)
         if values.shape != (len(rows), L):
             raise ValueError("shape")
     except ValueError:
-        values = _cell_by_cell(rows, head, source)
+        values = _cell_by_cell(rows, head, source, None if skipped is None else bad_rows)
     bad = ~np.isfinite(values)
     if bad.any():
-        r, c = np.argwhere(bad)[0]
-        raise InputError(f"missing or non-finite value at {_file_wavelength(head, c):g} nm", source=source,
-                         line=rows[r][0])
+        for r in np.flatnonzero(bad.any(axis=1)).tolist():
+            if r in bad_rows:
+                continue
+            c = int(np.argmax(bad[r]))
+            exc = InputError(f"missing or non-finite value at {_file_wavelength(head, c):g} nm", source=source,
+                             line=rows[r][0])
+            if skipped is None:
+                raise exc
+            bad_rows[r] = exc
     if head.reverse:
         values = values[:, ::-1]
     if head.factor != 1.0:
@@ -487,7 +514,23 @@ def _wide_chunk(
     empty = [k for k, n in enumerate(names) if not n]
     for k in empty:
         names[k] = f"{stem}#{offset + k + 1}"
-    sources = tuple(f"{source}#{n}" for n in names) if head.named else tuple(f"{source}#{offset + k + 1}" for k in range(len(rows)))
+    if skipped is not None:
+        for r in _no_signal_rows(head.wavelength_nm, values, exclude=bad_rows):
+            bad_rows[r] = InputError(_NO_SIGNAL, source=source, line=rows[r][0])
+    keep = np.ones(len(rows), dtype=bool)
+    if bad_rows:
+        assert skipped is not None  # without it the first bad row raised above
+        for r in sorted(bad_rows):
+            exc = bad_rows[r]
+            exc.part = "row"
+            skipped.append(exc)
+            keep[r] = False
+        if not keep.any():
+            return None
+        values = values[keep]
+    kept = np.flatnonzero(keep).tolist()
+    names = [names[k] for k in kept]
+    sources = tuple(f"{source}#{n}" for n in names) if head.named else tuple(f"{source}#{offset + k + 1}" for k in kept)
     return Spectra(
         wavelength_nm=head.wavelength_nm,
         values=values,
@@ -499,42 +542,80 @@ def _wide_chunk(
     )
 
 
+_NO_SIGNAL = "no signal: no positive value in 380-780 nm (all zero or below zero); nothing can be computed"
+
+
+def _no_signal_rows(wavelength_nm: np.ndarray, values: np.ndarray, exclude=()) -> list[int]:
+    """Rows (0-based) with no positive value in the visible band, as :func:`cctkit.spectra.signal_problems`
+    judges a spectrum measured over all of ``wavelength_nm`` (rows in ``exclude`` left out).
+
+    An axis that misses 380-780 nm altogether is a property of the whole file, not of its rows:
+    its rows are kept (and flagged ``no-visible-data`` by the analysis).
+    """
+    from ..constants import VISIBLE_BAND_NM
+
+    inside = (wavelength_nm >= VISIBLE_BAND_NM[0] - 1e-9) & (wavelength_nm <= VISIBLE_BAND_NM[1] + 1e-9)
+    if not inside.any() or values.shape[0] == 0:
+        return []
+    with np.errstate(invalid="ignore"):
+        dark = ~(values[:, inside] > 0).any(axis=1)
+    return [r for r in np.flatnonzero(dark).tolist() if r not in exclude]
+
+
 def _file_wavelength(head: _WideHead, column: int) -> float:
     """Wavelength of value column ``column`` (0-based) in the file's order [nm]."""
     return float(head.wavelength_nm[::-1][column] if head.reverse else head.wavelength_nm[column])
 
 
-def _cell_by_cell(rows: list[tuple[int, str]], head: _WideHead, source: str) -> np.ndarray:
-    """The values of ``rows`` split and checked as the delimited reader does; an InputError names a bad row."""
-    split = _splitter(head.delimiter)
+def _cell_by_cell(rows: list[tuple[int, str]], head: _WideHead, source: str,
+                  bad_rows: dict[int, InputError] | None = None) -> np.ndarray:
+    """The values of ``rows`` split and checked as the delimited reader does; an InputError names a bad row.
+
+    With ``bad_rows`` a dict, a bad row is recorded there (0-based row -> error) and left NaN instead.
+    """
     L = head.wavelength_nm.size
     out = np.empty((len(rows), L), dtype=np.float64)
     for r, (number, s) in enumerate(rows):
-        cells = split(s)  # trailing empty cells are dropped
-        if head.named:
-            cells = cells[1:]
-        if len(cells) < L and s.endswith(head.delimiter):
-            raise InputError(f"empty cell in value column {len(cells) + 1}", source=source, line=number)
-        if len(cells) != L:
-            raise InputError(f"row has {len(cells)} values, the header has {L} wavelengths", source=source, line=number)
-        for c, cell in enumerate(cells):
-            if _NUMBER.fullmatch(cell):
-                continue
-            if cell == "":
-                raise InputError(f"empty cell in value column {c + 1}", source=source, line=number)
-            if cell.lower() in _MISSING:
-                raise InputError(f"missing or non-finite value at {_file_wavelength(head, c):g} nm", source=source,
-                                 line=number)
-            raise InputError(f"expected a number, got {short(cell)} in value column {c + 1}", source=source,
-                             line=number)
-        out[r] = [float(cell) for cell in cells]
+        if bad_rows is None:
+            out[r] = _row_values(s, number, head, source)
+            continue
+        try:
+            out[r] = _row_values(s, number, head, source)
+        except InputError as exc:
+            bad_rows[r] = exc
+            out[r] = np.nan
     return out
+
+
+def _row_values(s: str, number: int, head: _WideHead, source: str) -> list[float]:
+    """The values of one data row (line ``number``), or the InputError naming what is wrong with it."""
+    split = _splitter(head.delimiter)
+    L = head.wavelength_nm.size
+    cells = split(s)  # trailing empty cells are dropped
+    if head.named:
+        cells = cells[1:]
+    if len(cells) < L and s.endswith(head.delimiter):
+        raise InputError(f"empty cell in value column {len(cells) + 1}", source=source, line=number)
+    if len(cells) != L:
+        raise InputError(f"row has {len(cells)} values, the header has {L} wavelengths", source=source, line=number)
+    for c, cell in enumerate(cells):
+        if _NUMBER.fullmatch(cell):
+            continue
+        if cell == "":
+            raise InputError(f"empty cell in value column {c + 1}", source=source, line=number)
+        if cell.lower() in _MISSING:
+            raise InputError(f"missing or non-finite value at {_file_wavelength(head, c):g} nm", source=source,
+                             line=number)
+        raise InputError(f"expected a number, got {short(cell)} in value column {c + 1}", source=source,
+                         line=number)
+    return [float(cell) for cell in cells]
 
 
 # --------------------------------------------------------------------------- Parquet
 
 
-def _open_parquet(p: Path, source: str, chunk_size: int, wanted: Quantity | None) -> ChunkedInput:
+def _open_parquet(p: Path, source: str, chunk_size: int, wanted: Quantity | None,
+                  skipped: list[InputError] | None = None) -> ChunkedInput:
     try:
         import pyarrow.parquet as pq
     except ImportError:  # pragma: no cover - a declared dependency
@@ -590,11 +671,19 @@ def _open_parquet(p: Path, source: str, chunk_size: int, wanted: Quantity | None
             n = batch.num_rows
             if n == 0:
                 continue
-            values = _parquet_values(batch, wl_columns, wl.size, source, offset)[:, order]
+            values = _parquet_values(batch, wl_columns, wl.size, source, offset, lenient=skipped is not None)[:, order]
             bad = ~np.isfinite(values)
-            if bad.any():
-                r, c = np.argwhere(bad)[0]
-                raise InputError(f"row {offset + r + 1}: missing or non-finite value at {ordered[c]:g} nm", source=source)
+            bad_rows: dict[int, InputError] = {}
+            for r in np.flatnonzero(bad.any(axis=1)).tolist():
+                c = int(np.argmax(bad[r]))
+                exc = InputError(f"row {offset + r + 1}: missing or non-finite value at {ordered[c]:g} nm",
+                                 source=source)
+                if skipped is None:
+                    raise exc
+                bad_rows[r] = exc
+            if skipped is not None:
+                for r in _no_signal_rows(ordered, values, exclude=bad_rows):
+                    bad_rows[r] = InputError(f"row {offset + r + 1}: {_NO_SIGNAL}", source=source)
             if names_col:
                 raw = batch.column(names_col).to_pylist()
                 names = tuple(str(x) if x not in (None, "") else f"{stem}#{offset + k + 1}" for k, x in enumerate(raw))
@@ -602,15 +691,27 @@ def _open_parquet(p: Path, source: str, chunk_size: int, wanted: Quantity | None
             else:
                 names = tuple(f"{stem}#{offset + k + 1}" for k in range(n))
                 sources = tuple(f"{source}#{offset + k + 1}" for k in range(n))
-            yield Spectra(ordered, values, names, quantity=quantity, sources=sources, sha256=(digest,), flags=(flags,))
             offset += n
+            if bad_rows:
+                assert skipped is not None
+                for r in sorted(bad_rows):
+                    bad_rows[r].part = "row"
+                    skipped.append(bad_rows[r])
+                kept = [k for k in range(n) if k not in bad_rows]
+                if not kept:
+                    continue
+                values = values[kept]
+                names = tuple(names[k] for k in kept)
+                sources = tuple(sources[k] for k in kept)
+            yield Spectra(ordered, values, names, quantity=quantity, sources=sources, sha256=(digest,), flags=(flags,))
         if offset == 0:
             raise InputError("holds no rows", source=source)
 
     return ChunkedInput(source, "parquet", int(pf.metadata.num_rows), (source,), chunk_size, make)
 
 
-def _parquet_values(batch, wl_columns, L: int, source: str, offset: int) -> np.ndarray:
+def _parquet_values(batch, wl_columns, L: int, source: str, offset: int, lenient: bool = False) -> np.ndarray:
+    """The batch's values (rows, L); with ``lenient`` a missing value is NaN (its row is then skipped)."""
     import pyarrow as pa
 
     if wl_columns is not None:
@@ -619,24 +720,31 @@ def _parquet_values(batch, wl_columns, L: int, source: str, offset: int) -> np.n
             col = batch.column(name)
             if not (pa.types.is_floating(col.type) or pa.types.is_integer(col.type)):
                 raise InputError(f"column {name!r} holds {col.type}, not numbers", source=source)
-            if col.null_count:
+            if col.null_count and not lenient:
                 r = int(np.flatnonzero(np.asarray(col.is_null()))[0])
                 raise InputError(f"row {offset + r + 1}: missing value at {name} nm", source=source)
+            if col.null_count:
+                col = col.cast(pa.float64()).fill_null(float("nan"))
             cols.append(col.to_numpy(zero_copy_only=False).astype(np.float64, copy=False))
         return np.stack(cols, axis=1)
     col = batch.column("values")
     if not (pa.types.is_list(col.type) or pa.types.is_fixed_size_list(col.type) or pa.types.is_large_list(col.type)):
         raise InputError(f"column 'values' holds {col.type}, not lists of numbers", source=source)
-    if col.null_count:
-        r = int(np.flatnonzero(np.asarray(col.is_null()))[0])
+    missing = np.asarray(col.is_null()) if col.null_count else np.zeros(len(col), dtype=bool)
+    if missing.any() and not lenient:
+        r = int(np.flatnonzero(missing)[0])
         raise InputError(f"row {offset + r + 1}: missing spectrum in column 'values'", source=source)
+    if missing.any():  # a row of NaN for each missing spectrum, skipped as a bad row
+        col = pa.array([v if v is not None else [float("nan")] * L for v in col.to_pylist()], type=col.type)
     lengths = np.asarray(col.value_lengths())
     wrong = np.flatnonzero(lengths != L)
     if wrong.size:
         r = int(wrong[0])
         raise InputError(f"row {offset + r + 1}: spectrum has {lengths[r]} values, metadata 'wavelength_nm' has {L}", source=source)
     flat = col.flatten()
-    if flat.null_count:
+    if flat.null_count and lenient:
+        flat = flat.cast(pa.float64()).fill_null(float("nan"))
+    elif flat.null_count:
         r = int(np.flatnonzero(np.asarray(flat.is_null()))[0]) // L
         raise InputError(f"row {offset + r + 1}: missing value in column 'values'", source=source)
     return flat.to_numpy(zero_copy_only=False).astype(np.float64, copy=False).reshape(-1, L)
