@@ -8,7 +8,9 @@ from typing import List, Optional
 import typer
 
 from .options import (
+    DOMINANT_WHITE_OPTION,
     INTERPOLATION_OPTION,
+    parse_dominant_white,
     parse_interpolation,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
@@ -60,6 +62,7 @@ def report_cmd(
     wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
     columns: Optional[str] = COLUMNS_OPTION,
     interpolation: str = INTERPOLATION_OPTION,
+    dominant_white: str = DOMINANT_WHITE_OPTION,
     uncertainty_model: Optional[Path] = typer.Option(
         None, "--uncertainty-model", help="Instrument uncertainty model (TOML, as for `cctkit uncertainty`): "
         "the headline strip shows U (k = 2) beside each number and each spectrum page is followed by its "
@@ -108,7 +111,8 @@ def report_cmd(
 
     # Spectra of different quantities share one report: colour results for all, totals each in its unit.
     analysis = analyse_files(files, quantity=quantity, layout=layout,
-                             interpolation=parse_interpolation(interpolation))
+                             interpolation=parse_interpolation(interpolation),
+                             dominant_white=parse_dominant_white(dominant_white))
     records = analysis.records()
     unc = None
     if model is not None:
