@@ -641,11 +641,8 @@ def records_csv(records: list[dict[str, Any]]) -> str:
 
 def provenance(*, interpolation: str = "auto") -> dict[str, Any]:
     """What every output carries so a number can be traced."""
-    from importlib import metadata
+    from .tables import colour_version
 
-    try:
-        colour_v = metadata.version("colour-science")
-    except metadata.PackageNotFoundError:  # pragma: no cover
-        colour_v = None
+    colour_v = colour_version()
     return {"cctkit_version": __version__, "colour_science_version": colour_v,
             "conventions": {**CONVENTIONS, "interpolation_method": interpolation}}

@@ -152,6 +152,7 @@ class _Grid:
 _GRID_CELLS = 512
 _GRID_SPAN = 32  # a cell whose bracket can lie among more nodes than this is searched in full
 _GRID_STEPS = 5  # = log2(_GRID_SPAN)
+_GRID_MIN_POINTS = 4096  # fewer points are searched in full: building the lookup costs ~2e5 points' search
 
 
 @lru_cache(maxsize=8)
@@ -209,7 +210,10 @@ def _exact(uv: np.ndarray, observer: int, c2: float) -> tuple[np.ndarray, np.nda
     p = uv.reshape(-1, 2)
     pu = np.ascontiguousarray(p[:, 0])
     pv = np.ascontiguousarray(p[:, 1])
-    k, bracketed = _bracket(tab, _grid(observer, c2), pu, pv)
+    if pu.shape[0] < _GRID_MIN_POINTS:
+        k, bracketed = _bisect(tab, pu, pv)  # the lookup gives these same nodes (tests/test_cct_bracket.py)
+    else:
+        k, bracketed = _bracket(tab, _grid(observer, c2), pu, pv)
 
     def g(k):
         return _g(tab, k, pu, pv)

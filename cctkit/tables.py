@@ -22,7 +22,6 @@ from __future__ import annotations
 import os
 import threading
 from functools import lru_cache
-from importlib import metadata
 from pathlib import Path
 
 import numpy as np
@@ -36,14 +35,35 @@ _FORMAT = 1
 _LOCK = threading.Lock()
 
 
-def _versions() -> str:
+@lru_cache(maxsize=1)
+def colour_version() -> str | None:
+    """colour-science's version, read from its installed metadata folder's name where that is beside the
+    package (a scan of one folder); else through importlib.metadata, whose import costs more than a short
+    command's whole work."""
+    import importlib.util
+
+    spec = importlib.util.find_spec("colour")
+    if spec is not None and spec.origin:
+        site = Path(spec.origin).parent.parent
+        try:
+            found = [e.name for e in os.scandir(site)
+                     if e.name.startswith("colour_science-") and e.name.endswith(".dist-info")]
+        except OSError:
+            found = []
+        if len(found) == 1:
+            return found[0][len("colour_science-"):-len(".dist-info")]
+    from importlib import metadata
+
     try:
-        colour_v = metadata.version("colour-science")
+        return metadata.version("colour-science")
     except metadata.PackageNotFoundError:  # pragma: no cover - dependency is required
-        colour_v = "none"
+        return None
+
+
+def _versions() -> str:
     from . import __version__
 
-    return f"{__version__}-{colour_v}-f{_FORMAT}"
+    return f"{__version__}-{colour_version() or 'none'}-f{_FORMAT}"
 
 
 def _cache_dir() -> Path:

@@ -1,8 +1,10 @@
 """The core commands through typer's CliRunner, parsing the JSON they print."""
 
 import json
+import os
 import subprocess
 import sys
+from pathlib import Path
 
 import pytest
 from typer.testing import CliRunner
@@ -121,3 +123,43 @@ def test_help_does_not_import_heavy_libraries():
 def test_python_dash_m_works():
     r = subprocess.run([sys.executable, "-m", "cctkit", "--version"], capture_output=True, text=True)
     assert r.returncode == 0 and r.stdout.startswith("cctkit ")
+
+
+def test_short_commands_import_no_validation_library_and_no_numpy_ma(tmp_path):
+    # Start-up: `cctkit cct` and `inspect` of one file stay clear of what they do not need
+    # (benchmarks/bench_startup.py measures the time); the numbers are the same as through the full app.
+    import cctkit
+
+    spectrum = Path(cctkit.__file__).resolve().parents[1] / "spectra" / "northbeam-nb-3000-95.csv"
+    heavy = ("pydantic", "numpy.ma", "importlib.metadata", "colour", "scipy", "matplotlib", "pandas", "pyarrow")
+    for argv in (["cct", "--xy", "0.3127,0.3290", "--json"], ["inspect", str(spectrum), "--json"]):
+        code = ("import sys, json; from cctkit.cli import _app_for; "
+                f"_app_for({argv!r})({argv!r}, standalone_mode=False); "
+                f"print(json.dumps(sorted(m for m in {heavy!r} if m in sys.modules)), file=sys.stderr)")
+        for _ in range(2):  # the first run builds the table cache (from colour-science), the second reads it
+            r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True,
+                               env={**os.environ, "CCTKIT_CACHE_DIR": str(tmp_path / "cache")})
+        assert json.loads(r.stderr.strip().splitlines()[-1]) == [], argv
+        assert json.loads(r.stdout) == json.loads(run(*argv).stdout)
+
+
+def test_command_module_table_matches_the_registrations():
+    from cctkit.cli import COMMAND_MODULE, _build_app
+
+    for module in set(COMMAND_MODULE.values()):
+        names = {c.name for c in _build_app((module,)).registered_commands}
+        assert names == {k for k, v in COMMAND_MODULE.items() if v == module}
+    assert {c.name for c in app.registered_commands} == set(COMMAND_MODULE)
+
+
+def test_plain_values_are_coerced_as_the_framework_does(tmp_path):
+    # The quick path for plain parameters gives the framework's values; what it is unsure of goes to
+    # the framework, whose messages are unchanged.
+    ok = run("blackbody", "3000_0", "--json")
+    assert ok.exit_code == 0 and json.loads(ok.stdout)["T_K"] == 30000.0
+    bad = run("blackbody", "warm")
+    assert bad.exit_code == 2 and "Invalid value for 'T_K'" in bad.output
+    bad = run("locus", "--from", "1e3x")
+    assert bad.exit_code == 2 and "Invalid value for '--from'" in bad.output
+    r = run("locus", "--from", "2000", "--to", "+3.0e3", "--step", "500", "--json")
+    assert r.exit_code == 0 and [p["T_K"] for p in json.loads(r.stdout)["locus"]] == [2000.0, 2500.0, 3000.0]

@@ -13,25 +13,116 @@ import contextlib
 import errno
 import importlib
 import os
+import re
 import sys
 import time
+from pathlib import Path
 
-import click
 import typer
 from typer.core import TyperCommand, TyperGroup
 
 from .. import __version__
 from ..errors import CctkitError, Stopped
-from ..formats import terminal_safe
-from ..safe_io import os_error_text
 
 __all__ = ["app", "main"]
 
 _COMMAND_MODULES = ("core", "compare", "verify", "report", "batch", "blend", "uncertainty")
 
 
+def _aborts() -> tuple[type[BaseException], ...]:
+    """The exceptions that mean "the user stopped it" (click's own only where something loaded click)."""
+    found: tuple[type[BaseException], ...] = (typer.Abort, KeyboardInterrupt)
+    click = sys.modules.get("click")
+    if click is not None:
+        found += (click.exceptions.Abort,)
+    return found
+
+
+_NUMBER = {
+    int: re.compile(r"[+-]?[0-9]+"),
+    float: re.compile(r"[+-]?([0-9]+[.]?[0-9]*|[.][0-9]+)([eE][+-]?[0-9]+)?"),
+}
+
+
+class _QuickCoercion:
+    """Turns the command-line text of a plain parameter (str, Path, int, float, a flag, or a list of one)
+    into its value without building a validation schema, which costs more than a short command's work.
+
+    Anything it is not sure of (a number written otherwise, a path that exists but cannot be read, another
+    type) goes to the framework's own coercion, so values and error messages stay the framework's.
+    """
+
+    def __init__(self, kind: type, many: bool):
+        self.kind = kind
+        self.many = many
+
+    def coerce(self, value, param, ctx):
+        if value is None:
+            return () if self.many else None
+        try:
+            if self.many:
+                if isinstance(value, str):
+                    raise ValueError(value)
+                return [self._one(item) for item in value]
+            return self._one(value)
+        except ValueError:
+            from typer._coercion import build_runtime_param
+
+            param._runtime_param = build_runtime_param(param.type_descriptor)
+            return param._runtime_param.coerce(value, param=param, ctx=ctx)
+
+    def _one(self, value):
+        kind = self.kind
+        if isinstance(value, kind) and (kind is bool or not isinstance(value, bool)):
+            return value
+        if not isinstance(value, str) or kind is bool:
+            raise ValueError(value)
+        if kind is str:
+            return value
+        if kind is Path:
+            try:
+                os.stat(value)
+            except OSError:
+                return Path(value)
+            if os.access(value, os.R_OK):
+                return Path(value)
+            raise ValueError(value)
+        if _NUMBER[kind].fullmatch(value):
+            return kind(value)
+        raise ValueError(value)
+
+
+def _install_quick_coercion(params) -> None:
+    """Give each plain parameter a :class:`_QuickCoercion` (typer 0.29 and later build a validation
+    schema per parameter on first use; earlier versions have no such step and are left alone)."""
+    from typing import get_args, get_origin
+
+    for param in params:
+        descriptor = getattr(param, "type_descriptor", None)
+        if descriptor is None or getattr(param, "_runtime_param", False) is not None:
+            continue
+        info = descriptor.parameter_info
+        try:
+            special = (descriptor.file_annotation is not None or info.parser is not None or info.min is not None
+                       or info.max is not None or info.clamp or info.exists or info.resolve_path or info.writable
+                       or not info.file_okay or not info.dir_okay or info.allow_dash or info.path_type is not None)
+        except AttributeError:  # a framework version that describes parameters otherwise
+            return
+        if special:
+            continue
+        annotation, many = descriptor.annotation, False
+        if get_origin(annotation) is list and len(get_args(annotation)) == 1:
+            annotation, many = get_args(annotation)[0], True
+        if annotation in (str, Path, int, float, bool):
+            param._runtime_param = _QuickCoercion(annotation, many)
+
+
 class _PlainUsage(TyperCommand):
     """A command whose usage line names its arguments plainly: ``FILES...``, ``T_K``, ``[NAME]``."""
+
+    def parse_args(self, ctx, args):
+        _install_quick_coercion(self.get_params(ctx))
+        return super().parse_args(ctx, args)
 
     def collect_usage_pieces(self, ctx) -> list[str]:
         pieces = [self.options_metavar] if self.options_metavar else []
@@ -58,14 +149,19 @@ class _App(typer.Typer):
 class _OneLineErrors(TyperGroup):
     """A group whose ``main`` reports every expected failure as one line, exit status 2."""
 
+    def parse_args(self, ctx, args):
+        _install_quick_coercion(self.get_params(ctx))
+        return super().parse_args(ctx, args)
+
     def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):
-        from ..safe_io import forget_inputs
         from .options import set_verbosity, verbosity
 
         set_verbosity(0)
         args = _verbosity_first(sys.argv[1:] if args is None else list(args))
         started = time.perf_counter()
-        forget_inputs()
+        safe_io = sys.modules.get(f"{__package__.rpartition('.')[0]}.safe_io")
+        if safe_io is not None:  # only a module already loaded can hold inputs of an earlier command
+            safe_io.forget_inputs()
         streams = _guard_streams()
         try:
             with _one_line_warnings(), _stop_signals():
@@ -81,12 +177,14 @@ class _OneLineErrors(TyperGroup):
             _fail(f"cctkit: {exc}".replace("\n", " "), 2)
         except Stopped as exc:
             _fail(f"cctkit: {exc.reason}; {exc.note}", exc.code)
-        except (typer.Abort, click.exceptions.Abort, KeyboardInterrupt):
+        except _aborts():
             _fail("cctkit: interrupted; nothing was written", 130)
         except OSError as exc:  # the file system refused (full, read-only, gone): name the file
             if exc.errno == errno.EPIPE:  # the reader of our output went away (e.g. `| head`)
                 _quiet_exit(0)
             where = f"{exc.filename}: " if exc.filename is not None else ""
+            from ..safe_io import os_error_text
+
             _fail(f"cctkit: {where}{os_error_text(exc)}", 2)
         except MemoryError:
             _fail("cctkit: out of memory; for large lots use `cctkit batch`, which works in chunks", 2)
@@ -176,6 +274,8 @@ class _SafeText:
 
     def write(self, text):
         if isinstance(text, str):
+            from ..formats import terminal_safe
+
             text = terminal_safe(text, keep=self._keep)
         return self._stream.write(text)
 
@@ -223,17 +323,6 @@ def _version(value: bool) -> None:
         raise typer.Exit(0)
 
 
-app = _App(
-    cls=_OneLineErrors,
-    add_completion=True,
-    no_args_is_help=True,
-    pretty_exceptions_enable=False,
-    rich_markup_mode=None,
-    help="Colour temperature, chromaticity, colour rendering and photometry from measured spectra.",
-)
-
-
-@app.callback()
 def _root(
     version: bool = typer.Option(False, "--version", callback=_version, is_eager=True, help="Print the version and exit."),
     quiet: bool = typer.Option(False, "--quiet", help="Only results and errors: no progress, notes or 'wrote' lines "
@@ -249,10 +338,56 @@ def _root(
     set_verbosity(-1 if quiet else 1 if verbose else 0)
 
 
-for _name in _COMMAND_MODULES:
-    importlib.import_module(f"{__name__}.{_name}").register(app)
+def _build_app(modules: tuple[str, ...] = _COMMAND_MODULES) -> _App:
+    """The typer app with the commands of ``modules`` (all of them by default)."""
+    built = _App(
+        cls=_OneLineErrors,
+        add_completion=True,
+        no_args_is_help=True,
+        pretty_exceptions_enable=False,
+        rich_markup_mode=None,
+        help="Colour temperature, chromaticity, colour rendering and photometry from measured spectra.",
+    )
+    built.callback()(_root)
+    for name in modules:
+        importlib.import_module(f"{__name__}.{name}").register(built)
+    return built
+
+
+# The module holding each command: a run of one command imports and builds only that module's commands
+# (tests/test_cli_core.py holds this table equal to what the modules register).
+COMMAND_MODULE = {
+    "inspect": "core", "cct": "core", "locus": "core", "blackbody": "core",
+    "versus": "compare", "reference": "compare", "verify": "verify", "bin": "verify",
+    "report": "report", "batch": "batch", "blend": "blend", "uncertainty": "uncertainty",
+}
+
+app: _App  # every command; built on first use (module __getattr__ below)
+
+
+def __getattr__(name: str):
+    if name == "app":
+        built = _build_app()
+        globals()["app"] = built
+        return built
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+def _app_for(args: list[str]) -> _App:
+    """The app a run with these arguments needs: only the named command (and its module) where one is
+    named, everything for help, completion, a mistyped command or no command."""
+    if not any(k.endswith("_COMPLETE") for k in os.environ):
+        for word in args:
+            if word in ("--quiet", "--verbose"):
+                continue
+            if word in COMMAND_MODULE:
+                built = _build_app((COMMAND_MODULE[word],))
+                built.registered_commands = [c for c in built.registered_commands if c.name == word]
+                return built
+            break
+    return globals().get("app") or __getattr__("app")
 
 
 def main() -> None:
     """Console-script entry point."""
-    app()
+    _app_for(sys.argv[1:])()

@@ -9,7 +9,6 @@ import typer
 
 from ..errors import InputError
 from ..formats import format_number
-from ..spreadsheet import check_dialect
 from .options import (
     INTERPOLATION_OPTION,
     parse_interpolation,
@@ -150,6 +149,8 @@ def inspect_cmd(
         Quantity.parse(quantity, source="--quantity")
     if output is not None:
         require_suffix(output, (".json", ".csv", ".xlsx"))
+    from ..spreadsheet import check_dialect
+
     check_dialect(csv_dialect)
     interp = parse_interpolation(interpolation)
     layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
@@ -276,6 +277,8 @@ def locus_cmd(
             raise InputError(f"{option} must be between {lo:.0f} and {hi:.0f} K, got {value:g}")
     if not t_min < t_max:
         raise InputError(f"--from must be below --to, got {t_min:g} and {t_max:g} K")
+    from ..spreadsheet import check_dialect
+
     check_dialect(csv_dialect)
     if step is not None:
         if not step > 0:

@@ -16,7 +16,6 @@ import typer
 
 from ..errors import InputError
 from ..formats import csv_text, dumps  # noqa: F401  (re-exported for the commands)
-from ..safe_io import atomic_write
 
 JSON_OPTION = typer.Option(False, "--json", help="Print one JSON document on stdout instead of a table.")
 OUTPUT_OPTION = typer.Option(None, "--output", "-o", help="Write the result to FILE (.csv, .xlsx or .json by extension).")
@@ -102,6 +101,8 @@ def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iter
         from ..spreadsheet import csv_in_dialect
 
         text = csv_in_dialect(text, dialect)
+    from ..safe_io import atomic_write
+
     atomic_write(path, text, overwrite=overwrite, inputs=inputs)
     if announce:
         info(f"wrote {path}")
