@@ -30,7 +30,7 @@ PNG_DPI = 150
 #: Output suffixes a report can be written as.
 REPORT_SUFFIXES = (".pdf", ".png")
 
-_RC: dict[str, Any] = {
+_RC = {
     # The PDF uses the standard Helvetica (no font embedding or subsetting: fast, and every
     # viewer has it); text is kept within its Windows-1252 character set.  PNGs use DejaVu Sans.
     "pdf.use14corefonts": True,
