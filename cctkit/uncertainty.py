@@ -484,7 +484,7 @@ def coverage_interval(sorted_draws: np.ndarray, p: float = P_COVERAGE) -> tuple[
     return sorted_draws[r - 1], sorted_draws[min(r + q, M) - 1]
 
 
-def numerical_tolerance(u: np.ndarray, digits: int) -> np.ndarray:
+def numerical_tolerance(u: np.ndarray | float, digits: int) -> np.ndarray:
     """delta = 10^l / 2 where u = c x 10^l with c a ``digits``-digit integer (JCGM 101 section 7.9.2)."""
     u = np.asarray(u, dtype=np.float64)
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -971,8 +971,8 @@ def grid_groups(items: Sequence[Spectra]) -> list[Spectra]:
         raise InputError("spectra of different quantities cannot be analysed together: "
                          + ", ".join(sorted({s.quantity.value for s in items})))
     out = []
-    for _, run in groupby(items, key=lambda s: s.wavelength_nm.tobytes()):
-        run = list(run)
+    for _, same_grid in groupby(items, key=lambda s: s.wavelength_nm.tobytes()):
+        run = list(same_grid)
         if len(run) == 1:
             out.append(run[0])
             continue
