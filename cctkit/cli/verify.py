@@ -99,8 +99,9 @@ def verify_cmd(
     records = analysis.records()
     computed, model, unc_result = None, None, None
     if uncertainty_model is not None:
-        computed, model, unc_result = _computed_uncertainties(files, quantity, uncertainty_model, claims, layout,
-                                                              rendering=report is not None)
+        computed, model, unc_result = _computed_uncertainties(
+            files, quantity, uncertainty_model, claims, layout, dominant_white=parse_dominant_white(dominant_white),
+            rendering=report is not None)
     verdict = verify(records, claims, computed)
     doc = verdict.as_dict()
     traced = _traceable(doc, records, claims, interpolation=parse_interpolation(interpolation))
@@ -136,7 +137,8 @@ def verify_cmd(
         raise typer.Exit(code)
 
 
-def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=None, *, rendering: bool = False):
+def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=None, dominant_white: str = "E", *,
+                            rendering: bool = False):
     """U per sample and metric from a Monte Carlo run with the instrument model, the model, and the
     run's result (``rendering``: with the colour-rendering measures, for the report's headline strip)."""
     from ..analysis import read_files
@@ -149,7 +151,8 @@ def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=No
         info(f"uncertainty: sample {i}/{n}, {m} draws")
 
     result = monte_carlo(grid_groups(read_files(files, quantity=quantity, layout=layout)), model,
-                         rendering=rendering or _needs_rendering(claims), progress=progress)
+                         rendering=rendering or _needs_rendering(claims), progress=progress,
+                         dominant_white=dominant_white)
     return claim_uncertainties(result, claims), model, result
 
 
