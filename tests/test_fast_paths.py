@@ -1,0 +1,68 @@
+"""The faster routes through analyse() give the numbers and flags of the plain ones.
+
+Coverage (photometry, alpha-opic) is worked out once per distinct measured range, and the
+"nothing can be computed" check is one mask over all spectra; these tests hold both against
+the spectrum-by-spectrum definitions on a chunk mixing every kind of range.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from cctkit.alphaopic import alpha_opic
+from cctkit.constants import KM_LM_PER_W, VISIBLE_BAND_NM, WAVELENGTH_NM
+from cctkit.photometry import COVERAGE_LIMIT, measured_mask, photometry, uncovered_share
+from cctkit.spectra import Spectra, signal_problems
+from cctkit.tables import table
+
+RANGES = [(360.0, 830.0, 1.0), (380.0, 780.0, 5.0), (400.0, 700.0, 2.0), (420.0, 680.0, 1.0),
+          (500.0, 600.0, 1.0), (800.0, 830.0, 1.0)]
+
+
+def _chunk(n: int = 60) -> Spectra:
+    rng = np.random.default_rng(5)
+    wl = WAVELENGTH_NM
+    values = np.exp(-0.5 * ((wl - rng.uniform(430, 620, (n, 1))) / rng.uniform(10, 80, (n, 1))) ** 2)
+    values[7] = 0.0  # nothing positive: no-signal
+    values[13] = -values[13]
+    return Spectra(wl, values, tuple(f"s{i}" for i in range(n)), quantity="radiant-flux",
+                   measured_range_nm=tuple(RANGES[i % len(RANGES)] for i in range(n)))
+
+
+def test_signal_problems_follow_the_spectrum_by_spectrum_rule():
+    s = _chunk()
+    lo_vis, hi_vis = VISIBLE_BAND_NM
+    expected = []
+    for i, (lo, hi, _) in enumerate(s.measured_range_nm):  # the rule, one spectrum at a time
+        if hi < lo_vis or lo > hi_vis:
+            expected.append("no-visible-data")
+            continue
+        inside = (s.wavelength_nm >= max(lo, lo_vis) - 1e-9) & (s.wavelength_nm <= min(hi, hi_vis) + 1e-9)
+        expected.append(None if np.any(s.values[i, inside] > 0) else "no-signal")
+    got = [None if p is None else p.code for p in signal_problems(s)]
+    assert got == expected
+    assert got.count("no-visible-data") == 10 and got.count("no-signal") == 2  # both kinds are exercised
+
+
+def test_coverage_once_per_range_equals_the_per_spectrum_masks():
+    s = _chunk()
+    v = s.values
+    mask = measured_mask(s.measured_range_nm)  # (N, 471), the plain definition
+    ph = photometry(v, s.quantity, measured_range_nm=s.measured_range_nm)
+    ao = alpha_opic(v, s.quantity, measured_range_nm=s.measured_range_nm)
+    vm = np.where(mask, v, 0.0)
+    for i in range(len(s)):  # each spectrum alone, with its own range: same totals, same flags
+        one = dict(measured_range_nm=s.measured_range_nm[i:i + 1])
+        p1 = photometry(v[i:i + 1], s.quantity, **one)
+        a1 = alpha_opic(v[i:i + 1], s.quantity, **one)
+        np.testing.assert_allclose(ph.luminous[i], p1.luminous[0], rtol=1e-13)
+        np.testing.assert_allclose(ao.radiant[i], a1.radiant[0], rtol=1e-13)
+        assert ph.flags[i] == p1.flags[0] and ao.flags[i] == a1.flags[0]
+    withheld = np.isnan(ph.luminous)
+    assert withheld.any() and not withheld.all()  # both kinds are exercised
+    share = uncovered_share(mask, table("cmf_2")[:, 1])  # V(lambda), per spectrum with the full mask
+    assert np.array_equal(withheld, share > COVERAGE_LIMIT)
+    # luminous total: Km times the V(lambda)-weighted sum over the measured range (CIE 15:2018 practice)
+    np.testing.assert_allclose(ph.luminous[~withheld], (KM_LM_PER_W * (vm @ table("cmf_2")[:, 1]))[~withheld],
+                               rtol=1e-12)
+    assert not any("-0.00 %" in f.message for flags in ph.flags + ao.flags for f in flags)
