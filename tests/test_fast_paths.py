@@ -84,3 +84,24 @@ def test_wide_rows_parsed_by_arrow_are_the_bits_loadtxt_gives():
     for bad in (["1,2,3", "4,,6"], ["1,2,3", "4,5,6,"], ["1,2,3", "4,NA,6"], ["1,2,3", "4,5"], ['1,"2",3']):
         assert _arrow_values(bad, ",", 3) is None
     assert _arrow_values(["1 2 3"], None, 3) is None
+
+
+def test_a_control_character_in_a_wide_row_is_still_refused_with_its_line(tmp_path):
+    # the per-line check is skipped only for files whose bytes hold no control character at all
+    import pytest
+
+    from cctkit.errors import InputError
+    from cctkit.readers.wide import open_chunked
+
+    wl = np.arange(380, 781, 5)
+    rows = ["name," + ",".join(str(w) for w in wl)]
+    rows += [f"lamp {k}," + ",".join("1.5" for _ in wl) for k in range(6)]
+    clean = tmp_path / "clean.csv"
+    clean.write_text("\n".join(rows) + "\n")
+    assert sum(len(c) for c in open_chunked(clean, chunk_size=4).chunks()) == 6
+    rows[4] = rows[4].replace("lamp 3", "lamp\x073")
+    bad = tmp_path / "bad.csv"
+    bad.write_text("\n".join(rows) + "\n")
+    with pytest.raises(InputError, match="control character 0x07") as e:
+        list(open_chunked(bad, chunk_size=4).chunks())
+    assert e.value.line == 5
