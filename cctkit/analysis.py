@@ -22,7 +22,8 @@ from .errors import Flag
 from .formats import finite_or_none
 from .spectra import Quantity, Spectra, signal_problems, to_working_grid
 
-__all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "metadata_text", "records_csv", "provenance", "CONVENTIONS"]
+__all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "metadata_text", "records_csv", "provenance",
+           "interpolation_summary", "CONVENTIONS"]
 
 #: The conventions every number is computed under (written into every output).
 CONVENTIONS = {
@@ -30,7 +31,8 @@ CONVENTIONS = {
     "summation": "plain sum at 1 nm, no end-point halving (CIE 15:2018)",
     "interpolation": "as measured on the 1 nm grid; auto: Sprague (CIE 167:2005) for uniform steps, PCHIP "
                      "otherwise; sprague / linear / pchip on request; the method of each spectrum in its record",
-    "extrapolation": "nearest measured value repeated (CIE 15:2018 section 7.2.2), for colour measures only",
+    "extrapolation": "nearest measured value repeated (CIE 15:2018 section 7.2.2), for colour measures only "
+                     "(CIE 224 / TM-30: zero, their own rule)",
     "totals": "radiant and photon totals over the measured range as measured; PPF over 400-700 nm measured; "
               "luminous, scotopic and alpha-opic totals over the measured part of 360-830 nm; LER = luminous / radiant",
     "coverage_rule": "a total is withheld when its weighting function has more than 1 % of its integral "
@@ -38,6 +40,12 @@ CONVENTIONS = {
     "c2_m_K": C2_M_K,
     "Km_lm_per_W": KM_LM_PER_W,
     "cct_method": "exact: nearest Planckian point in CIE 1960 uv (CIE 15:2018 section 9.5)",
+    "dominant_wavelength": "CIE 15:2018 section 9.1, from the white point each record names (dominant_white; "
+                           "default E, equal energy, the achromatic stimulus used for light sources)",
+    "shape": "peak withheld at an end of the measured range and for flat spectra; FWHM only where the "
+             "spectrum is below half its maximum at both ends of the measured range",
+    "cie224_short_range": "Rf, Rg and hue bins of spectra not covering 380-780 nm: zero where not measured "
+                          "(CIE 224:2017 / TM-30-20 rule); CIE 13.3 keeps the nearest measured value",
     "duv_sign": "positive above the Planckian locus (towards larger v)",
     "duv_limit": DUV_LIMIT,
 }
@@ -123,17 +131,20 @@ def _part_columns(part, n: int) -> dict[str, np.ndarray]:
     The check keeps the columns equal to the records when a measure's record changes
     before its ``columns`` method follows.
     """
-    cols = {k: _finite(v) for k, v in part.columns().items()} if hasattr(part, "columns") else None
+    cols = ({k: v if np.asarray(v).dtype == object else _finite(v) for k, v in part.columns().items()}
+            if hasattr(part, "columns") else None)
     if n and cols is not None:
         first = flatten_record(part.record(0))
         same = list(first) == list(cols) and all(
-            (v is None and np.isnan(cols[k][0])) or (isinstance(v, float) and v == cols[k][0]) for k, v in first.items()
+            (v is None and np.isnan(cols[k][0])) or (isinstance(v, (float, str)) and v == cols[k][0])
+            for k, v in first.items()
         )
         if same:
             return cols
     recs = [flatten_record(part.record(i)) for i in range(n)]
     keys = list(dict.fromkeys(k for r in recs for k in r)) if recs else list(cols or {})
-    return {k: np.array([r.get(k) for r in recs], dtype=np.float64) for k in keys}
+    return {k: (_text_column([r.get(k) for r in recs]) if any(isinstance(r.get(k), str) for r in recs)
+                else np.array([r.get(k) for r in recs], dtype=np.float64)) for k in keys}
 
 
 def _columns(a: Analysis) -> dict[str, np.ndarray]:
@@ -288,7 +299,8 @@ def one_blas_thread():
     return _BLAS.limit(limits=1, user_api="blas")
 
 
-def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, interpolation: str = "auto") -> Analysis:
+def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, interpolation: str = "auto",
+            dominant_white: Any = "E") -> Analysis:
     """Every measure for every spectrum in ``spectra``, vectorised.
 
     Parameters
@@ -302,9 +314,16 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, inte
         standard prescribes.
     rendering
         Compute CIE 13.3 and CIE 224 / TM-30 colour rendering (the costly part).
+    dominant_white
+        White point of the dominant wavelength and excitation purity: ``"E"`` (default, the
+        equal-energy white used for light sources), ``"D65"``, ``"D50"``, ``"A"`` or (x, y)
+        (:func:`cctkit.dominant.resolve_white`); every record names it (``dominant_white``).
     """
     if int(observer) not in (2, 10):
         raise ValueError(f"observer must be 2 or 10, got {observer!r}")
+    from .dominant import resolve_white
+
+    white = resolve_white(dominant_white, observer=int(observer))  # a bad white fails before any work
     g = to_working_grid(spectra, interpolation=interpolation)
     # Spectra nothing can be computed from (no visible data, no signal) get every measure withheld
     # and a flag; the command line refuses them before this point (analysis.read_files).
@@ -312,10 +331,11 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, inte
     empty = np.array([p is not None for p in problems])
     V = np.where(empty[:, None], np.nan, g.values) if empty.any() else g.values
     with np.errstate(invalid="ignore", divide="ignore"), one_blas_thread():
-        return _analyse(g, V, problems, observer=int(observer), rendering=rendering)
+        return _analyse(g, V, problems, observer=int(observer), rendering=rendering, white=white)
 
 
-def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: bool) -> Analysis:
+def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: bool,
+             white: tuple = ("E", (1.0 / 3.0, 1.0 / 3.0))) -> Analysis:
     raw = XYZ(V, observer=observer)
     if g.quantity is Quantity.RELATIVE:
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -328,11 +348,11 @@ def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: b
     cct = cct_duv(uv, observer=observer)
     flags = _add_flags(g.flags, _cct_flag_rows(cct, problems),
                        lambda i: (problems[i],) if problems[i] is not None else _cct_flags(cct, i, uv))
-    parts = _extra_measures(g, V, xy, observer=int(observer))
-    flags = _add_flags(flags, _flagged(parts["photometry"].flags, parts["alphaopic"].flags),
-                       lambda i: parts["photometry"].flags[i] + parts["alphaopic"].flags[i])
+    parts = _extra_measures(g, V, xy, observer=int(observer), white=white)
+    flags = _add_flags(flags, _flagged(parts["photometry"].flags, parts["alphaopic"].flags, parts["shape"].flags),
+                       lambda i: parts["photometry"].flags[i] + parts["alphaopic"].flags[i] + parts["shape"].flags[i])
     if rendering:
-        cri, fid, rendering_flags = _rendering(V, cct, observer=int(observer))
+        cri, fid, rendering_flags = _rendering(V, cct, observer=int(observer), measured_range_nm=g.measured_range_nm)
         parts.update(cri=cri, tm30=fid)
         flags = tuple(f + e if e else f for f, e in zip(flags, rendering_flags))
     return Analysis(
@@ -340,7 +360,8 @@ def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: b
     )
 
 
-def _extra_measures(g: Spectra, V: np.ndarray, xy, *, observer: int) -> dict[str, Any]:
+def _extra_measures(g: Spectra, V: np.ndarray, xy, *, observer: int,
+                    white: tuple = ("E", (1.0 / 3.0, 1.0 / 3.0))) -> dict[str, Any]:
     """Photometry, alpha-opic quantities, spectral shape, dominant wavelength."""
     from .alphaopic import alpha_opic
     from .dominant import dominant_wavelength
@@ -351,8 +372,8 @@ def _extra_measures(g: Spectra, V: np.ndarray, xy, *, observer: int) -> dict[str
         "photometry": photometry(V, g.quantity, measured_range_nm=g.measured_range_nm,
                                  measured_totals=g.measured_totals),
         "alphaopic": alpha_opic(V, g.quantity, measured_range_nm=g.measured_range_nm),
-        "shape": spectral_shape(V),
-        "dominant": dominant_wavelength(xy, observer=observer),
+        "shape": spectral_shape(V, measured_range_nm=g.measured_range_nm),
+        "dominant": dominant_wavelength(xy, white_xy=white[0], observer=observer),
     }
 
 
@@ -396,15 +417,17 @@ def _tm30_columns(r) -> dict[str, list]:
     }
 
 
-def _rendering(V: np.ndarray, cct: CctResult, *, observer: int):
+def _rendering(V: np.ndarray, cct: CctResult, *, observer: int, measured_range_nm=None):
     """CIE 13.3 and CIE 224 / TM-30 results and their flags.
 
     Both standards use the CIE 1931 2 deg CCT, so with ``observer=10`` it is computed anew.
+    Spectra not covering 380-780 nm get Rf/Rg by CIE 224's own rule (see
+    :func:`cctkit.rendering.tm30.short_range_rule`) and a ``cie224-short-range`` flag.
     """
     from .rendering import DC_LIMIT, REFERENCE_RANGE_K, colour_rendition, rendering_cct
 
     T, duv = (cct.cct_K, cct.duv) if observer == 2 else rendering_cct(V)
-    r = colour_rendition(V, cct_K=T, duv=duv)
+    r = colour_rendition(V, cct_K=T, duv=duv, measured_range_nm=measured_range_nm)
     # flags built for the flagged spectra only, from plain Python values
     flags: list[tuple[Flag, ...]] = [()] * V.shape[0]
     has_ref = np.isfinite(r.cct_K)
@@ -423,6 +446,20 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int):
     none = Flag("no-rendering", "no CCT, so no reference illuminant: colour rendering not computed")
     for i in np.flatnonzero(~has_ref & ~above).tolist():
         flags[i] = (none,)
+    if measured_range_nm is not None:
+        from .rendering.tm30 import RANGE_NM
+
+        lo_hi = np.array([r_[:2] for r_ in measured_range_nm], dtype=np.float64).reshape(-1, 2)
+        short = has_ref & ((lo_hi[:, 0] > RANGE_NM[0]) | (lo_hi[:, 1] < RANGE_NM[1]))
+        for i in np.flatnonzero(short).tolist():
+            lo, hi = lo_hi[i]
+            t = float(r.tm30.cct_K[i])
+            at = f"the CCT of that spectrum, {t:.0f} K" if np.isfinite(t) else "no CCT: Rf and Rg withheld"
+            flags[i] = flags[i] + (Flag(
+                "cie224-short-range",
+                f"measured {lo:g}-{hi:g} nm does not cover 380-780 nm: Rf, Rg and the hue bins take the spectrum "
+                f"as zero where it was not measured (CIE 224:2017 / TM-30-20 rule), reference at {at}; "
+                "Ra uses the nearest measured value"),)
     return r.cri, r.tm30, tuple(flags)
 
 
@@ -456,11 +493,11 @@ def read_files(files, *, quantity=None, layout=None) -> list[Spectra]:
 
 
 def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True, layout=None,
-                  interpolation: str = "auto") -> Analysis:
+                  interpolation: str = "auto", dominant_white: Any = "E") -> Analysis:
     """:func:`analyse` of the spectra of ``files`` as one batch; they may differ in quantity
     (see :func:`analyse_mixed`)."""
     return analyse_mixed(read_files(files, quantity=quantity, layout=layout), observer=observer, rendering=rendering,
-                         interpolation=interpolation)
+                         interpolation=interpolation, dominant_white=dominant_white)
 
 
 @dataclass(frozen=True)
@@ -486,7 +523,7 @@ class MixedAnalysis(Analysis):
 
 
 def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = True,
-                  interpolation: str = "auto") -> Analysis:
+                  interpolation: str = "auto", dominant_white: Any = "E") -> Analysis:
     """One analysis of several Spectra that may differ in quantity, in input order.
 
     Spectra of one quantity are joined and analysed as one batch (vectorised).
@@ -505,7 +542,8 @@ def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = 
     for i, s in enumerate(items):
         groups.setdefault(s.quantity, []).append(i)
     if len(groups) == 1:
-        return analyse(concatenate(items, interpolation=interpolation), observer=observer, rendering=rendering)
+        return analyse(concatenate(items, interpolation=interpolation), observer=observer, rendering=rendering,
+                       dominant_white=dominant_white)
     parts = []
     where: dict[int, tuple[int, int]] = {}  # item -> (part, first spectrum in it)
     for k, idx in enumerate(groups.values()):
@@ -514,7 +552,7 @@ def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = 
             where[i] = (k, pos)
             pos += len(items[i])
         parts.append(analyse(concatenate([items[i] for i in idx], interpolation=interpolation), observer=observer,
-                             rendering=rendering))
+                             rendering=rendering, dominant_white=dominant_white))
     offsets = np.cumsum([0] + [len(a) for a in parts])
     perm = np.array([offsets[where[i][0]] + where[i][1] + j for i in range(len(items)) for j in range(len(items[i]))])
     all_records = [r for a in parts for r in a.records()]
@@ -577,7 +615,7 @@ def _join_results(parts: list, perm: np.ndarray):
 
 
 def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True,
-                   interpolation: str = "auto") -> list[dict[str, Any]]:
+                   interpolation: str = "auto", dominant_white: Any = "E") -> list[dict[str, Any]]:
     """Records for several Spectra that may differ in quantity, in input order.
 
     Spectra of one quantity are joined and analysed as one batch (vectorised); the
@@ -591,7 +629,7 @@ def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool =
     per_item: dict[int, list[dict[str, Any]]] = {}
     for idx in order.values():
         recs = analyse(concatenate([items[i] for i in idx], interpolation=interpolation), observer=observer,
-                       rendering=rendering).records()
+                       rendering=rendering, dominant_white=dominant_white).records()
         pos = 0
         for i in idx:
             n = len(items[i])
@@ -639,10 +677,26 @@ def records_csv(records: list[dict[str, Any]]) -> str:
     return csv_text(header, ([r.get(k, "") for k in header] for r in flat))
 
 
-def provenance(*, interpolation: str = "auto") -> dict[str, Any]:
-    """What every output carries so a number can be traced."""
+def interpolation_summary(methods) -> str:
+    """The resampling methods actually used, with counts: ``"sprague (3 spectra); as measured (1 nm) (1 spectrum)"``."""
+    counts: dict[str, int] = {}
+    for m in methods:
+        if m:
+            counts[str(m)] = counts.get(str(m), 0) + 1
+    return "; ".join(f"{m} ({k} spectr{'um' if k == 1 else 'a'})" for m, k in counts.items())
+
+
+def provenance(*, interpolation: str = "auto", used=None) -> dict[str, Any]:
+    """What every output carries so a number can be traced.
+
+    ``interpolation`` is the method asked for (``--interpolation``); ``used``, when given, the
+    method each spectrum was actually resampled by (records' ``interpolation``), summarised in
+    ``conventions.interpolation_used``.
+    """
     from .tables import colour_version
 
     colour_v = colour_version()
-    return {"cctkit_version": __version__, "colour_science_version": colour_v,
-            "conventions": {**CONVENTIONS, "interpolation_method": interpolation}}
+    conventions = {**CONVENTIONS, "interpolation_method": interpolation}
+    if used is not None:
+        conventions["interpolation_used"] = interpolation_summary(used)
+    return {"cctkit_version": __version__, "colour_science_version": colour_v, "conventions": conventions}

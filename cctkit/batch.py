@@ -61,7 +61,8 @@ OUTPUT_SUFFIXES = (".csv", ".parquet", ".xlsx")
 #: How long to try reaching a Dask scheduler before giving up [s].
 SCHEDULER_TIMEOUT_S = 10.0
 _STRING_COLUMNS = frozenset(
-    {"name", "source", "sha256", "quantity", "spectral_unit", "reference", "cri_reference", "flags", "cctkit_version", "metadata"}
+    {"name", "source", "sha256", "quantity", "spectral_unit", "reference", "cri_reference", "flags", "cctkit_version", "metadata",
+     "dominant_white"}
 )
 
 
@@ -69,7 +70,7 @@ _STRING_COLUMNS = frozenset(
 
 
 def spectra_results(spectra: Spectra, *, observer: int = 2, rendering: bool = True,
-                    interpolation: str = "auto") -> dict[str, np.ndarray]:
+                    interpolation: str = "auto", dominant_white: str = "E") -> dict[str, np.ndarray]:
     """Every measure for a chunk of spectra, as a table of columns (see :func:`records_table`).
 
     ``observer`` and ``rendering`` are passed to :func:`cctkit.analysis.analyse`.  The table ends with a ``cctkit_version`` column, as the CSV of ``inspect`` does.
@@ -77,7 +78,8 @@ def spectra_results(spectra: Spectra, *, observer: int = 2, rendering: bool = Tr
     from . import __version__
     from .analysis import analyse
 
-    analysis = analyse(spectra, observer=observer, rendering=rendering, interpolation=interpolation)
+    analysis = analyse(spectra, observer=observer, rendering=rendering, interpolation=interpolation,
+                       dominant_white=dominant_white)
     # Analysis.columns() equals records_table(analysis.records()) (tests hold it), built from
     # the arrays without a dict per spectrum; so batch output and `inspect` output agree.
     table = analysis.columns()
@@ -168,26 +170,26 @@ class _ChunkResult:
 
 
 def _work(spectra: Spectra, observer: int, rendering: bool, output: str = ".csv",
-          interpolation: str = "auto", csv_dialect: str = "comma") -> _ChunkResult:
+          interpolation: str = "auto", csv_dialect: str = "comma", dominant_white: str = "E") -> _ChunkResult:
     """What a worker runs: one chunk in, its formatted output out (module level so it pickles).
 
     Formatting here rather than in the writing process spreads the cost of turning some
     250 numbers per spectrum into text over the workers, and the parent receives the text
     (or the Arrow table) only.
     """
-    table = _results(spectra, observer, rendering, output, interpolation, csv_dialect)
-    return _formatted(table, observer, rendering, output, interpolation, csv_dialect)
+    table = _results(spectra, observer, rendering, output, interpolation, csv_dialect, dominant_white)
+    return _formatted(table, observer, rendering, output, interpolation, csv_dialect, dominant_white)
 
 
 def _results(spectra: Spectra, observer: int, rendering: bool, output: str = ".csv",
-             interpolation: str = "auto", csv_dialect: str = "comma") -> dict[str, np.ndarray]:
+             interpolation: str = "auto", csv_dialect: str = "comma", dominant_white: str = "E") -> dict[str, np.ndarray]:
     """The first half of :func:`_work`: the chunk's table of results."""
-    return spectra_results(spectra, observer=observer, rendering=rendering,
-                           interpolation=interpolation)  # one BLAS thread: see analyse()
+    return spectra_results(spectra, observer=observer, rendering=rendering, interpolation=interpolation,
+                           dominant_white=dominant_white)  # one BLAS thread: see analyse()
 
 
 def _formatted(table: dict[str, np.ndarray], observer: int, rendering: bool, output: str = ".csv",
-               interpolation: str = "auto", csv_dialect: str = "comma") -> _ChunkResult:
+               interpolation: str = "auto", csv_dialect: str = "comma", dominant_white: str = "E") -> _ChunkResult:
     """The second half of :func:`_work`: the table as the writer takes it (CSV text or an Arrow table)."""
     if output == ".csv":
         text = table_csv(table, list(table))
@@ -668,6 +670,7 @@ def run_batch(
     observer: int = 2,
     rendering: bool = True,
     interpolation: str = "auto",
+    dominant_white: str = "E",
     overwrite: bool = False,
     progress: Progress | None = None,
     metadata: dict[str, Any] | None = None,
@@ -689,7 +692,7 @@ def run_batch(
         Local worker processes (default :func:`default_workers`); 1 runs in this process.
     scheduler
         Address of a Dask scheduler (``tcp://host:port``); when given, chunks run there.
-    observer, rendering, interpolation
+    observer, rendering, interpolation, dominant_white
         Passed to :func:`cctkit.analysis.analyse` (folder members on other grids are resampled by
         the reader, see :func:`cctkit.readers.wide.open_chunked`).
     progress
@@ -733,11 +736,11 @@ def run_batch(
         raise InputError(f"--csv-dialect applies to .csv output, not {suffix}", source="--csv-dialect")
     if suffix == ".xlsx":
         return _batch_xlsx(source, out, workers=workers, scheduler=scheduler, observer=observer,
-                           rendering=rendering, interpolation=interpolation, overwrite=overwrite,
-                           progress=progress, metadata=metadata, inputs=inputs)
+                           rendering=rendering, interpolation=interpolation, dominant_white=dominant_white,
+                           overwrite=overwrite, progress=progress, metadata=metadata, inputs=inputs)
     progress = progress or Progress(source.total, enabled=False)
     notes = _clear_leftovers(out, resume)
-    identity = _identity(source, out, observer=observer, rendering=rendering)
+    identity = _identity(source, out, observer=observer, rendering=rendering, dominant_white=dominant_white)
     if csv_dialect != "comma":
         identity["csv_dialect"] = csv_dialect
     state = _journal_state(out, identity) if resume else None
@@ -745,7 +748,7 @@ def run_batch(
     if state is not None:
         chunks = itertools.islice(chunks, state["chunks"], None)  # read again, not analysed again
         notes.append(f"resumed after {state['chunks']} complete chunks ({state['spectra']} spectra)")
-    opts = (observer, rendering, suffix, interpolation, csv_dialect)
+    opts = (observer, rendering, suffix, interpolation, csv_dialect, dominant_white)
     if scheduler:
         executor = f"dask {scheduler}"
         results = _dask(chunks, scheduler, opts)
@@ -827,7 +830,7 @@ def _clear_leftovers(out: Path, resume: bool) -> list[str]:
     return notes
 
 
-def _identity(source, out: Path, *, observer: int, rendering: bool) -> dict[str, Any]:
+def _identity(source, out: Path, *, observer: int, rendering: bool, dominant_white: str = "E") -> dict[str, Any]:
     """What must be the same for a run to continue another: the input files (size, modification
     time), the chunking, the options and the version."""
     from . import __version__
@@ -841,13 +844,15 @@ def _identity(source, out: Path, *, observer: int, rendering: bool) -> dict[str,
         if not os.path.isdir(f):
             files.append([str(f), st.st_size, st.st_mtime_ns])
     return {"cctkit_version": __version__, "output": str(out), "input": str(source.path), "files": files,
-            "chunk_size": source.chunk_size, "observer": observer, "rendering": rendering}
+            "chunk_size": source.chunk_size, "observer": observer, "rendering": rendering,
+            "dominant_white": dominant_white}
 
 
 def _unchanged(source, identity: dict[str, Any]) -> None:
     """Refuse results of an input that changed while it was read: the hashes recorded in the
     rows are of the data analysed only if the file stayed the same throughout."""
-    now = _identity(source, Path(identity["output"]), observer=identity["observer"], rendering=identity["rendering"])
+    now = _identity(source, Path(identity["output"]), observer=identity["observer"], rendering=identity["rendering"],
+                    dominant_white=identity.get("dominant_white", "E"))
     if now["files"] != identity["files"]:
         changed = next((a[0] for a, b in zip(identity["files"], now["files"]) if a != b), source.path)
         raise InputError("the input changed while the run read it; results not written", source=str(changed))

@@ -13,7 +13,8 @@ for action spectra / CMFs and the nearest value for reflectances):
 ``v_scotopic``   CIE 1951 scotopic V'(lambda) (CIE 15:2018 Table T.3) (471,)
 ``lms_10``       CIE 2006 10 deg cone fundamentals l, m, s (CIE 170-1:2006, energy, peak 1) (471, 3)
 ``tcs_1995``     CIE 13.3-1995 test colour samples TCS01-TCS14, Sprague to 1 nm (471, 14)
-``ces_2017``     CIE 224:2017 / TM-30 colour evaluation samples CES1-CES99 (471, 99)
+``ces_2017``     CIE 224:2017 / TM-30 colour evaluation samples CES1-CES99, the standard's own 1 nm
+                 table over 380-780 nm as colour-science ships it (nearest value outside) (471, 99)
 ``d_basis``      CIE daylight basis S0, S1, S2 (CIE 15:2018 Table T.2), linear to 1 nm (471, 3)
 """
 
@@ -31,7 +32,7 @@ from .constants import WAVELENGTH_NM
 __all__ = ["table", "cmfs", "cache_path", "cached_arrays", "TABLE_NAMES"]
 
 TABLE_NAMES = ("cmf_2", "cmf_10", "v_scotopic", "lms_10", "tcs_1995", "ces_2017", "d_basis")
-_FORMAT = 1
+_FORMAT = 2
 _LOCK = threading.Lock()
 
 
@@ -116,9 +117,13 @@ def _build() -> dict[str, np.ndarray]:
     t["tcs_1995"] = np.stack(
         [tcs[k].copy().align(shape).values for k in sorted(tcs.keys(), key=lambda k: int(k[3:]))], axis=1
     )
-    ces = load_TCS_CIE2017(SpectralShape(380, 780, 5)).copy()
-    ces = ces.align(shape)  # Sprague inside 380-780, constant (nearest) outside
-    t["ces_2017"] = np.asarray(ces.values, dtype=np.float64)
+    # CIE 224:2017 publishes the samples at 1 nm and at 5 nm; the 1 nm table is used as published
+    # (no interpolation).  Outside 380-780 nm the nearest value: the 10 deg weights there are zero.
+    ces = load_TCS_CIE2017(SpectralShape(380, 780, 1))
+    ces_wl = np.asarray(ces.wavelengths, dtype=np.float64)
+    if not np.array_equal(ces_wl, np.arange(380.0, 781.0)):  # pragma: no cover - a changed dataset
+        raise RuntimeError("colour-science's CIE 2017 1 nm colour evaluation samples do not span 380-780 nm at 1 nm")
+    t["ces_2017"] = np.asarray(ces.values, dtype=np.float64)[np.clip(np.rint(wl - 380.0).astype(int), 0, 400)]
     d = SDS_BASIS_FUNCTIONS_CIE_ILLUMINANT_D_SERIES
     t["d_basis"] = np.stack(
         [np.interp(wl, d[k].wavelengths, d[k].values) for k in ("S0", "S1", "S2")], axis=1

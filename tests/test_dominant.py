@@ -73,7 +73,8 @@ def test_white_point_and_nan():
     r = dominant_wavelength(np.array([[1 / 3, 1 / 3], [np.nan, 0.3]]))
     assert np.isnan(r.dominant_wavelength_nm).all()
     assert r.purity[0] == 0.0 and np.isnan(r.purity[1])
-    assert r.record(0) == {"dominant_wavelength_nm": None, "purity": 0.0}
+    assert r.record(0) == {"dominant_wavelength_nm": None, "purity": 0.0, "dominant_white": "E",
+                           "dominant_white_x": 1 / 3, "dominant_white_y": 1 / 3}
 
 
 def test_leading_shape_and_spectra_entry():
@@ -98,3 +99,80 @@ def test_bad_input():
         dominant_wavelength(np.ones((3, 3)))
     with pytest.raises(InputError, match=r"white_xy: expected finite"):
         dominant_wavelength(np.ones(2) * 0.3, white_xy=(np.nan, 0.3))
+
+
+def _exhaustive():
+    """The exhaustive form (every sample against all 471 segments), kept in the benchmark for comparison."""
+    import importlib.util
+    from pathlib import Path
+
+    path = Path(__file__).resolve().parents[1] / "benchmarks" / "bench_shape_dominant.py"
+    spec = importlib.util.spec_from_file_location("bench_shape_dominant", path)
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    return mod
+
+
+@pytest.mark.parametrize("observer, white", [(2, "E"), (2, "D65"), (10, "A"), (2, (0.25, 0.30))])
+def test_sorted_search_equals_exhaustive_bit_for_bit(observer, white):
+    from cctkit.dominant import resolve_white
+
+    bench = _exhaustive()
+    rng = np.random.default_rng(11)
+    xy = np.vstack([
+        rng.uniform([0.0, 0.0], [0.75, 0.85], (4000, 2)),  # inside and outside the locus, purples too
+        spectral_locus_xy(observer)[::3],  # on the locus, vertices included
+        spectral_locus_xy(observer)[400:] + 1e-7,  # beyond 760 nm, where the locus turns back on itself
+        [[np.nan, 0.3], [1 / 3, 1 / 3]],
+    ])
+    _, w = resolve_white(white, observer=observer) if isinstance(white, str) else ("", white)
+    r = dominant_wavelength(xy, white_xy=w, observer=observer)
+    old = bench.exhaustive_dominant(xy, w, observer)
+    new = (r.dominant_wavelength_nm, r.complementary_wavelength_nm, r.purity, r.is_purple, r.boundary_xy)
+    for a, b in zip(old, new):  # identical, NaN where NaN (the claim of the sorted search)
+        assert np.array_equal(a, b, equal_nan=True)
+
+
+def test_per_sample_whites_and_white_outside_locus():
+    bench = _exhaustive()
+    xy = _points_inside_locus(300, seed=5)
+    whites = np.where(np.arange(xy.shape[0])[:, None] % 2 == 0, (1 / 3, 1 / 3), (0.31272, 0.32903))
+    r = dominant_wavelength(xy, white_xy=whites)
+    assert r.white == "per sample"
+    old = bench.exhaustive_dominant(xy, whites)
+    assert np.array_equal(old[0], r.dominant_wavelength_nm, equal_nan=True)
+    assert np.array_equal(old[2], r.purity, equal_nan=True)
+    outside = (0.05, 0.9)  # not a white at all: no angular order; every segment is tested
+    r = dominant_wavelength(xy[:50], white_xy=outside)
+    old = bench.exhaustive_dominant(xy[:50], outside)
+    assert np.array_equal(old[0], r.dominant_wavelength_nm, equal_nan=True)
+
+
+def test_named_white_points_against_reference_library():
+    from cctkit.dominant import WHITE_POINTS, resolve_white
+
+    colour = pytest.importorskip("colour")
+    for observer, lib_name in ((2, "CIE 1931 2 Degree Standard Observer"), (10, "CIE 1964 10 Degree Standard Observer")):
+        lib = colour.CCS_ILLUMINANTS[lib_name]
+        for name in WHITE_POINTS:
+            # reference library: colour-science 0.4.7 CCS_ILLUMINANTS (4-5 digits), hence 5e-5
+            assert resolve_white(name, observer=observer)[1] == pytest.approx(tuple(lib[name]), abs=5e-5)
+    assert resolve_white("d65") == ("D65", (0.31272, 0.32903))
+    assert resolve_white("0.3,0.31") == ("0.3,0.31", (0.3, 0.31))
+    with pytest.raises(InputError, match=r"white point must be one of E, D65, D50, A or x,y"):
+        resolve_white("D75")
+    with pytest.raises(InputError, match=r"x \+ y < 1"):
+        resolve_white("0.6,0.5")
+
+
+def test_white_point_changes_the_answer_and_is_recorded():
+    xy = np.array([[0.40, 0.50]])  # a yellow-green
+    e = dominant_wavelength(xy)
+    a = dominant_wavelength(xy, white_xy="A")
+    assert e.record(0)["dominant_white"] == "E" and a.record(0)["dominant_white"] == "A"
+    assert a.record(0)["dominant_white_x"] == 0.44758
+    # seen from A (yellower) the same point lies towards shorter wavelengths: a different answer
+    assert a.dominant_wavelength_nm[0] < e.dominant_wavelength_nm[0] - 5
+    colour = pytest.importorskip("colour")
+    lib = colour.dominant_wavelength(xy[0], np.array([0.44758, 0.40745]))[0]  # reference library: colour-science 0.4.7
+    assert a.dominant_wavelength_nm[0] == pytest.approx(lib, abs=0.5)

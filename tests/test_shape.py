@@ -73,3 +73,70 @@ def test_leading_axes_kept():
 def test_bad_grid():
     with pytest.raises(InputError, match=r"values: last axis must hold 471 samples"):
         peak_wavelength_nm(np.ones(470))
+
+
+def _exhaustive_fwhm():
+    """The former FWHM form, kept in the benchmark for the comparison."""
+    import importlib.util
+    from pathlib import Path
+
+    path = Path(__file__).resolve().parents[1] / "benchmarks" / "bench_shape_dominant.py"
+    spec = importlib.util.spec_from_file_location("bench_shape_dominant", path)
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    return mod.exhaustive_fwhm
+
+
+def test_mask_fwhm_equals_the_former_form_bit_for_bit():
+    rng = np.random.default_rng(3)
+    n = 400
+    s = (_gauss(rng.uniform(380, 800, n), rng.uniform(2, 40, n))
+         + rng.uniform(0, 0.9, (n, 1)) * _gauss(rng.uniform(380, 800, n), rng.uniform(5, 80, n))
+         + rng.uniform(0, 0.02, (n, 471)))
+    new = fwhm_nm(s)
+    old = _exhaustive_fwhm()(s)
+    defined = np.isfinite(new)
+    assert defined.sum() > n // 2
+    assert np.array_equal(new[defined], old[defined])  # identical where the new rule reports a width
+    # where withheld, the reason is recorded: no peak, or a band not closed inside the range
+    r = spectral_shape(s)
+    assert np.all(r.fwhm_status[~defined] > 0) and np.all(r.fwhm_status[defined] == 0)
+
+
+def _cie(name):
+    colour = pytest.importorskip("colour")
+    return colour.SDS_ILLUMINANTS[name].copy().align(colour.SpectralShape(360, 830, 1)).values
+
+
+def test_edge_flat_and_broadband_are_withheld_with_their_reason():
+    from cctkit.planck import spectral_exitance
+
+    bb2700 = spectral_exitance(np.array([2700.0]), WAVELENGTH_NM)[0]
+    v = np.vstack([_cie("D65"), np.ones(471), bb2700, _gauss(550.0, 12.0)])
+    r = spectral_shape(v)
+    codes = [[f.code for f in fl] for fl in r.flags]
+    # D65: peak at 460 nm (CIE 15:2018 Table T.1 tabulates its highest value, 117.8, at 460 nm; from memory)
+    assert r.peak_nm[0] == pytest.approx(460.0, abs=1.0)
+    assert np.isnan(r.fwhm_nm[0]) and codes[0] == ["fwhm-not-defined"]
+    assert "FWHM is not defined for this broadband spectrum" in r.flags[0][0].message
+    assert "830 nm" in r.flags[0][0].message  # D65 is above half its maximum at the 830 nm end
+    assert np.isnan(r.peak_nm[1]) and np.isnan(r.fwhm_nm[1]) and codes[1] == ["peak-not-meaningful"]
+    # a 2700 K blackbody peaks at 1073 nm (Wien: 2.8978e6 nm K / T, CIE 15:2018 / textbook): beyond 830 nm
+    assert np.isnan(r.peak_nm[2]) and codes[2] == ["peak-at-range-edge"]
+    assert "830 nm end of the measured range (360-830 nm)" in r.flags[2][0].message
+    assert codes[3] == [] and r.fwhm_nm[3] == pytest.approx(FWHM_PER_SIGMA * 12.0, abs=0.05)
+
+
+def test_measured_range_decides_the_edge():
+    # A Gaussian at 560 nm measured only to 540 nm: the highest measured value is the 540 nm end.
+    g = _gauss(560.0, 15.0)
+    r = spectral_shape(g, measured_range_nm=[(380.0, 540.0, 1.0)])
+    assert np.isnan(r.peak_nm[0]) and r.flags[0][0].code == "peak-at-range-edge"
+    # measured 380-780: both crossings inside, band closed
+    r = spectral_shape(g, measured_range_nm=[(380.0, 780.0, 5.0)])
+    assert r.peak_nm[0] == pytest.approx(560.0, abs=0.05) and r.flags[0] == ()
+    # a band whose lower half-maximum crossing lies below the measured start: FWHM withheld, peak kept
+    r = spectral_shape(_gauss(420.0, 30.0), measured_range_nm=[(400.0, 780.0, 1.0)])
+    assert r.peak_nm[0] == pytest.approx(420.0, abs=0.05)
+    assert np.isnan(r.fwhm_nm[0]) and r.flags[0][0].code == "fwhm-not-defined"
+    assert "400 nm" in r.flags[0][0].message

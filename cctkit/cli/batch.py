@@ -11,7 +11,9 @@ import typer
 from ..errors import InputError
 from .options import (
     CSV_DIALECT_OPTION,
+    DOMINANT_WHITE_OPTION,
     INTERPOLATION_OPTION,
+    parse_dominant_white,
     parse_interpolation,
     OBSERVER_HELP,
     OVERWRITE_OPTION,
@@ -45,6 +47,7 @@ def batch_cmd(
     progress: bool = typer.Option(False, "--progress", help="Show progress on stderr even when it is not a terminal."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress and no summary line (as cctkit --quiet)."),
     interpolation: str = INTERPOLATION_OPTION,
+    dominant_white: str = DOMINANT_WHITE_OPTION,
     resume: bool = typer.Option(False, "--resume", help="CSV output: keep the finished chunks if the run is stopped "
                                 "or killed, and continue an earlier such run from its last complete chunk."),
     recursive: bool = RECURSIVE_OPTION,
@@ -78,6 +81,7 @@ def batch_cmd(
         raise InputError("--resume works with .csv output")
     obs = parse_observer(observer)
     interp = parse_interpolation(interpolation)
+    white = parse_dominant_white(dominant_white)
     if chunk_size < 1:
         raise InputError(f"--chunk-size must be at least 1, got {chunk_size}")
     if workers is not None and workers < 1:
@@ -106,6 +110,7 @@ def batch_cmd(
         observer=obs,
         rendering=rendering,
         interpolation=interp,
+        dominant_white=white,
         overwrite=overwrite,
         progress=bar,
         metadata={**provenance(interpolation=interp), "input": str(input_path), "rendering": rendering},

@@ -105,7 +105,9 @@ def versus_cmd(
         T, duv = np.full(n, float(cct)), np.full(n, np.nan)
     else:
         T, duv = rendering_cct(values)
-    rendition = colour_rendition(values, cct_K=T, duv=None if cct is not None else duv)
+    # CIE 224's own rule for short ranges applies where the CCT is the spectrum's own (not --cct)
+    rendition = colour_rendition(values, cct_K=T, duv=None if cct is not None else duv,
+                                 measured_range_nm=spectra.measured_range_nm if cct is None else None)
     for i in np.flatnonzero(~np.isfinite(rendition.cct_K)):
         info(
             f"warning: {spectra.names[i]}: CCT {T[i]:.0f} K / Duv {duv[i]:+.4f} is outside "
@@ -162,7 +164,11 @@ def versus_cmd(
         # where the numbers came from: the SHA-256 of the bytes analysed (comment lines our readers skip)
         origin = "".join(f"# input {terminal_safe(str(f))} sha256 {s.sha256[0]}; cctkit {__version__}\n"
                          for f, s in zip(files, items))
-        write_output(output, origin + csv_text(header, rows), overwrite=overwrite, inputs=files, dialect=csv_dialect)
+        from ..analysis import provenance
+
+        prov = provenance(interpolation=parse_interpolation(interpolation), used=spectra.interpolation)
+        write_output(output, origin + csv_text(header, rows), overwrite=overwrite, inputs=files, dialect=csv_dialect,
+                     provenance_doc=prov)
 
     if json_out:
         emit_json({"method": ref_method, "interpolation": list(spectra.interpolation),

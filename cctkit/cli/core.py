@@ -10,7 +10,9 @@ import typer
 from ..errors import InputError
 from ..formats import format_number
 from .options import (
+    DOMINANT_WHITE_OPTION,
     INTERPOLATION_OPTION,
+    parse_dominant_white,
     parse_interpolation,
     RECURSIVE_OPTION,
     SKIP_ROWS_OPTION,
@@ -113,6 +115,9 @@ def format_records(records: list[dict[str, Any]]) -> str:
             if key in rec:
                 span = rec.get(_range_key(key) or "")
                 over = f" over {span[0]:g}-{span[1]:g} nm" if span and None not in span else ""
+                if key == "dominant_wavelength_nm" and rec.get("dominant_white"):
+                    over = (f" from white {rec['dominant_white']} (x {rec['dominant_white_x']:.4f}, "
+                            f"y {rec['dominant_white_y']:.4f})")
                 lines.append(f"  {label:<24} {_fmt(rec[key], fmt):>12}  {unit}{over}".rstrip())
             if key == ALPHA_OPIC_LAST_ROW and "melanopic_der" in rec:
                 lines.append(f"  {ALPHA_OPIC_NOTE}")
@@ -139,6 +144,7 @@ def inspect_cmd(
                                  "sample: analyse their mean, and give the standard deviation per wavelength."),
     csv_dialect: str = CSV_DIALECT_OPTION,
     interpolation: str = INTERPOLATION_OPTION,
+    dominant_white: str = DOMINANT_WHITE_OPTION,
 ) -> None:
     """Every measure for each spectrum: CCT, Duv, chromaticity, photometry, colour rendering."""
     from ..analysis import analyse_groups, provenance, read_files, records_csv
@@ -153,6 +159,7 @@ def inspect_cmd(
 
     check_dialect(csv_dialect)
     interp = parse_interpolation(interpolation)
+    white = parse_dominant_white(dominant_white)
     layout = table_layout(skip_rows, delimiter, decimal, wavelength_column, columns)
     files = input_files(files, recursive=recursive)
     items = read_files(files, quantity=quantity, layout=layout)
@@ -162,15 +169,17 @@ def inspect_cmd(
 
         scans = average_repeats(items)
         items = [scans.mean]
-    records = analyse_groups(items, observer=obs, interpolation=interp)
+    records = analyse_groups(items, observer=obs, interpolation=interp, dominant_white=white)
     if scans is not None:
         records[0]["repeats"] = scans.summary()
-    doc = {**provenance(interpolation=interp), "spectra": records}
+    prov = provenance(interpolation=interp, used=[r.get("interpolation") for r in records])
+    doc = {**prov, "spectra": records}
     if output is not None:
         if output.suffix.lower() == ".json":
             write_output(output, dumps(doc), overwrite=overwrite, inputs=files)
         else:
-            write_output(output, records_csv(records), overwrite=overwrite, inputs=files, dialect=csv_dialect)
+            write_output(output, records_csv(records), overwrite=overwrite, inputs=files, dialect=csv_dialect,
+                         provenance_doc=prov)
     if json_out:
         emit_json(doc)
     else:

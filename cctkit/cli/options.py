@@ -27,6 +27,11 @@ CSV_DIALECT_OPTION = typer.Option(
     "in European locales).",
 )
 QUANTITY_HELP = "Radiometric quantity of the values: radiant-flux | irradiance | radiance | intensity | relative."
+DOMINANT_WHITE_OPTION = typer.Option(
+    "E", "--dominant-white", metavar="E|D65|D50|A|X,Y",
+    help="White point of the dominant wavelength and excitation purity: E (equal energy, the default for "
+         "light sources), D65, D50, A, or a chromaticity x,y; every output names it.",
+)
 INTERPOLATION_OPTION = typer.Option(
     "auto", "--interpolation",
     help="How spectra not at 1 nm are brought to the 1 nm grid: auto (Sprague, CIE 167, for uniform steps; "
@@ -88,15 +93,18 @@ def info(message: str) -> None:
 
 
 def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iterable = (),
-                 dialect: str = "comma", announce: bool = True) -> None:
-    """Write ``text`` atomically; CSV text becomes a workbook for ``.xlsx`` or ``dialect`` CSV for ``.csv``."""
+                 dialect: str = "comma", announce: bool = True, provenance_doc: dict | None = None) -> None:
+    """Write ``text`` atomically; CSV text becomes a workbook for ``.xlsx`` or ``dialect`` CSV for ``.csv``.
+
+    ``provenance_doc`` (the command's :func:`cctkit.analysis.provenance`, with the interpolation
+    actually used) fills the workbook's provenance sheet; default: the library defaults."""
     inputs = list(inputs)
     suffix = Path(path).suffix.lower()
     if suffix == ".xlsx" and isinstance(text, str):
         from ..analysis import provenance
         from ..spreadsheet import csv_to_xlsx
 
-        text = csv_to_xlsx(text, provenance=provenance(), inputs=inputs)
+        text = csv_to_xlsx(text, provenance=provenance_doc or provenance(), inputs=inputs)
     elif suffix == ".csv" and isinstance(text, str):
         from ..spreadsheet import csv_in_dialect
 
@@ -138,6 +146,16 @@ def spectrum_file_text(suffix: str, name: str, values, *, quantity: str, unit: s
     doc["wavelength_nm"] = WAVELENGTH_NM.tolist()
     doc["spectra"] = [{"name": name, "values": values.tolist()}]
     return dumps(doc)
+
+
+def parse_dominant_white(value: str) -> str:
+    """The ``--dominant-white`` choice, checked (:func:`cctkit.dominant.resolve_white`); returns its name."""
+    from ..dominant import resolve_white
+
+    try:
+        return resolve_white(value)[0]
+    except InputError as exc:
+        raise InputError(f"--dominant-white: {exc.reason}") from None
 
 
 def parse_interpolation(value: str) -> str:

@@ -8,7 +8,9 @@ from typing import List, Optional
 import typer
 
 from .options import (
+    DOMINANT_WHITE_OPTION,
     INTERPOLATION_OPTION,
+    parse_dominant_white,
     parse_interpolation,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
@@ -60,6 +62,7 @@ def report_cmd(
     wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
     columns: Optional[str] = COLUMNS_OPTION,
     interpolation: str = INTERPOLATION_OPTION,
+    dominant_white: str = DOMINANT_WHITE_OPTION,
 ) -> None:
     """A report an engineer can sign off: sign-off page, headline numbers, spectrum, rendering, chromaticity."""
     from ..report.build import check_options
@@ -94,7 +97,8 @@ def report_cmd(
 
     # Spectra of different quantities share one report: colour results for all, totals each in its unit.
     analysis = analyse_files(files, quantity=quantity, layout=layout,
-                             interpolation=parse_interpolation(interpolation))
+                             interpolation=parse_interpolation(interpolation),
+                             dominant_white=parse_dominant_white(dominant_white))
     records = analysis.records()
     verdict = None
     if claims is not None:

@@ -14,7 +14,9 @@ import typer
 
 from ..spreadsheet import check_dialect
 from .options import (
+    DOMINANT_WHITE_OPTION,
     INTERPOLATION_OPTION,
+    parse_dominant_white,
     parse_interpolation,
     RECURSIVE_OPTION,
     SKIP_ROWS_OPTION,
@@ -65,6 +67,7 @@ def verify_cmd(
                               "terminal); the default table fits 100 columns."),
     csv_dialect: str = CSV_DIALECT_OPTION,
     interpolation: str = INTERPOLATION_OPTION,
+    dominant_white: str = DOMINANT_WHITE_OPTION,
     uncertainty_model: Optional[Path] = typer.Option(
         None, "--uncertainty-model", help="Guard bands from each sample's computed U (Monte Carlo with this "
         "instrument model, TOML); a claims file's [uncertainty] entry still overrides its metric."),
@@ -91,7 +94,8 @@ def verify_cmd(
     from ..analysis import analyse_files
 
     analysis = analyse_files(files, quantity=quantity, rendering=report is not None or _needs_rendering(claims),
-                             layout=layout, interpolation=parse_interpolation(interpolation))
+                             layout=layout, interpolation=parse_interpolation(interpolation),
+                             dominant_white=parse_dominant_white(dominant_white))
     records = analysis.records()
     computed, model = None, None
     if uncertainty_model is not None:
@@ -108,7 +112,9 @@ def verify_cmd(
     with output_group():  # --output and --report: both written, or neither
         if output is not None:
             text = dumps(traced) if output.suffix.lower() == ".json" else verdict_csv(traced, claims)
-            write_output(output, text, overwrite=overwrite, inputs=inputs, dialect=csv_dialect, announce=False)
+            prov = {k: traced[k] for k in ("cctkit_version", "colour_science_version", "conventions")}
+            write_output(output, text, overwrite=overwrite, inputs=inputs, dialect=csv_dialect, announce=False,
+                         provenance_doc=prov)
         if report is not None:
             from ..report import build_report
 
@@ -152,7 +158,7 @@ def _traceable(doc: dict, records: list[dict], claims, interpolation: str = "aut
 
     samples = [{**s, "source": r.get("source"), "sha256": r.get("sha256")} for s, r in zip(doc["samples"], records)]
     sidecar = {"sidecar": claims.sidecar_path, "sidecar_sha256": claims.sidecar_sha256} if claims.sidecar_path else {}
-    return {**provenance(interpolation=interpolation), "claims_file": claims.source, "claims_sha256": claims.sha256, **sidecar,
+    return {**provenance(interpolation=interpolation, used=[r.get("interpolation") for r in records]), "claims_file": claims.source, "claims_sha256": claims.sha256, **sidecar,
             **doc, "samples": samples}
 
 
@@ -203,7 +209,8 @@ def bin_cmd(
         row["source"], row["sha256"] = rec.get("source"), rec.get("sha256")
     from ..analysis import provenance
 
-    doc = {**provenance(interpolation=interp), "ellipses": ellipses, "samples": rows, "counts": result.counts()}
+    prov = provenance(interpolation=interp, used=[r.get("interpolation") for r in records])
+    doc = {**prov, "ellipses": ellipses, "samples": rows, "counts": result.counts()}
     if output is not None:
         if output.suffix.lower() == ".json":
             text = dumps(doc)
@@ -213,7 +220,7 @@ def bin_cmd(
             cols = ["name", "x", "y", "quadrangle", "centre", "sdcm_steps", "sdcm_bin", "extrapolated",
                     "source", "sha256"]
             text = csv_text(cols, ([r.get(c) for c in cols] for r in rows))
-        write_output(output, text, overwrite=overwrite, inputs=files, dialect=csv_dialect)
+        write_output(output, text, overwrite=overwrite, inputs=files, dialect=csv_dialect, provenance_doc=prov)
     if json_out:
         emit_json(doc)
         return

@@ -19,6 +19,7 @@ values in ``tests/test_rendering.py`` and ``tests/test_reference.py``.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -135,7 +136,7 @@ class Rendition:
     tm30: Tm30Result
 
 
-def colour_rendition(values, *, cct_K=None, duv=None) -> Rendition:
+def colour_rendition(values, *, cct_K=None, duv=None, measured_range_nm=None) -> Rendition:
     """Ra, R1-R14, Rf, Rg and the hue-bin measures of spectra on the working grid, (N, 471).
 
     Parameters
@@ -147,6 +148,11 @@ def colour_rendition(values, *, cct_K=None, duv=None) -> Rendition:
     duv : array_like (N,), optional
         Its Duv; with it, spectra with |Duv| > 0.05 get no reference.  Every index is NaN
         where :func:`reference_cct` gives no CCT.
+    measured_range_nm : sequence of (lo, hi[, step]), optional
+        Measured range of each spectrum [nm].  Where it leaves part of 380-780 nm uncovered,
+        Rf, Rg and the hue-bin measures follow CIE 224 / TM-30's own rule
+        (:func:`.tm30.short_range_rule`: zero where not measured, the reference at the CCT of
+        that spectrum); CIE 13.3 has no such rule and keeps the nearest-value extrapolation.
     """
     v = np.asarray(values, dtype=np.float64)
     if v.ndim == 1:
@@ -167,7 +173,43 @@ def colour_rendition(values, *, cct_K=None, duv=None) -> Rendition:
         tm30_parts.append(tm30_from_rows(rows, T_c))
     if not cri_parts:
         return Rendition(cct_K=T_ref, duv=duv, cri=cie13_3(v, T_ref), tm30=tm30(v, T_ref))
-    return Rendition(cct_K=T_ref, duv=duv, cri=_concatenate(cri_parts), tm30=_concatenate(tm30_parts))
+    fidelity = _concatenate(tm30_parts)
+    if measured_range_nm is not None:
+        fidelity = _short_range_tm30(v, T_ref, fidelity, measured_range_nm)
+    return Rendition(cct_K=T_ref, duv=duv, cri=_concatenate(cri_parts), tm30=fidelity)
+
+
+def _short_range_tm30(v: np.ndarray, T_ref: np.ndarray, fidelity: Tm30Result, measured_range_nm) -> Tm30Result:
+    """``fidelity`` with the rows of spectra not covering 380-780 nm recomputed by CIE 224's own rule."""
+    from .tm30 import short_range_rule
+
+    rows, test = short_range_rule(v, measured_range_nm)
+    has_ref = np.isfinite(T_ref[rows])  # no reference for the spectrum: nothing to recompute
+    rows, test = rows[has_ref], test[has_ref]
+    if rows.size == 0:
+        return fidelity
+    T, d = rendering_cct(test)
+    sub = tm30(test, reference_cct(T, d))
+    return _put_rows(fidelity, rows, sub)
+
+
+def _put_rows(result, rows: np.ndarray, sub):
+    """A copy of the per-spectrum dataclass ``result`` with ``rows`` replaced by the rows of ``sub``."""
+    from dataclasses import fields
+
+    out: dict[str, Any] = {}
+    for f in fields(result):
+        a, b = getattr(result, f.name), getattr(sub, f.name)
+        if isinstance(a, tuple):
+            lst = list(a)
+            for k, i in enumerate(rows.tolist()):
+                lst[i] = b[k]
+            out[f.name] = tuple(lst)
+        else:
+            arr = np.array(a, copy=True)
+            arr[rows] = b
+            out[f.name] = arr
+    return type(result)(**out)
 
 
 #: Spectra per block of the rendering computation (bounds the memory of the (n, 99, 3) arrays).

@@ -46,7 +46,7 @@ from .cam import xyz_to_cam02ucs
 
 __all__ = [
     "vector_graphic_xy",
-    "chroma_shift_percent","Tm30Result", "tm30", "tm30_samples", "fidelity_from_dE", "CF_CIE224", "N_BINS", "RANGE_NM"]
+    "chroma_shift_percent", "short_range_rule", "Tm30Result", "tm30", "tm30_samples", "fidelity_from_dE", "CF_CIE224", "N_BINS", "RANGE_NM"]
 
 #: Scaling factor c_f of CIE 224:2017 (section 4.6, from memory) and ANSI/IES TM-30-18/-20.
 CF_CIE224 = 6.73
@@ -55,6 +55,10 @@ N_BINS = 16
 #: Calculation range of CIE 224:2017 and TM-30 [nm].
 RANGE_NM = (380.0, 780.0)
 _CHUNK = 2048
+#: Value taken where a test spectrum has no data inside :data:`RANGE_NM` -- CIE 224:2017 section 4.2 and
+#: ANSI/IES TM-30-20 section 4.1 (clause numbers from memory; the reference library colour-science 0.4.7
+#: names the same rule in ``colour.quality.cfi2017``): missing values of the test source are zero.
+MISSING_VALUE = 0.0
 # Bin-centre hue angles (j + 1/2) 22.5 deg: the directions TM-30-20 projects the shifts on.
 _CENTRE_RAD = (np.arange(N_BINS) + 0.5) * (2.0 * np.pi / N_BINS)
 _COS_CENTRE, _SIN_CENTRE = np.cos(_CENTRE_RAD), np.sin(_CENTRE_RAD)
@@ -266,6 +270,37 @@ def tm30(values, cct_K, *, cf: float = CF_CIE224, blend_observer: int = 10) -> T
     from . import _concatenate
 
     return _concatenate(parts)
+
+
+def short_range_rule(values, measured_range_nm) -> tuple[np.ndarray, np.ndarray]:
+    """CIE 224:2017 / TM-30-20 own rule for test spectra that do not cover 380-780 nm.
+
+    Parameters
+    ----------
+    values : array_like (N, 471)
+        Test spectra on the working grid (extrapolated by the nearest measured value).
+    measured_range_nm : sequence of (lo, hi[, step])
+        Measured range of each spectrum [nm].
+
+    Returns
+    -------
+    rows : (k,) int
+        Indices of the spectra whose measured range leaves part of 380-780 nm uncovered.
+    test : (k, 471)
+        Those spectra as both standards take them: :data:`MISSING_VALUE` (zero) wherever
+        380-780 nm was not measured (CIE 224:2017 section 4.2, ANSI/IES TM-30-20 section 4.1,
+        from memory), and zero outside 380-780 nm, the calculation range -- so the CCT that
+        selects their reference is that of this spectrum, as in the standards' procedure.
+    """
+    v = np.asarray(values, dtype=np.float64)
+    rng = np.asarray([tuple(r)[:2] for r in measured_range_nm], dtype=np.float64).reshape(-1, 2)
+    if rng.shape[0] != v.shape[0]:
+        raise ValueError(f"measured_range_nm must give one (lo, hi) per spectrum ({v.shape[0]}), got {rng.shape[0]}")
+    lo = np.maximum(rng[:, 0], RANGE_NM[0])
+    hi = np.minimum(rng[:, 1], RANGE_NM[1])
+    rows = np.flatnonzero((rng[:, 0] > RANGE_NM[0]) | (rng[:, 1] < RANGE_NM[1]))
+    keep = (WAVELENGTH_NM >= lo[rows, None]) & (WAVELENGTH_NM <= hi[rows, None])
+    return rows, np.where(keep, v[rows], MISSING_VALUE)
 
 
 def vector_graphic_xy(result: Tm30Result) -> tuple[np.ndarray, np.ndarray]:

@@ -109,7 +109,11 @@ def report_meta(*, date: str | None = None, signoff=None, records: Sequence[dict
     from .profile import SignOff, report_date
 
     so = signoff if signoff is not None else SignOff()
-    meta = dict(provenance())
+    # the methods the spectra were actually resampled by (each record's), not the option's default
+    used = [r.get("interpolation") for r in records if r.get("interpolation")]
+    meta = dict(provenance(used=used))
+    if used:
+        meta["conventions"]["interpolation_method"] = meta["conventions"]["interpolation_used"]
     meta["date"] = report_date(date or so.date)
     meta["tolerance_edition"] = f"{ANSI_EDITION} (quadrangles)"
     for key in ("title", "project", "lab", "operator", "instrument", "notes"):

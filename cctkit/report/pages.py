@@ -262,7 +262,8 @@ def provenance_rows(rec: dict[str, Any], meta: dict[str, Any]) -> list[tuple[str
         rows.append(("Instrument", inst + " (from the file)"))
     rows += [
         ("Observer", f"{observer} for chromaticity and CCT; rendering metrics use their standard's observer"),
-        ("Interpolation", f"{conv['interpolation']}; extrapolation: {conv['extrapolation']}"),
+        ("Interpolation", f"{rec.get('interpolation') or conv.get('interpolation_method', 'auto')} (used for this "
+                          f"spectrum); extrapolation: {conv['extrapolation']}"),
         ("Constants", f"c2 = {conv['c2_m_K']:.4e} m\u00b7K; Km = {conv['Km_lm_per_W']} lm/W; "
                       f"{conv['summation']}"),
         ("CCT method", conv["cct_method"]),
@@ -508,7 +509,8 @@ def cover_page(records, meta: dict[str, Any], *, paper: str, contents: Sequence[
     conv = meta["conventions"]
     y = _kv_block(p, p.left, y, [
         ("Standards", "; ".join(STANDARDS + ((meta["tolerance_edition"],) if meta.get("tolerance_edition") else ()))),
-        ("Conventions", f"{conv['summation']}; c2 = {conv['c2_m_K']:.4e} m\u00b7K; CCT: {conv['cct_method']}"),
+        ("Conventions", f"{conv['summation']}; c2 = {conv['c2_m_K']:.4e} m\u00b7K; CCT: {conv['cct_method']}; "
+                        f"interpolation: {conv.get('interpolation_method', 'auto')}"),
         ("Software", f"cctkit {meta['cctkit_version']}; tables from colour-science "
                      f"{meta.get('colour_science_version') or 'n/a'}"),
     ], label_w=1.0, value_chars=110, pitch=0.12, fontsize=6.0, max_lines=3)
