@@ -36,7 +36,7 @@ import time
 from collections import deque
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Callable, Iterator, Sequence, TextIO
+from typing import Any, Callable, Generator, Iterable, Iterator, Sequence, TextIO
 
 import numpy as np
 
@@ -245,7 +245,7 @@ _CSV_SPECIAL = frozenset(',"\r\n')
 
 def _text_cells(col: np.ndarray) -> list[str]:
     """Cells of a str/None column as :func:`cctkit.formats.csv_text` writes them, each distinct value once."""
-    uniq = {v: None for v in col.tolist()}
+    uniq: dict[Any, str] = dict.fromkeys(col.tolist(), "")
     for v in uniq:
         if v is None or v == "":
             uniq[v] = ""
@@ -330,7 +330,7 @@ def _table_rows(table: dict[str, np.ndarray]) -> int:
     return len(next(iter(table.values()))) if table else 0
 
 
-def _checked_columns(columns: list[str], table: dict[str, np.ndarray]) -> list[str]:
+def _checked_columns(columns: list[str], table: Iterable[str]) -> list[str]:
     extra = [k for k in table if k not in columns]
     if extra:
         raise RuntimeError(f"a chunk produced columns the first chunk did not: {', '.join(extra)}")
@@ -343,8 +343,8 @@ class _ParquetWriter:
     def __init__(self, path: Path, metadata: dict[str, str]):
         self._path = path
         self._metadata = metadata
-        self._writer = None
-        self._schema = None
+        self._writer: Any = None  # a pyarrow.parquet.ParquetWriter once the first chunk is in
+        self._schema: Any = None
         self.columns: list[str] | None = None
 
     def write(self, result: _ChunkResult) -> None:
@@ -357,7 +357,7 @@ class _ParquetWriter:
             meta = {k.encode(): v.encode() for k, v in self._metadata.items()}
             self._schema = tbl.schema.with_metadata(meta)
             self._writer = pq.ParquetWriter(self._path, self._schema)
-        _checked_columns(self.columns, result.columns)
+        _checked_columns(self.columns or [], result.columns)
         if result.columns != self.columns or tbl.schema.remove_metadata() != self._schema.remove_metadata():
             n = tbl.num_rows
             arrays = [
@@ -443,6 +443,10 @@ class BatchSummary:
         return self.spectra / self.elapsed_s if self.elapsed_s > 0 else float("nan")
 
 
+#: What the executors yield: (spectra in the chunk, its result), in input order; closed when the run ends.
+_Results = Generator[tuple[int, _ChunkResult], None, None]
+
+
 def _ordered_map(
     submit: Callable[[Spectra], Any], result: Callable[[Any], _ChunkResult], chunks: Iterator[Spectra], window: int
 ) -> Iterator[tuple[int, _ChunkResult]]:
@@ -458,7 +462,7 @@ def _ordered_map(
         yield n, result(fut)
 
 
-def _inline(chunks: Iterator[Spectra], opts: tuple) -> Iterator[tuple[int, _ChunkResult]]:
+def _inline(chunks: Iterator[Spectra], opts: tuple) -> _Results:
     """Chunks in this process, in input order: while one chunk is analysed, the one before it is
     formatted in a second thread (Arrow's and numpy's kernels release the interpreter lock), so
     the formatting costs no time where a second core is free.  Same results as :func:`_work`.
@@ -476,7 +480,7 @@ def _inline(chunks: Iterator[Spectra], opts: tuple) -> Iterator[tuple[int, _Chun
             yield pending[0], pending[1].result()
 
 
-def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> Iterator[tuple[int, _ChunkResult]]:
+def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> _Results:
     """Chunks on local worker processes, in input order.
 
     A worker that dies (killed, out of memory) breaks the pool; the chunk function is pure,
@@ -573,7 +577,7 @@ def _stop_workers(pool) -> None:
             p.join(timeout=5)
 
 
-def _dask(chunks: Iterator[Spectra], address: str, opts: tuple) -> Iterator[tuple[int, _ChunkResult]]:
+def _dask(chunks: Iterator[Spectra], address: str, opts: tuple) -> _Results:
     """Chunks on a Dask cluster.  The chunk function is pure, so a chunk whose worker is lost
     is simply run again elsewhere (``retries``); the chunk travels inside its task rather than
     being scattered to one worker, so losing that worker does not lose the chunk."""
@@ -795,12 +799,14 @@ def _batch_xlsx(source, out: Path, *, overwrite: bool, inputs, metadata, **optio
     from .safe_io import atomic_path
     from .spreadsheet import csv_file_to_xlsx
 
+    t0 = time.perf_counter()
     with tempfile.TemporaryDirectory(prefix="cctkit-batch-") as folder:
         rows = Path(folder) / f"{out.stem}.csv"
         summary = run_batch(source, rows, **options)
         with atomic_path(out, overwrite=overwrite, inputs=inputs) as tmp:
             csv_file_to_xlsx(rows, tmp, provenance=metadata, inputs=[source.path])
-    return BatchSummary(str(out), summary.spectra, summary.chunks, summary.elapsed_s, summary.executor, summary.notes)
+    return BatchSummary(str(out), summary.spectra, summary.chunks, time.perf_counter() - t0, summary.executor,
+                        summary.notes)
 
 
 # --------------------------------------------------------------------------- faults: leftovers, resume

@@ -153,12 +153,14 @@ def bin_chromaticities(xy, *, names=None, ellipses: str = DEFAULT_ELLIPSES) -> B
     steps = np.where(finite, steps, np.nan)
     with np.errstate(invalid="ignore"):
         bins = np.where(np.isfinite(steps), np.maximum(np.ceil(steps), 1.0), -1.0).astype(int)
+    centre = np.array(cnames, dtype=object)[k] if n else np.zeros(0, dtype=object)
+    centre[~finite] = None
     return BinResult(
         names=names,
         xy=xy,
         quadrangle=tol.classify_ansi(xy, space="xy"),
         # no chromaticity (all tristimulus values zero, NaN): no nearest centre either
-        centre=np.where(finite, np.array(cnames, dtype=object)[k], None) if n else np.zeros(0, dtype=object),
+        centre=centre,
         sdcm_steps=steps,
         sdcm_bin=bins,
         extrapolated=cextra[k] & finite,

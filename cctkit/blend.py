@@ -202,7 +202,7 @@ class Channels:
         return self.quantity.luminous_name
 
 
-def channels_from_spectra(spectra: Spectra, power_W: Sequence[float] | None = None) -> Channels:
+def channels_from_spectra(spectra: Spectra, power_W: Sequence[float] | np.ndarray | None = None) -> Channels:
     """:class:`Channels` from spectra already read (one spectrum per channel).
 
     Raises
@@ -348,7 +348,7 @@ def parse_cct_path(text: str) -> np.ndarray:
     s = str(text).strip()
     try:
         parts = [float(p) for p in s.split(":")] if ":" in s else None
-        T = None if parts is not None else np.array([float(p) for p in s.split(",")])
+        T = np.array([float(p) for p in s.split(",")]) if parts is None else np.zeros(0)
     except ValueError:
         raise InputError(f"--cct must be FIRST:LAST:STEP or a comma list of CCTs in K, got {text!r}") from None
     if parts is not None:
@@ -513,8 +513,8 @@ def max_luminous_by_vertices(channels: Channels, uv) -> np.ndarray:
     H = np.stack([M[0] - t[:, 0:1] * M[1], M[2] - t[:, 2:3] * M[1]], axis=1) / float(channels.luminous.sum())
     best = np.zeros(len(t))
     patterns = np.array(list(itertools.product((0.0, 1.0), repeat=K - 2)))
-    for B in itertools.combinations(range(K), 2):
-        B = list(B)
+    for pair in itertools.combinations(range(K), 2):
+        B = list(pair)
         N = [k for k in range(K) if k not in B]
         HB = H[:, :, B]  # (S, 2, 2)
         det = HB[:, 0, 0] * HB[:, 1, 1] - HB[:, 0, 1] * HB[:, 1, 0]
@@ -609,7 +609,7 @@ def _vertices(A: np.ndarray, b: np.ndarray, rng: np.random.Generator) -> np.ndar
         return np.clip(D[ok], 0.0, 1.0)
     found = []
     for _ in range(4 * K):
-        res = _lp(rng.standard_normal(K), A, b)
+        res = _lp(np.asarray(rng.standard_normal(K)), A, b)
         if res.status == 0:
             found.append(res.x)
     return np.array(found) if found else np.zeros((0, K))
@@ -998,12 +998,12 @@ def _solve_path(channels: Channels, cct_K, duv, *, objective: str, sense: str, l
     idx = np.flatnonzero(defined)
     if idx.size and len(channels) <= _ENUMERATE_MAX_K:
         ymax[idx] = max_luminous_by_vertices(channels, uv[idx])
-        for i in idx:
+        for i in idx.tolist():
             lp_msgs[i] = "output limit by vertex enumeration"
     elif idx.size:
         y, msgs = max_luminous(channels, uv[idx])
         ymax[idx] = y
-        for j, i in enumerate(idx):
+        for j, i in enumerate(idx.tolist()):
             lp_msgs[i] = msgs[j]
     total = float(channels.luminous.sum())
     reach = defined & (dist <= 0) & (ymax > 1e-9 * total)
@@ -1112,9 +1112,9 @@ def _solve_path(channels: Channels, cct_K, duv, *, objective: str, sense: str, l
     for i in range(S):
         if i in starts and status[i] == "ok":
             problem = _Problem(channels, N, float(T[i]), float(D_target[i]), objective, c, rg, r9_min)
-            d, text, v = _refine(problem, *systems[i], starts[i], previous)
+            d, text, shortfall = _refine(problem, *systems[i], starts[i], previous)
             solver[i] += f" + {text}" if text else ""
-            if v > 0:
+            if shortfall > 0:
                 mm = _rendering_of(channels, d[None], T[i], D_target[i], r9=True)
                 parts = []
                 if rg is not None:
@@ -1135,7 +1135,7 @@ def _solve_path(channels: Channels, cct_K, duv, *, objective: str, sense: str, l
     analysis = None
     if ok.any():
         blends = drives[ok] @ channels.values
-        names = [f"{T[i]:g} K / Duv {D_target[i]:+.4f}" for i in np.flatnonzero(ok)]
+        names = tuple(f"{T[i]:g} K / Duv {D_target[i]:+.4f}" for i in np.flatnonzero(ok))
         analysis = analyse(Spectra(WAVELENGTH_NM, blends, names=names, quantity=channels.quantity))
         metrics = _metrics(channels, drives, ok, analysis)
     else:

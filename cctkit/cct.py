@@ -91,7 +91,8 @@ def _table(observer: int, c2: float) -> _Table:
     cols = [np.ascontiguousarray(arr[k]) for k in ("m", "u", "v", "du", "dv")]
     for a in cols:
         a.setflags(write=False)
-    return _Table(*cols, h=_H_MIRED)
+    m, u, v, du, dv = cols
+    return _Table(m, u, v, du, dv, h=_H_MIRED)
 
 
 def _hermite(tab: _Table, k: np.ndarray, t: np.ndarray, *, second: bool = True):

@@ -488,7 +488,7 @@ class Check:
     uncertainty_source: str | None = None  # "claims" ([uncertainty] table) or "model" (computed)
 
     def as_dict(self) -> dict[str, Any]:
-        d = {
+        d: dict[str, Any] = {
             "metric": self.metric,
             "value": self.value,
             "min": self.min,
@@ -733,7 +733,7 @@ def _summary(samples: list[SampleVerdict], metrics: tuple[str, ...]) -> dict[str
     return summary
 
 
-def verify(records: list[Mapping[str, Any]], claims: Claims,
+def verify(records: Sequence[Mapping[str, Any]], claims: Claims,
            uncertainties: Sequence[Mapping[str, float]] | None = None) -> Verdict:
     """Check measured records (from ``Analysis.records()``) against ``claims``.
 

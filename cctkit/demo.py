@@ -255,7 +255,7 @@ def led_components(led: WhiteLed) -> np.ndarray:
     return np.stack(rows)
 
 
-def led_spectrum(led: WhiteLed, absorbed: Sequence[float], blue_W: float = 1.0) -> np.ndarray:
+def led_spectrum(led: WhiteLed, absorbed: Sequence[float] | np.ndarray, blue_W: float = 1.0) -> np.ndarray:
     """Emitted spectrum on the fine grid for the given absorbed fractions [W/nm]."""
     basis = led_components(led)
     weights = np.concatenate([[1.0], np.asarray(absorbed, dtype=np.float64)])
@@ -287,7 +287,7 @@ def _working_XYZ(measured: np.ndarray, instrument: Instrument) -> np.ndarray:
     from .spectra import Spectra, to_working_grid
 
     rows = np.atleast_2d(measured)
-    sp = to_working_grid(Spectra(instrument.wavelength_nm, rows, names=[str(i) for i in range(len(rows))]))
+    sp = to_working_grid(Spectra(instrument.wavelength_nm, rows, names=tuple(str(i) for i in range(len(rows)))))
     return XYZ(sp.values)
 
 
@@ -417,7 +417,7 @@ WASH_POWER_FILE = "hl-wash5/hl-wash5-power.csv"
 _LIME = WhiteLed("HL-Wash5 lime", 0.0, 0.0, BlueDie(450.0, 20.0),
                  Phosphor("LuAG/YAG:Ce-type green-yellow garnet", 552.0, 0.30, 0.95, doublet_ratio=0.55),
                  _NITRIDE_DEEP)
-WASH_CHANNELS: tuple[tuple[str, str, object, float, float], ...] = (
+WASH_CHANNELS: tuple[tuple[str, str, BlueDie | WhiteLed, float, float], ...] = (
     ("royal blue", "direct", BlueDie(447.0, 18.0, 1.6), 1.10, 0.55),
     ("warm white", "converted",
      WhiteLed("HL-Wash5 warm white", 2200.0, 0.0, BlueDie(452.0, 20.0), replace(_YAG, peak_nm=556.0),
@@ -439,7 +439,7 @@ def _wash_measurement() -> tuple[np.ndarray, dict[str, np.ndarray], dict[str, fl
     columns: dict[str, np.ndarray] = {}
     power: dict[str, float] = {}
     for name, kind, design, die_W, wall_plug in WASH_CHANNELS:
-        if kind == "direct":
+        if isinstance(design, BlueDie):  # kind "direct"
             fine = die_W * die_shape(design)
         elif kind == "lime":
             fine = led_spectrum(design, _LIME_ABSORBED, die_W)

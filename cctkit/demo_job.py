@@ -37,6 +37,11 @@ WASH_POWER = "hl-wash5/hl-wash5-power.csv"
 LAB_MODEL = "models/harbourside-lab-spectro.toml"
 
 
+
+def _used(records) -> list:
+    """The interpolation each record was actually resampled by (for the provenance block)."""
+    return [r.get("interpolation") for r in records]
+
 def _say(message: str) -> None:
     print(message, file=sys.stderr, flush=True)
 
@@ -68,7 +73,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     _say(f"[1/6] candidate downlights: {', '.join(f.name for f in files)}")
     shortlist = analyse_files(files)
     recs = shortlist.records()
-    put("harbourside-shortlist.json", dumps({**provenance(), "spectra": recs}))
+    put("harbourside-shortlist.json", dumps({**provenance(used=_used(recs)), "spectra": recs}))
     put("harbourside-shortlist.csv", records_csv(recs))
     for suffix in (".pdf", ".png"):
         path = out / f"harbourside-shortlist{suffix}"
@@ -80,7 +85,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     tw_file = spectra_dir / TUNABLE
     tw = analyse(read_spectra(tw_file))
     tw_recs = tw.records()
-    put("tw-lab.json", dumps({**provenance(), "spectra": tw_recs}))
+    put("tw-lab.json", dumps({**provenance(used=_used(tw_recs)), "spectra": tw_recs}))
     build_report(tw, out / "tw-lab.pdf", overwrite=True, inputs=[tw_file], date=date, records=tw_recs,
                  signoff=signoff.merged(title="Tunable-white fixture at five set points"))
     written["tw-lab.pdf"] = out / "tw-lab.pdf"
@@ -92,7 +97,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     lot = analyse_files(lot_files)
     lot_recs = lot.records()
     verdict = verify(lot_recs, claims).as_dict()
-    put("nb3000-lot-verdict.json", dumps({**provenance(), **verdict}))
+    put("nb3000-lot-verdict.json", dumps({**provenance(used=_used(lot_recs)), **verdict}))
     put("nb3000-lot-verdict.csv", verdict_csv(verdict, claims))
     put("nb3000-lot-verdict.txt", format_verdict(verdict, claims) + "\n")
     build_report(lot, out / "nb3000-lot.pdf", overwrite=True, inputs=[*lot_files, spectra_dir / CLAIMS], date=date,

@@ -16,6 +16,7 @@ __all__ = ["clean", "dumps", "csv_text", "csv_cell", "terminal_safe", "format_nu
 
 def clean(obj: Any) -> Any:
     """Make ``obj`` JSON-safe: numpy scalars/arrays to Python, NaN/inf to None."""
+    np: Any
     try:
         import numpy as np
     except ImportError:  # pragma: no cover

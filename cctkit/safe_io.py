@@ -188,13 +188,14 @@ def output_group() -> Iterator[None]:
         return
     staged: list[tuple[Path, Path, bool, list]] = []
     token = _GROUP.set(staged)
+    reset = False
     try:
         yield
         _GROUP.reset(token)
-        token = None
+        reset = True
         _commit_all(staged)
     finally:
-        if token is not None:
+        if not reset:
             _GROUP.reset(token)
         for _, tmp, _, _ in staged:
             with contextlib.suppress(OSError):

@@ -268,14 +268,14 @@ class Spectra:
             flags=tuple(self.flags[i] for i in idx),
             measured_range_nm=tuple(self.measured_range_nm[i] for i in idx),
             metadata=tuple(self.metadata[i] for i in idx),
-            measured_totals=self.measured_totals[idx],
+            measured_totals=np.asarray(self.measured_totals)[idx],  # never None once built
             interpolation=tuple(self.interpolation[i] for i in idx),
         )
 
     def scaled(self, factor: float, quantity: Quantity | None = None) -> "Spectra":
         """The same spectra multiplied by ``factor`` (e.g. a unit conversion)."""
         return replace(self, values=self.values * factor, quantity=quantity or self.quantity,
-                       measured_totals=self.measured_totals * factor)
+                       measured_totals=np.asarray(self.measured_totals) * factor)
 
     # pandas / colour-science interop lives in cctkit.interop; these are its doors.
     @classmethod

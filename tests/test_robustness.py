@@ -324,7 +324,14 @@ def test_interrupt_is_one_line_exit_130(tmp_path):
         {"name": f"s{i}", "values": (rng.random(len(wl)) + 0.5).tolist()} for i in range(MAX_SPECTRA)]}))
     proc = subprocess.Popen([sys.executable, "-m", "cctkit", "report", str(big), "--output", "r.pdf"], cwd=tmp_path,
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
-    time.sleep(3.0)
+
+    def cpu_s() -> float:  # the child's own CPU time: past start-up whatever the machine's load
+        fields = Path(f"/proc/{proc.pid}/stat").read_text().rsplit(")", 1)[1].split()
+        return (int(fields[11]) + int(fields[12])) / os.sysconf("SC_CLK_TCK")
+
+    end = time.monotonic() + 60
+    while proc.poll() is None and cpu_s() < 1.5 and time.monotonic() < end:
+        time.sleep(0.05)
     proc.send_signal(signal.SIGINT)
     out, err = proc.communicate(timeout=60)
     assert proc.returncode == 130

@@ -125,9 +125,11 @@ def blend_cmd(
     if output is not None and report is not None and output.resolve() == report.resolve():
         raise InputError("--output and --report name the same file", source=str(output))
 
+    duv_target: np.ndarray | float | str
     if points is not None:
         T, duv_target = read_points(points)
     else:
+        assert cct is not None  # one of the two, checked above
         T = parse_cct_path(cct)
         duv_target = parse_duv(duv)
     channels = read_channels(files, quantity=quantity, power=power_arg)

@@ -108,11 +108,16 @@ def versus_cmd(
     # CIE 224's own rule for short ranges applies where the CCT is the spectrum's own (not --cct)
     rendition = colour_rendition(values, cct_K=T, duv=None if cct is not None else duv,
                                  measured_range_nm=spectra.measured_range_nm if cct is None else None)
-    for i in np.flatnonzero(~np.isfinite(rendition.cct_K)):
+    for i in np.flatnonzero(~np.isfinite(rendition.cct_K)).tolist():
         info(
             f"warning: {spectra.names[i]}: CCT {T[i]:.0f} K / Duv {duv[i]:+.4f} is outside "
             f"{REFERENCE_RANGE_K[0]:g}-{REFERENCE_RANGE_K[1]:g} K or |Duv| > {DUV_LIMIT}; no reference, results left empty"
         )
+    if cct is None:
+        for i, (lo, hi, _) in enumerate(spectra.measured_range_nm):
+            if np.isfinite(rendition.cct_K[i]) and (lo > VISIBLE_BAND_NM[0] or hi < VISIBLE_BAND_NM[1]):
+                info(f"warning: {spectra.names[i]}: measured {lo:g}-{hi:g} nm does not cover 380-780 nm: the CES "
+                     "figures take the spectrum as zero where not measured (CIE 224:2017 / TM-30-20 rule)")
     T = rendition.cct_K
     comp = compare_to_reference(values, T, method=ref_method, rendition=rendition)
     cri, t30 = rendition.cri, rendition.tm30
@@ -154,11 +159,11 @@ def versus_cmd(
 
     if output is not None:
         header = ["wavelength_nm"]
-        columns = [comp.wavelength_nm]
+        series = [comp.wavelength_nm]
         for i, name in enumerate(spectra.names):
             header += [f"{name}: test (Y=100)", f"{name}: reference (Y=100)", f"{name}: difference", f"{name}: ratio"]
-            columns += [comp.test[i], comp.reference[i], comp.difference[i], comp.ratio[i]]
-        rows = zip(*[c.tolist() for c in columns])
+            series += [comp.test[i], comp.reference[i], comp.difference[i], comp.ratio[i]]
+        rows = zip(*[c.tolist() for c in series])
         from .. import __version__
 
         # where the numbers came from: the SHA-256 of the bytes analysed (comment lines our readers skip)

@@ -113,7 +113,8 @@ def report_cmd(
     if rep.kind == "pdf":
         info(f"wrote {output} ({len(rep.pages)} page{'s' if len(rep.pages) != 1 else ''})")
     else:
-        info(f"wrote {output} ({rep.size_px[0]}x{rep.size_px[1]} px)")
+        width, height = rep.size_px or (0, 0)
+        info(f"wrote {output} ({width}x{height} px)")
     if verdict is not None and verdict["verdict"] != "pass":
         from .verify import EXIT_FAIL, EXIT_INCONCLUSIVE
 

@@ -99,7 +99,8 @@ def verify_cmd(
     records = analysis.records()
     computed, model = None, None
     if uncertainty_model is not None:
-        computed, model = _computed_uncertainties(files, quantity, uncertainty_model, claims, layout)
+        computed, model = _computed_uncertainties(files, quantity, uncertainty_model, claims, layout,
+                                                  dominant_white=parse_dominant_white(dominant_white))
     verdict = verify(records, claims, computed)
     doc = verdict.as_dict()
     traced = _traceable(doc, records, claims, interpolation=parse_interpolation(interpolation))
@@ -135,7 +136,7 @@ def verify_cmd(
         raise typer.Exit(code)
 
 
-def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=None):
+def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=None, dominant_white: str = "E"):
     """U per sample and metric from a Monte Carlo run with the instrument model (and the model)."""
     from ..analysis import read_files
     from ..uncertainty import claim_uncertainties, grid_groups, load_model, monte_carlo
@@ -147,7 +148,7 @@ def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=No
         info(f"uncertainty: sample {i}/{n}, {m} draws")
 
     result = monte_carlo(grid_groups(read_files(files, quantity=quantity, layout=layout)), model,
-                         rendering=_needs_rendering(claims), progress=progress)
+                         rendering=_needs_rendering(claims), progress=progress, dominant_white=dominant_white)
     return claim_uncertainties(result, claims), model
 
 

@@ -218,9 +218,13 @@ def read_spectra(
         raise InputError("table layout options apply to delimited text only, not to a "
                          f"{'JSON' if kind == 'json' else 'TM-27 XML'} file", source=source)
     if kind == "json":
-        from . import jsonfile as module
+        from . import jsonfile
+
+        parse = jsonfile.parse
     elif kind == "xml":
-        from . import tm27 as module
+        from . import tm27
+
+        parse = tm27.parse
     else:
         from . import delimited
 
@@ -232,7 +236,7 @@ def read_spectra(
         spectra = _without_dark_columns(spectra, own, source)
         skipped.extend(own)  # only once the file as a whole was read
         return spectra
-    parsed = module.parse(data, source=source, stem=p.stem or source)
+    parsed = parse(data, source=source, stem=p.stem or source)
     return _to_spectra(parsed, data, source, wanted)
 
 
@@ -395,8 +399,8 @@ def _bom_codec(head: bytes) -> tuple[str | None, str | None, int]:
     for bom, codec, label in _BOMS:
         if head.startswith(bom):
             return codec, label, len(bom)
-    codec = _utf16_without_bom(head)
-    return codec, ("UTF-16 (no BOM)" if codec else None), 0
+    guess = _utf16_without_bom(head)
+    return guess, ("UTF-16 (no BOM)" if guess else None), 0
 
 
 def _utf16_without_bom(data: bytes) -> str | None:
@@ -429,7 +433,7 @@ def stream_codec(blocks: Iterable[bytes], source: str) -> tuple[str, str, int, t
         if len(head) >= _SNIFF_BYTES:
             break
     codec, label, skip = _bom_codec(head)
-    if codec is not None:
+    if codec is not None and label is not None:
         for _ in it:
             pass
         return codec, label, skip, ()

@@ -400,8 +400,8 @@ def _wide_head(p: Path, source: str) -> _WideHead | None:
     wl_cells = cells[1:] if named else cells
     if len(wl_cells) < MIN_POINTS:
         return None
-    matches = [_WAVELENGTH_CELL.match(c) for c in wl_cells]
-    if any(m is None for m in matches):
+    matches = [m for m in map(_WAVELENGTH_CELL.match, wl_cells) if m is not None]
+    if len(matches) != len(wl_cells):
         return None
     wl = np.array([float(m.group(1)) for m in matches])
     if not (np.all(np.isfinite(wl)) and wl.min() >= _HEADER_RANGE_NM[0] and wl.max() <= _HEADER_RANGE_NM[1]):

@@ -178,7 +178,7 @@ def declutter(ax) -> None:
 
     texts = [t for t in _shown_texts(ax) if not getattr(t, "_cctkit_outside", False)]
     for t in sorted(texts, key=lambda t: -t.get_zorder()):
-        tries = [None]
+        tries: list[tuple[int, int] | None] = [None]
         if isinstance(t, Annotation) and t.anncoords == "offset points" and getattr(t, "_cctkit_movable", False):
             tries = list(_OFFSETS_PT)
         for off in tries:

@@ -312,7 +312,7 @@ def ansi_bin(analysis, i: int) -> str:
 
     name = classify_ansi(np.asarray(analysis.uv[i]), space="uv")
     name = name.item() if hasattr(name, "item") else name
-    return name or "none"
+    return str(name or "none")
 
 
 _LUMINOUS_LABEL = {"luminous_flux_lm": "Luminous flux", "illuminance_lx": "Illuminance",
@@ -582,7 +582,7 @@ def comparison_page(analysis, indices: Sequence[int], records, meta, *, paper: s
                 f"quantity {records[indices[0]]['quantity']}; report date {meta['date']}", page_label)
     lum = _luminous_key(records)
     keys = [k for k in _COMPARE_KEYS if k != "luminous" or lum]
-    keys = [lum if k == "luminous" else k for k in keys]
+    keys = [(lum or k) if k == "luminous" else k for k in keys]  # lum is set where "luminous" is kept
     label_w = 1.45
     n = len(indices)
     col_w = (p.width - label_w) / n
@@ -621,10 +621,10 @@ def comparison_page(analysis, indices: Sequence[int], records, meta, *, paper: s
     # Key: number -> full name and file.
     for k, i in enumerate(indices):
         r = records[i]
-        codes = ", ".join(f["code"] for f in r.get("flags", []))
+        flag_text = ", ".join(f["code"] for f in r.get("flags", []))
         _identity_key(p, p.left + 0.05, y + 0.04, k)
         p.text(p.left + 0.15, y, shorten(f"#{k + 1}  {r['name']}  -  {r.get('source') or 'no file'}"
-                                         + (f"  -  flags: {codes}" if codes else ""), 150), fontsize=5.6,
+                                         + (f"  -  flags: {flag_text}" if flag_text else ""), 150), fontsize=5.6,
                color=charts.series_style(k)["color"])
         y += 0.1
     y += 0.3 + 0.12 * (-(-n // 6))  # room for the legend rows above the spectra

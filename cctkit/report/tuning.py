@@ -257,7 +257,8 @@ def _table_pages(path, doc, meta, *, paper: str, labels: list[str], title: str):
     recs = doc["set_points"]
     lum_key = ch.luminous_key
     eff_key = "efficacy_lm_per_W" if ch.power_W is not None else "ler_lm_per_W"
-    cols = [("target K", "target_cct_K", "{:.0f}"), ("Duv", "target_duv", "{:+.4f}"), ("status", "status", None)]
+    cols: list[tuple[str, Any, str | None]] = [("target K", "target_cct_K", "{:.0f}"), ("Duv", "target_duv", "{:+.4f}"),
+                                              ("status", "status", None)]
     cols += [(f"d{k + 1}", ("drive", n), "{:.3f}") for k, n in enumerate(ch.names)]
     cols += [("CCT K", "cct_K", "{:.1f}"), ("Duv", "duv", "{:+.5f}"), (lum_key.rsplit("_", 1)[-1], lum_key, "{:.1f}"),
              ("lm/W", eff_key, "{:.1f}"), ("Rf", "Rf", "{:.1f}"), ("Rg", "Rg", "{:.1f}"), ("Ra", "Ra", "{:.1f}"),

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import os
 from pathlib import Path
-from typing import Iterable
+from typing import Any, Iterable
 
 import numpy as np
 
@@ -164,7 +164,8 @@ def write_uncertainty_report(result, path: str | os.PathLike, *, overwrite: bool
     info = {"Title": f"cctkit uncertainty: {result.spectra[0].name}" if len(result.spectra) == 1
             else f"cctkit uncertainty: {len(result.spectra)} spectra",
             "Creator": f"cctkit {__version__}", "CreationDate": None}
-    with rc_context(_RC), atomic_path(out, overwrite=overwrite, inputs=list(inputs)) as tmp:
+    settings: Any = _RC  # matplotlib's stubs name every rc key; ours are among them
+    with rc_context(settings), atomic_path(out, overwrite=overwrite, inputs=list(inputs)) as tmp:
         with PdfPages(tmp, metadata=info) as pdf:
             for i in range(len(result.spectra)):
                 pdf.savefig(uncertainty_page(result, i, date=date, version=__version__))

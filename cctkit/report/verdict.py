@@ -256,7 +256,8 @@ def verdict_chart(analysis, ax, doc: dict, claims, *, diagram: str = "uv", zoom:
                     t._cctkit_movable = True
     charts.declutter(ax)
     for o in outlines:
-        handles.append(Line2D([], [], color="#4d4d4d", lw=0.7, linestyle=o.linestyle, label=o.label))
+        style: Any = o.linestyle  # one of matplotlib's line style names
+        handles.append(Line2D([], [], color="#4d4d4d", lw=0.7, linestyle=style, label=o.label))
     if legend:
         ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=6, frameon=False,
                   borderaxespad=0.0, handlelength=2.2)
@@ -398,8 +399,11 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
         st = doc["summary"][m]
         label, unit = _label(m)
         U = claims.uncertainty.get(m)
-        stat = (lambda v: "n/a" if v is None else f"{v:+.4f}") if m == "ansi_quadrangle" else \
-            (lambda v, m=m: _value_text(m, v))
+        def stat(v: Any, m: str = m) -> str:
+            if m == "ansi_quadrangle":
+                return "n/a" if v is None else f"{v:+.4f}"
+            return _value_text(m, v)
+
         cells = [label, _limit_text(check, quad), "\u2013" if U is None else _num(U),
                  f"{st['count_pass']} / {st.get('count_inconclusive', 0)} / {st.get('count_fail', 0)}",
                  stat(st["mean"]), stat(st["std"]).lstrip("+"), stat(st["min"]),
