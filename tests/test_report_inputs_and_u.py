@@ -275,3 +275,31 @@ def test_annex_e_levels_of_spectra_either_side_of_a_threshold(family, lo, hi, me
     prefix = intents.INTENTS[intent]
     assert (f"{prefix}{above}" in shown[up]) if above else not any(n.startswith(prefix) for n in shown[up])
     assert (f"{prefix}{below}" in shown[down]) if below else not any(n.startswith(prefix) for n in shown[down])
+
+
+def test_labels_with_quotes_or_degrees_sit_on_their_row(tmp_path):
+    # A label aligned by its top must share the baseline of its neighbours whatever glyphs it
+    # holds; with the core fonts, "u' (CIE 1976)" sat about half a line lower (defect seen on
+    # the comparison table and the "All numbers" grid).
+    from matplotlib.backends.backend_pdf import PdfPages
+    from matplotlib.figure import Figure
+
+    from cctkit.report.build import report_style, save_pdf_page
+
+    labels = ["x (CIE 1931)", "u' (CIE 1976)", "v\u2032 (CIE 1976)", "2\u00b0 observer", "R*"]
+    with report_style():
+        fig = Figure(figsize=(6, 1))
+        for k, s in enumerate(labels):
+            fig.text(0.02 + 0.19 * k, 0.8, s, va="top", fontsize=8)
+        with PdfPages(tmp_path / "q.pdf") as pdf:
+            save_pdf_page(pdf, fig)
+    baselines = {}
+
+    def visit(text, cm, tm, font, size):
+        if text.strip():
+            baselines[text.strip()] = tm[5] * cm[3] + cm[5]
+
+    pypdf.PdfReader(str(tmp_path / "q.pdf")).pages[0].extract_text(visitor_text=visit)
+    ys = [y for t, y in baselines.items()]
+    assert len(ys) == len(labels), baselines
+    assert max(ys) - min(ys) < 0.5, baselines  # [pt]
