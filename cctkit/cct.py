@@ -166,20 +166,30 @@ def _grid(observer: int, c2: float) -> _Grid:
     """
     tab = _table(observer, c2)
     G = _GRID_CELLS
-    pad = 0.07  # beyond |Duv| = 0.05 everywhere along the locus
-    u0, v0 = float(tab.u.min()) - pad, float(tab.v.min()) - pad
-    size = max(float(tab.u.max()) - u0, float(tab.v.max()) - v0) + pad
-    step = size / G
-    edges = u0 + step * np.arange(G + 1), v0 + step * np.arange(G + 1)
-    cu, cv = (a.ravel() for a in np.meshgrid(*edges, indexing="ij"))
-    k, ok = _bisect(tab, cu, cv)
-    k = np.where(ok, k, -(10**9)).reshape(G + 1, G + 1)
-    corners = np.stack([k[:-1, :-1], k[1:, :-1], k[:-1, 1:], k[1:, 1:]])
-    K = tab.m.shape[0]
-    lo = np.clip(corners.min(axis=0) - 1, 0, K - 2)
-    hi = np.clip(corners.max(axis=0) + 2, 1, K - 1)
-    span = np.where(corners.min(axis=0) < 0, np.iinfo(np.int32).max, hi - lo)
-    return _Grid((u0, v0), 1.0 / step, G, lo.ravel().astype(np.intp), span.ravel().astype(np.intp))
+
+    def build() -> dict[str, np.ndarray]:
+        pad = 0.07  # beyond |Duv| = 0.05 everywhere along the locus
+        u0, v0 = float(tab.u.min()) - pad, float(tab.v.min()) - pad
+        size = max(float(tab.u.max()) - u0, float(tab.v.max()) - v0) + pad
+        step = size / G
+        edges = u0 + step * np.arange(G + 1), v0 + step * np.arange(G + 1)
+        cu, cv = (a.ravel() for a in np.meshgrid(*edges, indexing="ij"))
+        k, ok = _bisect(tab, cu, cv)
+        k = np.where(ok, k, -(10**9)).reshape(G + 1, G + 1)
+        corners = np.stack([k[:-1, :-1], k[1:, :-1], k[:-1, 1:], k[1:, 1:]])
+        K = tab.m.shape[0]
+        lo = np.clip(corners.min(axis=0) - 1, 0, K - 2)
+        hi = np.clip(corners.max(axis=0) + 2, 1, K - 1)
+        span = np.where(corners.min(axis=0) < 0, np.iinfo(np.int32).max, hi - lo)
+        return {"lo": lo.ravel().astype(np.intp), "span": span.ravel().astype(np.intp),
+                "geometry": np.array([u0, v0, 1.0 / step])}
+
+    from .tables import cached_arrays
+
+    # cached beside the locus table: building it costs ~0.1 s, a worker's or a short command's whole share
+    arr = cached_arrays(f"cct-grid-{observer}-{c2!r}-h{_H_MIRED}-g{G}", build, ("lo", "span", "geometry"))
+    u0, v0, inv_step = (float(x) for x in arr["geometry"])
+    return _Grid((u0, v0), inv_step, G, arr["lo"].astype(np.intp), arr["span"].astype(np.intp))
 
 
 def _bracket(tab: _Table, grid: _Grid, pu: np.ndarray, pv: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
