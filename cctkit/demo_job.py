@@ -13,7 +13,8 @@ spectra in ``spectra/`` (made by :mod:`cctkit.demo`), and writes under ``--out``
   tuned from 1800 K to 6500 K on the Planckian locus for the highest Rf with Rg 95-110, at
   constant output (drive table and tuning report);
 * ``nb3000-uncertainty.json`` / ``.csv`` / ``.pdf`` -- the shortlisted NB-3000-95 with the
-  uncertainty of every number under the lab's instrument model (``spectra/models/``).
+  uncertainty of every number under the lab's instrument model (``spectra/models/``), and
+  ``nb3000-report-u.pdf``, its full report with U (k = 2) in the headline strip.
 
 The job is a script of library calls, the same ones the command line makes.  It replaces
 its own previous outputs (never the spectra).
@@ -144,6 +145,13 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
                              inputs=[files[0], spectra_dir / LAB_MODEL], date=date or signoff.date)
     written["nb3000-uncertainty.pdf"] = out / "nb3000-uncertainty.pdf"
     _say(f"  wrote {out / 'nb3000-uncertainty.pdf'}")
+    # The same run in the full report: U (k = 2) in the headline strip, the uncertainty page after it.
+    nb = analyse_files(files[:1])
+    build_report(nb, out / "nb3000-report-u.pdf", overwrite=True, inputs=[files[0], spectra_dir / LAB_MODEL],
+                 date=date, signoff=signoff.merged(title="NB-3000-95 with measurement uncertainty"),
+                 uncertainty=unc)
+    written["nb3000-report-u.pdf"] = out / "nb3000-report-u.pdf"
+    _say(f"  wrote {out / 'nb3000-report-u.pdf'}")
     _say(f"done in {time.perf_counter() - t0:.1f} s")
     return written
 
