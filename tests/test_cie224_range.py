@@ -67,6 +67,20 @@ def test_rule_changes_only_short_spectra():
     # given the trimmed data directly, repeats the end values too despite its note: 99.964, measured);
     # the standard's zero rule gives 99.666: the two differ by 0.30 (measured here, no source).
     assert float(a.tm30.Rf[0]) == pytest.approx(99.666, abs=0.005)
+    # Without the rule (the nearest-value extrapolation of the working grid) our Rf is that of colour-science
+    # 0.4.7 called on the trimmed data directly: its cfi2017 warns "missing values will be filled with zeros",
+    # but SpectralDistribution.extrapolate there ignores the zero setting and repeats the end values (read in
+    # colour/colorimetry/spectrum.py of 0.4.7), so the two readings of "the same data" are both held here.
+    from colour.quality.cfi2017 import colour_fidelity_index_CIE2017
+
+    from cctkit.rendering import colour_rendition
+
+    nearest = colour_rendition(a.spectra.values)  # no measured range given: no short-range rule
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        sd = colour.SpectralDistribution(d65_short.values[0], d65_short.wavelength_nm)
+        direct = float(colour_fidelity_index_CIE2017(sd))  # reference library: colour-science 0.4.7 (99.9643)
+    assert float(nearest.tm30.Rf[0]) == pytest.approx(direct, abs=0.01)  # ours 99.9689
     full = analyse(d65_full)
     assert "cie224-short-range" not in [f.code for f in full.flags[0]]
     # Ra keeps the nearest-value rule: CIE 13.3-1995 has no rule of its own for short data (from memory)
