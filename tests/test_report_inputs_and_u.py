@@ -7,6 +7,7 @@ import hashlib
 import logging
 from pathlib import Path
 
+import numpy as np
 import pypdf
 import pytest
 from typer.testing import CliRunner
@@ -186,3 +187,119 @@ def test_reports_log_no_font_warnings(tmp_path, nb_with_u, caplog):
     with caplog.at_level(logging.INFO, logger="matplotlib.font_manager"):
         write_uncertainty_report(unc, tmp_path / "u.pdf", date="2026-01-15")
     assert not [r for r in caplog.records if r.levelno >= logging.WARNING], caplog.text
+
+
+# ---------------------------------------------------------------- TM-30 Annex E on constructed spectra
+#
+# Spectra built to sit just either side of an Annex E threshold: a 3500 K Planckian radiator
+# reshaped by one parameter, the parameter found where the computed metric crosses the
+# threshold.  The levels then come from the same path as the report's (analyse ->
+# report.build.design_intents).  Thresholds: cctkit.rendering.intents.CRITERIA (from memory of
+# TM-30-20 Annex E, not checked against the published table).
+
+_WL = np.arange(360.0, 831.0, 1.0)
+
+
+def _planck_3500():
+    from cctkit.planck import spectral_exitance
+
+    b = spectral_exitance(np.array([3500.0]), _WL)[0]
+    return b / b.max()
+
+
+def _gauss(centre, width):
+    return np.exp(-0.5 * ((_WL - centre) / width) ** 2)
+
+
+# yellow: a notch (a < 0) saturates reds and widens the gamut, a bump (a > 0) does the opposite;
+# redshift: more light at 615 nm and less at 665 nm (a > 0) or the reverse, a hue shift of the
+# reds that lowers Rf and Rf,h1 with the gamut nearly unchanged.
+_FAMILIES = {
+    "yellow": lambda a: _planck_3500() * (1.0 + a[:, None] * _gauss(575.0, 22.0)),
+    "redshift": lambda a: _planck_3500() * (1.0 + a[:, None] * (_gauss(615.0, 18.0) - _gauss(665.0, 18.0))),
+}
+
+
+def _tm30_of(values):
+    from cctkit.analysis import analyse
+    from cctkit.rendering.tm30 import chroma_shift_percent
+    from cctkit.spectra import Spectra
+
+    a = analyse(Spectra(wavelength_nm=_WL, values=values, quantity="relative",
+                        names=tuple(f"s{k}" for k in range(len(values)))))
+    t = a.tm30
+    return a, {"Rf": np.asarray(t.Rf), "Rg": np.asarray(t.Rg), "Rf_h1": np.asarray(t.Rf_h)[:, 0],
+               "Rcs_h1": chroma_shift_percent(t)[:, 0]}
+
+
+def _straddle(family, lo, hi, metric, threshold):
+    """Two spectra of ``family`` whose ``metric`` lies just below and just above ``threshold``."""
+    for _ in range(2):  # a coarse grid, then a fine one between the two that straddle
+        grid = np.linspace(lo, hi, 161)
+        _, m = _tm30_of(_FAMILIES[family](grid))
+        side = m[metric] >= threshold
+        k = np.flatnonzero(side[:-1] != side[1:])
+        assert k.size == 1, (family, metric, threshold, m[metric][[0, -1]])
+        lo, hi = grid[k[0]], grid[k[0] + 1]
+    return _FAMILIES[family](np.array([lo, hi]))
+
+
+@pytest.mark.parametrize("family, lo, hi, metric, level, above, below", [
+    # (family, parameter range, metric, the criterion whose threshold is crossed, strictest level
+    #  met with the metric at/above the threshold, and just below it)
+    ("redshift", 0.2, 0.6, "Rf", "F1", 1, 2),
+    ("redshift", 0.6, 1.0, "Rf", "F2", 2, 3),
+    ("redshift", -1.1, -0.85, "Rf_h1", "F3", 3, 0),
+    ("yellow", -0.35, -0.25, "Rcs_h1", "P1", 1, 2),
+    ("yellow", -0.2, 0.0, "Rcs_h1", "P2", 2, 3),
+    ("yellow", 0.0, 0.13, "Rcs_h1", "P3", 3, 0),
+    ("yellow", -0.7, -0.5, "Rg", "V2", 2, 3),
+])
+def test_annex_e_levels_of_spectra_either_side_of_a_threshold(family, lo, hi, metric, level, above, below):
+    from cctkit.rendering import intents
+    from cctkit.report.build import design_intents
+
+    crit = next(c for c in intents.CRITERIA if c.name == level)
+    threshold = {"Rf": crit.Rf_min, "Rg": crit.Rg_min, "Rf_h1": crit.Rf_h1_min, "Rcs_h1": crit.Rcs_h1_min}[metric]
+    values = _straddle(family, lo, hi, metric, threshold)
+    analysis, m = _tm30_of(values)
+    up = int(np.argmax(m[metric]))
+    down = 1 - up
+    assert m[metric][down] < threshold <= m[metric][up]
+    assert m[metric][up] - m[metric][down] < 0.05  # both spectra sit right at the threshold
+    intent = crit.intent
+    lv = intents.levels(m["Rf"], m["Rg"], m["Rf_h1"], m["Rcs_h1"])[intent]
+    assert (int(lv[up]), int(lv[down])) == (above, below), {k: v.tolist() for k, v in m.items()}
+    # the report shows the same levels
+    shown = design_intents(analysis)
+    prefix = intents.INTENTS[intent]
+    assert (f"{prefix}{above}" in shown[up]) if above else not any(n.startswith(prefix) for n in shown[up])
+    assert (f"{prefix}{below}" in shown[down]) if below else not any(n.startswith(prefix) for n in shown[down])
+
+
+def test_labels_with_quotes_or_degrees_sit_on_their_row(tmp_path):
+    # A label aligned by its top must share the baseline of its neighbours whatever glyphs it
+    # holds; with the core fonts, "u' (CIE 1976)" sat about half a line lower (defect seen on
+    # the comparison table and the "All numbers" grid).
+    from matplotlib.backends.backend_pdf import PdfPages
+    from matplotlib.figure import Figure
+
+    from cctkit.report.build import report_style, save_pdf_page
+
+    labels = ["x (CIE 1931)", "u' (CIE 1976)", "v\u2032 (CIE 1976)", "2\u00b0 observer", "R*"]
+    with report_style():
+        fig = Figure(figsize=(6, 1))
+        for k, s in enumerate(labels):
+            fig.text(0.02 + 0.19 * k, 0.8, s, va="top", fontsize=8)
+        with PdfPages(tmp_path / "q.pdf") as pdf:
+            save_pdf_page(pdf, fig)
+    baselines = {}
+
+    def visit(text, cm, tm, font, size):
+        if text.strip():
+            baselines[text.strip()] = tm[5] * cm[3] + cm[5]
+
+    pypdf.PdfReader(str(tmp_path / "q.pdf")).pages[0].extract_text(visitor_text=visit)
+    ys = [y for t, y in baselines.items()]
+    assert len(ys) == len(labels), baselines
+    assert max(ys) - min(ys) < 0.5, baselines  # [pt]

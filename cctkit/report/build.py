@@ -372,7 +372,47 @@ def report_style():
     stack.enter_context(rc_context(_RC))
     stack.enter_context(_quiet_font_lookup())
     stack.enter_context(_font_memo())
+    stack.enter_context(_core_font_heights())
     return stack
+
+
+class _core_font_heights:
+    """Measure core-font text by each glyph's real top and bottom while a report is drawn.
+
+    matplotlib reads an AFM glyph box (left, bottom, right, top) as (left, bottom, width,
+    height) when it measures a string for the PDF core fonts, so a glyph that starts high
+    (' ° * and the accents) made its line about half a line too tall: a label such as
+    "u' (CIE 1976)" aligned by its top sat half a line below its row.  The original is
+    restored on exit."""
+
+    def __enter__(self):
+        from matplotlib import _afm
+
+        self._cls = _afm.AFM
+        self._orig = _afm.AFM.__dict__["get_str_bbox_and_descent"]
+
+        def get_str_bbox_and_descent(afm, s):
+            if not len(s):
+                return 0, 0, 0, 0, 0
+            width, last, left, bottom, top = 0.0, "", 0, 0, 0
+            for c in s:
+                if c == "\n":
+                    continue
+                name = _afm.uni2type1.get(ord(c), f"uni{ord(c):04X}")
+                if name not in afm._metrics_by_name:
+                    name = "question"
+                wx, _, (x0, y0, _x1, y1) = afm._metrics_by_name[name]
+                width += wx + afm._kern.get((last, name), 0)
+                left, bottom, top = min(left, x0), min(bottom, y0), max(top, y1)
+                last = name
+            return left, bottom, width, top - bottom, -bottom
+
+        self._cls.get_str_bbox_and_descent = get_str_bbox_and_descent
+        return self
+
+    def __exit__(self, *exc):
+        self._cls.get_str_bbox_and_descent = self._orig
+        return False
 
 
 class _font_memo:

@@ -221,6 +221,10 @@ def _kv_block(page: _Page, x: float, y: float, rows: Sequence[tuple[str, str]], 
     """Label/value lines; long values wrap (at most ``max_lines`` lines); returns the y below the block."""
     for label, value in rows:
         page.text(x, y, label, fontsize=fontsize, weight="bold")
+        if label.startswith("SHA") and len(value) <= 64:  # a digest on one line, in a smaller monospace
+            page.text(x + label_w, y, value, fontsize=min(fontsize, 5.0), family="monospace")
+            y += pitch
+            continue
         lines = textwrap.wrap(value, value_chars, break_long_words=True) or [""]
         if len(lines) > max_lines:
             lines = lines[:max_lines - 1] + [shorten(" ".join(lines[max_lines - 1:]), value_chars)]
