@@ -19,7 +19,8 @@ wide CSV (``.csv``, ``.tsv``, ``.txt``)
     that the directives must come before the header (a conflicting repeat is
     refused).  Rows without a name are named ``<stem>#<k>`` (``k`` = 1-based
     spectrum number).  Every malformed row is an
-    :class:`~cctkit.errors.InputError` naming the file and its line.
+    :class:`~cctkit.errors.InputError` naming the file and its line (or, given a
+    ``skipped`` list, is left out and recorded there: see :func:`open_chunked`).
 long delimited text
     A file whose header is not a row of wavelengths (a wavelength column and
     one column per spectrum) is read whole by :func:`cctkit.readers.read_spectra`
