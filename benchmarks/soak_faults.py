@@ -218,8 +218,12 @@ def main() -> int:
         print(f"killed {killed_workers} workers, then the batch process at {journal_chunks(journal)} chunks; "
               f"workers left running: {orphans}")
     else:
-        p.communicate()
-        print(f"killed {killed_workers} workers; the run finished before the batch process could be killed")
+        _, err = p.communicate()
+        last = err.strip().splitlines()[-1:]
+        print(f"killed {killed_workers} workers; the run ended before the batch process could be killed: "
+              f"exit {p.returncode} {last}")
+        if p.returncode != 0:
+            failures.append(f"a killed worker ended the run: exit {p.returncode} {last}")
     if orphans:
         failures.append(f"{orphans} workers outlived the batch process")
     if not out.exists():
