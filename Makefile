@@ -43,6 +43,7 @@ wheel-check: $(STAMP)
 	@echo "wheel-check: the wheel installs in a clean venv and runs cctkit --help and cctkit inspect"
 
 bench: $(STAMP)
+	$(PY) benchmarks/bench_startup.py
 	$(PY) benchmarks/bench_cct.py
 	$(PY) benchmarks/bench_rendering.py
 	$(PY) benchmarks/bench_full.py

@@ -1,16 +1,24 @@
-"""``cctkit batch`` end to end: spectra/s and peak memory, and how they scale with N.
+"""``cctkit batch`` end to end beside ``analyse()`` of the same spectra, with the memory of the whole process tree.
 
-Run: .venv/bin/python benchmarks/bench_batch.py [--sizes 1000,10000,100000] [--no-rendering] [--keep]
+Run: .venv/bin/python benchmarks/bench_batch.py [--sizes 20000] [--repeat 2] [--no-rendering] [--keep]
 
-For each N a wide CSV of N distinct synthetic white-LED spectra (380-780 nm at
-5 nm, our own two-band model) is written to a temporary folder, then
-``cctkit batch`` runs on it in a child process, once in one process
-(``--workers 1``) and once with the default local worker processes.  Printed per
-run: wall time, spectra/s, and the peak resident memory of the child as
-``wait4`` reports it (on Linux the largest of the child and its own waited-for
-workers, not their sum; the input is generated in a separate process so that the
-benchmark's own memory does not show in it), side by side so the ratios come from one run on one
-machine.  Not run by CI.
+For each N, N distinct synthetic white-LED spectra (380-780 nm at 5 nm, our own two-band
+model) are written once as a wide CSV and once as Parquet (the same numbers).  Then, taking
+turns, each in a fresh child process:
+
+* ``analyse()`` alone: the child reads the CSV in chunks (not timed), then times
+  :func:`cctkit.analysis.analyse` over the same chunks ``batch`` uses -- the arithmetic
+  every route has to do;
+* ``cctkit batch`` CSV -> CSV in one process (``--workers 1``): goal <= 1.3x analyse();
+* ``cctkit batch`` Parquet -> Parquet in one process: goal <= 1.1x analyse();
+* ``cctkit batch`` CSV -> CSV with two worker processes: goal >= 1.7x the one-process rate
+  (on an otherwise idle 2-core machine).
+
+The best of ``--repeat`` rounds of each is reported (the least disturbed by other work).
+Memory is the peak, over the run, of the proportional set size (PSS, from
+``/proc/<pid>/smaps_rollup``) summed over the child and all its descendants, sampled every
+20 ms: shared pages are counted once across the tree, and worker processes are included,
+unlike ``ru_maxrss`` of the largest process.  Linux only for the memory column.
 """
 
 from __future__ import annotations
@@ -20,6 +28,7 @@ import os
 import subprocess
 import sys
 import tempfile
+import threading
 import time
 from pathlib import Path
 
@@ -27,88 +36,156 @@ import numpy as np
 from _synthetic import led_spectra  # benchmarks/ is on sys.path when this file runs as a script
 
 ROOT = Path(__file__).resolve().parents[1]
-_RUNNER = "import sys\nfrom cctkit.cli import app\napp(sys.argv[1:])\n"
+_BATCH = "import sys\nfrom cctkit.cli import main\nsys.argv = ['cctkit'] + sys.argv[1:]\nmain()\n"
+_ANALYSE = """
+import sys, time
+from cctkit.analysis import analyse
+from cctkit.readers.wide import open_chunked
+chunks = list(open_chunked(sys.argv[1], chunk_size=int(sys.argv[2])).chunks())
+rendering = sys.argv[3] == "on"
+analyse(chunks[0].select(range(min(8, len(chunks[0])))), rendering=rendering)  # tables and caches, as batch warms them
+t0 = time.perf_counter()
+for c in chunks:
+    analyse(c, rendering=rendering)
+print(time.perf_counter() - t0)
+"""
+_WL = np.arange(380.0, 781.0, 5.0)
 
 
-def write_wide_csv(path: Path, n: int, *, block: int = 5_000) -> None:
-    wl = np.arange(380.0, 781.0, 5.0)
-    with open(path, "w", encoding="utf-8") as fh:
+def write_inputs(csv_path: Path, parquet_path: Path, n: int, *, block: int = 5_000) -> None:
+    """The wide CSV and a Parquet file holding the same numbers (the CSV's text parsed back)."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    names_all: list[str] = []
+    parts: list[np.ndarray] = []
+    with open(csv_path, "w", encoding="utf-8") as fh:
         fh.write("# quantity: radiant-flux\n")
-        fh.write("name," + ",".join(f"{w:g}" for w in wl) + "\n")
+        fh.write("name," + ",".join(f"{w:g}" for w in _WL) + "\n")
         for start in range(0, n, block):
             k = min(block, n - start)
-            values = led_spectra(k, wl, seed=start)
-            names = np.array([f"luminaire {start + i:07d}" for i in range(k)])[:, None]
+            values = led_spectra(k, _WL, seed=start)
+            names = [f"luminaire {start + i:07d}" for i in range(k)]
             body = np.char.mod("%.6g", values)
-            rows = np.concatenate([names, body], axis=1)
-            fh.write("\n".join(",".join(r) for r in rows.tolist()) + "\n")
+            fh.write("\n".join(",".join([nm, *r]) for nm, r in zip(names, body.tolist())) + "\n")
+            names_all += names
+            parts.append(body.astype(np.float64))
+    values = np.concatenate(parts)
+    cols = {"name": pa.array(names_all)} | {f"{w:g}": pa.array(values[:, j]) for j, w in enumerate(_WL)}
+    table = pa.table(cols).replace_schema_metadata({"quantity": "radiant-flux"})
+    pq.write_table(table, parquet_path, row_group_size=block)
 
 
-def run_child(args: list[str]) -> tuple[float, float, int, str]:
-    """Wall time [s], peak RSS [MiB], exit status and stderr of one child run."""
+def _tree(pid: int) -> list[int]:
+    """``pid`` and all its descendants (Linux /proc)."""
+    out, todo = [], [pid]
+    while todo:
+        p = todo.pop()
+        out.append(p)
+        try:
+            for task in os.listdir(f"/proc/{p}/task"):
+                with open(f"/proc/{p}/task/{task}/children") as fh:
+                    todo.extend(int(c) for c in fh.read().split())
+        except OSError:
+            pass
+    return out
+
+
+def _pss_kib(pid: int) -> int:
+    try:
+        with open(f"/proc/{pid}/smaps_rollup") as fh:
+            for line in fh:
+                if line.startswith("Pss:"):
+                    return int(line.split()[1])
+    except OSError:
+        pass
+    return 0
+
+
+def run_child(args: list[str]) -> tuple[float, float | None, str, str]:
+    """Wall time [s], peak PSS of the process tree [MiB] (None off Linux), stdout and stderr of one child."""
     env = dict(os.environ, PYTHONPATH=str(ROOT) + os.pathsep + os.environ.get("PYTHONPATH", ""))
     t0 = time.perf_counter()
-    proc = subprocess.Popen([sys.executable, "-c", _RUNNER, *args], stderr=subprocess.PIPE, stdout=subprocess.DEVNULL,
+    proc = subprocess.Popen([sys.executable, *args], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
                             env=env, text=True)
-    err = proc.stderr.read()
-    _, status, usage = os.wait4(proc.pid, 0)
+    peak = [0]
+    linux = os.path.exists(f"/proc/{proc.pid}/smaps_rollup")
+
+    def sample() -> None:
+        while proc.poll() is None:
+            peak[0] = max(peak[0], sum(_pss_kib(p) for p in _tree(proc.pid)))
+            time.sleep(0.02)
+
+    sampler = threading.Thread(target=sample, daemon=True)
+    sampler.start()
+    out, err = proc.communicate()
     elapsed = time.perf_counter() - t0
-    proc.returncode = os.waitstatus_to_exitcode(status)
-    return elapsed, usage.ru_maxrss / 1024.0, proc.returncode, err
+    sampler.join()
+    if proc.returncode != 0:
+        raise RuntimeError(f"{' '.join(args[:3])}... failed ({proc.returncode}): {err.strip()[-500:]}")
+    return elapsed, (peak[0] / 1024.0 if linux else None), out, err
 
 
 def main() -> None:
-    if len(sys.argv) == 4 and sys.argv[1] == "--generate":
-        write_wide_csv(Path(sys.argv[2]), int(sys.argv[3]))
+    if len(sys.argv) == 5 and sys.argv[1] == "--generate":
+        write_inputs(Path(sys.argv[2]), Path(sys.argv[3]), int(sys.argv[4]))
         return
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--sizes", default="1000,10000,100000", help="comma-separated N (add 1000000 if time allows)")
+    ap.add_argument("--sizes", default="20000", help="comma-separated N (e.g. 20000,100000)")
     ap.add_argument("--chunk-size", type=int, default=4096)
+    ap.add_argument("--repeat", type=int, default=2)
     ap.add_argument("--no-rendering", action="store_true")
-    ap.add_argument("--workers", default="1,default", help="comma-separated worker counts to run ('default' = min(2, CPUs))")
     ap.add_argument("--keep", action="store_true", help="keep the temporary folder")
     opts = ap.parse_args()
-    sizes = [int(s) for s in opts.sizes.split(",") if s]
     tmp = Path(tempfile.mkdtemp(prefix="cctkit-bench-batch-"))
+    render = "off" if opts.no_rendering else "on"
     extra = ["--no-rendering"] if opts.no_rendering else []
-    rows = []
-    print(f"cctkit batch, wide CSV, 81 wavelengths (380-780 nm at 5 nm), chunk size {opts.chunk_size}, "
-          f"rendering {'off' if opts.no_rendering else 'on'}, {os.cpu_count()} CPUs")
-    for n in sizes:
-        src = tmp / f"wide_{n}.csv"
-        t0 = time.perf_counter()
-        # in a child of its own: a large parent would show in the RSS of every child it forks next
-        subprocess.run([sys.executable, __file__, "--generate", str(src), str(n)], check=True)
-        gen = time.perf_counter() - t0
-        size_mb = src.stat().st_size / 2**20
-        for workers in opts.workers.split(","):
-            out = tmp / f"out_{n}_{workers}.csv"
-            args = ["batch", str(src), "--output", str(out), "--overwrite", "--quiet", "--chunk-size", str(opts.chunk_size)]
-            if workers != "default":
-                args += ["--workers", workers]
-            t, rss, rc, err = run_child(args + extra)
-            if rc != 0:
-                print(f"N={n} workers={workers}: failed ({rc}): {err.strip()}")
-                continue
-            rows.append((n, workers, size_mb, gen, t, n / t, rss, out.stat().st_size / 2**20))
-            out.unlink()
-        src.unlink()
-    print(f"{'N':>9} {'workers':>8} {'input MiB':>10} {'wall s':>8} {'spectra/s':>10} {'peak RSS MiB':>13} {'output MiB':>11}")
-    for n, w, mb, _gen, _t, rate, rss, omb in rows:
-        print(f"{n:9d} {w:>8} {mb:10.1f} {t:8.2f} {rate:10.0f} {rss:13.0f} {omb:11.1f}")
-    base = {w: next((r for r in rows if r[1] == w), None) for w in opts.workers.split(",")}
-    print("\nscaling (rate relative to the smallest N, same workers; RSS growth):")
-    for n, w, _, _, _t, rate, rss, _ in rows:
-        b = base[w]
-        print(f"  N={n:<9d} workers={w:<8} rate x{rate / b[5]:.2f}  RSS x{rss / b[6]:.2f}")
-    pairs = {(r[0], r[1]): r for r in rows}
-    for n in sizes:
-        if (n, "1") in pairs and (n, "default") in pairs:
-            print(f"  N={n}: default workers / one process = {pairs[(n, 'default')][5] / pairs[(n, '1')][5]:.2f}x")
+    print(f"cctkit batch end to end, 81 wavelengths (380-780 nm at 5 nm), chunk size {opts.chunk_size}, "
+          f"rendering {render}, {os.cpu_count()} CPUs; best of {opts.repeat}")
+    for n in (int(s) for s in opts.sizes.split(",") if s):
+        src, pq_src = tmp / f"wide_{n}.csv", tmp / f"wide_{n}.parquet"
+        # in a child of its own: a large parent would show in the memory of every child it forks next
+        subprocess.run([sys.executable, __file__, "--generate", str(src), str(pq_src), str(n)], check=True)
+        common = ["--overwrite", "--quiet", "--chunk-size", str(opts.chunk_size), *extra]
+        cases = {
+            "analyse() alone (CSV read untimed)": ["-c", _ANALYSE, str(src), str(opts.chunk_size), render],
+            "batch CSV -> CSV, 1 process": ["-c", _BATCH, "batch", str(src), "-o", str(tmp / "o1.csv"),
+                                            "--workers", "1", *common],
+            "batch Parquet -> Parquet, 1 process": ["-c", _BATCH, "batch", str(pq_src), "-o",
+                                                    str(tmp / "o1.parquet"), "--workers", "1", *common],
+            "batch CSV -> CSV, 2 workers": ["-c", _BATCH, "batch", str(src), "-o", str(tmp / "o2.csv"),
+                                            "--workers", "2", *common],
+        }
+        best: dict[str, tuple[float, float | None]] = {}
+        for _ in range(opts.repeat):
+            for name, args in cases.items():
+                wall, pss, out, _err = run_child(args)
+                t = float(out.strip().splitlines()[-1]) if name.startswith("analyse") else wall
+                if name not in best or t < best[name][0]:
+                    best[name] = (t, pss)
+        load = os.getloadavg()
+        a = best["analyse() alone (CSV read untimed)"][0]
+        one = best["batch CSV -> CSV, 1 process"][0]
+        print(f"\nN = {n:,}; load average {load[0]:.2f} {load[1]:.2f} {load[2]:.2f}")
+        print(f"{'run':<38} {'time [s]':>9} {'spectra/s':>10} {'x analyse()':>11} {'peak PSS MiB':>13}  goal")
+        two = best["batch CSV -> CSV, 2 workers"][0]
+        goals = {"batch CSV -> CSV, 1 process": ("<= 1.3x", one / a <= 1.3),
+                 "batch Parquet -> Parquet, 1 process": ("<= 1.1x", best["batch Parquet -> Parquet, 1 process"][0] / a <= 1.1),
+                 "batch CSV -> CSV, 2 workers": (">= 1.7x one process", one / two >= 1.7)}
+        for name, (t, pss) in best.items():
+            goal, met = goals.get(name, ("", None))
+            verdict = "" if met is None else f"{goal}: {'met' if met else 'NOT met'}"
+            mem = "n/a" if pss is None else f"{pss:.0f}"
+            print(f"{name:<38} {t:>9.2f} {n / t:>10.0f} {t / a:>11.2f} {mem:>13}  {verdict}")
+        print(f"two workers / one process: {one / two:.2f}x")
+        for p in (src, pq_src, *tmp.glob("o*")):
+            p.unlink(missing_ok=True)
     if opts.keep:
         print(f"kept {tmp}")
     else:
-        os.rmdir(tmp)
+        for p in tmp.iterdir():
+            p.unlink()
+        tmp.rmdir()
 
 
 if __name__ == "__main__":

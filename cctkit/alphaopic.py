@@ -52,7 +52,8 @@ from .photometry import (
     coverage_flag,
     grid_values,
     luminous_total,
-    measured_mask,
+    inside_range,
+    range_masks,
     uncovered_share,
 )
 from .spectra import Quantity
@@ -213,28 +214,27 @@ def alpha_opic(values: Any, quantity: Quantity | str = Quantity.RELATIVE, *, mea
     n = v.shape[0]
     if measured_range_nm is None:
         measured_range_nm = ((float(WAVELENGTH_NM[0]), float(WAVELENGTH_NM[-1])),) * n
-    mask = measured_mask(measured_range_nm)
-    v = np.where(mask, v, 0.0)
+    masks, which = range_masks(measured_range_nm)
+    v = inside_range(v, masks, which)
     s = action_spectra()
-    share = uncovered_share(mask, s)  # (N, 5)
+    share = uncovered_share(masks, s)[which]  # (N, 5)
     short = share > COVERAGE_LIMIT
-    v_short = uncovered_share(mask, table("cmf_2")[:, 1]) > COVERAGE_LIMIT
+    v_short = uncovered_share(masks, table("cmf_2")[:, 1])[which] > COVERAGE_LIMIT
     radiant = np.where(short, np.nan, v @ s)
     lum = np.where(v_short, np.nan, luminous_total(v))
     elr = safe_divide(radiant, lum[:, None])
-    flags = tuple(
-        tuple(
+    flags: list[tuple[Flag, ...]] = [()] * n
+    for i in np.flatnonzero(short.any(axis=1)).tolist():  # only the spectra with a withheld quantity
+        flags[i] = tuple(
             coverage_flag(f"{name} quantities", f"the {name} action spectrum", float(share[i, k]),
                           measured_range_nm[i][0], measured_range_nm[i][1])
             for k, name in enumerate(ALPHA_OPIC_NAMES) if short[i, k]
         )
-        for i in range(n)
-    )
     return AlphaOpic(
         quantity=q,
         radiant=radiant,
         elr_W_per_lm=elr,
         edi=radiant / D65_ELR_W_PER_LM,
         der=elr / D65_ELR_W_PER_LM,
-        flags=flags,
+        flags=tuple(flags),
     )

@@ -95,8 +95,14 @@ def _table(observer: int, c2: float) -> _Table:
     return _Table(m, u, v, du, dv, h=_H_MIRED)
 
 
-def _hermite(tab: _Table, k: np.ndarray, t: np.ndarray, *, second: bool = True):
-    """Cubic Hermite interpolant of the locus on segment k at fraction t.
+def _segments(tab: _Table, k: np.ndarray) -> tuple[tuple[np.ndarray, ...], tuple[np.ndarray, ...]]:
+    """The table values at both ends of segment k, gathered once: (u0, u1, du0, du1), (v0, v1, dv0, dv1)."""
+    k1 = k + 1
+    return ((tab.u[k], tab.u[k1], tab.du[k], tab.du[k1]), (tab.v[k], tab.v[k1], tab.dv[k], tab.dv[k1]))
+
+
+def _hermite(tab: _Table, seg, t: np.ndarray, *, second: bool = True):
+    """Cubic Hermite interpolant of the locus on the segments ``seg`` (:func:`_segments`) at fraction t.
 
     Returns u, v and their first (and second) derivatives with respect to m, each (n,).
     """
@@ -106,9 +112,8 @@ def _hermite(tab: _Table, k: np.ndarray, t: np.ndarray, *, second: bool = True):
     h00, h10, h01, h11 = 2 * t3 - 3 * t2 + 1, t3 - 2 * t2 + t, -2 * t3 + 3 * t2, t3 - t2
     g00, g10, g01, g11 = 6 * t2 - 6 * t, 3 * t2 - 4 * t + 1, -6 * t2 + 6 * t, 3 * t2 - 2 * t
     out = []
-    for val, der in ((tab.u, tab.du), (tab.v, tab.dv)):
-        p0, p1 = val[k], val[k + 1]
-        m0, m1 = der[k] * h, der[k + 1] * h
+    for p0, p1, d0, d1 in seg:
+        m0, m1 = d0 * h, d1 * h
         f = h00 * p0 + h10 * m0 + h01 * p1 + h11 * m1
         d1 = (g00 * p0 + g10 * m0 + g01 * p1 + g11 * m1) / h
         if second:
@@ -166,20 +171,30 @@ def _grid(observer: int, c2: float) -> _Grid:
     """
     tab = _table(observer, c2)
     G = _GRID_CELLS
-    pad = 0.07  # beyond |Duv| = 0.05 everywhere along the locus
-    u0, v0 = float(tab.u.min()) - pad, float(tab.v.min()) - pad
-    size = max(float(tab.u.max()) - u0, float(tab.v.max()) - v0) + pad
-    step = size / G
-    edges = u0 + step * np.arange(G + 1), v0 + step * np.arange(G + 1)
-    cu, cv = (a.ravel() for a in np.meshgrid(*edges, indexing="ij"))
-    k, ok = _bisect(tab, cu, cv)
-    k = np.where(ok, k, -(10**9)).reshape(G + 1, G + 1)
-    corners = np.stack([k[:-1, :-1], k[1:, :-1], k[:-1, 1:], k[1:, 1:]])
-    K = tab.m.shape[0]
-    lo = np.clip(corners.min(axis=0) - 1, 0, K - 2)
-    hi = np.clip(corners.max(axis=0) + 2, 1, K - 1)
-    span = np.where(corners.min(axis=0) < 0, np.iinfo(np.int32).max, hi - lo)
-    return _Grid((u0, v0), 1.0 / step, G, lo.ravel().astype(np.intp), span.ravel().astype(np.intp))
+
+    def build() -> dict[str, np.ndarray]:
+        pad = 0.07  # beyond |Duv| = 0.05 everywhere along the locus
+        u0, v0 = float(tab.u.min()) - pad, float(tab.v.min()) - pad
+        size = max(float(tab.u.max()) - u0, float(tab.v.max()) - v0) + pad
+        step = size / G
+        edges = u0 + step * np.arange(G + 1), v0 + step * np.arange(G + 1)
+        cu, cv = (a.ravel() for a in np.meshgrid(*edges, indexing="ij"))
+        k, ok = _bisect(tab, cu, cv)
+        k = np.where(ok, k, -(10**9)).reshape(G + 1, G + 1)
+        corners = np.stack([k[:-1, :-1], k[1:, :-1], k[:-1, 1:], k[1:, 1:]])
+        K = tab.m.shape[0]
+        lo = np.clip(corners.min(axis=0) - 1, 0, K - 2)
+        hi = np.clip(corners.max(axis=0) + 2, 1, K - 1)
+        span = np.where(corners.min(axis=0) < 0, np.iinfo(np.int32).max, hi - lo)
+        return {"lo": lo.ravel().astype(np.intp), "span": span.ravel().astype(np.intp),
+                "geometry": np.array([u0, v0, 1.0 / step])}
+
+    from .tables import cached_arrays
+
+    # cached beside the locus table: building it costs ~0.1 s, a worker's or a short command's whole share
+    arr = cached_arrays(f"cct-grid-{observer}-{c2!r}-h{_H_MIRED}-g{G}", build, ("lo", "span", "geometry"))
+    u0, v0, inv_step = (float(x) for x in arr["geometry"])
+    return _Grid((u0, v0), inv_step, G, arr["lo"].astype(np.intp), arr["span"].astype(np.intp))
 
 
 def _bracket(tab: _Table, grid: _Grid, pu: np.ndarray, pv: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -215,20 +230,20 @@ def _exact(uv: np.ndarray, observer: int, c2: float) -> tuple[np.ndarray, np.nda
     else:
         k, bracketed = _bracket(tab, _grid(observer, c2), pu, pv)
 
-    def g(k):
-        return _g(tab, k, pu, pv)
-
-    gk, gk1 = g(k), g(k + 1)
+    seg = _segments(tab, k)
+    (u0, u1, du0, du1), (v0, v1, dv0, dv1) = seg
+    gk = (pu - u0) * du0 + (pv - v0) * dv0  # _g at k and k + 1, from the gathered values
+    gk1 = (pu - u1) * du1 + (pv - v1) * dv1
     with np.errstate(divide="ignore", invalid="ignore"):
         t = np.clip(np.where(gk != gk1, gk / (gk - gk1), 0.5), 0.0, 1.0)
     for _ in range(_NEWTON_STEPS):
-        (fu, du, d2u), (fv, dv, d2v) = _hermite(tab, k, t)
+        (fu, du, d2u), (fv, dv, d2v) = _hermite(tab, seg, t)
         ru, rv = pu - fu, pv - fv
         gt = ru * du + rv * dv
         dg = -(du * du + dv * dv) + ru * d2u + rv * d2v
         with np.errstate(divide="ignore", invalid="ignore"):
             t = t - np.where(dg != 0, gt / dg, 0.0) / tab.h  # g is a function of m = m_k + t h
-    (fu, du, _), (fv, dv, _) = _hermite(tab, k, t, second=False)
+    (fu, du, _), (fv, dv, _) = _hermite(tab, seg, t, second=False)
     cct = 1e6 / (tab.m[k] + t * tab.h)
     # Normal pointing above: d(uv)/dm points towards *lower* T, so n = (-dv, du) / |d|.
     norm = np.hypot(du, dv)

@@ -13,7 +13,8 @@ spectra in ``spectra/`` (made by :mod:`cctkit.demo`), and writes under ``--out``
   tuned from 1800 K to 6500 K on the Planckian locus for the highest Rf with Rg 95-110, at
   constant output (drive table and tuning report);
 * ``nb3000-uncertainty.json`` / ``.csv`` / ``.pdf`` -- the shortlisted NB-3000-95 with the
-  uncertainty of every number under the lab's instrument model (``spectra/models/``).
+  uncertainty of every number under the lab's instrument model (``spectra/models/``), and
+  ``nb3000-report-u.pdf``, its full report with U (k = 2) in the headline strip.
 
 The job is a script of library calls, the same ones the command line makes.  It replaces
 its own previous outputs (never the spectra).
@@ -36,6 +37,11 @@ WASH = "hl-wash5/hl-wash5-channels.csv"
 WASH_POWER = "hl-wash5/hl-wash5-power.csv"
 LAB_MODEL = "models/harbourside-lab-spectro.toml"
 
+
+
+def _used(records) -> list:
+    """The interpolation each record was actually resampled by (for the provenance block)."""
+    return [r.get("interpolation") for r in records]
 
 def _say(message: str) -> None:
     print(message, file=sys.stderr, flush=True)
@@ -68,7 +74,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     _say(f"[1/6] candidate downlights: {', '.join(f.name for f in files)}")
     shortlist = analyse_files(files)
     recs = shortlist.records()
-    put("harbourside-shortlist.json", dumps({**provenance(), "spectra": recs}))
+    put("harbourside-shortlist.json", dumps({**provenance(used=_used(recs)), "spectra": recs}))
     put("harbourside-shortlist.csv", records_csv(recs))
     for suffix in (".pdf", ".png"):
         path = out / f"harbourside-shortlist{suffix}"
@@ -80,7 +86,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     tw_file = spectra_dir / TUNABLE
     tw = analyse(read_spectra(tw_file))
     tw_recs = tw.records()
-    put("tw-lab.json", dumps({**provenance(), "spectra": tw_recs}))
+    put("tw-lab.json", dumps({**provenance(used=_used(tw_recs)), "spectra": tw_recs}))
     build_report(tw, out / "tw-lab.pdf", overwrite=True, inputs=[tw_file], date=date, records=tw_recs,
                  signoff=signoff.merged(title="Tunable-white fixture at five set points"))
     written["tw-lab.pdf"] = out / "tw-lab.pdf"
@@ -92,7 +98,7 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     lot = analyse_files(lot_files)
     lot_recs = lot.records()
     verdict = verify(lot_recs, claims).as_dict()
-    put("nb3000-lot-verdict.json", dumps({**provenance(), **verdict}))
+    put("nb3000-lot-verdict.json", dumps({**provenance(used=_used(lot_recs)), **verdict}))
     put("nb3000-lot-verdict.csv", verdict_csv(verdict, claims))
     put("nb3000-lot-verdict.txt", format_verdict(verdict, claims) + "\n")
     build_report(lot, out / "nb3000-lot.pdf", overwrite=True, inputs=[*lot_files, spectra_dir / CLAIMS], date=date,
@@ -139,6 +145,13 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
                              inputs=[files[0], spectra_dir / LAB_MODEL], date=date or signoff.date)
     written["nb3000-uncertainty.pdf"] = out / "nb3000-uncertainty.pdf"
     _say(f"  wrote {out / 'nb3000-uncertainty.pdf'}")
+    # The same run in the full report: U (k = 2) in the headline strip, the uncertainty page after it.
+    nb = analyse_files(files[:1])
+    build_report(nb, out / "nb3000-report-u.pdf", overwrite=True, inputs=[files[0], spectra_dir / LAB_MODEL],
+                 date=date, signoff=signoff.merged(title="NB-3000-95 with measurement uncertainty"),
+                 uncertainty=unc)
+    written["nb3000-report-u.pdf"] = out / "nb3000-report-u.pdf"
+    _say(f"  wrote {out / 'nb3000-report-u.pdf'}")
     _say(f"done in {time.perf_counter() - t0:.1f} s")
     return written
 

@@ -73,6 +73,7 @@ def resolve_white(white: Any = "E", *, observer: int = 2) -> tuple[str, tuple[fl
     naming the value and what is allowed.
     """
     allowed = ", ".join(WHITE_POINTS)
+    given = white
     if isinstance(white, str):
         key = white.strip().upper()
         if key in WHITE_POINTS:
@@ -87,7 +88,7 @@ def resolve_white(white: Any = "E", *, observer: int = 2) -> tuple[str, tuple[fl
     xy = np.asarray(white, dtype=np.float64)
     if xy.shape != (2,) or not np.all(np.isfinite(xy)) or np.any(xy <= 0) or xy.sum() >= 1:
         raise InputError(f"white point must be one of {allowed} or a chromaticity x,y with x, y > 0 and x + y < 1, "
-                         f"got {white!r}")
+                         f"got {given!r}")
     x, y = float(xy[0]), float(xy[1])
     return f"{x:g},{y:g}", (x, y)
 

@@ -193,6 +193,27 @@ def measured_mask(measured_range_nm) -> np.ndarray:
     return (WAVELENGTH_NM >= r[:, :1] - 1e-9) & (WAVELENGTH_NM <= r[:, 1:] + 1e-9)
 
 
+def range_masks(measured_range_nm) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`measured_mask` of each *distinct* measured range, and which of them each spectrum has.
+
+    Returns ``(masks, which)``: ``masks`` (U, 471), ``which`` (N,) indices into it, so that
+    ``masks[which]`` is :func:`measured_mask`; spectra of one file (or one batch chunk) share
+    one range, and their coverage is worked out once.
+    """
+    r = np.array([m[:2] for m in measured_range_nm], dtype=np.float64).reshape(-1, 2)
+    if r.shape[0] == 0 or (r == r[0]).all():
+        return measured_mask(r[:1]), np.zeros(r.shape[0], dtype=np.intp)
+    distinct, which = np.unique(r, axis=0, return_inverse=True)
+    return measured_mask(distinct), which.reshape(-1)
+
+
+def inside_range(v: np.ndarray, masks: np.ndarray, which: np.ndarray) -> np.ndarray:
+    """``v`` (N, 471) with the values outside each spectrum's measured range set to 0 (see :func:`range_masks`)."""
+    # C order whatever the layout of v, as np.where with a full (N, 471) mask gives: BLAS may round a
+    # product in another layout differently in the last bit
+    return np.ascontiguousarray(np.where(masks[0] if masks.shape[0] == 1 else masks[which], v, 0.0))
+
+
 def uncovered_share(mask: np.ndarray, weights: np.ndarray) -> np.ndarray:
     """Share of each weighting function's integral (columns of ``weights``, 360-830 nm) outside ``mask``.
 
@@ -204,9 +225,10 @@ def uncovered_share(mask: np.ndarray, weights: np.ndarray) -> np.ndarray:
 
 def coverage_flag(measure: str, weighting: str, share_uncovered: float, lo: float, hi: float) -> Flag:
     """The ``coverage-short`` flag of a withheld measure."""
+    covered = min(max(1.0 - share_uncovered, 0.0), 1.0)  # a share rounded past 1 would read "-0.00 %"
     return Flag(
         "coverage-short",
-        f"{measure} withheld: the measured range {lo:g}-{hi:g} nm covers {100 * (1 - share_uncovered):.2f} % "
+        f"{measure} withheld: the measured range {lo:g}-{hi:g} nm covers {100 * covered:.2f} % "
         f"of the integral of {weighting} (at least {100 * (1 - COVERAGE_LIMIT):g} % needed)",
     )
 
@@ -385,8 +407,8 @@ def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE, *,
     n = v.shape[0]
     if measured_range_nm is None:
         measured_range_nm = ((float(WAVELENGTH_NM[0]), float(WAVELENGTH_NM[-1])),) * n
-    mask = measured_mask(measured_range_nm)
-    vm = np.where(mask, v, 0.0)
+    masks, which = range_masks(measured_range_nm)
+    vm = inside_range(v, masks, which)
     if measured_totals is None:
         measured_totals = measured_sums(WAVELENGTH_NM, vm)
     totals = np.asarray(measured_totals, dtype=np.float64).reshape(n, 3)
@@ -398,7 +420,7 @@ def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE, *,
 
     par = (WAVELENGTH_NM >= PAR_BAND_NM[0]) & (WAVELENGTH_NM <= PAR_BAND_NM[1])
     weights = np.column_stack([_V(), table("v_scotopic"), np.where(par, WAVELENGTH_NM, 0.0)])
-    share = uncovered_share(mask, weights)
+    share = uncovered_share(masks, weights)[which]
     short = share > COVERAGE_LIMIT
     lum = np.where(short[:, 0], np.nan, luminous_total(vm))
     sco = np.where(short[:, 1], np.nan, scotopic_total(vm))
@@ -406,10 +428,10 @@ def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE, *,
     ppf = np.where(short[:, 2], np.nan, totals[:, 2])
     names = (("luminous total and LER", "V(lambda)"), ("scotopic total and S/P ratio", "V'(lambda)"),
              ("PPF", "the 400-700 nm photon weighting"))
-    flags = tuple(
-        tuple(coverage_flag(m, w, float(share[i, k]), rng[i, 0], rng[i, 1]) for k, (m, w) in enumerate(names) if short[i, k])
-        for i in range(n)
-    )
+    flags: list[tuple[Flag, ...]] = [()] * n
+    for i in np.flatnonzero(short.any(axis=1)).tolist():  # only the spectra with a withheld total
+        flags[i] = tuple(coverage_flag(m, w, float(share[i, k]), rng[i, 0], rng[i, 1])
+                         for k, (m, w) in enumerate(names) if short[i, k])
     return Photometry(
         quantity=q,
         luminous=lum,
@@ -422,5 +444,5 @@ def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE, *,
         radiometric_range_nm=rng,
         photometric_range_nm=phot_rng,
         ppf_range_nm=ppf_rng,
-        flags=flags,
+        flags=tuple(flags),
     )

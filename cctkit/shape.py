@@ -141,8 +141,7 @@ def _measures(values: Any, measured_range_nm=None):
     width, closed = _fwhm(v2, i, y_peak, first, last)
     fwhm_status = np.where(status != PEAK_OK, FWHM_NO_PEAK, np.where(closed, 0, FWHM_BROADBAND)).astype(np.int8)
     width = np.where(fwhm_status == 0, width, np.nan)
-    return (peak.reshape(lead), width.reshape(lead), status.reshape(lead), fwhm_status.reshape(lead),
-            v2[np.arange(v2.shape[0]), first].reshape(lead), first, last)
+    return peak.reshape(lead), width.reshape(lead), status.reshape(lead), fwhm_status.reshape(lead), first, last
 
 
 def peak_wavelength_nm(values: Any, *, measured_range_nm=None) -> np.ndarray:
@@ -223,8 +222,9 @@ def _flags(status, fwhm_status, first, last, v) -> tuple[tuple[Flag, ...], ...]:
         out[k] = (Flag("peak-not-meaningful",
                        f"the spectrum varies by less than {FLAT_LIMIT:.0%} of its maximum over {span(k)} (flat): "
                        "a peak wavelength has no meaning and FWHM is not defined; both withheld"),)
+    y_peak = _peak(v)[2]  # the level FWHM is judged at
     for k in np.flatnonzero(fwhm_status == FWHM_BROADBAND).tolist():
-        half = 0.5 * v[k].max()
+        half = 0.5 * y_peak[k]
         ends = [e for e in (first[k], last[k]) if v[k, e] >= half]
         where = " and ".join(f"{_grid_nm(e)} nm" for e in ends)
         out[k] = (Flag("fwhm-not-defined",
@@ -241,7 +241,7 @@ def spectral_shape(values: Any, *, measured_range_nm=None) -> ShapeMeasures:
     decides where the peak is at an edge and where FWHM's crossings must lie; default the grid.
     """
     v = np.atleast_2d(grid_values(values))
-    peak, width, status, fwhm_status, _, first, last = _measures(v, measured_range_nm)
+    peak, width, status, fwhm_status, first, last = _measures(v, measured_range_nm)
     flagged = (status == PEAK_AT_EDGE) | (status == PEAK_FLAT) | (fwhm_status == FWHM_BROADBAND)
     flags = _flags(status, fwhm_status, first, last, v) if flagged.any() else ((),) * v.shape[0]
     return ShapeMeasures(peak_nm=peak, centroid_nm=centroid_wavelength_nm(v), fwhm_nm=width,

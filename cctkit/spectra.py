@@ -543,18 +543,21 @@ def signal_problems(spectra: Spectra) -> tuple[Flag | None, ...]:
     """
     lo_vis, hi_vis = VISIBLE_BAND_NM
     wl = spectra.wavelength_nm
-    out: list[Flag | None] = []
-    for i, (lo, hi, _) in enumerate(spectra.measured_range_nm):
-        if hi < lo_vis or lo > hi_vis:
-            out.append(Flag("no-visible-data", f"no measured data in {lo_vis:g}-{hi_vis:g} nm (measured "
-                                                   f"{lo:g}-{hi:g} nm): nothing can be computed"))
-            continue
-        inside = (wl >= max(lo, lo_vis) - 1e-9) & (wl <= min(hi, hi_vis) + 1e-9)
-        if not np.any(spectra.values[i, inside] > 0):
-            out.append(Flag("no-signal", f"no signal: no positive value in {lo_vis:g}-{hi_vis:g} nm "
-                                         "(all zero or below zero); nothing can be computed"))
+    n = len(spectra)
+    r = np.array([m[:2] for m in spectra.measured_range_nm], dtype=np.float64).reshape(n, 2)
+    lo, hi = r[:, 0], r[:, 1]
+    outside = (hi < lo_vis) | (lo > hi_vis)
+    # the measured part of 380-780 nm, spectrum by spectrum, as one (N, L) mask
+    inside = (wl >= np.maximum(lo, lo_vis)[:, None] - 1e-9) & (wl <= np.minimum(hi, hi_vis)[:, None] + 1e-9)
+    signal = (inside & (spectra.values > 0)).any(axis=1)
+    out: list[Flag | None] = [None] * n
+    for i in np.flatnonzero(outside | ~signal).tolist():
+        if outside[i]:
+            out[i] = Flag("no-visible-data", f"no measured data in {lo_vis:g}-{hi_vis:g} nm (measured "
+                                             f"{lo[i]:g}-{hi[i]:g} nm): nothing can be computed")
         else:
-            out.append(None)
+            out[i] = Flag("no-signal", f"no signal: no positive value in {lo_vis:g}-{hi_vis:g} nm "
+                                       "(all zero or below zero); nothing can be computed")
     return tuple(out)
 
 

@@ -602,6 +602,7 @@ class UncertaintyResult:
     model: UncertaintyModel
     observer: int
     spectra: tuple[SpectrumUncertainty, ...]
+    dominant_white: str = "E"
 
     def records(self) -> list[dict[str, Any]]:
         return [s.record() for s in self.spectra]
@@ -612,6 +613,7 @@ class UncertaintyResult:
 
         return {
             **provenance(),
+            "dominant_white": self.dominant_white,
             "uncertainty_model": self.model.provenance(),
             "uncertainty_method": {
                 "montecarlo": "JCGM 101:2008 (GUM Supplement 1); probabilistically symmetric 95 % interval",
@@ -649,7 +651,8 @@ class UncertaintyResult:
 KEPT_KEYS = ("cct_K", "Ra", "u", "v", "x", "y")
 
 
-def _columns_of_draws(p: _Prepared, model, rng, m: int, *, quantity, observer: int, rendering: bool) -> dict[str, np.ndarray]:
+def _columns_of_draws(p: _Prepared, model, rng, m: int, *, quantity, observer: int, rendering: bool,
+                      dominant_white: str = "E") -> dict[str, np.ndarray]:
     from .analysis import analyse
 
     parts: list[dict[str, np.ndarray]] = []
@@ -658,16 +661,18 @@ def _columns_of_draws(p: _Prepared, model, rng, m: int, *, quantity, observer: i
         k = min(CHUNK_DRAWS, m - done)
         X = draw_spectra(p, model, rng, k)
         s = Spectra(wavelength_nm=p.wl, values=X, names=("draw",) * k, quantity=quantity)
-        parts.append(measure_columns(analyse(s, observer=observer, rendering=rendering)))
+        parts.append(measure_columns(analyse(s, observer=observer, rendering=rendering, dominant_white=dominant_white)))
         done += k
     return {key: np.concatenate([c[key] for c in parts]) for key in parts[0]}
 
 
 def _spectrum_mc(p: _Prepared, model: UncertaintyModel, rng: np.random.Generator, *, quantity, observer: int,
-                 rendering: bool, keys: Sequence[str], on_stage: Callable[[int], None] | None = None):
+                 rendering: bool, keys: Sequence[str], on_stage: Callable[[int], None] | None = None,
+                 dominant_white: str = "E"):
     """Draw columns (M, K) for one spectrum: fixed M, or the adaptive stages of JCGM 101 section 7.9.4."""
     def stage(m):
-        cols = _columns_of_draws(p, model, rng, m, quantity=quantity, observer=observer, rendering=rendering)
+        cols = _columns_of_draws(p, model, rng, m, quantity=quantity, observer=observer, rendering=rendering,
+                                 dominant_white=dominant_white)
         return np.stack([cols[k] for k in keys], axis=1)
 
     if model.draws is not None:
@@ -713,7 +718,8 @@ def _spectrum_mc(p: _Prepared, model: UncertaintyModel, rng: np.random.Generator
 def monte_carlo(spectra: Spectra | Sequence[Spectra], model: UncertaintyModel, *, observer: int = 2,
                 rendering: bool = True, repeats: bool = False,
                 progress: Callable[[int, int, int], None] | None = None,
-                stage_progress: Callable[[int, int], None] | None = None) -> UncertaintyResult:
+                stage_progress: Callable[[int, int], None] | None = None,
+                dominant_white: str = "E") -> UncertaintyResult:
     """Every measure of every spectrum with its Monte Carlo uncertainty (and the GUM u for chromaticity).
 
     Parameters
@@ -734,6 +740,8 @@ def monte_carlo(spectra: Spectra | Sequence[Spectra], model: UncertaintyModel, *
         Called as ``progress(i, n, M)`` after each spectrum.
     stage_progress
         Called as ``stage_progress(i, draws_so_far)`` after each stage of the adaptive procedure.
+    dominant_white
+        White point of the dominant wavelength and purity, as for :func:`cctkit.analysis.analyse`.
 
     Returns
     -------
@@ -758,12 +766,14 @@ def monte_carlo(spectra: Spectra | Sequence[Spectra], model: UncertaintyModel, *
     out: list[SpectrumUncertainty] = []
     for g in groups:
         out.extend(_group_mc(g, model, observer=int(observer), rendering=rendering, repeats=repeats,
-                             first=len(out), total=total, progress=progress, stage_progress=stage_progress))
-    return UncertaintyResult(model=model, observer=int(observer), spectra=tuple(out))
+                             first=len(out), total=total, progress=progress, stage_progress=stage_progress,
+                             dominant_white=dominant_white))
+    return UncertaintyResult(model=model, observer=int(observer), spectra=tuple(out), dominant_white=dominant_white)
 
 
 def _group_mc(spectra: Spectra, model: UncertaintyModel, *, observer: int, rendering: bool, repeats: bool,
-              first: int, total: int, progress, stage_progress=None) -> list[SpectrumUncertainty]:
+              first: int, total: int, progress, stage_progress=None,
+              dominant_white: str = "E") -> list[SpectrumUncertainty]:
     from .analysis import analyse
 
     wl = spectra.wavelength_nm
@@ -775,7 +785,7 @@ def _group_mc(spectra: Spectra, model: UncertaintyModel, *, observer: int, rende
                            sources=(spectra.sources[0],), sha256=(spectra.sha256[0],))
     else:
         measured = spectra
-    values = measure_columns(analyse(measured, observer=observer, rendering=rendering))
+    values = measure_columns(analyse(measured, observer=observer, rendering=rendering, dominant_white=dominant_white))
     keys = list(values)
     gum = gum_chromaticity(measured, model, observer=observer, repeats=rep)
     out = []
@@ -784,7 +794,8 @@ def _group_mc(spectra: Spectra, model: UncertaintyModel, *, observer: int, rende
         p = _prepare(wl, measured.values[i], model, rep)
         on_stage = None if stage_progress is None else (lambda m, k=first + i + 1: stage_progress(k, m))
         y, stages, converged, unstable = _spectrum_mc(p, model, rng, quantity=measured.quantity, observer=observer,
-                                            rendering=rendering, keys=keys, on_stage=on_stage)
+                                            rendering=rendering, keys=keys, on_stage=on_stage,
+                                            dominant_white=dominant_white)
         st = _block_stats(y)
         est = {}
         for j, key in enumerate(keys):

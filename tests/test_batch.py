@@ -343,7 +343,7 @@ def test_output_over_the_input_is_refused(wide_file, tmp_path):
 def test_injected_failure_leaves_nothing(wide_file, tmp_path, monkeypatch):
     import cctkit.batch as batch
 
-    real = batch._work
+    real = batch._results  # the analysis half of each chunk's work, in this process and in the workers
     calls = []
 
     def failing(chunk, *opts):
@@ -352,7 +352,7 @@ def test_injected_failure_leaves_nothing(wide_file, tmp_path, monkeypatch):
             raise batch.InputError("injected failure in the third chunk")
         return real(chunk, *opts)
 
-    monkeypatch.setattr(batch, "_work", failing)
+    monkeypatch.setattr(batch, "_results", failing)
     for out in (tmp_path / "o.csv", tmp_path / "o.parquet"):
         calls.clear()
         r = run("batch", wide_file, "-o", out, "--chunk-size", 20, "--workers", 1)

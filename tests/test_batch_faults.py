@@ -47,6 +47,19 @@ def lot(tmp_path_factory) -> Path:
 
 
 @pytest.fixture(scope="module")
+def long_lot(lot, tmp_path_factory) -> Path:
+    """The lot's rows twelve times over (4,800 spectra): a run long enough that a signal sent once it is under way
+    always finds it still running, however fast the machine."""
+    lines = lot.read_text().splitlines(keepends=True)
+    path = tmp_path_factory.mktemp("long") / "long.csv"
+    with open(path, "w") as fh:
+        fh.write(lines[0])
+        for rep in range(12):
+            fh.writelines(line.replace("unit ", f"r{rep:02d} unit ", 1) for line in lines[1:])
+    return path
+
+
+@pytest.fixture(scope="module")
 def reference(lot, tmp_path_factory) -> bytes:
     """The uninterrupted run's bytes (one process, same chunking)."""
     out = tmp_path_factory.mktemp("ref") / "ref.csv"
@@ -127,8 +140,8 @@ def test_resume_refuses_another_chunking(lot, tmp_path):
     assert "removed out.csv.partial" in r.output and not partial.exists() and not journal.exists()
 
 
-def test_sigterm_removes_the_temporary_file_and_the_workers(lot, tmp_path):
-    proc = _start([lot, "-o", tmp_path / "out.csv", "--chunk-size", 10, "--workers", 2, "--no-rendering"], tmp_path)
+def test_sigterm_removes_the_temporary_file_and_the_workers(long_lot, tmp_path):
+    proc = _start([long_lot, "-o", tmp_path / "out.csv", "--chunk-size", 10, "--workers", 2, "--no-rendering"], tmp_path)
     try:
         assert _wait_until(lambda: any(p.name.endswith(".tmp.csv") for p in tmp_path.iterdir())
                            and len(_children(proc.pid)) >= 2)

@@ -254,4 +254,5 @@ def test_demo_spectra_if_present(tmp_path):
     a = analyse(concatenate([read_spectra(f) for f in files]))
     out = tmp_path / "demo.pdf"
     _build(a, out)
-    assert len(_text(out)) == len(files) + 2
+    # sign-off, inputs table (several files), comparison, one page per spectrum
+    assert len(_text(out)) == len(files) + 3

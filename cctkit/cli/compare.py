@@ -113,6 +113,11 @@ def versus_cmd(
             f"warning: {spectra.names[i]}: CCT {T[i]:.0f} K / Duv {duv[i]:+.4f} is outside "
             f"{REFERENCE_RANGE_K[0]:g}-{REFERENCE_RANGE_K[1]:g} K or |Duv| > {DUV_LIMIT}; no reference, results left empty"
         )
+    if cct is None:
+        for i, (lo, hi, _) in enumerate(spectra.measured_range_nm):
+            if np.isfinite(rendition.cct_K[i]) and (lo > VISIBLE_BAND_NM[0] or hi < VISIBLE_BAND_NM[1]):
+                info(f"warning: {spectra.names[i]}: measured {lo:g}-{hi:g} nm does not cover 380-780 nm: the CES "
+                     "figures take the spectrum as zero where not measured (CIE 224:2017 / TM-30-20 rule)")
     T = rendition.cct_K
     comp = compare_to_reference(values, T, method=ref_method, rendition=rendition)
     cri, t30 = rendition.cri, rendition.tm30

@@ -63,8 +63,13 @@ def report_cmd(
     columns: Optional[str] = COLUMNS_OPTION,
     interpolation: str = INTERPOLATION_OPTION,
     dominant_white: str = DOMINANT_WHITE_OPTION,
+    uncertainty_model: Optional[Path] = typer.Option(
+        None, "--uncertainty-model", help="Instrument uncertainty model (TOML, as for `cctkit uncertainty`): "
+        "the headline strip shows U (k = 2) beside each number and each spectrum page is followed by its "
+        "uncertainty page (PDF)."),
 ) -> None:
     """A report an engineer can sign off: sign-off page, headline numbers, spectrum, rendering, chromaticity."""
+    from ..errors import InputError
     from ..report.build import check_options
     from ..report.profile import SignOff, load_profile
     from ..safe_io import check_output_path
@@ -85,7 +90,16 @@ def report_cmd(
         inputs.append(profile)
     if signoff.logo is not None:
         inputs.append(signoff.logo)
+    if uncertainty_model is not None:
+        inputs.append(uncertainty_model)
+        if output.suffix.lower() != ".pdf":
+            raise InputError(f"--uncertainty-model goes with a PDF report, got {output.name!r}", source=str(output))
     check_output_path(output, overwrite=overwrite, inputs=inputs)  # before reading and drawing
+    model = None
+    if uncertainty_model is not None:  # a bad model file is refused before the slow part
+        from ..uncertainty import load_model
+
+        model = load_model(uncertainty_model)
     claims = None
     if claims_file is not None:
         from ..claims import load_claims
@@ -100,6 +114,13 @@ def report_cmd(
                              interpolation=parse_interpolation(interpolation),
                              dominant_white=parse_dominant_white(dominant_white))
     records = analysis.records()
+    unc = None
+    if model is not None:
+        from ..analysis import read_files
+        from ..uncertainty import grid_groups, monte_carlo
+
+        unc = monte_carlo(grid_groups(read_files(files, quantity=quantity, layout=layout)), model,
+                          progress=lambda i, n, m: info(f"uncertainty: spectrum {i}/{n}, {m} draws"))
     verdict = None
     if claims is not None:
         from ..claims import verify
@@ -107,7 +128,7 @@ def report_cmd(
         verdict = verify(records, claims).as_dict()
     rep = build_report(analysis, output, paper=paper_key, pages=True if pages else None, diagram=diagram_key,
                        overwrite=overwrite, inputs=inputs, verdict=verdict, claims=claims, records=records,
-                       signoff=signoff)
+                       signoff=signoff, uncertainty=unc)
     if verdict is not None:
         info(f"claims verdict: {verdict['verdict']}")
     if rep.kind == "pdf":

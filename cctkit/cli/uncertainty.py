@@ -8,6 +8,7 @@ from typing import Any, List, Optional
 import typer
 
 from .options import (
+    DOMINANT_WHITE_OPTION,
     JSON_OPTION,
     OBSERVER_HELP,
     OVERWRITE_OPTION,
@@ -17,6 +18,7 @@ from .options import (
     emit_json,
     info,
     input_files,
+    parse_dominant_white,
     parse_observer,
     require_suffix,
     write_output,
@@ -60,6 +62,8 @@ def uncertainty_table(doc: dict[str, Any]) -> str:
             gum = _n(e.get("u_gum"), d + 1) if "u_gum" in e else ""
             lines.append(f"  {label:<24} {_n(e['value'], d):>12} {_n(e['u'], d + 1):>10} {_n(e['U'], d + 1):>10}  "
                          f"{interval:<25} {gum:>10}  {unit}".rstrip())
+            if key == "dominant_wavelength_nm" and doc.get("dominant_white"):
+                lines[-1] += f"  (from white {doc['dominant_white']})"
     lines.append("")
     lines.append("R1-R14, X Y Z and the draws' mean are in --json and the CSV.  " + doc["caution"])
     return "\n".join(lines)
@@ -77,6 +81,7 @@ def uncertainty_cmd(
     output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the results to FILE (.json or .csv)."),
     report: Optional[Path] = typer.Option(None, "--report", help="Also write the uncertainty report to FILE (.pdf)."),
     overwrite: bool = OVERWRITE_OPTION,
+    dominant_white: str = DOMINANT_WHITE_OPTION,
 ) -> None:
     """Every measure with value, standard uncertainty u, U (k = 2) and 95 % interval (Monte Carlo, JCGM 101)."""
     from ..analysis import read_files
@@ -86,6 +91,7 @@ def uncertainty_cmd(
     from ..uncertainty import grid_groups, load_model, monte_carlo
 
     obs = parse_observer(observer)
+    white = parse_dominant_white(dominant_white)
     if quantity is not None:
         Quantity.parse(quantity, source="--quantity")
     inputs = [*files, model_file]
@@ -112,7 +118,8 @@ def uncertainty_cmd(
     def stage(i: int, m: int) -> None:
         info(f"spectrum {i}: {m} draws so far (adaptive, JCGM 101 7.9)")
 
-    result = monte_carlo(spectra, model, observer=obs, repeats=repeats, progress=progress, stage_progress=stage)
+    result = monte_carlo(spectra, model, observer=obs, repeats=repeats, progress=progress, stage_progress=stage,
+                         dominant_white=white)
     doc = result.document()
     if output is not None:
         text = dumps(doc) if output.suffix.lower() == ".json" else result.csv()

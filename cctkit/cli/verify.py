@@ -97,9 +97,11 @@ def verify_cmd(
                              layout=layout, interpolation=parse_interpolation(interpolation),
                              dominant_white=parse_dominant_white(dominant_white))
     records = analysis.records()
-    computed, model = None, None
+    computed, model, unc_result = None, None, None
     if uncertainty_model is not None:
-        computed, model = _computed_uncertainties(files, quantity, uncertainty_model, claims, layout)
+        computed, model, unc_result = _computed_uncertainties(
+            files, quantity, uncertainty_model, claims, layout, dominant_white=parse_dominant_white(dominant_white),
+            rendering=report is not None)
     verdict = verify(records, claims, computed)
     doc = verdict.as_dict()
     traced = _traceable(doc, records, claims, interpolation=parse_interpolation(interpolation))
@@ -119,7 +121,7 @@ def verify_cmd(
             from ..report import build_report
 
             rep = build_report(analysis, report, overwrite=overwrite, inputs=inputs, verdict=doc, claims=claims,
-                               records=records)
+                               records=records, uncertainty=unc_result)
     from .options import info
 
     if output is not None:
@@ -135,8 +137,10 @@ def verify_cmd(
         raise typer.Exit(code)
 
 
-def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=None):
-    """U per sample and metric from a Monte Carlo run with the instrument model (and the model)."""
+def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=None, dominant_white: str = "E", *,
+                            rendering: bool = False):
+    """U per sample and metric from a Monte Carlo run with the instrument model, the model, and the
+    run's result (``rendering``: with the colour-rendering measures, for the report's headline strip)."""
     from ..analysis import read_files
     from ..uncertainty import claim_uncertainties, grid_groups, load_model, monte_carlo
     from .options import info
@@ -147,8 +151,9 @@ def _computed_uncertainties(files, quantity, model_file: Path, claims, layout=No
         info(f"uncertainty: sample {i}/{n}, {m} draws")
 
     result = monte_carlo(grid_groups(read_files(files, quantity=quantity, layout=layout)), model,
-                         rendering=_needs_rendering(claims), progress=progress)
-    return claim_uncertainties(result, claims), model
+                         rendering=rendering or _needs_rendering(claims), progress=progress,
+                         dominant_white=dominant_white)
+    return claim_uncertainties(result, claims), model, result
 
 
 def _traceable(doc: dict, records: list[dict], claims, interpolation: str = "auto") -> dict:

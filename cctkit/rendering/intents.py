@@ -5,7 +5,11 @@ level (1 strictest, 3 loosest), each a set of criteria on Rf, Rg, Rf,h1 and Rcs,
 (hue bin 1, the reds).  :data:`CRITERIA` holds them, one row per level, with the source
 of every threshold beside it.  The thresholds were written down from memory of the
 published Annex E table and have not been checked against a copy of it; each is marked
-so.  A spectrum meets a level when it meets every criterion of that level; its level
+so.  A second, independent recollection agrees with the preference rows (Rf >= 78/75/70,
+Rg >= 95/92/89, Rcs,h1 in 7..19 / 3..23 / -1..27 %) and the vividness rows' Rg floors
+(117/110/100); it is least sure of the fidelity rows' Rg bands and Rf,h1 floors, and of the
+vividness rows' Rf and Rcs,h1 floors.  Check them against the standard before relying on a
+class; the tests put constructed spectra either side of thresholds of each intent.  A spectrum meets a level when it meets every criterion of that level; its level
 for an intent is the strictest one it meets (1, 2 or 3), or 0 when it meets none.
 
 Everything is vectorised over spectra: pass arrays of shape (N,).

@@ -68,7 +68,8 @@ class Report:
 def plan_pages(n: int, *, pages: bool | None = None, sections: Sequence[str] | None = None) -> list[tuple[str, Any]]:
     """The page plan of a report on ``n`` spectra: a list of (kind, argument).
 
-    * the sign-off page ("cover") always comes first;
+    * the sign-off page ("cover") always comes first (and, with more than one input file, the
+      inputs table comes last; it is planned by :func:`build_report`, like the verdict pages);
     * one spectrum: its page;
     * 2 to :data:`BATCH_PAGE_LIMIT` spectra: a comparison page, then one page per spectrum;
     * more: summary table pages (paginated) and a chromaticity scatter page, plus one page per
@@ -181,6 +182,7 @@ def build_report(
     claims=None,
     records: Sequence[dict] | None = None,
     signoff=None,
+    uncertainty=None,
 ) -> Report:
     """Write the report of ``analysis`` to ``path`` (``.pdf``: full report, ``.png``: one-page summary).
 
@@ -217,6 +219,11 @@ def build_report(
     signoff
         A :class:`cctkit.report.profile.SignOff`: title, project, lab, operator, instrument,
         notes, date, paper, logo and sections (default: a plain title, every section).
+    uncertainty
+        A :class:`cctkit.uncertainty.UncertaintyResult` of the same spectra in the same order
+        (:func:`cctkit.uncertainty.monte_carlo`): each spectrum page's headline strip then shows
+        U (k = 2) beside every number that has one, and is followed by that spectrum's
+        uncertainty page (:func:`cctkit.report.uncertainty.uncertainty_page`).  PDF only.
 
     Returns
     -------
@@ -254,6 +261,8 @@ def build_report(
         check_verdict_matches(records, verdict)
     meta = report_meta(date=date, signoff=so, records=records)
     meta["design_intents"] = design_intents(analysis)
+    if uncertainty is not None:
+        meta["uncertainty_U"] = uncertainty_of(uncertainty, records)
     with report_style():
         from .charts import reference_comparison
 
@@ -264,8 +273,27 @@ def build_report(
                 return Report(path=out, kind="png", pages=("summary",), size_px=PNG_SIZE_PX)
             titles = _write_pdf(analysis, records, meta, tmp, paper=paper, pages=pages, comparison=comparison,
                                 diagram=diagram, regions=regions, verdict=verdict, claims=claims,
-                                sections=so.sections, logo=logo)
+                                sections=so.sections, logo=logo, uncertainty=uncertainty)
     return Report(path=out, kind="pdf", pages=tuple(titles))
+
+
+def uncertainty_of(result, records: Sequence[dict]) -> dict[int, dict[str, float]]:
+    """U (k = 2) per spectrum index and record key from an uncertainty result of the same spectra.
+
+    Raises :class:`cctkit.errors.InputError` when the result is of other spectra (count, name or
+    SHA-256 of the file differ).
+    """
+    spectra = result.spectra
+    if len(spectra) != len(records):
+        raise InputError(f"the uncertainty result has {len(spectra)} spectra, the report {len(records)}",
+                         source="uncertainty")
+    out: dict[int, dict[str, float]] = {}
+    for i, (s, r) in enumerate(zip(spectra, records)):
+        if s.name != r.get("name") or (s.sha256 and r.get("sha256") and s.sha256 != r.get("sha256")):
+            raise InputError(f"the uncertainty result's spectrum {i + 1} ({s.name!r}) is not the report's "
+                             f"({r.get('name')!r})", source="uncertainty")
+        out[i] = {k: float(e.U) for k, e in s.estimates.items() if e.U is not None and math.isfinite(e.U)}
+    return out
 
 
 # Characters outside Windows-1252 (the PDF core fonts' set) and what the PDF prints instead.
@@ -296,13 +324,38 @@ def pdf_text(text: str) -> str:
 def save_pdf_page(pdf, fig) -> None:
     """Add ``fig`` to an open :class:`matplotlib.backends.backend_pdf.PdfPages`, its text made
     printable in the core fonts (:func:`pdf_text`)."""
-    from matplotlib.text import Text
-
-    for t in fig.findobj(Text):
+    for t in _texts(fig):
         s = t.get_text()
         if s and not s.isascii():
             t.set_text(pdf_text(s))
     pdf.savefig(fig)
+
+
+def _texts(fig):
+    """Every text of ``fig`` that can be drawn, found without making tick objects: an axis
+    contributes its label and offset text, and its fixed tick labels are made printable in
+    place (``Figure.findobj`` would build every tick of every axis, a third of a page's time)."""
+    from matplotlib.axis import Axis
+    from matplotlib.text import Text
+    from matplotlib.ticker import FixedFormatter, FuncFormatter
+
+    stack = [fig]
+    while stack:
+        a = stack.pop()
+        if isinstance(a, Text):
+            yield a
+        if isinstance(a, Axis):
+            stack += [a.label, a.offsetText]
+            # Tick labels given as text (set_ticks(..., labels) makes one of these) are written at
+            # draw time by the formatter: make its output printable there.
+            for fmt, setter in ((a.get_major_formatter(), a.set_major_formatter),
+                                (a.get_minor_formatter(), a.set_minor_formatter)):
+                if isinstance(fmt, (FixedFormatter, FuncFormatter)) and not getattr(fmt, "_cctkit_printable", False):
+                    wrapped = FuncFormatter(lambda x, pos=None, f=fmt: pdf_text(str(f(x, pos))))
+                    wrapped._cctkit_printable = True
+                    setter(wrapped)
+            continue
+        stack.extend(a.get_children())
 
 
 #: Metadata every report PDF carries: no clock, so the same inputs give the same bytes.
@@ -318,7 +371,90 @@ def report_style():
     stack = ExitStack()
     stack.enter_context(rc_context(_RC))
     stack.enter_context(_quiet_font_lookup())
+    stack.enter_context(_font_memo())
+    stack.enter_context(_core_font_heights())
     return stack
+
+
+class _core_font_heights:
+    """Measure core-font text by each glyph's real top and bottom while a report is drawn.
+
+    matplotlib reads an AFM glyph box (left, bottom, right, top) as (left, bottom, width,
+    height) when it measures a string for the PDF core fonts, so a glyph that starts high
+    (' ° * and the accents) made its line about half a line too tall: a label such as
+    "u' (CIE 1976)" aligned by its top sat half a line below its row.  The original is
+    restored on exit."""
+
+    def __enter__(self):
+        from matplotlib import _afm
+
+        self._cls = _afm.AFM
+        self._orig = _afm.AFM.__dict__["get_str_bbox_and_descent"]
+
+        def get_str_bbox_and_descent(afm, s):
+            if not len(s):
+                return 0, 0, 0, 0, 0
+            width, last, left, bottom, top = 0.0, "", 0, 0, 0
+            for c in s:
+                if c == "\n":
+                    continue
+                name = _afm.uni2type1.get(ord(c), f"uni{ord(c):04X}")
+                if name not in afm._metrics_by_name:
+                    name = "question"
+                wx, _, (x0, y0, _x1, y1) = afm._metrics_by_name[name]
+                width += wx + afm._kern.get((last, name), 0)
+                left, bottom, top = min(left, x0), min(bottom, y0), max(top, y1)
+                last = name
+            return left, bottom, width, top - bottom, -bottom
+
+        self._cls.get_str_bbox_and_descent = get_str_bbox_and_descent
+        return self
+
+    def __exit__(self, *exc):
+        self._cls.get_str_bbox_and_descent = self._orig
+        return False
+
+
+class _font_memo:
+    """Remember matplotlib's font lookups while a report is drawn (its settings do not change then).
+
+    matplotlib answers every lookup from its own cache, but only after rebuilding the key from
+    eleven settings each time, and it searches anew for every font size; a page of ~400 texts
+    makes ~1,400 lookups, which took a fifth of a one-spectrum report's drawing time.  The
+    original lookup is restored on exit."""
+
+    def __enter__(self):
+        from matplotlib import font_manager as fm
+
+        self._fm = fm
+        self._module, self._manager = fm.findfont, fm.fontManager.__dict__.get("findfont")
+        lookup = fm.fontManager.findfont
+        memo: dict = {}
+        # When every known font is scalable the size takes no part in the choice (matplotlib
+        # scores a scalable font's size 0), so one lookup serves every size of a face.
+        sizeless = all(f.size == "scalable" for f in (*fm.fontManager.ttflist, *fm.fontManager.afmlist))
+
+        def findfont(prop, fontext="ttf", directory=None, fallback_to_default=True, rebuild_if_missing=True):
+            fp = fm.FontProperties._from_any(prop).copy()  # a copy: a text may change its properties later
+            if sizeless:
+                fp.set_size(10.0)
+            key = (fp, fontext, directory, fallback_to_default, rebuild_if_missing)
+            found = memo.get(key)
+            if found is None:
+                found = memo[key] = lookup(fp, fontext, directory, fallback_to_default, rebuild_if_missing)
+            return found
+
+        fm.findfont = findfont
+        fm.fontManager.findfont = findfont
+        return self
+
+    def __exit__(self, *exc):
+        self._fm.findfont = self._module
+        if self._manager is None:
+            del self._fm.fontManager.findfont
+        else:
+            self._fm.fontManager.findfont = self._manager
+        return False
 
 
 class _quiet_font_lookup:
@@ -353,13 +489,15 @@ def _title(kind: str, arg, records) -> str:
         return f"spectrum: {records[arg]['name']}"
     if kind == "comparison":
         return "comparison"
+    if kind == "uncertainty":
+        return f"uncertainty: {records[arg]['name']}"
     if kind == "summary":
         return f"summary table {arg + 1}"
     return "chromaticity scatter"
 
 
 def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, diagram, regions,
-               verdict=None, claims=None, sections=None, logo=None) -> list[str]:
+               verdict=None, claims=None, sections=None, logo=None, uncertainty=None) -> list[str]:
     from matplotlib.backends.backend_pdf import PdfPages
 
     from . import pages as pg
@@ -367,18 +505,28 @@ def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, 
 
     sections = SECTIONS if sections is None else sections
     plan = plan_pages(len(records), pages=pages, sections=sections)
+    if uncertainty is not None:  # each spectrum page is followed by its uncertainty page
+        plan = [e for kind, arg in plan for e in ([(kind, arg), ("uncertainty", arg)] if kind == "sample"
+                                                   else [(kind, arg)])]
     n_verdict = 0
     if verdict is not None and "verdict" in sections:
         from .verdict import verdict_page_count
 
         n_verdict = verdict_page_count(verdict)
-    total = n_verdict + len(plan)
+    # More than one input file: a table of every one, with its size and SHA-256, as the last page(s)
+    # (always, like the sign-off page: no profile can leave out what makes the report traceable).
+    input_list = pg.input_rows(records, claims=claims, uncertainty=uncertainty)
+    n_inputs = math.ceil(len(input_list) / pg.INPUT_ROWS_PER_PAGE) if len(input_list) > 1 else 0
+    total = n_verdict + len(plan) + n_inputs
     labels = [f"page {k + 1} of {total}" for k in range(total)]
+    labels_v = labels[1:]
+    labels_in = labels[total - n_inputs:]
     contents = [f"{labels[0]}: {_title('cover', None, records)}"]
-    contents += [f"{labels[1 + k]}: claims verdict" + (" (overview)" if k == 0 else f" table {k}")
+    contents += [f"{labels_v[k]}: claims verdict" + (" (overview)" if k == 0 else f" table {k}")
                  for k in range(n_verdict)]
     contents += [f"{labels[1 + n_verdict + k]}: {_title(kind, arg, records)}"
                  for k, (kind, arg) in enumerate(plan[1:])]
+    contents += [f"{labels_in[k]}: inputs, sizes and SHA-256" for k in range(n_inputs)]
     titles: list[str] = []
     n_summary = sum(1 for kind, _ in plan if kind == "summary")
     summary_figs = None
@@ -389,17 +537,18 @@ def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, 
         **PDF_METADATA,
     }
     with PdfPages(tmp, metadata=info) as pdf:
-        fig = pg.cover_page(records, meta, paper=paper, contents=contents, page_label=labels[0], logo=logo)
+        fig = pg.cover_page(records, meta, paper=paper, contents=contents, page_label=labels[0], logo=logo,
+                            inputs_page=labels_in[0] if n_inputs else "")
         titles.append(_title("cover", None, records))
         save_pdf_page(pdf, fig)
         if n_verdict:
             from .verdict import verdict_pages
 
             for title, fig in verdict_pages(analysis, verdict, claims, meta, paper=paper, diagram=diagram,
-                                            page_labels=labels[1:1 + n_verdict]):
+                                            page_labels=labels_v[:n_verdict]):
                 titles.append(title)
                 save_pdf_page(pdf, fig)
-        body = labels[1 + n_verdict:]
+        body = labels_v[n_verdict:total - 1 - n_inputs]
         for k, (kind, arg) in enumerate(plan[1:]):
             common = {"paper": paper}
             if kind == "sample":
@@ -409,6 +558,11 @@ def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, 
             elif kind == "comparison":
                 fig = pg.comparison_page(analysis, list(arg), records, meta, comparison=comparison,
                                          diagram=diagram, regions=regions, page_label=body[k], **common)
+            elif kind == "uncertainty":
+                from .uncertainty import uncertainty_page
+
+                fig = uncertainty_page(uncertainty, arg, date=meta["date"], version=meta["cctkit_version"],
+                                       page_label=body[k], footer=pg.footer_line(meta, body[k], records[arg].get("sha256")))
             elif kind == "summary":
                 if summary_figs is None:
                     summary_figs = pg.summary_table_pages(analysis, records, meta,
@@ -418,6 +572,9 @@ def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, 
                 fig = pg.scatter_page(analysis, records, meta, comparison=comparison, diagram=diagram,
                                       regions=regions, page_label=body[k], **common)
             titles.append(_title(kind, arg, records))
+            save_pdf_page(pdf, fig)
+        for fig in pg.inputs_pages(input_list, meta, paper=paper, page_labels=labels_in):
+            titles.append("inputs")
             save_pdf_page(pdf, fig)
     return titles
 

@@ -29,9 +29,13 @@ __all__ = [
     "summary_picture",
     "summary_cells",
     "headline_cells",
+    "u_text",
     "cover_page",
     "footer_line",
     "APPROVAL_BOXES",
+    "INPUT_ROWS_PER_PAGE",
+    "input_rows",
+    "inputs_pages",
     "SUMMARY_ROWS_PER_PAGE",
 ]
 
@@ -217,6 +221,10 @@ def _kv_block(page: _Page, x: float, y: float, rows: Sequence[tuple[str, str]], 
     """Label/value lines; long values wrap (at most ``max_lines`` lines); returns the y below the block."""
     for label, value in rows:
         page.text(x, y, label, fontsize=fontsize, weight="bold")
+        if label.startswith("SHA") and len(value) <= 64:  # a digest on one line, in a smaller monospace
+            page.text(x + label_w, y, value, fontsize=min(fontsize, 5.0), family="monospace")
+            y += pitch
+            continue
         lines = textwrap.wrap(value, value_chars, break_long_words=True) or [""]
         if len(lines) > max_lines:
             lines = lines[:max_lines - 1] + [shorten(" ".join(lines[max_lines - 1:]), value_chars)]
@@ -319,28 +327,58 @@ _LUMINOUS_LABEL = {"luminous_flux_lm": "Luminous flux", "illuminance_lx": "Illum
                    "luminance_cd_per_m2": "Luminance", "intensity_cd": "Luminous intensity"}
 
 
-def headline_cells(rec: dict[str, Any], *, ansi: str = "", intents: Sequence[str] = ()) -> list[tuple[str, str, str]]:
-    """The headline strip of a spectrum page: (label, value, detail) per cell, from the record."""
+def u_text(U: float | None, unit: str = "") -> str:
+    """An expanded uncertainty as the strip prints it: two significant digits and the unit ("" when unknown)."""
+    import math
+
+    if U is None or not math.isfinite(U):
+        return ""
+    from ..uncertainty import decimals_for
+
+    text = f"{U:.{decimals_for(U, 2)}f}"
+    return f"{text} {unit}" if unit else text
+
+
+def headline_cells(rec: dict[str, Any], *, ansi: str = "", intents: Sequence[str] = (),
+                   U: dict[str, float] | None = None) -> list[tuple[str, str, str, str]]:
+    """The headline strip of a spectrum page: (label, value, detail, U) per cell, from the record.
+
+    ``U`` maps record keys to expanded uncertainties (k = 2) of this spectrum
+    (:class:`cctkit.uncertainty.Estimate.U`); a cell with a number that has one gets
+    "U (k=2) ..." in the same units and order as its value(s), else "".
+    """
     def v(key):
         return format_value(rec, key)
+
+    unc = U or {}
+
+    def us(*keys_units: tuple[str, str]) -> str:
+        parts = [u_text(unc.get(k), unit) for k, unit in keys_units]
+        if not any(parts):
+            return ""
+        return "U (k=2) " + " / ".join(p or "n/a" for p in parts)
 
     cct = v("cct_K")
     cct_text = f"{cct} K" if cct not in ("n/a", "not computed") else "CCT n/a"
     duv_note = " (|Duv| > 0.05)" if rec.get("cct_K") is None and rec.get("duv") is not None else ""
-    cells = [("CCT", cct_text, f"Duv {v('duv')}{duv_note}; ANSI {ansi or 'n/a'}")]
+    cct_u = us(("cct_K", "K"))
+    if cct_u and u_text(unc.get("duv")):
+        cct_u += f"; Duv {u_text(unc.get('duv'))}"
+    cells = [("CCT", cct_text, f"Duv {v('duv')}{duv_note}; ANSI {ansi or 'n/a'}", cct_u)]
     ra_note = "CRI not valid" if rec.get("cri_valid") is False else "CIE 13.3-1995"
-    cells.append(("Ra / R9", f"{v('Ra')} / {v('R9')}", ra_note))
-    cells.append(("Rf / Rg", f"{v('Rf')} / {v('Rg')}", "ANSI/IES TM-30-20"))
+    cells.append(("Ra / R9", f"{v('Ra')} / {v('R9')}", ra_note, us(("Ra", ""), ("R9", ""))))
+    cells.append(("Rf / Rg", f"{v('Rf')} / {v('Rg')}", "ANSI/IES TM-30-20", us(("Rf", ""), ("Rg", ""))))
     lum = next((k for k in _LUMINOUS_KEYS if k in rec), None)
     if lum is not None:
         unit = _ROW[lum][2]
-        cells.append((_LUMINOUS_LABEL[lum], f"{v(lum)} {unit}", rec["quantity"]))
+        cells.append((_LUMINOUS_LABEL[lum], f"{v(lum)} {unit}", rec["quantity"], us((lum, unit))))
     else:
-        cells.append(("Luminous total", "relative", "no absolute scale in the data"))
-    cells.append(("Efficacy of radiation", f"{v('ler_lm_per_W')} lm/W", "LER; lamp efficacy needs power"))
-    cells.append(("Melanopic DER", v("melanopic_der"), "CIE S 026, D65 = 1"))
+        cells.append(("Luminous total", "relative", "no absolute scale in the data", ""))
+    cells.append(("Efficacy of radiation", f"{v('ler_lm_per_W')} lm/W", "LER; lamp efficacy needs power",
+                  us(("ler_lm_per_W", "lm/W"))))
+    cells.append(("Melanopic DER", v("melanopic_der"), "CIE S 026, D65 = 1", us(("melanopic_der", ""))))
     cells.append(("TM-30 design intent", " ".join(intents) if intents else "none met",
-                  "Annex E levels (1 strictest)"))
+                  "Annex E levels (1 strictest)", ""))
     return cells
 
 
@@ -359,11 +397,14 @@ def _numbers_grid(page: _Page, y: float, rows, *, ncol: int = 3, pitch: float = 
     return y + per * pitch
 
 
-def _strip(page: _Page, y: float, cells: Sequence[tuple[str, str, str]], *, h: float = 0.62) -> float:
+def _strip(page: _Page, y: float, cells: Sequence[tuple[str, str, str, str]]) -> float:
     from matplotlib.patches import Rectangle
 
+    with_u = any(c[3] for c in cells)
+    h = 0.74 if with_u else 0.62
+    below = 0.12 if with_u else 0.0  # the detail lines move down under the U line
     w = page.width / len(cells)
-    for k, (label, value, detail) in enumerate(cells):
+    for k, (label, value, detail, unc) in enumerate(cells):
         x = page.left + k * w
         page.fig.add_artist(Rectangle((x / page.w, 1 - (y + h) / page.h), (w - 0.05) / page.w, h / page.h,
                                       transform=page.fig.transFigure, fc="#f0f0f0" if k % 2 == 0 else "white",
@@ -373,9 +414,11 @@ def _strip(page: _Page, y: float, cells: Sequence[tuple[str, str, str]], *, h: f
         size = 10.5 if len(value) <= int((w - 0.1) / 0.085) else 8.0
         page.text(x + 0.06, y + 0.2, shorten(value, int((w - 0.1) / (0.085 if size > 9 else 0.065))),
                   fontsize=size, weight="bold")
+        if unc:
+            page.text(x + 0.06, y + 0.4, shorten(unc, int((w - 0.1) / 0.034)), fontsize=5.0, weight="bold")
         lines = textwrap.wrap(detail, chars)[:2]
         for j, line in enumerate(lines):
-            page.text(x + 0.06, y + 0.42 + 0.085 * j, line, fontsize=5.0, color=INK)
+            page.text(x + 0.06, y + 0.42 + below + 0.085 * j, line, fontsize=5.0, color=INK)
     return y + h
 
 
@@ -390,7 +433,8 @@ def sample_page(analysis, i: int, rec: dict[str, Any], meta: dict[str, Any], *, 
     sub = " | ".join(t for t in (meta.get("title"), meta.get("project"), meta.get("lab")) if t)
     y = _header(p, f"{rec['name']}", sub or (rec.get("source") or ""), page_label)
     intents = (meta.get("design_intents") or {}).get(i, ())
-    y = _strip(p, y, headline_cells(rec, ansi=ansi_bin(analysis, i), intents=intents)) + 0.12
+    U = (meta.get("uncertainty_U") or {}).get(i)
+    y = _strip(p, y, headline_cells(rec, ansi=ansi_bin(analysis, i), intents=intents, U=U)) + 0.12
 
     gx = p.left + 0.45
     full = p.right - gx
@@ -452,7 +496,7 @@ def sample_page(analysis, i: int, rec: dict[str, Any], meta: dict[str, Any], *, 
 
 
 def cover_page(records, meta: dict[str, Any], *, paper: str, contents: Sequence[str], page_label: str,
-               logo=None):
+               logo=None, inputs_page: str = ""):
     """The sign-off page: title, sign-off fields, inputs with their SHA-256, contents and the approval block."""
     p = _Page(paper)
     title = meta.get("title") or "Spectral measurement report"
@@ -492,8 +536,12 @@ def cover_page(records, meta: dict[str, Any], *, paper: str, contents: Sequence[
         p.text(p.left + 4.15, y, r.get("sha256") or "-", fontsize=5.0, family="monospace")
         y += 0.12
     if len(shown) < len(records):
-        p.text(p.left, y, f"... and {len(records) - len(shown)} more: every file and SHA-256 is in the JSON "
-                          "output", fontsize=5.8)
+        where = f"listed with its size on {inputs_page}" if inputs_page else "in the JSON output"
+        p.text(p.left, y, f"... and {len(records) - len(shown)} more: every file and SHA-256 is {where}",
+               fontsize=5.8)
+        y += 0.12
+    elif inputs_page:
+        p.text(p.left, y, f"Every input file with its size and SHA-256: {inputs_page}", fontsize=5.8)
         y += 0.12
     y += 0.15
     p.text(p.left, y, "Contents", fontsize=7.5, weight="bold")
@@ -517,6 +565,93 @@ def cover_page(records, meta: dict[str, Any], *, paper: str, contents: Sequence[
     _approval_block(p, p.h - p.MARGIN - _FOOTER_H - 1.45, meta)
     _footer(p, meta, page_label)
     return p.fig
+
+
+#: Rows of the inputs table on one page.
+INPUT_ROWS_PER_PAGE = 64
+
+
+def input_rows(records, *, claims=None, uncertainty=None) -> list[dict[str, Any]]:
+    """Every input file of a report, once each, in reading order: ``file``, ``role``, ``sha256`` (of
+    the bytes that were read and analysed, as recorded by the readers), ``size_bytes``.
+
+    The size is that of the file now, given only where its bytes still have the recorded SHA-256
+    (so it is the size of the bytes analysed); otherwise ``size_bytes`` is None and ``note`` says why.
+    """
+    import os
+
+    from ..spectra import sha256_of_file
+
+    rows: list[dict[str, Any]] = []
+    seen: dict[tuple[str, str], dict[str, Any]] = {}
+    for r in records:
+        key = (_file_of(r), r.get("sha256") or "")
+        if not key[0]:
+            continue
+        if key in seen:
+            seen[key]["names"].append(r["name"])
+            continue
+        seen[key] = {"file": key[0], "sha256": key[1], "names": [r["name"]], "role": "spectra"}
+        rows.append(seen[key])
+    for row in rows:
+        n = len(row.pop("names"))
+        row["role"] = f"{n} spectr{'um' if n == 1 else 'a'}"
+    if claims is not None:
+        rows.append({"file": claims.source, "sha256": claims.sha256 or "", "role": "claims"})
+        if claims.sidecar_path:
+            rows.append({"file": claims.sidecar_path, "sha256": claims.sidecar_sha256 or "", "role": "claims sidecar"})
+    if uncertainty is not None:
+        rows.append({"file": uncertainty.model.source, "sha256": uncertainty.model.sha256, "role": "uncertainty model"})
+    for row in rows:
+        row["size_bytes"], row["note"] = None, ""
+        try:
+            now = sha256_of_file(row["file"])
+        except OSError:
+            row["note"] = "not found now"
+            continue
+        if row["sha256"] and now != row["sha256"]:
+            row["note"] = "changed since it was read"
+        else:
+            row["size_bytes"] = os.stat(row["file"]).st_size
+    return rows
+
+
+def _file_of(rec: dict[str, Any]) -> str:
+    """The file a record was read from: its ``source`` without the "#name" that marks one spectrum of several."""
+    import os
+
+    src = rec.get("source") or ""
+    mark = f"#{rec.get('name')}"
+    if src.endswith(mark) and len(src) > len(mark):
+        return src[: -len(mark)]
+    if "#" in src and not os.path.exists(src) and os.path.exists(src.rsplit("#", 1)[0]):
+        return src.rsplit("#", 1)[0]
+    return src
+
+
+def inputs_pages(rows: Sequence[dict[str, Any]], meta: dict[str, Any], *, paper: str, page_labels: Sequence[str]):
+    """The inputs table, :data:`INPUT_ROWS_PER_PAGE` rows a page: file, role, size and SHA-256 of every input."""
+    for k, label in enumerate(page_labels):
+        p = _Page(paper)
+        part = rows[k * INPUT_ROWS_PER_PAGE:(k + 1) * INPUT_ROWS_PER_PAGE]
+        cont = f" (continued, {k + 1} of {len(page_labels)})" if len(page_labels) > 1 else ""
+        y = _header(p, f"Inputs{cont}", f"{len(rows)} files: each with the size and the SHA-256 of the bytes "
+                    "that were read and analysed", label)
+        cols = ((0.0, "#"), (0.3, "File"), (3.05, "Holds"), (3.85, "Size [bytes]"), (4.75, "SHA-256"))
+        for x, head in cols:
+            p.text(p.left + x, y, head, fontsize=6.2, weight="bold")
+        y += 0.16
+        for j, row in enumerate(part):
+            n = k * INPUT_ROWS_PER_PAGE + j + 1
+            size = f"{row['size_bytes']:,}" if row["size_bytes"] is not None else row["note"]
+            p.text(p.left, y, str(n), fontsize=5.8)
+            p.text(p.left + 0.3, y, shorten(row["file"], 62, keep="tail"), fontsize=5.8)
+            p.text(p.left + 3.05, y, row["role"], fontsize=5.8)
+            p.text(p.left + 4.55, y, size, fontsize=5.8, ha="right")
+            p.text(p.left + 4.75, y, row["sha256"] or "-", fontsize=5.0, family="monospace")
+            y += 0.125
+        _footer(p, meta, label)
+        yield p.fig
 
 
 #: The approval block's boxes: heading and the name printed in it (from the sign-off fields).

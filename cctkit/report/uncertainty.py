@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import os
 from pathlib import Path
-from typing import Any, Iterable
+from typing import Iterable
 
 import numpy as np
 
@@ -89,8 +89,13 @@ def _histogram(ax, s, key: str, label: str) -> None:
     ax.set_title(f"{label}: {d.shape[0]} draws; solid: value, dashed: 95 % interval", fontsize=6.5)
 
 
-def uncertainty_page(result, index: int, *, date: str, version: str):
-    """The page (a matplotlib Figure) of spectrum ``index`` of ``result``."""
+def uncertainty_page(result, index: int, *, date: str, version: str, page_label: str | None = None,
+                     footer: str | None = None):
+    """The page (a matplotlib Figure) of spectrum ``index`` of ``result``.
+
+    Inside a full report (:func:`cctkit.report.build_report` with ``uncertainty``) the page
+    carries that report's ``page_label`` ("page n of N") and ``footer`` line instead of its own.
+    """
     from matplotlib.figure import Figure
 
     from ..uncertainty import UNCERTAINTY_CAUTION
@@ -105,7 +110,8 @@ def uncertainty_page(result, index: int, *, date: str, version: str):
         fig.text(x / W, 1 - y / H, t, **kw)
 
     text(0.45, 0.45, f"Measurement uncertainty: {s.name}", fontsize=11, weight="bold")
-    text(W - 0.45, 0.45, f"page {index + 1} of {len(result.spectra)}", fontsize=7, ha="right", color=_GREY)
+    text(W - 0.45, 0.45, page_label or f"page {index + 1} of {len(result.spectra)}", fontsize=7, ha="right",
+         color=_GREY)
     how = (f"adaptive (JCGM 101 7.9, {m.tolerance_digits} significant digits of u): {s.stages} stages, "
            + ("stable" if s.converged else "NOT stable at max_draws") if m.draws is None else "fixed number of draws")
     text(0.45, 0.72, f"source {s.source}", fontsize=6.5, color=_GREY)
@@ -139,20 +145,22 @@ def uncertainty_page(result, index: int, *, date: str, version: str):
              "Where the two U differ, the measure is not linear over the spread of the measured spectrum.")
     for k, line in enumerate(lines):
         text(0.45, foot + 0.13 + 0.11 * k, "\u2022 " + line, fontsize=5.5)
-    text(W - 0.45, foot, f"cctkit {version} \u2022 report date {date}", fontsize=5.5, ha="right", color=_GREY)
+    if footer is None:
+        text(W - 0.45, foot, f"cctkit {version} \u2022 report date {date}", fontsize=5.5, ha="right", color=_GREY)
+    else:
+        text(0.45, H - 0.47, footer, fontsize=5.2, color=_GREY, va="bottom", family="monospace")
     return fig
 
 
 def write_uncertainty_report(result, path: str | os.PathLike, *, overwrite: bool = False, inputs: Iterable = (),
                              date: str | None = None) -> Path:
     """Write one uncertainty page per spectrum to the PDF ``path`` (atomically; never over an input)."""
-    from matplotlib import rc_context
     from matplotlib.backends.backend_pdf import PdfPages
 
     from .. import __version__
     from ..errors import InputError
     from ..safe_io import atomic_path
-    from .build import _RC
+    from .build import report_style, save_pdf_page
 
     out = Path(path)
     if out.suffix.lower() != ".pdf":
@@ -164,9 +172,8 @@ def write_uncertainty_report(result, path: str | os.PathLike, *, overwrite: bool
     info = {"Title": f"cctkit uncertainty: {result.spectra[0].name}" if len(result.spectra) == 1
             else f"cctkit uncertainty: {len(result.spectra)} spectra",
             "Creator": f"cctkit {__version__}", "CreationDate": None}
-    settings: Any = _RC  # matplotlib's stubs name every rc key; ours are among them
-    with rc_context(settings), atomic_path(out, overwrite=overwrite, inputs=list(inputs)) as tmp:
+    with report_style(), atomic_path(out, overwrite=overwrite, inputs=list(inputs)) as tmp:
         with PdfPages(tmp, metadata=info) as pdf:
             for i in range(len(result.spectra)):
-                pdf.savefig(uncertainty_page(result, i, date=date, version=__version__))
+                save_pdf_page(pdf, uncertainty_page(result, i, date=date, version=__version__))
     return out

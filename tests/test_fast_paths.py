@@ -1,0 +1,107 @@
+"""The faster routes through analyse() give the numbers and flags of the plain ones.
+
+Coverage (photometry, alpha-opic) is worked out once per distinct measured range, and the
+"nothing can be computed" check is one mask over all spectra; these tests hold both against
+the spectrum-by-spectrum definitions on a chunk mixing every kind of range.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from cctkit.alphaopic import alpha_opic
+from cctkit.constants import KM_LM_PER_W, VISIBLE_BAND_NM, WAVELENGTH_NM
+from cctkit.photometry import COVERAGE_LIMIT, measured_mask, photometry, uncovered_share
+from cctkit.spectra import Spectra, signal_problems
+from cctkit.tables import table
+
+RANGES = [(360.0, 830.0, 1.0), (380.0, 780.0, 5.0), (400.0, 700.0, 2.0), (420.0, 680.0, 1.0),
+          (500.0, 600.0, 1.0), (800.0, 830.0, 1.0)]
+
+
+def _chunk(n: int = 60) -> Spectra:
+    rng = np.random.default_rng(5)
+    wl = WAVELENGTH_NM
+    values = np.exp(-0.5 * ((wl - rng.uniform(430, 620, (n, 1))) / rng.uniform(10, 80, (n, 1))) ** 2)
+    values[7] = 0.0  # nothing positive: no-signal
+    values[13] = -values[13]
+    return Spectra(wl, values, tuple(f"s{i}" for i in range(n)), quantity="radiant-flux",
+                   measured_range_nm=tuple(RANGES[i % len(RANGES)] for i in range(n)))
+
+
+def test_signal_problems_follow_the_spectrum_by_spectrum_rule():
+    s = _chunk()
+    lo_vis, hi_vis = VISIBLE_BAND_NM
+    expected = []
+    for i, (lo, hi, _) in enumerate(s.measured_range_nm):  # the rule, one spectrum at a time
+        if hi < lo_vis or lo > hi_vis:
+            expected.append("no-visible-data")
+            continue
+        inside = (s.wavelength_nm >= max(lo, lo_vis) - 1e-9) & (s.wavelength_nm <= min(hi, hi_vis) + 1e-9)
+        expected.append(None if np.any(s.values[i, inside] > 0) else "no-signal")
+    got = [None if p is None else p.code for p in signal_problems(s)]
+    assert got == expected
+    assert got.count("no-visible-data") == 10 and got.count("no-signal") == 2  # both kinds are exercised
+
+
+def test_coverage_once_per_range_equals_the_per_spectrum_masks():
+    s = _chunk()
+    v = s.values
+    mask = measured_mask(s.measured_range_nm)  # (N, 471), the plain definition
+    ph = photometry(v, s.quantity, measured_range_nm=s.measured_range_nm)
+    ao = alpha_opic(v, s.quantity, measured_range_nm=s.measured_range_nm)
+    vm = np.where(mask, v, 0.0)
+    for i in range(len(s)):  # each spectrum alone, with its own range: same totals, same flags
+        one = dict(measured_range_nm=s.measured_range_nm[i:i + 1])
+        p1 = photometry(v[i:i + 1], s.quantity, **one)
+        a1 = alpha_opic(v[i:i + 1], s.quantity, **one)
+        np.testing.assert_allclose(ph.luminous[i], p1.luminous[0], rtol=1e-13)
+        np.testing.assert_allclose(ao.radiant[i], a1.radiant[0], rtol=1e-13)
+        assert ph.flags[i] == p1.flags[0] and ao.flags[i] == a1.flags[0]
+    withheld = np.isnan(ph.luminous)
+    assert withheld.any() and not withheld.all()  # both kinds are exercised
+    share = uncovered_share(mask, table("cmf_2")[:, 1])  # V(lambda), per spectrum with the full mask
+    assert np.array_equal(withheld, share > COVERAGE_LIMIT)
+    # luminous total: Km times the V(lambda)-weighted sum over the measured range (CIE 15:2018 practice)
+    np.testing.assert_allclose(ph.luminous[~withheld], (KM_LM_PER_W * (vm @ table("cmf_2")[:, 1]))[~withheld],
+                               rtol=1e-12)
+    assert not any("-0.00 %" in f.message for flags in ph.flags + ao.flags for f in flags)
+
+
+def test_wide_rows_parsed_by_arrow_are_the_bits_loadtxt_gives():
+    import io
+
+    from cctkit.readers.wide import _arrow_values
+
+    rng = np.random.default_rng(2)
+    x = rng.standard_normal((300, 40)) * 10.0 ** rng.integers(-9, 9, (300, 40))
+    for fmt, d in (("{:.17g}", ","), ("{:.6g}", ";"), ("{:.3e}", "\t")):
+        bodies = [d.join(fmt.format(v) for v in row) for row in x]
+        ref = np.loadtxt(io.StringIO("\n".join(bodies)), delimiter=d, ndmin=2, comments=None)
+        got = _arrow_values(bodies, d, 40)
+        assert got is not None and got.tobytes() == ref.tobytes()
+    # what Arrow cannot take as plain numbers is left to the slower routes (which name the bad cell)
+    for bad in (["1,2,3", "4,,6"], ["1,2,3", "4,5,6,"], ["1,2,3", "4,NA,6"], ["1,2,3", "4,5"], ['1,"2",3']):
+        assert _arrow_values(bad, ",", 3) is None
+    assert _arrow_values(["1 2 3"], None, 3) is None
+
+
+def test_a_control_character_in_a_wide_row_is_still_refused_with_its_line(tmp_path):
+    # the per-line check is skipped only for files whose bytes hold no control character at all
+    import pytest
+
+    from cctkit.errors import InputError
+    from cctkit.readers.wide import open_chunked
+
+    wl = np.arange(380, 781, 5)
+    rows = ["name," + ",".join(str(w) for w in wl)]
+    rows += [f"lamp {k}," + ",".join("1.5" for _ in wl) for k in range(6)]
+    clean = tmp_path / "clean.csv"
+    clean.write_text("\n".join(rows) + "\n")
+    assert sum(len(c) for c in open_chunked(clean, chunk_size=4).chunks()) == 6
+    rows[4] = rows[4].replace("lamp 3", "lamp\x073")
+    bad = tmp_path / "bad.csv"
+    bad.write_text("\n".join(rows) + "\n")
+    with pytest.raises(InputError, match="control character 0x07") as e:
+        list(open_chunked(bad, chunk_size=4).chunks())
+    assert e.value.line == 5
