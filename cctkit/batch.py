@@ -501,14 +501,20 @@ def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> _Result
                 if chunk is None:
                     exhausted = True
                     break
-                pending.append([chunk, pool.submit(_work, chunk, *opts), 0])
+                try:
+                    future = pool.submit(_work, chunk, *opts)
+                except BrokenProcessPool:  # a worker died since the last look: run it on the new pool below
+                    future = None
+                pending.append([chunk, future, 0])
             if not pending:
                 break
             item = pending[0]
             try:
+                if item[1] is None:
+                    raise BrokenProcessPool("the pool broke before this chunk was submitted")
                 result = item[1].result()
             except BrokenProcessPool:
-                item[2] += 1
+                item[2] += item[1] is not None  # a chunk never submitted did not fail
                 if item[2] > LOCAL_RETRIES:
                     raise InputError(f"a worker process died {item[2]} times running the same chunk "
                                      "(out of memory?); try a smaller --chunk-size", source="--workers") from None
