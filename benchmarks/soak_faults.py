@@ -48,13 +48,20 @@ from _synthetic import led_spectra  # benchmarks/ is on sys.path when this file 
 ROOT = Path(__file__).resolve().parents[1]
 
 
-def write_inputs(folder: Path, n: int, bad: int, seed: int) -> tuple[Path, Path, dict[int, str]]:
-    """The clean wide CSV, the broken copy and {file line number: how it was broken}."""
+def write_inputs(folder: Path, n: int, bad: int, seed: int, write: bool = True) -> tuple[Path, Path, dict[int, str]]:
+    """The clean wide CSV, the broken copy and {file line number: how it was broken}.
+
+    With ``write`` false the files are those an earlier run wrote with the same arguments
+    (only the record of the broken rows is made again: it depends on the seed alone)."""
     wl = np.arange(380, 781, 5.0)
     rng = random.Random(seed)
     bad_rows = sorted(rng.sample(range(n), min(bad, n)))
-    kinds = {}
+    kinds: dict[int, str] = {}
     clean, broken = folder / "lot.csv", folder / "lot-broken.csv"
+    if not write:
+        for i in bad_rows:
+            kinds[i + 2] = ("text", "missing", "nan")[i % 3]
+        return clean, broken, kinds
     block = 20000
     with open(clean, "w") as fc, open(broken, "w") as fb:
         head = "name," + ",".join(f"{w:g}" for w in wl) + "\n"
@@ -155,14 +162,16 @@ def main() -> int:
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--no-rendering", action="store_true")
     ap.add_argument("--keep", action="store_true", help="keep the temporary folder")
+    ap.add_argument("--inputs-from", type=Path, help="a folder holding lot.csv and lot-broken.csv written by an "
+                    "earlier run with the same --spectra, --bad-rows and --seed (writing 10^6 rows takes minutes)")
     a = ap.parse_args()
     rng = random.Random(a.seed)
-    folder = Path(tempfile.mkdtemp(prefix="cctkit-soak-"))
+    folder = a.inputs_from or Path(tempfile.mkdtemp(prefix="cctkit-soak-"))
     common = ["--chunk-size", a.chunk_size, "--workers", a.workers, "--quiet"]
     if a.no_rendering:
         common.append("--no-rendering")
     t0 = time.perf_counter()
-    clean, broken, kinds = write_inputs(folder, a.spectra, a.bad_rows, a.seed)
+    clean, broken, kinds = write_inputs(folder, a.spectra, a.bad_rows, a.seed, write=a.inputs_from is None)
     print(f"inputs: {a.spectra:,} spectra, {len(kinds)} broken rows, {time.perf_counter() - t0:.0f} s")
     failures = []
 
@@ -209,8 +218,12 @@ def main() -> int:
         print(f"killed {killed_workers} workers, then the batch process at {journal_chunks(journal)} chunks; "
               f"workers left running: {orphans}")
     else:
-        p.communicate()
-        print(f"killed {killed_workers} workers; the run finished before the batch process could be killed")
+        _, err = p.communicate()
+        last = err.strip().splitlines()[-1:]
+        print(f"killed {killed_workers} workers; the run ended before the batch process could be killed: "
+              f"exit {p.returncode} {last}")
+        if p.returncode != 0:
+            failures.append(f"a killed worker ended the run: exit {p.returncode} {last}")
     if orphans:
         failures.append(f"{orphans} workers outlived the batch process")
     if not out.exists():
@@ -273,7 +286,7 @@ def main() -> int:
         failures.append("without --skip-bad a bad row was not refused in one line naming its line")
 
     print("RESULT:", "PASS" if not failures else "FAIL: " + "; ".join(failures))
-    if not a.keep:
+    if not a.keep and a.inputs_from is None:
         for x in folder.iterdir():
             x.unlink()
         folder.rmdir()

@@ -191,6 +191,30 @@ def test_a_local_worker_killed_mid_run_changes_nothing(lot, reference, tmp_path)
     assert (tmp_path / "out.csv").read_bytes() == reference
 
 
+def test_a_pool_found_broken_when_a_chunk_is_submitted_changes_nothing(lot, reference, tmp_path, monkeypatch):
+    """A worker that dies while the parent is reading the next chunk breaks the pool before the
+    chunk is submitted (seen in the soak: an internal error); the chunk runs on the new pool."""
+    from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures.process import BrokenProcessPool
+
+    from cctkit.batch import run_batch
+    from cctkit.readers.wide import open_chunked
+
+    calls = []
+    submit = ProcessPoolExecutor.submit
+
+    def breaks_once(self, *args, **kwargs):
+        calls.append(1)
+        if len(calls) == 5:
+            raise BrokenProcessPool("a child process terminated abruptly")
+        return submit(self, *args, **kwargs)
+
+    monkeypatch.setattr(ProcessPoolExecutor, "submit", breaks_once)
+    summary = run_batch(open_chunked(lot, chunk_size=10), tmp_path / "out.csv", workers=2, rendering=False)
+    assert len(calls) > 40 and summary.spectra == 400  # the chunks in flight were submitted again
+    assert (tmp_path / "out.csv").read_bytes() == reference
+
+
 def test_an_input_changed_during_the_run_is_refused(lot, tmp_path):
     from cctkit.batch import run_batch
     from cctkit.readers.wide import open_chunked

@@ -480,7 +480,7 @@ def _numbers(rows, split, ncol: int, decimal_comma: bool, source: str, *, wcol: 
                     try:
                         _row_error(cells, ncol, line, source, decimal_comma, column=c)
                     except InputError as bad_cell:
-                        column_errors.setdefault(c, bad_cell)
+                        column_errors.setdefault(c, bad_cell.with_traceback(None))
                     cells[c] = "nan"
         if decimal_comma:
             cells = [cell.replace(",", ".") for cell in cells]

@@ -19,7 +19,8 @@ wide CSV (``.csv``, ``.tsv``, ``.txt``)
     that the directives must come before the header (a conflicting repeat is
     refused).  Rows without a name are named ``<stem>#<k>`` (``k`` = 1-based
     spectrum number).  Every malformed row is an
-    :class:`~cctkit.errors.InputError` naming the file and its line.
+    :class:`~cctkit.errors.InputError` naming the file and its line (or, given a
+    ``skipped`` list, is left out and recorded there: see :func:`open_chunked`).
 long delimited text
     A file whose header is not a row of wavelengths (a wavelength column and
     one column per spectrum) is read whole by :func:`cctkit.readers.read_spectra`
@@ -294,7 +295,8 @@ def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None,
                     try:  # a bad member is skipped whole, so it is read whole before any of it is used
                         got = list(member(f, first, parts_skipped))
                     except InputError as exc:
-                        whole = exc if exc.source else InputError(exc.reason, source=f, line=exc.line)
+                        whole = exc.with_traceback(None) if exc.source else InputError(exc.reason, source=f,
+                                                                                       line=exc.line)
                         whole.part = "file"
                         skipped.append(whole)
                         continue
@@ -503,12 +505,14 @@ def _wide_chunk(
     L = head.wavelength_nm.size
     bad_rows: dict[int, InputError] = {}
     try:  # the fast paths; what they refuse is read (or refused) cell by cell by the delimited rules
-        values = _arrow_values(bodies, d, L)
-        if values is None:
-            values = np.loadtxt(io.StringIO("\n".join(bodies)), delimiter=d, dtype=np.float64, ndmin=2, comments=None)
-        if values.shape != (len(rows), L):
-            raise ValueError("shape")
+        fast: np.ndarray | None = _arrow_values(bodies, d, L)
+        if fast is None:
+            fast = np.loadtxt(io.StringIO("\n".join(bodies)), delimiter=d, dtype=np.float64, ndmin=2, comments=None)
     except ValueError:
+        fast = None
+    if fast is not None and fast.shape == (len(rows), L):
+        values = fast
+    else:  # outside the handler: errors kept for a report must not hold this frame through their context
         values = _cell_by_cell(rows, head, source, None if skipped is None else bad_rows)
     bad = ~np.isfinite(values)
     if bad.any():
@@ -628,7 +632,7 @@ def _cell_by_cell(rows: list[tuple[int, str]], head: _WideHead, source: str,
         try:
             out[r] = _row_values(s, number, head, source)
         except InputError as exc:
-            bad_rows[r] = exc
+            bad_rows[r] = exc.with_traceback(None)  # kept for the report, not the chunk its frames hold
             out[r] = np.nan
     return out
 
