@@ -303,3 +303,27 @@ def test_labels_with_quotes_or_degrees_sit_on_their_row(tmp_path):
     ys = [y for t, y in baselines.items()]
     assert len(ys) == len(labels), baselines
     assert max(ys) - min(ys) < 0.5, baselines  # [pt]
+
+
+def test_hue_wheel_ring_labels_never_meet_at_the_page_size():
+    # The ring values and bin numbers skip the de-clutter (fixed by construction); at the size
+    # the spectrum page draws the wheel (2.85 in) none may overlap, cross the frame or be hidden,
+    # for every unit of the lot and for worst-case texts.
+    from matplotlib.figure import Figure
+
+    from cctkit.report import charts
+    from cctkit.report.build import report_style
+
+    lot = analyse_files(_lot()[:12])
+    with report_style():
+        for i in range(len(lot)):
+            fig = Figure(figsize=(8.27, 11.69))
+            ax = fig.add_axes((0.05, 0.4, 2.85 / 8.27, 2.85 / 11.69))
+            charts.hue_wheel_chart(lot, ax, index=i, identity=i)
+            assert charts.layout_problems(ax) == [], i
+            fixed = [t for t in ax.texts if getattr(t, "_cctkit_fixed", False)]
+            assert len(fixed) == 16 * 4 and all(t.get_visible() for t in fixed)
+        widest = [t for t in fixed if t.get_text()]
+        for t in widest:  # the longest texts a ring can hold
+            t.set_text({"4.8": "-0.27", "5.2": "16"}.get(f"{t.get_fontsize():g}", "-0.27"))
+        assert charts.layout_problems(ax) == []
