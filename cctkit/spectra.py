@@ -383,16 +383,18 @@ def _sprague(wl: np.ndarray, values: np.ndarray, target: np.ndarray) -> np.ndarr
     n = wl.shape[0]
     i, t = _positions(wl, target)
     local = (t[:, None] ** np.arange(6)[None, :]) @ _SPRAGUE_COEF  # (M, 6) weights on p[i-2 .. i+3]
-    p = np.empty((values.shape[0], n + 4))
-    p[:, 2 : n + 2] = values
-    p[:, 1] = values[:, :6] @ _SPRAGUE_EXT[1]
-    p[:, 0] = values[:, :6] @ _SPRAGUE_EXT[0]
-    p[:, n + 2] = values[:, -6:] @ _SPRAGUE_EXT[1][::-1]
-    p[:, n + 3] = values[:, -6:] @ _SPRAGUE_EXT[0][::-1]
-    out = np.zeros((values.shape[0], target.shape[0]))
+    # Worked with wavelength as the first axis: gathering whole rows of the padded data is ~2x faster
+    # than gathering columns; every output value is the same sum in the same order (same bits).
+    pT = np.empty((n + 4, values.shape[0]))
+    pT[2 : n + 2] = values.T
+    pT[1] = values[:, :6] @ _SPRAGUE_EXT[1]
+    pT[0] = values[:, :6] @ _SPRAGUE_EXT[0]
+    pT[n + 2] = values[:, -6:] @ _SPRAGUE_EXT[1][::-1]
+    pT[n + 3] = values[:, -6:] @ _SPRAGUE_EXT[0][::-1]
+    outT = np.zeros((target.shape[0], values.shape[0]))
     for k in range(6):
-        out += local[:, k] * p[:, i + k]  # padded index i+k is p[i-2+k]
-    return out
+        outT += local[:, k, None] * pT[i + k]  # padded index i+k is p[i-2+k]
+    return np.ascontiguousarray(outT.T)
 
 
 def _linear(wl: np.ndarray, values: np.ndarray, target: np.ndarray) -> np.ndarray:

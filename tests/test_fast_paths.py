@@ -105,3 +105,28 @@ def test_a_control_character_in_a_wide_row_is_still_refused_with_its_line(tmp_pa
     with pytest.raises(InputError, match="control character 0x07") as e:
         list(open_chunked(bad, chunk_size=4).chunks())
     assert e.value.line == 5
+
+
+def test_sprague_by_rows_gives_the_bits_of_the_column_stencil():
+    from cctkit.spectra import _SPRAGUE_COEF, _SPRAGUE_EXT, _positions, _sprague
+
+    def by_columns(wl, values, target):  # the six-point stencil as first written (CIE 167:2005 section 5)
+        n = wl.shape[0]
+        i, t = _positions(wl, target)
+        local = (t[:, None] ** np.arange(6)[None, :]) @ _SPRAGUE_COEF
+        p = np.empty((values.shape[0], n + 4))
+        p[:, 2 : n + 2] = values
+        p[:, 1] = values[:, :6] @ _SPRAGUE_EXT[1]
+        p[:, 0] = values[:, :6] @ _SPRAGUE_EXT[0]
+        p[:, n + 2] = values[:, -6:] @ _SPRAGUE_EXT[1][::-1]
+        p[:, n + 3] = values[:, -6:] @ _SPRAGUE_EXT[0][::-1]
+        out = np.zeros((values.shape[0], target.shape[0]))
+        for k in range(6):
+            out += local[:, k] * p[:, i + k]
+        return out
+
+    rng = np.random.default_rng(8)
+    for wl in (np.arange(380.0, 781.0, 5.0), np.arange(360.0, 831.0, 10.0), np.arange(400.0, 700.5, 2.5)):
+        v = rng.random((37, wl.size))
+        got = _sprague(wl, v, WAVELENGTH_NM)
+        assert got.flags["C_CONTIGUOUS"] and got.tobytes() == by_columns(wl, v, WAVELENGTH_NM).tobytes()
