@@ -327,3 +327,35 @@ def test_hue_wheel_ring_labels_never_meet_at_the_page_size():
         for t in widest:  # the longest texts a ring can hold
             t.set_text({"4.8": "-0.27", "5.2": "16"}.get(f"{t.get_fontsize():g}", "-0.27"))
         assert charts.layout_problems(ax) == []
+
+
+def test_report_style_pauses_garbage_collection_and_restores_it():
+    """Drawing runs with automatic collection paused and core-font measurements remembered;
+    both are undone on exit, and a remembered measurement equals a fresh one."""
+    import gc
+
+    from matplotlib import _afm
+
+    from cctkit.report.build import report_style
+
+    assert gc.isenabled()
+    original = _afm.AFM.__dict__["get_str_bbox_and_descent"]
+    with report_style():
+        assert not gc.isenabled()
+        with report_style():  # nested: still paused after the inner one ends
+            pass
+        assert not gc.isenabled()
+        from matplotlib import font_manager as fm
+
+        font = _afm.AFM  # the patched class
+        path = fm.findfont(fm.FontProperties(family="Helvetica"), fontext="afm")
+        fonts = []
+        for _ in range(2):
+            with open(path, "rb") as fh:
+                fonts.append(font(fh))
+        first = fonts[0].get_str_bbox_and_descent("u' (CIE 1976)")
+        assert fonts[0].get_str_bbox_and_descent("u' (CIE 1976)") == first  # remembered
+        assert fonts[1].get_str_bbox_and_descent("u' (CIE 1976)") == first  # another font object: measured
+        assert first[3] > 0  # a height
+    assert gc.isenabled()
+    assert _afm.AFM.__dict__["get_str_bbox_and_descent"] is original
