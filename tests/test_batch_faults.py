@@ -141,7 +141,9 @@ def test_resume_refuses_another_chunking(lot, tmp_path):
 
 
 def test_sigterm_removes_the_temporary_file_and_the_workers(long_lot, tmp_path):
-    proc = _start([long_lot, "-o", tmp_path / "out.csv", "--chunk-size", 10, "--workers", 2, "--no-rendering"], tmp_path)
+    # with rendering: each chunk takes longer, so the run is surely still going when the signal arrives
+    # (without it, 4,800 spectra take under a second; the test failed once in a full run, 3 Dec 11:48)
+    proc = _start([long_lot, "-o", tmp_path / "out.csv", "--chunk-size", 10, "--workers", 2], tmp_path)
     try:
         assert _wait_until(lambda: any(p.name.endswith(".tmp.csv") for p in tmp_path.iterdir())
                            and len(_children(proc.pid)) >= 2)
