@@ -396,7 +396,7 @@ def _import_matplotlib() -> None:
     from matplotlib import artist
 
     compose = artist.kwdoc
-    artist.kwdoc = lambda _cls: ""
+    artist.kwdoc = lambda artist: ""
     try:
         import matplotlib.backends.backend_pdf  # noqa: F401
         import matplotlib.figure  # noqa: F401
