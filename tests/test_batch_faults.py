@@ -280,18 +280,6 @@ def test_dask_worker_killed_mid_run_loses_and_doubles_nothing(lot, reference, tm
                             rendering=False, progress=KillOnce(None, enabled=False))
     assert summary.spectra == 400
     run_batch(open_chunked(lot, chunk_size=50), tmp_path / "here.csv", workers=1, rendering=False)
-    # Every row once, in order, with the same numbers.  A Dask worker process may round a BLAS product
-    # in the last bit differently from this process even without a fault, hence 1e-10 (as test_batch.py).
-    import csv
-
-    got = list(csv.reader((tmp_path / "dask.csv").open(newline="")))
-    want = list(csv.reader((tmp_path / "here.csv").open(newline="")))
-    assert got[0] == want[0] and [r[0] for r in got] == [r[0] for r in want]
-    for g, w in zip(got[1:], want[1:]):
-        for a, b in zip(g, w):
-            try:
-                fa, fb = float(a), float(b)
-            except ValueError:
-                assert a == b
-                continue
-            assert fa == pytest.approx(fb, rel=1e-10, abs=1e-12)
+    # Every row once, in order, with the same bytes: the chunk function is pure, and a Dask worker process
+    # computes with one BLAS thread like this one.
+    assert (tmp_path / "dask.csv").read_bytes() == (tmp_path / "here.csv").read_bytes()
