@@ -1,7 +1,7 @@
 # Two entry points, both self-contained on a fresh machine with Python 3.11+:
 #   make demo   build the environment, run the demo job (writes reports/)
 #   make test   build the environment, run lint (ruff, mypy), the docs build, then the test suite
-#   make lint   ruff and mypy only
+#   make lint   ruff (lint and format check) and mypy only
 #   make docs   build the documentation site into build/site (warnings are errors)
 #   make wheel-check   build the wheel, install it in a clean venv, run cctkit from it (CI runs it)
 PYTHON ?= python3
@@ -26,6 +26,7 @@ test: $(STAMP) lint docs
 
 lint: $(STAMP)
 	$(VENV)/bin/ruff check .
+	$(VENV)/bin/ruff format --check .
 	$(VENV)/bin/mypy
 
 docs: $(STAMP)

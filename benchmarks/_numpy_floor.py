@@ -33,17 +33,30 @@ def weights() -> np.ndarray:
     c2, c10 = cmfs(2), cmfs(10) * ((WAVELENGTH_NM >= 380) & (WAVELENGTH_NM <= 780))[:, None]
     tcs, ces = table("tcs_1995"), table("ces_2017")
     photons = (WAVELENGTH_NM * 1e-9 / (6.62607015e-34 * 299792458.0 * 6.02214076e23) * 1e6)[:, None]
-    return np.ascontiguousarray(np.concatenate([
-        c2, (tcs[:, :, None] * c2[:, None, :]).reshape(L, -1), c10, (ces[:, :, None] * c10[:, None, :]).reshape(L, -1),
-        cmfs(10)[:, 1:2], table("v_scotopic")[:, None], photons], axis=1))
+    return np.ascontiguousarray(
+        np.concatenate(
+            [
+                c2,
+                (tcs[:, :, None] * c2[:, None, :]).reshape(L, -1),
+                c10,
+                (ces[:, :, None] * c10[:, None, :]).reshape(L, -1),
+                cmfs(10)[:, 1:2],
+                table("v_scotopic")[:, None],
+                photons,
+            ],
+            axis=1,
+        )
+    )
 
 
 def _cam(xyz_s, xyz_w):
     gain = xyz_w[:, 1:2] / (xyz_w @ _M_CAT.T)  # D = 1
     per = (_M_CAT.T * gain[:, None, :]) @ _MX
+
     def comp(x):
         p = np.exp(0.42 * np.log((_FL / 100.0) * np.abs(x)))
         return np.copysign(400.0 * p / (27.13 + p), x) + 0.1
+
     n = 20.0 / xyz_w[:, 1]
     nbb = (0.725 * n**-0.2)[:, None]
     w = comp((xyz_w[:, None, :] @ per)[:, 0, :])
@@ -75,11 +88,20 @@ def floor(values: np.ndarray, W: np.ndarray, day_rows: np.ndarray) -> dict[str, 
     xy = xyz[:, :2] / s[:, None]
     u, v = _uv(xyz)
     c = cct_duv(np.stack([u, v], -1))
-    out = {"xy": xy, "cct": c.cct_K, "duv": c.duv, "flux": xyz[:, 1], "ler": xyz[:, 1] / values.sum(1),
-           "sp": 1700.06 * R[:, 346] / xyz[:, 1], "photons": R[:, 347]}
+    out = {
+        "xy": xy,
+        "cct": c.cct_K,
+        "duv": c.duv,
+        "flux": xyz[:, 1],
+        "ler": xyz[:, 1] / values.sum(1),
+        "sp": 1700.06 * R[:, 346] / xyz[:, 1],
+        "photons": R[:, 347],
+    }
     out["shape"] = spectral_shape(values)
     out["dominant"] = dominant_wavelength(xy)
-    T = np.where(np.isfinite(c.cct_K) & (np.abs(c.duv) <= 0.05) & (c.cct_K >= 1000) & (c.cct_K <= 25000), c.cct_K, np.nan)
+    T = np.where(
+        np.isfinite(c.cct_K) & (np.abs(c.duv) <= 0.05) & (c.cct_K >= 1000) & (c.cct_K <= 25000), c.cct_K, np.nan
+    )
     # references at tristimulus level
     P = np.full((n, 346), np.nan)
     D = np.full((n, 346), np.nan)
@@ -89,17 +111,25 @@ def floor(values: np.ndarray, W: np.ndarray, day_rows: np.ndarray) -> dict[str, 
     dxy = daylight_xy(T[hi])
     x, y = dxy[:, 0], dxy[:, 1]
     M = 0.0241 + 0.2562 * x - 0.7341 * y
-    coef = np.stack([np.ones_like(x), np.round((-1.3515 - 1.7703 * x + 5.9114 * y) / M, 3),
-                     np.round((0.0300 - 31.4424 * x + 30.0717 * y) / M, 3)], -1)
+    coef = np.stack(
+        [
+            np.ones_like(x),
+            np.round((-1.3515 - 1.7703 * x + 5.9114 * y) / M, 3),
+            np.round((0.0300 - 31.4424 * x + 30.0717 * y) / M, 3),
+        ],
+        -1,
+    )
     D[hi] = coef @ day_rows
     r13 = np.where((T >= 5000)[:, None], D, P)
     m = np.clip((5000 - T) / 1000, 0, 1)[:, None]
     Pn, Dn = P * (100 / P[:, 345:346]), D * (100 / D[:, 345:346])
     r224 = np.where(m >= 1, Pn, np.where(m <= 0, Dn, m * Pn + (1 - m) * Dn))
+
     # CIE 13.3
     def scaled(rows, a, b):
         k = 100 / rows[:, a + 1]
-        return rows[:, a:a + 3] * k[:, None], rows[:, a + 3:b].reshape(n, -1, 3) * k[:, None, None]
+        return rows[:, a : a + 3] * k[:, None], rows[:, a + 3 : b].reshape(n, -1, 3) * k[:, None, None]
+
     (wk, sk), (wr, sr) = scaled(R, 0, 45), scaled(r13, 0, 45)
     uk, vk = _uv(wk)
     ur, vr = _uv(wr)
@@ -112,8 +142,11 @@ def floor(values: np.ndarray, W: np.ndarray, day_rows: np.ndarray) -> dict[str, 
     den = 16.518 + 1.481 * fc - fd
     ua, va = (10.872 + 0.404 * fc - 4 * fd) / den, 5.520 / den
     Wt, Wr = 25 * np.cbrt(sk[..., 1]) - 17, 25 * np.cbrt(sr[..., 1]) - 17
-    dE = np.sqrt((13 * Wt * (ua - ur[:, None]) - 13 * Wr * (uri - ur[:, None])) ** 2
-                 + (13 * Wt * (va - vr[:, None]) - 13 * Wr * (vri - vr[:, None])) ** 2 + (Wt - Wr) ** 2)
+    dE = np.sqrt(
+        (13 * Wt * (ua - ur[:, None]) - 13 * Wr * (uri - ur[:, None])) ** 2
+        + (13 * Wt * (va - vr[:, None]) - 13 * Wr * (vri - vr[:, None])) ** 2
+        + (Wt - Wr) ** 2
+    )
     out["R"] = 100 - 4.6 * dE
     out["Ra"] = out["R"][:, :8].mean(1)
     out["dc"] = np.hypot(uk - ur, vk - vr)
@@ -125,13 +158,17 @@ def floor(values: np.ndarray, W: np.ndarray, day_rows: np.ndarray) -> dict[str, 
     out["Rf"] = 10 * np.log1p(np.exp((100 - 6.73 * dE.mean(1)) / 10))
     hue = np.arctan2(Jr[..., 2], Jr[..., 1]) % (2 * np.pi)
     bins = np.minimum((np.nan_to_num(hue) / (np.pi / 8)).astype(np.int64), 15) + 16 * np.arange(n)[:, None]
+
     def bsum(w):
         return np.bincount(bins.ravel(), weights=w.ravel(), minlength=16 * n).reshape(n, 16)
+
     cnt = bsum(np.ones(bins.shape))
     at = np.stack([bsum(Jt[..., 1]), bsum(Jt[..., 2])], -1) / cnt[..., None]
     ar = np.stack([bsum(Jr[..., 1]), bsum(Jr[..., 2])], -1) / cnt[..., None]
+
     def area(p):
         return 0.5 * np.sum(p[..., 0] * np.roll(p[..., 1], -1, -1) - np.roll(p[..., 0], -1, -1) * p[..., 1], -1)
+
     out["Rg"] = 100 * area(at) / area(ar)
     th = (np.arange(16) + 0.5) * np.pi / 8
     sh = at - ar

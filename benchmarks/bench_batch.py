@@ -106,8 +106,7 @@ def run_child(args: list[str]) -> tuple[float, float | None, str, str]:
     """Wall time [s], peak PSS of the process tree [MiB] (None off Linux), stdout and stderr of one child."""
     env = dict(os.environ, PYTHONPATH=str(ROOT) + os.pathsep + os.environ.get("PYTHONPATH", ""))
     t0 = time.perf_counter()
-    proc = subprocess.Popen([sys.executable, *args], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
-                            env=env, text=True)
+    proc = subprocess.Popen([sys.executable, *args], stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env, text=True)
     peak = [0]
     linux = os.path.exists(f"/proc/{proc.pid}/smaps_rollup")
 
@@ -141,8 +140,10 @@ def main() -> None:
     tmp = Path(tempfile.mkdtemp(prefix="cctkit-bench-batch-"))
     render = "off" if opts.no_rendering else "on"
     extra = ["--no-rendering"] if opts.no_rendering else []
-    print(f"cctkit batch end to end, 81 wavelengths (380-780 nm at 5 nm), chunk size {opts.chunk_size}, "
-          f"rendering {render}, {os.cpu_count()} CPUs; best of {opts.repeat}")
+    print(
+        f"cctkit batch end to end, 81 wavelengths (380-780 nm at 5 nm), chunk size {opts.chunk_size}, "
+        f"rendering {render}, {os.cpu_count()} CPUs; best of {opts.repeat}"
+    )
     for n in (int(s) for s in opts.sizes.split(",") if s):
         src, pq_src = tmp / f"wide_{n}.csv", tmp / f"wide_{n}.parquet"
         # in a child of its own: a large parent would show in the memory of every child it forks next
@@ -150,12 +151,39 @@ def main() -> None:
         common = ["--overwrite", "--quiet", "--chunk-size", str(opts.chunk_size), *extra]
         cases = {
             "analyse() alone (CSV read untimed)": ["-c", _ANALYSE, str(src), str(opts.chunk_size), render],
-            "batch CSV -> CSV, 1 process": ["-c", _BATCH, "batch", str(src), "-o", str(tmp / "o1.csv"),
-                                            "--workers", "1", *common],
-            "batch Parquet -> Parquet, 1 process": ["-c", _BATCH, "batch", str(pq_src), "-o",
-                                                    str(tmp / "o1.parquet"), "--workers", "1", *common],
-            "batch CSV -> CSV, 2 workers": ["-c", _BATCH, "batch", str(src), "-o", str(tmp / "o2.csv"),
-                                            "--workers", "2", *common],
+            "batch CSV -> CSV, 1 process": [
+                "-c",
+                _BATCH,
+                "batch",
+                str(src),
+                "-o",
+                str(tmp / "o1.csv"),
+                "--workers",
+                "1",
+                *common,
+            ],
+            "batch Parquet -> Parquet, 1 process": [
+                "-c",
+                _BATCH,
+                "batch",
+                str(pq_src),
+                "-o",
+                str(tmp / "o1.parquet"),
+                "--workers",
+                "1",
+                *common,
+            ],
+            "batch CSV -> CSV, 2 workers": [
+                "-c",
+                _BATCH,
+                "batch",
+                str(src),
+                "-o",
+                str(tmp / "o2.csv"),
+                "--workers",
+                "2",
+                *common,
+            ],
         }
         best: dict[str, tuple[float, float | None]] = {}
         for _ in range(opts.repeat):
@@ -170,9 +198,14 @@ def main() -> None:
         print(f"\nN = {n:,}; load average {load[0]:.2f} {load[1]:.2f} {load[2]:.2f}")
         print(f"{'run':<38} {'time [s]':>9} {'spectra/s':>10} {'x analyse()':>11} {'peak PSS MiB':>13}  goal")
         two = best["batch CSV -> CSV, 2 workers"][0]
-        goals = {"batch CSV -> CSV, 1 process": ("<= 1.3x", one / a <= 1.3),
-                 "batch Parquet -> Parquet, 1 process": ("<= 1.1x", best["batch Parquet -> Parquet, 1 process"][0] / a <= 1.1),
-                 "batch CSV -> CSV, 2 workers": (">= 1.7x one process", one / two >= 1.7)}
+        goals = {
+            "batch CSV -> CSV, 1 process": ("<= 1.3x", one / a <= 1.3),
+            "batch Parquet -> Parquet, 1 process": (
+                "<= 1.1x",
+                best["batch Parquet -> Parquet, 1 process"][0] / a <= 1.1,
+            ),
+            "batch CSV -> CSV, 2 workers": (">= 1.7x one process", one / two >= 1.7),
+        }
         for name, (t, pss) in best.items():
             goal, met = goals.get(name, ("", None))
             verdict = "" if met is None else f"{goal}: {'met' if met else 'NOT met'}"

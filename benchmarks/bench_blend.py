@@ -77,8 +77,10 @@ def main() -> None:
     T = np.arange(1800.0, 6501.0, 100.0)
     solve_blend_path(channels, T[:2], 0.0, objective="fidelity")  # warm-up: tables, imports
     load = os.getloadavg()[0] if hasattr(os, "getloadavg") else float("nan")
-    print(f"HL-Wash5, {len(channels)} channels, {T.size} set points 1800-6500 K, Duv 0, flat output; "
-          f"load average {load:.1f} on {os.cpu_count()} CPUs")
+    print(
+        f"HL-Wash5, {len(channels)} channels, {T.size} set points 1800-6500 K, Duv 0, flat output; "
+        f"load average {load:.1f} on {os.cpu_count()} CPUs"
+    )
 
     t_eff, eff = best_of(args.repeat, lambda: solve_blend_path(channels, T, 0.0, objective="efficacy"))
     t_mel, _ = best_of(args.repeat, lambda: solve_blend_path(channels, T, 0.0, objective="melanopic"))
@@ -90,27 +92,36 @@ def main() -> None:
     t_grid = time.perf_counter() - t0
     lp_cost = eff.drives @ channels.power_W
     gap = np.nanmax((grid_cost - lp_cost) / lp_cost)
-    print(f"efficacy path   {t_eff:6.2f} s ({t_eff / T.size * 1000:.1f} ms per set point; target <= 1 s); "
-          f"melanopic path {t_mel:.2f} s")
-    print(f"  brute force {args.grid}x{args.grid} grid: {t_grid:.2f} s ({t_grid / t_eff:.1f}x the LP path); "
-          f"its best power is {100 * gap:.3f} % above the LP optimum at worst (never below: "
-          f"{bool(np.all(np.isnan(grid_cost) | (grid_cost >= lp_cost * (1 - 1e-9))))})")
+    print(
+        f"efficacy path   {t_eff:6.2f} s ({t_eff / T.size * 1000:.1f} ms per set point; target <= 1 s); "
+        f"melanopic path {t_mel:.2f} s"
+    )
+    print(
+        f"  brute force {args.grid}x{args.grid} grid: {t_grid:.2f} s ({t_grid / t_eff:.1f}x the LP path); "
+        f"its best power is {100 * gap:.3f} % above the LP optimum at worst (never below: "
+        f"{bool(np.all(np.isnan(grid_cost) | (grid_cost >= lp_cost * (1 - 1e-9))))})"
+    )
 
-    t_fid, fid = best_of(args.repeat, lambda: solve_blend_path(channels, T, 0.0, objective="fidelity",
-                                                               rg=(95.0, 110.0)))
+    t_fid, fid = best_of(
+        args.repeat, lambda: solve_blend_path(channels, T, 0.0, objective="fidelity", rg=(95.0, 110.0))
+    )
     t0 = time.perf_counter()
     with threadpool_limits(limits=1, user_api="blas"):
         grid_rf = brute_force(channels, fid, args.grid, fidelity=True)
     t_grid = time.perf_counter() - t0
     rf = fid.metrics["Rf"]
     step, at = fid.largest_step()
-    print(f"fidelity path   {t_fid:6.2f} s ({t_fid / T.size * 1000:.0f} ms per set point; target <= 10 s); "
-          f"{int(fid.ok.sum())}/{T.size} reached, Rf {np.nanmin(rf):.1f}-{np.nanmax(rf):.1f}, "
-          f"largest drive step {step:.3f}")
+    print(
+        f"fidelity path   {t_fid:6.2f} s ({t_fid / T.size * 1000:.0f} ms per set point; target <= 10 s); "
+        f"{int(fid.ok.sum())}/{T.size} reached, Rf {np.nanmin(rf):.1f}-{np.nanmax(rf):.1f}, "
+        f"largest drive step {step:.3f}"
+    )
     diff = rf - grid_rf
-    print(f"  brute force {args.grid}x{args.grid} grid through tm30: {t_grid:.2f} s ({t_grid / t_fid:.1f}x); "
-          f"solver Rf minus grid-best Rf: min {np.nanmin(diff):+.2f}, median {np.nanmedian(diff):+.2f}, "
-          f"max {np.nanmax(diff):+.2f}")
+    print(
+        f"  brute force {args.grid}x{args.grid} grid through tm30: {t_grid:.2f} s ({t_grid / t_fid:.1f}x); "
+        f"solver Rf minus grid-best Rf: min {np.nanmin(diff):+.2f}, median {np.nanmedian(diff):+.2f}, "
+        f"max {np.nanmax(diff):+.2f}"
+    )
 
 
 if __name__ == "__main__":

@@ -46,9 +46,19 @@ def main(n: int = 100_000) -> None:
     rows.append(("cctkit ohno2013", n, t, np.nanmax(np.abs(r.cct_K - T)), np.nanmax(np.abs(r.duv - D))))
     m = min(n, 20_000)
     t, ref = best_of(lambda: uv_to_CCT_Ohno2013(uv[:m], cmfs), repeat=1)
-    rows.append(("colour-science Ohno 2013", m, t, np.nanmax(np.abs(ref[:, 0] - T[:m])), np.nanmax(np.abs(ref[:, 1] - D[:m]))))
+    rows.append(
+        ("colour-science Ohno 2013", m, t, np.nanmax(np.abs(ref[:, 0] - T[:m])), np.nanmax(np.abs(ref[:, 1] - D[:m])))
+    )
     t, ref = best_of(lambda: uv_to_CCT_Robertson1968(uv[:m]), repeat=1)
-    rows.append(("colour-science Robertson 1968", m, t, np.nanmax(np.abs(ref[:, 0] - T[:m])), np.nanmax(np.abs(ref[:, 1] - D[:m]))))
+    rows.append(
+        (
+            "colour-science Robertson 1968",
+            m,
+            t,
+            np.nanmax(np.abs(ref[:, 0] - T[:m])),
+            np.nanmax(np.abs(ref[:, 1] - D[:m])),
+        )
+    )
 
     base = rows[0][1] / rows[0][2]
     print(f"CCT/Duv on {n} points, 1000-25000 K, |Duv| <= 0.05 (best of repeated runs)")
@@ -59,8 +69,10 @@ def main(n: int = 100_000) -> None:
     ohno = cct_duv(uv, method="ohno2013").cct_K
     sel = T <= 20000
     err = np.abs(ohno[sel] - T[sel])
-    print(f"cctkit ohno2013 over 1000-20000 K: max |dT| {np.nanmax(err):.3g} K, "
-          f"max relative {np.nanmax(err / T[sel]):.2g}")
+    print(
+        f"cctkit ohno2013 over 1000-20000 K: max |dT| {np.nanmax(err):.3g} K, "
+        f"max relative {np.nanmax(err / T[sel]):.2g}"
+    )
 
 
 if __name__ == "__main__":

@@ -46,8 +46,15 @@ def colour_science_one(colour, values: np.ndarray, wavelength_nm: np.ndarray, cm
     ler = colour.luminous_efficacy(sd)
     ra = colour.colour_rendering_index(sd)
     tm30 = colour.colour_fidelity_index(sd, additional_data=True, method="ANSI/IES TM-30-18")
-    return {"cct_K": float(cct), "duv": float(duv), "flux": float(flux), "ler": float(ler), "Ra": float(ra),
-            "Rf": float(tm30.R_f), "Rg": float(tm30.R_g)}
+    return {
+        "cct_K": float(cct),
+        "duv": float(duv),
+        "flux": float(flux),
+        "ler": float(ler),
+        "Ra": float(ra),
+        "Rf": float(tm30.R_f),
+        "Rg": float(tm30.R_g),
+    }
 
 
 def main(n: int = 10_000, m: int = 30) -> None:
@@ -77,8 +84,10 @@ def main(n: int = 10_000, m: int = 30) -> None:
             t, fl = best_of(lambda: floor(values, W, day), 1)
             t_floor = min(t_floor, t)
     ok = np.isfinite(a.cri.Ra)
-    agree = max(float(np.max(np.abs(fl[k][ok] - v[ok]))) for k, v in
-                (("Ra", a.cri.Ra), ("R", a.cri.R), ("Rf", a.tm30.Rf), ("Rg", a.tm30.Rg), ("Rf_i", a.tm30.Rf_i)))
+    agree = max(
+        float(np.max(np.abs(fl[k][ok] - v[ok])))
+        for k, v in (("Ra", a.cri.Ra), ("R", a.cri.R), ("Rf", a.tm30.Rf), ("Rg", a.tm30.Rg), ("Rf_i", a.tm30.Rf_i))
+    )
     t_rec, recs = best_of(lambda: analyse(spectra).records(), 2)
     t_tab, _ = best_of(lambda: spectra_results(spectra), 2)
 
@@ -96,12 +105,19 @@ def main(n: int = 10_000, m: int = 30) -> None:
     print(f"full metrics on {n} distinct spectra (360-830 nm, 1 nm); reference library on the first {m}, extrapolated")
     print(f"{'what':46} {'s total':>9} {'spectra/s':>10} {'vs colour-science':>18}")
     print(f"{'colour-science, one spectrum at a time':46} {cs_per * n:9.1f} {1 / cs_per:10.1f} {'1x':>18}")
-    print(f"{'tight numpy floor (benchmarks/_numpy_floor.py)':46} {t_floor:9.2f} {n / t_floor:10.0f} {cs_per * n / t_floor:17.0f}x")
-    for label, t in (("cctkit analyse()", t_an), ("cctkit analyse().records()", t_rec),
-                     ("cctkit batch chunk function (columns)", t_tab)):
+    print(
+        f"{'tight numpy floor (benchmarks/_numpy_floor.py)':46} {t_floor:9.2f} {n / t_floor:10.0f} {cs_per * n / t_floor:17.0f}x"
+    )
+    for label, t in (
+        ("cctkit analyse()", t_an),
+        ("cctkit analyse().records()", t_rec),
+        ("cctkit batch chunk function (columns)", t_tab),
+    ):
         print(f"{label:46} {t:9.2f} {n / t:10.0f} {cs_per * n / t:17.0f}x")
-    print(f"analyse() / numpy floor: {t_floor / t_an:.2f} of the floor's rate (goal >= 0.95); "
-          f"largest |difference| in Ra, Ri, Rf, Rg, Rf_i: {agree:.2g}")
+    print(
+        f"analyse() / numpy floor: {t_floor / t_an:.2f} of the floor's rate (goal >= 0.95); "
+        f"largest |difference| in Ra, Ri, Rf, Rg, Rf_i: {agree:.2g}"
+    )
     print(f"batch chunk function (columns) / analyse(): {t_tab / t_an:.2f}x the time")
     print("targets: >= 100x and >= 5,000 spectra/s")
 
@@ -115,8 +131,7 @@ def main(n: int = 10_000, m: int = 30) -> None:
         "Rf": max(abs(r["Rf"] - c["Rf"]) for r, c in zip(mine, ref) if r["Rf"] is not None),
         "Rg": max(abs(r["Rg"] - c["Rg"]) for r, c in zip(mine, ref) if r["Rg"] is not None),
     }
-    print("largest |cctkit - colour-science| on the subset: "
-          + ", ".join(f"{k} {v:.3g}" for k, v in diffs.items()))
+    print("largest |cctkit - colour-science| on the subset: " + ", ".join(f"{k} {v:.3g}" for k, v in diffs.items()))
 
 
 if __name__ == "__main__":

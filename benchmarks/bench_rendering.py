@@ -94,10 +94,14 @@ def main() -> None:
     ours_rate = a.n / t_ours
     lib_rate = a.lib_n / t_lib
     print(f"spectra: {a.n} distinct synthetic white LEDs")
-    print(f"cctkit        CCT + CIE 13.3 + CIE 224/TM-30: {a.n:6d} spectra in {t_ours:7.3f} s "
-          f"= {ours_rate:10.0f} spectra/s (chunks of {a.chunk})")
-    print(f"colour-science CRI + TM-30-18 per spectrum   : {a.lib_n:6d} spectra in {t_lib:7.3f} s "
-          f"= {lib_rate:10.1f} spectra/s")
+    print(
+        f"cctkit        CCT + CIE 13.3 + CIE 224/TM-30: {a.n:6d} spectra in {t_ours:7.3f} s "
+        f"= {ours_rate:10.0f} spectra/s (chunks of {a.chunk})"
+    )
+    print(
+        f"colour-science CRI + TM-30-18 per spectrum   : {a.lib_n:6d} spectra in {t_lib:7.3f} s "
+        f"= {lib_rate:10.1f} spectra/s"
+    )
     print(f"ratio (per-spectrum throughput, extrapolated): {ours_rate / lib_rate:8.0f} x")
     k = a.lib_n
     print(
@@ -106,8 +110,10 @@ def main() -> None:
         f"Rf {np.max(np.abs(ours['Rf'][:k] - lib['Rf'])):.4f}, "
         f"Rg {np.max(np.abs(ours['Rg'][:k] - lib['Rg'])):.4f}"
     )
-    print(f"ranges over all {a.n}: Ra {ours['Ra'].min():.1f}-{ours['Ra'].max():.1f}, "
-          f"Rf {ours['Rf'].min():.1f}-{ours['Rf'].max():.1f}, Rg {ours['Rg'].min():.1f}-{ours['Rg'].max():.1f}")
+    print(
+        f"ranges over all {a.n}: Ra {ours['Ra'].min():.1f}-{ours['Ra'].max():.1f}, "
+        f"Rf {ours['Rf'].min():.1f}-{ours['Rf'].max():.1f}, Rg {ours['Rg'].min():.1f}-{ours['Rg'].max():.1f}"
+    )
 
 
 if __name__ == "__main__":

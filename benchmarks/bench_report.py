@@ -68,24 +68,26 @@ def main(argv: list[str] | None = None) -> int:
         warm = _write(d / "warm.csv", 1)
         _run([exe, "inspect", str(warm), "--quantity", "radiant-flux"], env)
         _run([exe, "report", str(warm), "-q", "radiant-flux", "-o", str(d / "warm.pdf")], env)
-        print(f"load average before: {' '.join(f'{x:.2f}' for x in os.getloadavg())} "
-              f"({os.cpu_count()} CPUs)")
-        print(f"{'spectra':>7}  {'report wall [s]':>15}  {'report CPU [s]':>14}  {'inspect wall [s]':>16}  "
-              f"{'inspect CPU [s]':>15}  {'report/inspect (wall)':>21}  {'target [s]':>10}  pages")
+        print(f"load average before: {' '.join(f'{x:.2f}' for x in os.getloadavg())} ({os.cpu_count()} CPUs)")
+        print(
+            f"{'spectra':>7}  {'report wall [s]':>15}  {'report CPU [s]':>14}  {'inspect wall [s]':>16}  "
+            f"{'inspect CPU [s]':>15}  {'report/inspect (wall)':>21}  {'target [s]':>10}  pages"
+        )
         for n in (1, 12):
             src = _write(d / f"in{n}.csv", n)
             out = d / f"out{n}.pdf"
             rep, ins = [], []
             for _ in range(args.repeat):
-                rep.append(_run([exe, "report", str(src), "-q", "radiant-flux", "-o", str(out), "--overwrite"],
-                                env))
+                rep.append(_run([exe, "report", str(src), "-q", "radiant-flux", "-o", str(out), "--overwrite"], env))
                 ins.append(_run([exe, "inspect", str(src), "-q", "radiant-flux"], env))
             from pypdf import PdfReader
 
             pages = len(PdfReader(str(out)).pages)
             best, base = min(rep), min(ins)
-            print(f"{n:>7}  {best[0]:>15.2f}  {best[1]:>14.2f}  {base[0]:>16.2f}  {base[1]:>15.2f}  "
-                  f"{best[0] / base[0]:>21.2f}  {TARGETS_S[n]:>10.1f}  {pages}")
+            print(
+                f"{n:>7}  {best[0]:>15.2f}  {best[1]:>14.2f}  {base[0]:>16.2f}  {base[1]:>15.2f}  "
+                f"{best[0] / base[0]:>21.2f}  {TARGETS_S[n]:>10.1f}  {pages}"
+            )
         print(f"load average after:  {' '.join(f'{x:.2f}' for x in os.getloadavg())}")
     return 0
 

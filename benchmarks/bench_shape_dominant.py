@@ -23,6 +23,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 def exhaustive_hits(S: np.ndarray, W: np.ndarray, locus: np.ndarray):
     """Crossings of each sample's line through its white with every boundary segment (the former library form)."""
+
     def cross(ax, ay, bx, by):
         return ax * by - ay * bx
 
@@ -157,11 +158,15 @@ def main(n: int = 200_000) -> None:
     t_shape, f_new = best_of(lambda: _measures(v)[1])
     defined = np.isfinite(f_new)
     print(f"{'measure':34} {'N':>8} {'exhaustive s':>13} {'library s':>10} {'ratio':>7}  identical")
-    print(f"{'dominant wavelength + purity (E)':34} {xy.shape[0]:8d} {t_old:13.3f} {t_new:10.3f} {t_old / t_new:7.1f}  "
-          f"{same(old, new)}")
-    print(f"{'FWHM (LED spectra, 471 nm grid)':34} {v.shape[0]:8d} {t_fold:13.3f} {t_fnew:10.3f} {t_fold / t_fnew:7.1f}  "
-          f"{np.array_equal(f_old[defined], f_new[defined]) and np.array_equal(f_old, f_core, equal_nan=True)} "
-          f"(where defined: {int(defined.sum())} of {v.shape[0]})")
+    print(
+        f"{'dominant wavelength + purity (E)':34} {xy.shape[0]:8d} {t_old:13.3f} {t_new:10.3f} {t_old / t_new:7.1f}  "
+        f"{same(old, new)}"
+    )
+    print(
+        f"{'FWHM (LED spectra, 471 nm grid)':34} {v.shape[0]:8d} {t_fold:13.3f} {t_fnew:10.3f} {t_fold / t_fnew:7.1f}  "
+        f"{np.array_equal(f_old[defined], f_new[defined]) and np.array_equal(f_old, f_core, equal_nan=True)} "
+        f"(where defined: {int(defined.sum())} of {v.shape[0]})"
+    )
     print(f"{'  + peak/flat/edge rules (_measures)':34} {v.shape[0]:8d} {'':13} {t_shape:10.3f}")
 
 

@@ -67,18 +67,24 @@ def main(argv: list[str] | None = None) -> int:
     numpy_best = min(times["python -c 'import numpy'"])
     numpy_cpu = min(cpu["python -c 'import numpy'"])
     load = os.getloadavg()
-    print(f"start-up, best and median of {args.repeat} runs taking turns; load average "
-          f"{load[0]:.2f} {load[1]:.2f} {load[2]:.2f} on {os.cpu_count()} CPUs")
+    print(
+        f"start-up, best and median of {args.repeat} runs taking turns; load average "
+        f"{load[0]:.2f} {load[1]:.2f} {load[2]:.2f} on {os.cpu_count()} CPUs"
+    )
     print("(CPU = user + system time of the process: on a loaded machine closer to an idle machine's wall time)")
-    print(f"{'command':<32} {'best [s]':>8} {'median [s]':>10} {'best/numpy':>10} {'best CPU [s]':>12} "
-          f"{'CPU/numpy':>9} {'target [s]':>10}  met")
+    print(
+        f"{'command':<32} {'best [s]':>8} {'median [s]':>10} {'best/numpy':>10} {'best CPU [s]':>12} "
+        f"{'CPU/numpy':>9} {'target [s]':>10}  met"
+    )
     for name, ts in times.items():
         best = min(ts)
         target = TARGETS_S.get(name)
         met = "" if target is None else ("yes" if best <= target else "no")
         c = min(cpu[name])
-        print(f"{name:<32} {best:>8.3f} {statistics.median(ts):>10.3f} {best / numpy_best:>10.2f} {c:>12.3f} "
-              f"{c / numpy_cpu:>9.2f} {'' if target is None else f'{target:.2f}':>10}  {met}")
+        print(
+            f"{name:<32} {best:>8.3f} {statistics.median(ts):>10.3f} {best / numpy_best:>10.2f} {c:>12.3f} "
+            f"{c / numpy_cpu:>9.2f} {'' if target is None else f'{target:.2f}':>10}  {met}"
+        )
     return 0
 
 

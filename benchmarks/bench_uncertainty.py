@@ -38,8 +38,12 @@ def main() -> None:
     model = load_model(ROOT / "spectra" / "models" / "harbourside-lab-spectro.toml")
 
     def spectra(n: int, seed: int = 7) -> Spectra:
-        return Spectra(wavelength_nm=wl, values=led_spectra(n, wl, seed=seed), names=tuple(f"s{i}" for i in range(n)),
-                       quantity=Quantity.RADIANT_FLUX)
+        return Spectra(
+            wavelength_nm=wl,
+            values=led_spectra(n, wl, seed=seed),
+            names=tuple(f"s{i}" for i in range(n)),
+            quantity=Quantity.RADIANT_FLUX,
+        )
 
     warm = spectra(50)
     analyse(warm)
@@ -49,18 +53,22 @@ def main() -> None:
     t0, c0 = time.perf_counter(), time.process_time()
     analyse(many)
     t_plain, c_plain = time.perf_counter() - t0, time.process_time() - c0
-    print(f"analyse(), {args.draws} distinct spectra, every measure: {t_plain:.2f} s wall, {c_plain:.2f} s CPU "
-          f"({args.draws / t_plain:,.0f} spectra/s)")
+    print(
+        f"analyse(), {args.draws} distinct spectra, every measure: {t_plain:.2f} s wall, {c_plain:.2f} s CPU "
+        f"({args.draws / t_plain:,.0f} spectra/s)"
+    )
 
     one = spectra(1, seed=9)
     t0, c0 = time.perf_counter(), time.process_time()
     r = monte_carlo(one, model.replace_draws(args.draws))
     t_one, c_one = time.perf_counter() - t0, time.process_time() - c0
     e = r.spectra[0].estimates
-    print(f"Monte Carlo, 1 spectrum x {args.draws} draws, every measure: {t_one:.2f} s wall, {c_one:.2f} s CPU "
-          "(target <= 2 s); "
-          f"{t_one / t_plain:.2f} x the plain analyse() time of as many spectra; "
-          f"CCT {e['cct_K'].value:.0f} K, u {e['cct_K'].u:.1f} K (GUM {e['cct_K'].u_gum:.1f} K)")
+    print(
+        f"Monte Carlo, 1 spectrum x {args.draws} draws, every measure: {t_one:.2f} s wall, {c_one:.2f} s CPU "
+        "(target <= 2 s); "
+        f"{t_one / t_plain:.2f} x the plain analyse() time of as many spectra; "
+        f"CCT {e['cct_K'].value:.0f} K, u {e['cct_K'].u:.1f} K (GUM {e['cct_K'].u_gum:.1f} K)"
+    )
 
     lot = spectra(args.lot, seed=10)
     done = [0]
@@ -72,9 +80,11 @@ def main() -> None:
     monte_carlo(lot, model.replace_draws(args.lot_draws), progress=progress)
     t_lot, c_lot = time.perf_counter() - t0, time.process_time() - c0
     total = args.lot * args.lot_draws
-    print(f"Monte Carlo, {args.lot} spectra x {args.lot_draws} draws ({total:,} analyses): {t_lot:.2f} s wall, "
-          f"{c_lot:.2f} s CPU "
-          f"(target <= 30 s); {total / t_lot:,.0f} draws/s against the plain {args.draws / t_plain:,.0f} spectra/s")
+    print(
+        f"Monte Carlo, {args.lot} spectra x {args.lot_draws} draws ({total:,} analyses): {t_lot:.2f} s wall, "
+        f"{c_lot:.2f} s CPU "
+        f"(target <= 30 s); {total / t_lot:,.0f} draws/s against the plain {args.draws / t_plain:,.0f} spectra/s"
+    )
 
 
 if __name__ == "__main__":

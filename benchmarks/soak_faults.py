@@ -93,9 +93,15 @@ def batch(args: list, *, cwd: Path, fsize: int | None = None, env=None) -> subpr
             signal.signal(signal.SIGXFSZ, signal.SIG_IGN)
             resource.setrlimit(resource.RLIMIT_FSIZE, (fsize, fsize))
 
-    return subprocess.Popen([sys.executable, "-m", "cctkit", "batch", *map(str, args)], cwd=cwd,
-                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, preexec_fn=limit,
-                            env=env or os.environ.copy())
+    return subprocess.Popen(
+        [sys.executable, "-m", "cctkit", "batch", *map(str, args)],
+        cwd=cwd,
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+        preexec_fn=limit,
+        env=env or os.environ.copy(),
+    )
 
 
 def tree_rss_bytes(pid: int) -> int:
@@ -162,8 +168,12 @@ def main() -> int:
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--no-rendering", action="store_true")
     ap.add_argument("--keep", action="store_true", help="keep the temporary folder")
-    ap.add_argument("--inputs-from", type=Path, help="a folder holding lot.csv and lot-broken.csv written by an "
-                    "earlier run with the same --spectra, --bad-rows and --seed (writing 10^6 rows takes minutes)")
+    ap.add_argument(
+        "--inputs-from",
+        type=Path,
+        help="a folder holding lot.csv and lot-broken.csv written by an "
+        "earlier run with the same --spectra, --bad-rows and --seed (writing 10^6 rows takes minutes)",
+    )
     a = ap.parse_args()
     rng = random.Random(a.seed)
     folder = a.inputs_from or Path(tempfile.mkdtemp(prefix="cctkit-soak-"))
@@ -182,8 +192,10 @@ def main() -> int:
     _, err, peak = communicate_sampling(p)
     assert p.returncode == 0, err
     t_ref = time.perf_counter() - t
-    print(f"reference: {t_ref:.0f} s ({a.spectra / t_ref:,.0f} spectra/s), {ref.stat().st_size:,} bytes, "
-          f"peak resident memory of the process tree {peak / 2**20:,.0f} MiB")
+    print(
+        f"reference: {t_ref:.0f} s ({a.spectra / t_ref:,.0f} spectra/s), {ref.stat().st_size:,} bytes, "
+        f"peak resident memory of the process tree {peak / 2**20:,.0f} MiB"
+    )
 
     # 3. the faulty run
     out = folder / "faulty.csv"
@@ -194,8 +206,10 @@ def main() -> int:
     _, err = p.communicate()
     lines = [x for x in err.splitlines() if x.strip()]
     full_disk_ok = p.returncode == 2 and len(lines) == 1 and str(out) in lines[0]
-    print(f"full disk at {fsize:,} bytes: exit {p.returncode}, {lines[-1] if lines else ''!r}, "
-          f"{journal_chunks(journal)} chunks kept")
+    print(
+        f"full disk at {fsize:,} bytes: exit {p.returncode}, {lines[-1] if lines else ''!r}, "
+        f"{journal_chunks(journal)} chunks kept"
+    )
     if not full_disk_ok:
         failures.append("full disk: not one line naming the output with exit 2")
 
@@ -215,13 +229,17 @@ def main() -> int:
         p.wait()
         time.sleep(2.0)
         orphans = sum(alive(k) for k in kids)
-        print(f"killed {killed_workers} workers, then the batch process at {journal_chunks(journal)} chunks; "
-              f"workers left running: {orphans}")
+        print(
+            f"killed {killed_workers} workers, then the batch process at {journal_chunks(journal)} chunks; "
+            f"workers left running: {orphans}"
+        )
     else:
         _, err = p.communicate()
         last = err.strip().splitlines()[-1:]
-        print(f"killed {killed_workers} workers; the run ended before the batch process could be killed: "
-              f"exit {p.returncode} {last}")
+        print(
+            f"killed {killed_workers} workers; the run ended before the batch process could be killed: "
+            f"exit {p.returncode} {last}"
+        )
         if p.returncode != 0:
             failures.append(f"a killed worker ended the run: exit {p.returncode} {last}")
     if orphans:
@@ -270,10 +288,12 @@ def main() -> int:
         with open(errors_file, newline="") as fh:
             reported = {int(e["line"]): e for e in csv.DictReader(fh)}
         exact = set(reported) == set(kinds) and all(e["skipped"] == "row" for e in reported.values())
-        print(f"bad rows: exit {p.returncode}, {t_bad:.0f} s ({(a.spectra - len(kinds)) / t_bad:,.0f} spectra/s), "
-              f"peak resident memory {peak / 2**20:,.0f} MiB; {len(kinds)} broken, {len(reported)} reported "
-              f"(exactly the broken lines: {exact}); {written:,} rows written of {a.spectra - len(kinds):,} good; "
-              f"good rows lost: {lost}, changed or extra: {changed}; summary: {err.strip().splitlines()[-1:]}")
+        print(
+            f"bad rows: exit {p.returncode}, {t_bad:.0f} s ({(a.spectra - len(kinds)) / t_bad:,.0f} spectra/s), "
+            f"peak resident memory {peak / 2**20:,.0f} MiB; {len(kinds)} broken, {len(reported)} reported "
+            f"(exactly the broken lines: {exact}); {written:,} rows written of {a.spectra - len(kinds):,} good; "
+            f"good rows lost: {lost}, changed or extra: {changed}; summary: {err.strip().splitlines()[-1:]}"
+        )
         if lost or changed or not exact:
             failures.append("--skip-bad: good rows lost or changed, or the report is not exactly the bad rows")
     p = batch([broken, "-o", folder / "refused.csv", *common], cwd=folder)

@@ -44,15 +44,15 @@ import numpy as np
 
 from .colorimetry import safe_divide
 from .constants import KE_MEL_D65_W_PER_LM, WAVELENGTH_NM
-from .formats import finite_or_none as _num
 from .errors import Flag
+from .formats import finite_or_none as _num
 from .photometry import (
     COVERAGE_LIMIT,
     _quantity,
     coverage_flag,
     grid_values,
-    luminous_total,
     inside_range,
+    luminous_total,
     range_masks,
     uncovered_share,
 )
@@ -226,9 +226,15 @@ def alpha_opic(values: Any, quantity: Quantity | str = Quantity.RELATIVE, *, mea
     flags: list[tuple[Flag, ...]] = [()] * n
     for i in np.flatnonzero(short.any(axis=1)).tolist():  # only the spectra with a withheld quantity
         flags[i] = tuple(
-            coverage_flag(f"{name} quantities", f"the {name} action spectrum", float(share[i, k]),
-                          measured_range_nm[i][0], measured_range_nm[i][1])
-            for k, name in enumerate(ALPHA_OPIC_NAMES) if short[i, k]
+            coverage_flag(
+                f"{name} quantities",
+                f"the {name} action spectrum",
+                float(share[i, k]),
+                measured_range_nm[i][0],
+                measured_range_nm[i][1],
+            )
+            for k, name in enumerate(ALPHA_OPIC_NAMES)
+            if short[i, k]
         )
     return AlphaOpic(
         quantity=q,

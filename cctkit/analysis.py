@@ -22,30 +22,41 @@ from .errors import Flag
 from .formats import finite_or_none
 from .spectra import Quantity, Spectra, signal_problems, to_working_grid
 
-__all__ = ["Analysis", "analyse", "analyse_groups", "analyse_files", "read_files", "flatten_record", "metadata_text", "records_csv", "provenance",
-           "interpolation_summary", "CONVENTIONS"]
+__all__ = [
+    "Analysis",
+    "analyse",
+    "analyse_groups",
+    "analyse_files",
+    "read_files",
+    "flatten_record",
+    "metadata_text",
+    "records_csv",
+    "provenance",
+    "interpolation_summary",
+    "CONVENTIONS",
+]
 
 #: The conventions every number is computed under (written into every output).
 CONVENTIONS = {
     "wavelength_grid_nm": "360-830 nm at 1 nm",
     "summation": "plain sum at 1 nm, no end-point halving (CIE 15:2018)",
     "interpolation": "as measured on the 1 nm grid; auto: Sprague (CIE 167:2005) for uniform steps, PCHIP "
-                     "otherwise; sprague / linear / pchip on request; the method of each spectrum in its record",
+    "otherwise; sprague / linear / pchip on request; the method of each spectrum in its record",
     "extrapolation": "nearest measured value repeated (CIE 15:2018 section 7.2.2), for colour measures only "
-                     "(CIE 224 / TM-30: zero, their own rule)",
+    "(CIE 224 / TM-30: zero, their own rule)",
     "totals": "radiant and photon totals over the measured range as measured; PPF over 400-700 nm measured; "
-              "luminous, scotopic and alpha-opic totals over the measured part of 360-830 nm; LER = luminous / radiant",
+    "luminous, scotopic and alpha-opic totals over the measured part of 360-830 nm; LER = luminous / radiant",
     "coverage_rule": "a total is withheld when its weighting function has more than 1 % of its integral "
-                     "(360-830 nm) outside the measured range",
+    "(360-830 nm) outside the measured range",
     "c2_m_K": C2_M_K,
     "Km_lm_per_W": KM_LM_PER_W,
     "cct_method": "exact: nearest Planckian point in CIE 1960 uv (CIE 15:2018 section 9.5)",
     "dominant_wavelength": "CIE 15:2018 section 9.1, from the white point each record names (dominant_white; "
-                           "default E, equal energy, the achromatic stimulus used for light sources)",
+    "default E, equal energy, the achromatic stimulus used for light sources)",
     "shape": "peak withheld at an end of the measured range and for flat spectra; FWHM only where the "
-             "spectrum is below half its maximum at both ends of the measured range",
+    "spectrum is below half its maximum at both ends of the measured range",
     "cie224_short_range": "Rf, Rg and hue bins of spectra not covering 380-780 nm: zero where not measured "
-                          "(CIE 224:2017 / TM-30-20 rule); CIE 13.3 keeps the nearest measured value",
+    "(CIE 224:2017 / TM-30-20 rule); CIE 13.3 keeps the nearest measured value",
     "duv_sign": "positive above the Planckian locus (towards larger v)",
     "duv_limit": DUV_LIMIT,
 }
@@ -131,8 +142,11 @@ def _part_columns(part, n: int) -> dict[str, np.ndarray]:
     The check keeps the columns equal to the records when a measure's record changes
     before its ``columns`` method follows.
     """
-    cols = ({k: v if np.asarray(v).dtype == object else _finite(v) for k, v in part.columns().items()}
-            if hasattr(part, "columns") else None)
+    cols = (
+        {k: v if np.asarray(v).dtype == object else _finite(v) for k, v in part.columns().items()}
+        if hasattr(part, "columns")
+        else None
+    )
     if n and cols is not None:
         first = flatten_record(part.record(0))
         same = list(first) == list(cols) and all(
@@ -143,8 +157,14 @@ def _part_columns(part, n: int) -> dict[str, np.ndarray]:
             return cols
     recs = [flatten_record(part.record(i)) for i in range(n)]
     keys = list(dict.fromkeys(k for r in recs for k in r)) if recs else list(cols or {})
-    return {k: (_text_column([r.get(k) for r in recs]) if any(isinstance(r.get(k), str) for r in recs)
-                else np.array([r.get(k) for r in recs], dtype=np.float64)) for k in keys}
+    return {
+        k: (
+            _text_column([r.get(k) for r in recs])
+            if any(isinstance(r.get(k), str) for r in recs)
+            else np.array([r.get(k) for r in recs], dtype=np.float64)
+        )
+        for k in keys
+    }
 
 
 def _columns(a: Analysis) -> dict[str, np.ndarray]:
@@ -167,9 +187,17 @@ def _columns(a: Analysis) -> dict[str, np.ndarray]:
         "cct_K": cct_K,
         "duv": _finite(a.cct.duv),
     }
-    for name, arr in (("x", a.xy[:, 0]), ("y", a.xy[:, 1]), ("u", a.uv[:, 0]), ("v", a.uv[:, 1]),
-                      ("u_prime", a.uvp[:, 0]), ("v_prime", a.uvp[:, 1]),
-                      ("X", a.XYZ[:, 0]), ("Y", a.XYZ[:, 1]), ("Z", a.XYZ[:, 2])):
+    for name, arr in (
+        ("x", a.xy[:, 0]),
+        ("y", a.xy[:, 1]),
+        ("u", a.uv[:, 0]),
+        ("v", a.uv[:, 1]),
+        ("u_prime", a.uvp[:, 0]),
+        ("v_prime", a.uvp[:, 1]),
+        ("X", a.XYZ[:, 0]),
+        ("Y", a.XYZ[:, 1]),
+        ("Z", a.XYZ[:, 2]),
+    ):
         out[name] = _finite(arr)
     for part in (a.photometry, a.alphaopic, a.shape, a.dominant):
         if part is not None:
@@ -238,13 +266,19 @@ def _cct_flags(cct: CctResult, i: int, uv=None) -> tuple[Flag, ...]:
     if not np.isfinite(duv) and uv is not None and np.all(np.isfinite(uv[i])):
         from .cct import table_range_text
 
-        out.append(Flag("outside-cct-table",
-                        f"the nearest Planckian point lies outside the {cct.method} solver's table "
-                        f"({table_range_text(cct.method)}): CCT and Duv withheld"))
+        out.append(
+            Flag(
+                "outside-cct-table",
+                f"the nearest Planckian point lies outside the {cct.method} solver's table "
+                f"({table_range_text(cct.method)}): CCT and Duv withheld",
+            )
+        )
     elif not np.isfinite(duv):
         out.append(Flag("no-chromaticity", "the spectrum has no colour signal (all tristimulus values zero)"))
     elif abs(duv) > DUV_LIMIT:
-        out.append(Flag("duv-out-of-range", f"|Duv| = {abs(duv):.4f} > {DUV_LIMIT}: CCT is not meaningful and not reported"))
+        out.append(
+            Flag("duv-out-of-range", f"|Duv| = {abs(duv):.4f} > {DUV_LIMIT}: CCT is not meaningful and not reported")
+        )
     elif not np.isfinite(float(cct.cct_K[i])):
         out.append(Flag("cct-out-of-range", "nearest Planckian point lies outside 1000-100000 K; CCT not reported"))
     return tuple(out)
@@ -299,8 +333,14 @@ def one_blas_thread():
     return _BLAS.limit(limits=1, user_api="blas")
 
 
-def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, interpolation: str = "auto",
-            dominant_white: Any = "E") -> Analysis:
+def analyse(
+    spectra: Spectra,
+    *,
+    observer: int = 2,
+    rendering: bool = True,
+    interpolation: str = "auto",
+    dominant_white: Any = "E",
+) -> Analysis:
     """Every measure for every spectrum in ``spectra``, vectorised.
 
     Parameters
@@ -334,8 +374,9 @@ def analyse(spectra: Spectra, *, observer: int = 2, rendering: bool = True, inte
         return _analyse(g, V, problems, observer=int(observer), rendering=rendering, white=white)
 
 
-def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: bool,
-             white: tuple = ("E", (1.0 / 3.0, 1.0 / 3.0))) -> Analysis:
+def _analyse(
+    g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: bool, white: tuple = ("E", (1.0 / 3.0, 1.0 / 3.0))
+) -> Analysis:
     raw = XYZ(V, observer=observer)
     if g.quantity is Quantity.RELATIVE:
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -346,11 +387,17 @@ def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: b
     xy = XYZ_to_xy(tri)
     uv = XYZ_to_uv(tri)
     cct = cct_duv(uv, observer=observer)
-    flags = _add_flags(g.flags, _cct_flag_rows(cct, problems),
-                       lambda i: (problems[i],) if problems[i] is not None else _cct_flags(cct, i, uv))
+    flags = _add_flags(
+        g.flags,
+        _cct_flag_rows(cct, problems),
+        lambda i: (problems[i],) if problems[i] is not None else _cct_flags(cct, i, uv),
+    )
     parts = _extra_measures(g, V, xy, observer=int(observer), white=white)
-    flags = _add_flags(flags, _flagged(parts["photometry"].flags, parts["alphaopic"].flags, parts["shape"].flags),
-                       lambda i: parts["photometry"].flags[i] + parts["alphaopic"].flags[i] + parts["shape"].flags[i])
+    flags = _add_flags(
+        flags,
+        _flagged(parts["photometry"].flags, parts["alphaopic"].flags, parts["shape"].flags),
+        lambda i: parts["photometry"].flags[i] + parts["alphaopic"].flags[i] + parts["shape"].flags[i],
+    )
     if rendering:
         cri, fid, rendering_flags = _rendering(V, cct, observer=int(observer), measured_range_nm=g.measured_range_nm)
         parts.update(cri=cri, tm30=fid)
@@ -360,8 +407,9 @@ def _analyse(g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: b
     )
 
 
-def _extra_measures(g: Spectra, V: np.ndarray, xy, *, observer: int,
-                    white: tuple = ("E", (1.0 / 3.0, 1.0 / 3.0))) -> dict[str, Any]:
+def _extra_measures(
+    g: Spectra, V: np.ndarray, xy, *, observer: int, white: tuple = ("E", (1.0 / 3.0, 1.0 / 3.0))
+) -> dict[str, Any]:
     """Photometry, alpha-opic quantities, spectral shape, dominant wavelength."""
     from .alphaopic import alpha_opic
     from .dominant import dominant_wavelength
@@ -369,8 +417,9 @@ def _extra_measures(g: Spectra, V: np.ndarray, xy, *, observer: int,
     from .shape import spectral_shape
 
     return {
-        "photometry": photometry(V, g.quantity, measured_range_nm=g.measured_range_nm,
-                                 measured_totals=g.measured_totals),
+        "photometry": photometry(
+            V, g.quantity, measured_range_nm=g.measured_range_nm, measured_totals=g.measured_totals
+        ),
         "alphaopic": alpha_opic(V, g.quantity, measured_range_nm=g.measured_range_nm),
         "shape": spectral_shape(V, measured_range_nm=g.measured_range_nm),
         "dominant": dominant_wavelength(xy, white_xy=white[0], observer=observer),
@@ -433,16 +482,29 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int, measured_range_n
     has_ref = np.isfinite(r.cct_K)
     poor = np.flatnonzero(has_ref & ~np.asarray(r.cri.valid, dtype=bool))
     for i, dc in zip(poor.tolist(), np.asarray(r.cri.dc)[poor].tolist()):
-        flags[i] = (Flag("cri-not-meaningful",
-                         f"chromaticity distance DC = {dc:.4f} from the reference is >= {DC_LIMIT}: "
-                         "CIE 13.3 says the index is then not meaningful"),)
+        flags[i] = (
+            Flag(
+                "cri-not-meaningful",
+                f"chromaticity distance DC = {dc:.4f} from the reference is >= {DC_LIMIT}: "
+                "CIE 13.3 says the index is then not meaningful",
+            ),
+        )
     T = np.asarray(T, dtype=np.float64)
     with np.errstate(invalid="ignore"):
-        above = ~has_ref & np.isfinite(T) & (np.abs(np.asarray(duv, dtype=np.float64)) <= DUV_LIMIT) & (T > REFERENCE_RANGE_K[1])
+        above = (
+            ~has_ref
+            & np.isfinite(T)
+            & (np.abs(np.asarray(duv, dtype=np.float64)) <= DUV_LIMIT)
+            & (T > REFERENCE_RANGE_K[1])
+        )
     for i, t in zip(np.flatnonzero(above).tolist(), T[above].tolist()):
-        flags[i] = (Flag("cct-above-reference-range",
-                         f"CCT {t:.0f} K is above {REFERENCE_RANGE_K[1]:g} K, where the CIE daylight "
-                         "reference is not defined: colour rendering not computed"),)
+        flags[i] = (
+            Flag(
+                "cct-above-reference-range",
+                f"CCT {t:.0f} K is above {REFERENCE_RANGE_K[1]:g} K, where the CIE daylight "
+                "reference is not defined: colour rendering not computed",
+            ),
+        )
     none = Flag("no-rendering", "no CCT, so no reference illuminant: colour rendering not computed")
     for i in np.flatnonzero(~has_ref & ~above).tolist():
         flags[i] = (none,)
@@ -455,11 +517,14 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int, measured_range_n
             lo, hi = lo_hi[i]
             t = float(r.tm30.cct_K[i])
             at = f"the CCT of that spectrum, {t:.0f} K" if np.isfinite(t) else "no CCT: Rf and Rg withheld"
-            flags[i] = flags[i] + (Flag(
-                "cie224-short-range",
-                f"measured {lo:g}-{hi:g} nm does not cover 380-780 nm: Rf, Rg and the hue bins take the spectrum "
-                f"as zero where it was not measured (CIE 224:2017 / TM-30-20 rule), reference at {at}; "
-                "Ra uses the nearest measured value"),)
+            flags[i] = flags[i] + (
+                Flag(
+                    "cie224-short-range",
+                    f"measured {lo:g}-{hi:g} nm does not cover 380-780 nm: Rf, Rg and the hue bins take the spectrum "
+                    f"as zero where it was not measured (CIE 224:2017 / TM-30-20 rule), reference at {at}; "
+                    "Ra uses the nearest measured value",
+                ),
+            )
     return r.cri, r.tm30, tuple(flags)
 
 
@@ -471,8 +536,8 @@ def read_files(files, *, quantity=None, layout=None) -> list[Spectra]:
     with :class:`~cctkit.errors.InputError` naming it (:func:`cctkit.spectra.require_signal`).
     """
     from .errors import InputError
-    from .readers import read_spectra
     from .limits import MAX_SPECTRA, MAX_VALUES, too_many_spectra
+    from .readers import read_spectra
     from .spectra import require_signal
 
     if not files:
@@ -486,18 +551,34 @@ def read_files(files, *, quantity=None, layout=None) -> list[Spectra]:
         if count > MAX_SPECTRA:
             raise InputError(too_many_spectra(count), source=str(f))
         if values > MAX_VALUES:
-            raise InputError(f"over {MAX_VALUES} spectral values (spectra x points) by this file, the limit for "
-                             "one command; use `cctkit batch` for large lots", source=str(f))
+            raise InputError(
+                f"over {MAX_VALUES} spectral values (spectra x points) by this file, the limit for "
+                "one command; use `cctkit batch` for large lots",
+                source=str(f),
+            )
         out.append(require_signal(s))
     return out
 
 
-def analyse_files(files, *, quantity=None, observer: int = 2, rendering: bool = True, layout=None,
-                  interpolation: str = "auto", dominant_white: Any = "E") -> Analysis:
+def analyse_files(
+    files,
+    *,
+    quantity=None,
+    observer: int = 2,
+    rendering: bool = True,
+    layout=None,
+    interpolation: str = "auto",
+    dominant_white: Any = "E",
+) -> Analysis:
     """:func:`analyse` of the spectra of ``files`` as one batch; they may differ in quantity
     (see :func:`analyse_mixed`)."""
-    return analyse_mixed(read_files(files, quantity=quantity, layout=layout), observer=observer, rendering=rendering,
-                         interpolation=interpolation, dominant_white=dominant_white)
+    return analyse_mixed(
+        read_files(files, quantity=quantity, layout=layout),
+        observer=observer,
+        rendering=rendering,
+        interpolation=interpolation,
+        dominant_white=dominant_white,
+    )
 
 
 @dataclass(frozen=True)
@@ -522,8 +603,14 @@ class MixedAnalysis(Analysis):
         return records_table(self.records())
 
 
-def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = True,
-                  interpolation: str = "auto", dominant_white: Any = "E") -> Analysis:
+def analyse_mixed(
+    items: list[Spectra],
+    *,
+    observer: int = 2,
+    rendering: bool = True,
+    interpolation: str = "auto",
+    dominant_white: Any = "E",
+) -> Analysis:
     """One analysis of several Spectra that may differ in quantity, in input order.
 
     Spectra of one quantity are joined and analysed as one batch (vectorised).
@@ -542,8 +629,12 @@ def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = 
     for i, s in enumerate(items):
         groups.setdefault(s.quantity, []).append(i)
     if len(groups) == 1:
-        return analyse(concatenate(items, interpolation=interpolation), observer=observer, rendering=rendering,
-                       dominant_white=dominant_white)
+        return analyse(
+            concatenate(items, interpolation=interpolation),
+            observer=observer,
+            rendering=rendering,
+            dominant_white=dominant_white,
+        )
     parts = []
     where: dict[int, tuple[int, int]] = {}  # item -> (part, first spectrum in it)
     for k, idx in enumerate(groups.values()):
@@ -551,8 +642,14 @@ def analyse_mixed(items: list[Spectra], *, observer: int = 2, rendering: bool = 
         for i in idx:
             where[i] = (k, pos)
             pos += len(items[i])
-        parts.append(analyse(concatenate([items[i] for i in idx], interpolation=interpolation), observer=observer,
-                             rendering=rendering, dominant_white=dominant_white))
+        parts.append(
+            analyse(
+                concatenate([items[i] for i in idx], interpolation=interpolation),
+                observer=observer,
+                rendering=rendering,
+                dominant_white=dominant_white,
+            )
+        )
     offsets = np.cumsum([0] + [len(a) for a in parts])
     perm = np.array([offsets[where[i][0]] + where[i][1] + j for i in range(len(items)) for j in range(len(items[i]))])
     all_records = [r for a in parts for r in a.records()]
@@ -614,8 +711,14 @@ def _join_results(parts: list, perm: np.ndarray):
     return out
 
 
-def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool = True,
-                   interpolation: str = "auto", dominant_white: Any = "E") -> list[dict[str, Any]]:
+def analyse_groups(
+    items: list[Spectra],
+    *,
+    observer: int = 2,
+    rendering: bool = True,
+    interpolation: str = "auto",
+    dominant_white: Any = "E",
+) -> list[dict[str, Any]]:
     """Records for several Spectra that may differ in quantity, in input order.
 
     Spectra of one quantity are joined and analysed as one batch (vectorised); the
@@ -628,8 +731,12 @@ def analyse_groups(items: list[Spectra], *, observer: int = 2, rendering: bool =
         order.setdefault(s.quantity, []).append(i)
     per_item: dict[int, list[dict[str, Any]]] = {}
     for idx in order.values():
-        recs = analyse(concatenate([items[i] for i in idx], interpolation=interpolation), observer=observer,
-                       rendering=rendering, dominant_white=dominant_white).records()
+        recs = analyse(
+            concatenate([items[i] for i in idx], interpolation=interpolation),
+            observer=observer,
+            rendering=rendering,
+            dominant_white=dominant_white,
+        ).records()
         pos = 0
         for i in idx:
             n = len(items[i])

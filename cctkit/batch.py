@@ -34,13 +34,17 @@ import os
 import sys
 import time
 from collections import deque
+from collections.abc import Callable, Generator, Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Callable, Generator, Iterable, Iterator, Sequence, TextIO
+from typing import Any, TextIO
 
 import numpy as np
 
-from .analysis import flatten_record, metadata_text  # flatten_record re-exported: the flattening rule records_table follows
+from .analysis import (
+    flatten_record,
+    metadata_text,
+)  # flatten_record re-exported: the flattening rule records_table follows
 from .errors import CctkitError, InputError, Stopped
 from .formats import FORMULA_LEAD, csv_text
 from .progress import Progress  # a live bar on a terminal, plain lines elsewhere
@@ -61,16 +65,33 @@ OUTPUT_SUFFIXES = (".csv", ".parquet", ".xlsx")
 #: How long to try reaching a Dask scheduler before giving up [s].
 SCHEDULER_TIMEOUT_S = 10.0
 _STRING_COLUMNS = frozenset(
-    {"name", "source", "sha256", "quantity", "spectral_unit", "reference", "cri_reference", "flags", "cctkit_version", "metadata",
-     "dominant_white"}
+    {
+        "name",
+        "source",
+        "sha256",
+        "quantity",
+        "spectral_unit",
+        "reference",
+        "cri_reference",
+        "flags",
+        "cctkit_version",
+        "metadata",
+        "dominant_white",
+    }
 )
 
 
 # --------------------------------------------------------------------------- the chunk function
 
 
-def spectra_results(spectra: Spectra, *, observer: int = 2, rendering: bool = True,
-                    interpolation: str = "auto", dominant_white: str = "E") -> dict[str, np.ndarray]:
+def spectra_results(
+    spectra: Spectra,
+    *,
+    observer: int = 2,
+    rendering: bool = True,
+    interpolation: str = "auto",
+    dominant_white: str = "E",
+) -> dict[str, np.ndarray]:
     """Every measure for a chunk of spectra, as a table of columns (see :func:`records_table`).
 
     ``observer`` and ``rendering`` are passed to :func:`cctkit.analysis.analyse`.  The table ends with a ``cctkit_version`` column, as the CSV of ``inspect`` does.
@@ -78,8 +99,9 @@ def spectra_results(spectra: Spectra, *, observer: int = 2, rendering: bool = Tr
     from . import __version__
     from .analysis import analyse
 
-    analysis = analyse(spectra, observer=observer, rendering=rendering, interpolation=interpolation,
-                       dominant_white=dominant_white)
+    analysis = analyse(
+        spectra, observer=observer, rendering=rendering, interpolation=interpolation, dominant_white=dominant_white
+    )
     # Analysis.columns() equals records_table(analysis.records()) (tests hold it), built from
     # the arrays without a dict per spectrum; so batch output and `inspect` output agree.
     table = analysis.columns()
@@ -102,9 +124,7 @@ def records_table(records: Sequence[dict[str, Any]]) -> dict[str, np.ndarray]:
     for k in keys:
         vals = [r.get(k, _ABSENT) for r in records]
         if k == "flags":
-            out[k] = np.array(
-                [None if v is _ABSENT else ";".join(f["code"] for f in v) for v in vals], dtype=object
-            )
+            out[k] = np.array([None if v is _ABSENT else ";".join(f["code"] for f in v) for v in vals], dtype=object)
             continue
         if k == "metadata":  # one JSON text cell, so every chunk has the same columns
             out[k] = np.array([None if v is _ABSENT else metadata_text(v) for v in vals], dtype=object)
@@ -169,8 +189,15 @@ class _ChunkResult:
     arrow: Any = None
 
 
-def _work(spectra: Spectra, observer: int, rendering: bool, output: str = ".csv",
-          interpolation: str = "auto", csv_dialect: str = "comma", dominant_white: str = "E") -> _ChunkResult:
+def _work(
+    spectra: Spectra,
+    observer: int,
+    rendering: bool,
+    output: str = ".csv",
+    interpolation: str = "auto",
+    csv_dialect: str = "comma",
+    dominant_white: str = "E",
+) -> _ChunkResult:
     """What a worker runs: one chunk in, its formatted output out (module level so it pickles).
 
     Formatting here rather than in the writing process spreads the cost of turning some
@@ -181,15 +208,30 @@ def _work(spectra: Spectra, observer: int, rendering: bool, output: str = ".csv"
     return _formatted(table, observer, rendering, output, interpolation, csv_dialect, dominant_white)
 
 
-def _results(spectra: Spectra, observer: int, rendering: bool, output: str = ".csv",
-             interpolation: str = "auto", csv_dialect: str = "comma", dominant_white: str = "E") -> dict[str, np.ndarray]:
+def _results(
+    spectra: Spectra,
+    observer: int,
+    rendering: bool,
+    output: str = ".csv",
+    interpolation: str = "auto",
+    csv_dialect: str = "comma",
+    dominant_white: str = "E",
+) -> dict[str, np.ndarray]:
     """The first half of :func:`_work`: the chunk's table of results."""
-    return spectra_results(spectra, observer=observer, rendering=rendering, interpolation=interpolation,
-                           dominant_white=dominant_white)  # one BLAS thread: see analyse()
+    return spectra_results(
+        spectra, observer=observer, rendering=rendering, interpolation=interpolation, dominant_white=dominant_white
+    )  # one BLAS thread: see analyse()
 
 
-def _formatted(table: dict[str, np.ndarray], observer: int, rendering: bool, output: str = ".csv",
-               interpolation: str = "auto", csv_dialect: str = "comma", dominant_white: str = "E") -> _ChunkResult:
+def _formatted(
+    table: dict[str, np.ndarray],
+    observer: int,
+    rendering: bool,
+    output: str = ".csv",
+    interpolation: str = "auto",
+    csv_dialect: str = "comma",
+    dominant_white: str = "E",
+) -> _ChunkResult:
     """The second half of :func:`_work`: the table as the writer takes it (CSV text or an Arrow table)."""
     if output == ".csv":
         text = table_csv(table, list(table))
@@ -486,8 +528,9 @@ def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> _Result
     context = multiprocessing.get_context("fork") if "fork" in methods and sys.platform.startswith("linux") else None
 
     def new_pool():
-        return ProcessPoolExecutor(max_workers=workers, mp_context=context, initializer=_worker_init,
-                                   initargs=(os.getpid(),))
+        return ProcessPoolExecutor(
+            max_workers=workers, mp_context=context, initializer=_worker_init, initargs=(os.getpid(),)
+        )
 
     pool = new_pool()
     pending: deque[list] = deque()  # [chunk, future, attempts], in input order
@@ -516,8 +559,11 @@ def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> _Result
             except BrokenProcessPool:
                 item[2] += item[1] is not None  # a chunk never submitted did not fail
                 if item[2] > LOCAL_RETRIES:
-                    raise InputError(f"a worker process died {item[2]} times running the same chunk "
-                                     "(out of memory?); try a smaller --chunk-size", source="--workers") from None
+                    raise InputError(
+                        f"a worker process died {item[2]} times running the same chunk "
+                        "(out of memory?); try a smaller --chunk-size",
+                        source="--workers",
+                    ) from None
                 _stop_workers(pool)
                 pool.shutdown(wait=True, cancel_futures=True)
                 pool = new_pool()
@@ -587,8 +633,9 @@ def _dask(chunks: Iterator[Spectra], address: str, opts: tuple) -> _Results:
     try:
         client = Client(address, timeout=f"{SCHEDULER_TIMEOUT_S}s", set_as_default=False)
     except Exception as exc:  # noqa: BLE001 - distributed raises many types for one cause
-        raise InputError(f"cannot reach the Dask scheduler at {address} ({_first_line(exc)})",
-                         source="--scheduler") from None
+        raise InputError(
+            f"cannot reach the Dask scheduler at {address} ({_first_line(exc)})", source="--scheduler"
+        ) from None
     futures: list[Any] = []
     try:
         workers = max(1, len(client.scheduler_info().get("workers", {})))
@@ -606,8 +653,9 @@ def _dask(chunks: Iterator[Spectra], address: str, opts: tuple) -> _Results:
             except CctkitError:
                 raise
             except Exception as exc:  # noqa: BLE001 - lost scheduler, workers gone past the retries
-                raise InputError(f"the Dask cluster at {address} could not finish a chunk ({_first_line(exc)})",
-                                 source="--scheduler") from None
+                raise InputError(
+                    f"the Dask cluster at {address} could not finish a chunk ({_first_line(exc)})", source="--scheduler"
+                ) from None
 
         yield from _ordered_map(submit, result, chunks, 2 * workers)
     finally:
@@ -648,8 +696,11 @@ def _check_scheduler(address: str) -> None:
         except ImportError:  # pragma: no cover - a declared dependency
             configured = None
         if not configured:
-            raise InputError(f"{address!r}: tls:// needs certificates from the Dask configuration "
-                             "(distributed.comm.tls.*), and none are set", source="--scheduler")
+            raise InputError(
+                f"{address!r}: tls:// needs certificates from the Dask configuration "
+                "(distributed.comm.tls.*), and none are set",
+                source="--scheduler",
+            )
     host, sep, port_text = rest.rstrip("/").rpartition(":")
     host = host.strip("[]")
     if not sep or not host or not port_text.isdigit() or not 0 < int(port_text) < 65536:
@@ -735,9 +786,20 @@ def run_batch(
     if csv_dialect != "comma" and suffix != ".csv":
         raise InputError(f"--csv-dialect applies to .csv output, not {suffix}", source="--csv-dialect")
     if suffix == ".xlsx":
-        return _batch_xlsx(source, out, workers=workers, scheduler=scheduler, observer=observer,
-                           rendering=rendering, interpolation=interpolation, dominant_white=dominant_white,
-                           overwrite=overwrite, progress=progress, metadata=metadata, inputs=inputs)
+        return _batch_xlsx(
+            source,
+            out,
+            workers=workers,
+            scheduler=scheduler,
+            observer=observer,
+            rendering=rendering,
+            interpolation=interpolation,
+            dominant_white=dominant_white,
+            overwrite=overwrite,
+            progress=progress,
+            metadata=metadata,
+            inputs=inputs,
+        )
     progress = progress or Progress(source.total, enabled=False)
     notes = _clear_leftovers(out, resume)
     identity = _identity(source, out, observer=observer, rendering=rendering, dominant_white=dominant_white)
@@ -762,8 +824,17 @@ def run_batch(
     n_chunks = 0
     t0 = time.perf_counter()
     if resume:
-        count = _resumable(out, results, state, identity, progress, overwrite=overwrite, inputs=inputs,
-                           source=source, csv_dialect=csv_dialect)
+        count = _resumable(
+            out,
+            results,
+            state,
+            identity,
+            progress,
+            overwrite=overwrite,
+            inputs=inputs,
+            source=source,
+            csv_dialect=csv_dialect,
+        )
         n_chunks = -(-count // source.chunk_size)
         progress.finish()
         return BatchSummary(str(out), count, n_chunks, time.perf_counter() - t0, executor, tuple(notes))
@@ -801,8 +872,9 @@ def _batch_xlsx(source, out: Path, *, overwrite: bool, inputs, metadata, **optio
         summary = run_batch(source, rows, **options)
         with atomic_path(out, overwrite=overwrite, inputs=inputs) as tmp:
             csv_file_to_xlsx(rows, tmp, provenance=metadata, inputs=[source.path])
-    return BatchSummary(str(out), summary.spectra, summary.chunks, time.perf_counter() - t0, summary.executor,
-                        summary.notes)
+    return BatchSummary(
+        str(out), summary.spectra, summary.chunks, time.perf_counter() - t0, summary.executor, summary.notes
+    )
 
 
 # --------------------------------------------------------------------------- faults: leftovers, resume
@@ -820,7 +892,7 @@ def _clear_leftovers(out: Path, resume: bool) -> list[str]:
     notes = [f"removed {p.name}, left by an earlier run that was killed" for p in remove_stale_temps(out)]
     journal = _partial_paths(out)[1]
     for p in journal.parent.glob(glob_escape(journal.name) + ".*.tmp"):  # a journal being replaced when killed
-        pid = p.name[len(journal.name) + 1:-len(".tmp")]
+        pid = p.name[len(journal.name) + 1 : -len(".tmp")]
         if pid.isdigit() and not _alive(int(pid)):
             with contextlib.suppress(OSError):
                 p.unlink()
@@ -845,16 +917,28 @@ def _identity(source, out: Path, *, observer: int, rendering: bool, dominant_whi
             continue
         if not os.path.isdir(f):
             files.append([str(f), st.st_size, st.st_mtime_ns])
-    return {"cctkit_version": __version__, "output": str(out), "input": str(source.path), "files": files,
-            "chunk_size": source.chunk_size, "observer": observer, "rendering": rendering,
-            "dominant_white": dominant_white}
+    return {
+        "cctkit_version": __version__,
+        "output": str(out),
+        "input": str(source.path),
+        "files": files,
+        "chunk_size": source.chunk_size,
+        "observer": observer,
+        "rendering": rendering,
+        "dominant_white": dominant_white,
+    }
 
 
 def _unchanged(source, identity: dict[str, Any]) -> None:
     """Refuse results of an input that changed while it was read: the hashes recorded in the
     rows are of the data analysed only if the file stayed the same throughout."""
-    now = _identity(source, Path(identity["output"]), observer=identity["observer"], rendering=identity["rendering"],
-                    dominant_white=identity.get("dominant_white", "E"))
+    now = _identity(
+        source,
+        Path(identity["output"]),
+        observer=identity["observer"],
+        rendering=identity["rendering"],
+        dominant_white=identity.get("dominant_white", "E"),
+    )
     if now["files"] != identity["files"]:
         changed = next((a[0] for a, b in zip(identity["files"], now["files"]) if a != b), source.path)
         raise InputError("the input changed while the run read it; results not written", source=str(changed))
@@ -871,19 +955,36 @@ def _journal_state(out: Path, identity: dict[str, Any]) -> dict[str, Any] | None
         if not isinstance(state, dict) or any(k not in state for k in keys):
             raise ValueError("incomplete")
     except (OSError, ValueError):
-        raise InputError(f"cannot continue: the journal {journal.name} is unreadable; remove it and "
-                         f"{partial.name} to start again", source=str(journal)) from None
+        raise InputError(
+            f"cannot continue: the journal {journal.name} is unreadable; remove it and {partial.name} to start again",
+            source=str(journal),
+        ) from None
     if state["identity"] != identity:
-        raise InputError("cannot continue: the input, the options or the chunk size differ from the earlier run's; "
-                         "run without --resume to start again", source=str(journal))
+        raise InputError(
+            "cannot continue: the input, the options or the chunk size differ from the earlier run's; "
+            "run without --resume to start again",
+            source=str(journal),
+        )
     if partial.stat().st_size < state["bytes"]:
-        raise InputError(f"cannot continue: {partial.name} is shorter than its journal says; run without "
-                         "--resume to start again", source=str(partial))
+        raise InputError(
+            f"cannot continue: {partial.name} is shorter than its journal says; run without --resume to start again",
+            source=str(partial),
+        )
     return state
 
 
-def _resumable(out: Path, results, state, identity, progress: Progress, *, overwrite: bool, inputs, source,
-               csv_dialect: str = "comma") -> int:
+def _resumable(
+    out: Path,
+    results,
+    state,
+    identity,
+    progress: Progress,
+    *,
+    overwrite: bool,
+    inputs,
+    source,
+    csv_dialect: str = "comma",
+) -> int:
     """Write the rows to ``OUTPUT.partial``, journalling each complete chunk; put it in place at the end."""
     from .safe_io import place, write_journal
 
@@ -904,8 +1005,16 @@ def _resumable(out: Path, results, state, identity, progress: Progress, *, overw
             writer.write(result)
             count += n
             chunks += 1
-            write_journal(journal, {"identity": identity, "chunks": chunks, "spectra": count,
-                                    "bytes": writer.durable_size(), "columns": writer.columns})
+            write_journal(
+                journal,
+                {
+                    "identity": identity,
+                    "chunks": chunks,
+                    "spectra": count,
+                    "bytes": writer.durable_size(),
+                    "columns": writer.columns,
+                },
+            )
             progress.update(n)
     except Stopped as exc:
         exc.note = f"the {chunks} complete chunks are kept in {partial.name}; run again with --resume to continue"
@@ -913,8 +1022,11 @@ def _resumable(out: Path, results, state, identity, progress: Progress, *, overw
     except OSError as exc:  # disk full, read-only: the finished chunks stay for a later --resume
         from .safe_io import os_error_text
 
-        raise InputError(f"cannot write the output ({os_error_text(exc)}); the {chunks} complete chunks are kept "
-                         f"in {partial.name}: run again with --resume to continue", source=str(out)) from None
+        raise InputError(
+            f"cannot write the output ({os_error_text(exc)}); the {chunks} complete chunks are kept "
+            f"in {partial.name}: run again with --resume to continue",
+            source=str(out),
+        ) from None
     finally:
         results.close()
         with contextlib.suppress(OSError):

@@ -64,8 +64,10 @@ class BinResult:
             bk = "undefined" if b < 0 else str(int(b))
             out.setdefault(qk, {})
             out[qk][bk] = out[qk].get(bk, 0) + 1
-        return {k: dict(sorted(v.items(), key=lambda kv: (not kv[0].isdigit(), int(kv[0]) if kv[0].isdigit() else 0)))
-                for k, v in sorted(out.items(), key=lambda kv: _order(kv[0]))}
+        return {
+            k: dict(sorted(v.items(), key=lambda kv: (not kv[0].isdigit(), int(kv[0]) if kv[0].isdigit() else 0)))
+            for k, v in sorted(out.items(), key=lambda kv: _order(kv[0]))
+        }
 
     def records(self) -> list[dict]:
         """One plain dict per sample (JSON/CSV ready)."""
@@ -116,8 +118,12 @@ def _centres(ellipses: str):
         return names, xy, g, extra
     if ellipses == "iec60081":
         items = [tol.iec60081_ellipse(k) for k in tol.IEC60081_ELLIPSES]
-        return ([e.name for e in items], np.stack([e.centre_xy for e in items]),
-                np.stack([e.g for e in items]), np.zeros(len(items), dtype=bool))
+        return (
+            [e.name for e in items],
+            np.stack([e.centre_xy for e in items]),
+            np.stack([e.g for e in items]),
+            np.zeros(len(items), dtype=bool),
+        )
     raise InputError(f"ellipses must be one of {', '.join(ELLIPSE_SETS)}, got {ellipses!r}")
 
 

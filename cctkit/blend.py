@@ -71,8 +71,9 @@ and those are the numbers reported (CCT, Duv, Ra, R9, Rf, Rg, LER, melanopic DER
 from __future__ import annotations
 
 import itertools
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
-from typing import Any, Callable, Sequence
+from typing import Any
 
 import numpy as np
 
@@ -110,10 +111,10 @@ ADDITIVITY = (
 )
 GUARANTEES = {
     "linear": "exact: the drives are the optimum of a linear program (HiGHS) or the only solution "
-              "(three channels), polished onto the target chromaticity and output",
+    "(three channels), polished onto the target chromaticity and output",
     "nonlinear": "the drives are within 0-1, hit the target chromaticity and output, and meet every "
-                 "Rg/R9 constraint given; the objective is the best of a vectorised candidate search "
-                 "refined by SLSQP, a local optimum, not guaranteed to be the global one",
+    "Rg/R9 constraint given; the objective is the best of a vectorised candidate search "
+    "refined by SLSQP, a local optimum, not guaranteed to be the global one",
 }
 
 #: (objective, sense) pairs the solver accepts.
@@ -217,10 +218,12 @@ def channels_from_spectra(spectra: Spectra, power_W: Sequence[float] | np.ndarra
     k = len(spectra)
     if k < 3:
         raise InputError(
-            f"{k} channel found; blending to a target chromaticity needs at least 3 channels "
-            "(one column per channel)" if k == 1 else
-            f"{k} channels found; blending to a target chromaticity needs at least 3 channels "
-            "(two channels reach only the line between them)", source=source)
+            f"{k} channel found; blending to a target chromaticity needs at least 3 channels (one column per channel)"
+            if k == 1
+            else f"{k} channels found; blending to a target chromaticity needs at least 3 channels "
+            "(two channels reach only the line between them)",
+            source=source,
+        )
     dup = sorted({n for n in spectra.names if spectra.names.count(n) > 1})
     if dup:
         raise InputError(f"channel names must differ; {dup[0]!r} appears more than once", source=source)
@@ -236,10 +239,12 @@ def channels_from_spectra(spectra: Spectra, power_W: Sequence[float] | np.ndarra
         if not np.all(np.isfinite(p)) or np.any(p <= 0):
             raise InputError("every channel power must be a positive number of watts", source="power")
         if g.quantity is not Quantity.RADIANT_FLUX:
-            raise InputError(f"electrical power needs channels in radiant flux (W/nm) so that efficacy is "
-                             f"lm/W; the channels are {g.quantity.value}", source=source)
-    return Channels(names=g.names, values=g.values, quantity=g.quantity, power_W=p, sources=g.sources,
-                    sha256=g.sha256)
+            raise InputError(
+                f"electrical power needs channels in radiant flux (W/nm) so that efficacy is "
+                f"lm/W; the channels are {g.quantity.value}",
+                source=source,
+            )
+    return Channels(names=g.names, values=g.values, quantity=g.quantity, power_W=p, sources=g.sources, sha256=g.sha256)
 
 
 def read_power(path, names: Sequence[str]) -> np.ndarray:
@@ -260,8 +265,11 @@ def read_power(path, names: Sequence[str]) -> np.ndarray:
         raise InputError(f"cannot read the power file ({exc.strerror or exc})", source=src) from None
     except UnicodeDecodeError:
         raise InputError("the power file is not UTF-8 text", source=src) from None
-    rows = [(n, r) for n, r in enumerate(csv.reader(io.StringIO(text)), start=1)
-            if r and not r[0].lstrip().startswith("#") and any(c.strip() for c in r)]
+    rows = [
+        (n, r)
+        for n, r in enumerate(csv.reader(io.StringIO(text)), start=1)
+        if r and not r[0].lstrip().startswith("#") and any(c.strip() for c in r)
+    ]
     if not rows:
         raise InputError("no header line; expected 'channel,power_W'", source=src)
     header = [c.strip().lower() for c in rows[0][1]]
@@ -277,8 +285,9 @@ def read_power(path, names: Sequence[str]) -> np.ndarray:
         except ValueError:
             raise InputError(f"power {r[1].strip()!r} is not a number", source=src, line=line) from None
         if not np.isfinite(value) or value <= 0:
-            raise InputError(f"power of {name!r} must be a positive number of watts, got {r[1].strip()}",
-                             source=src, line=line)
+            raise InputError(
+                f"power of {name!r} must be a positive number of watts, got {r[1].strip()}", source=src, line=line
+            )
         if name in found:
             raise InputError(f"channel {name!r} appears twice", source=src, line=line)
         found[name] = value
@@ -307,14 +316,21 @@ def read_channels(files: Sequence, *, quantity=None, power=None) -> Channels:
     first = items[0]
     for f, s in zip(files[1:], items[1:]):
         if s.quantity is not first.quantity:
-            raise InputError(f"channels hold {s.quantity.value} but {files[0]} holds {first.quantity.value}; "
-                             "all channels must be one quantity", source=str(f))
-        if s.wavelength_nm.shape != first.wavelength_nm.shape or not np.array_equal(s.wavelength_nm,
-                                                                                      first.wavelength_nm):
-            raise InputError(f"channels are on a different wavelength grid from {files[0]} "
-                             f"({s.wavelength_nm[0]:g}-{s.wavelength_nm[-1]:g} nm, {s.wavelength_nm.size} points "
-                             f"against {first.wavelength_nm[0]:g}-{first.wavelength_nm[-1]:g} nm, "
-                             f"{first.wavelength_nm.size} points); measure all channels on one grid", source=str(f))
+            raise InputError(
+                f"channels hold {s.quantity.value} but {files[0]} holds {first.quantity.value}; "
+                "all channels must be one quantity",
+                source=str(f),
+            )
+        if s.wavelength_nm.shape != first.wavelength_nm.shape or not np.array_equal(
+            s.wavelength_nm, first.wavelength_nm
+        ):
+            raise InputError(
+                f"channels are on a different wavelength grid from {files[0]} "
+                f"({s.wavelength_nm[0]:g}-{s.wavelength_nm[-1]:g} nm, {s.wavelength_nm.size} points "
+                f"against {first.wavelength_nm[0]:g}-{first.wavelength_nm[-1]:g} nm, "
+                f"{first.wavelength_nm.size} points); measure all channels on one grid",
+                source=str(f),
+            )
     from dataclasses import replace
 
     from .spectra import sha256_of_file
@@ -395,8 +411,9 @@ def duv_targets(cct_K, duv: float | str | Sequence[float]) -> tuple[np.ndarray, 
         lo, hi = FLEXIBLE_RANGE_K
         inside = (T >= lo) & (T <= hi)
         d = np.where(inside, flexible_duv_target(T), np.nan)
-        reasons = tuple("" if ok else f"ANSI C78.377 defines its Duv centre line for {lo:.0f}-{hi:.0f} K only"
-                        for ok in inside)
+        reasons = tuple(
+            "" if ok else f"ANSI C78.377 defines its Duv centre line for {lo:.0f}-{hi:.0f} K only" for ok in inside
+        )
         return d, reasons
     d = np.broadcast_to(np.asarray(duv, dtype=np.float64), T.shape).copy()
     return d, ("",) * T.size
@@ -415,8 +432,11 @@ def read_points(path) -> tuple[np.ndarray, np.ndarray]:
         raise InputError(f"cannot read the set-point file ({exc.strerror or exc})", source=src) from None
     except UnicodeDecodeError:
         raise InputError("the set-point file is not UTF-8 text", source=src) from None
-    rows = [(n, r) for n, r in enumerate(csv.reader(io.StringIO(text)), start=1)
-            if r and not r[0].lstrip().startswith("#") and any(c.strip() for c in r)]
+    rows = [
+        (n, r)
+        for n, r in enumerate(csv.reader(io.StringIO(text)), start=1)
+        if r and not r[0].lstrip().startswith("#") and any(c.strip() for c in r)
+    ]
     if not rows or [c.strip().lower() for c in rows[0][1]][:2] != ["cct_k", "duv"]:
         raise InputError("header must be 'cct_K,duv'", source=src, line=rows[0][0] if rows else None)
     T, D = [], []
@@ -630,8 +650,10 @@ def _rendering_of(channels: Channels, D: np.ndarray, cct_K, duv, *, r9: bool = T
 
     spectra = np.atleast_2d(D) @ channels.values
     n = spectra.shape[0]
-    T = reference_cct(np.broadcast_to(np.asarray(cct_K, dtype=np.float64), (n,)),
-                      np.broadcast_to(np.asarray(duv, dtype=np.float64), (n,)))
+    T = reference_cct(
+        np.broadcast_to(np.asarray(cct_K, dtype=np.float64), (n,)),
+        np.broadcast_to(np.asarray(duv, dtype=np.float64), (n,)),
+    )
     with np.errstate(all="ignore"):
         t = tm30(spectra, T)
         out = {"Rf": np.asarray(t.Rf, dtype=np.float64), "Rg": np.asarray(t.Rg, dtype=np.float64)}
@@ -717,8 +739,9 @@ class _Problem:
         return self.cache[d.tobytes()]
 
 
-def _refine(problem: _Problem, A: np.ndarray, b: np.ndarray, start: np.ndarray, previous: np.ndarray | None
-            ) -> tuple[np.ndarray, str, float]:
+def _refine(
+    problem: _Problem, A: np.ndarray, b: np.ndarray, start: np.ndarray, previous: np.ndarray | None
+) -> tuple[np.ndarray, str, float]:
     """SLSQP from the better of ``start`` and the neighbour's drives; returns (drives, solver text, violation)."""
     from scipy.optimize import minimize
 
@@ -752,11 +775,18 @@ def _refine(problem: _Problem, A: np.ndarray, b: np.ndarray, start: np.ndarray, 
         {"type": "ineq", "fun": lambda z: 1.0 - point(z), "jac": lambda z: -N},
     ]
     if problem.rg is not None or problem.r9_min is not None:
-        cons.append({"type": "ineq", "fun": lambda z: problem.at(point(z))[0][1:],
-                     "jac": lambda z: problem.at(point(z))[1][1:]})
+        cons.append(
+            {"type": "ineq", "fun": lambda z: problem.at(point(z))[0][1:], "jac": lambda z: problem.at(point(z))[1][1:]}
+        )
     z0 = np.zeros(N.shape[1])
-    res = minimize(lambda z: problem.at(point(z))[0][0], z0, jac=lambda z: problem.at(point(z))[1][0],
-                   method="SLSQP", constraints=cons, options={"maxiter": 30, "ftol": 1e-6})
+    res = minimize(
+        lambda z: problem.at(point(z))[0][0],
+        z0,
+        jac=lambda z: problem.at(point(z))[1][0],
+        method="SLSQP",
+        constraints=cons,
+        options={"maxiter": 30, "ftol": 1e-6},
+    )
     text = f"SLSQP: {res.message}"
     v0 = problem.at(d0)[0]
     best, best_v = d0, v0
@@ -764,8 +794,9 @@ def _refine(problem: _Problem, A: np.ndarray, b: np.ndarray, start: np.ndarray, 
         d1 = point(res.x)
         if np.all((d1 >= -1e-9) & (d1 <= 1 + 1e-9)):
             v1 = problem.at(d1)[0]
-            if (violation(v1) <= 0 and (violation(v0) > 0 or v1[0] <= v0[0])) or \
-                    (violation(v0) > 0 and violation(v1) < violation(v0)):
+            if (violation(v1) <= 0 and (violation(v0) > 0 or v1[0] <= v0[0])) or (
+                violation(v0) > 0 and violation(v1) < violation(v0)
+            ):
                 best, best_v = _polish(d1, A, b), v1
     return best, text, violation(best_v)
 
@@ -874,21 +905,35 @@ class BlendPath:
             "inputs": [{"path": p, "sha256": s} for p, s in inputs.items()],
             "quantity": ch.quantity.value,
             "channels": [
-                {"name": n, "source": ch.sources[k], "u": float(ch.uv[k, 0]), "v": float(ch.uv[k, 1]),
-                 ch.luminous_key: float(ch.luminous[k]),
-                 "power_W": None if ch.power_W is None else float(ch.power_W[k])}
+                {
+                    "name": n,
+                    "source": ch.sources[k],
+                    "u": float(ch.uv[k, 0]),
+                    "v": float(ch.uv[k, 1]),
+                    ch.luminous_key: float(ch.luminous[k]),
+                    "power_W": None if ch.power_W is None else float(ch.power_W[k]),
+                }
                 for k, n in enumerate(ch.names)
             ],
-            "objective": {"quantity": self.objective, "sense": "maximise" if self.sense == "max" else "minimise",
-                          "efficacy_basis": self.efficacy_basis},
-            "constraints": {"Rg": None if self.rg is None else list(self.rg), "R9_min": self.r9_min,
-                            "drive_range": [0.0, 1.0]},
+            "objective": {
+                "quantity": self.objective,
+                "sense": "maximise" if self.sense == "max" else "minimise",
+                "efficacy_basis": self.efficacy_basis,
+            },
+            "constraints": {
+                "Rg": None if self.rg is None else list(self.rg),
+                "R9_min": self.r9_min,
+                "drive_range": [0.0, 1.0],
+            },
             "luminous_target": self.luminous_mode,
             "additivity": ADDITIVITY,
             "guarantee": GUARANTEES["nonlinear" if self._nonlinear else "linear"],
-            "largest_drive_step": {"value": step,
-                                   "between_target_cct_K": None if at is None else
-                                   [float(self.target_cct_K[self._previous_ok(at)]), float(self.target_cct_K[at])]},
+            "largest_drive_step": {
+                "value": step,
+                "between_target_cct_K": None
+                if at is None
+                else [float(self.target_cct_K[self._previous_ok(at)]), float(self.target_cct_K[at])],
+            },
             "set_points": self.records(),
         }
 
@@ -916,8 +961,10 @@ class BlendPath:
         for r in recs:
             vals = [r[k] for k in keys]
             drives = [r["drives"][n] for n in names]
-            rows.append([("" if v is None else v) for v in vals[:5] + drives + vals[5:]]
-                        + [r["reason"], r["solver"], __version__])
+            rows.append(
+                [("" if v is None else v) for v in vals[:5] + drives + vals[5:]]
+                + [r["reason"], r["solver"], __version__]
+            )
         return csv_text(header, rows)
 
 
@@ -969,12 +1016,23 @@ def solve_blend_path(
     from threadpoolctl import threadpool_limits
 
     with threadpool_limits(limits=1, user_api="blas"):
-        return _solve_path(channels, cct_K, duv, objective=objective, sense=sense, luminous=luminous, rg=rg,
-                           r9_min=r9_min, progress=progress, seed=seed)
+        return _solve_path(
+            channels,
+            cct_K,
+            duv,
+            objective=objective,
+            sense=sense,
+            luminous=luminous,
+            rg=rg,
+            r9_min=r9_min,
+            progress=progress,
+            seed=seed,
+        )
 
 
-def _solve_path(channels: Channels, cct_K, duv, *, objective: str, sense: str, luminous, rg, r9_min, progress,
-                seed: int) -> BlendPath:
+def _solve_path(
+    channels: Channels, cct_K, duv, *, objective: str, sense: str, luminous, rg, r9_min, progress, seed: int
+) -> BlendPath:
     from scipy.linalg import null_space
 
     from .analysis import analyse
@@ -1029,8 +1087,11 @@ def _solve_path(channels: Channels, cct_K, duv, *, objective: str, sense: str, l
     rng = np.random.default_rng(seed)
     nonlinear = objective == "fidelity" or rg is not None or r9_min is not None
     c = None if objective == "fidelity" else _objective_vector(channels, objective, sense)
-    lum_unit = channels.quantity.luminous_name.rsplit("_", 1)[-1] if channels.quantity is not Quantity.RELATIVE \
+    lum_unit = (
+        channels.quantity.luminous_name.rsplit("_", 1)[-1]
+        if channels.quantity is not Quantity.RELATIVE
         else "(relative)"
+    )
     systems: dict[int, tuple[np.ndarray, np.ndarray]] = {}
     # 1. reachability, and the exact solutions (three channels: linear system; linear objectives: HiGHS)
     for i in range(S):
@@ -1039,17 +1100,21 @@ def _solve_path(channels: Channels, cct_K, duv, *, objective: str, sense: str, l
             continue
         if not reach[i]:
             status[i] = "out-of-gamut"
-            reason[i] = (f"target u,v = {uv[i, 0]:.4f}, {uv[i, 1]:.4f} is outside the fixture's reachable region "
-                         f"(convex hull of the channel chromaticities) by {dist[i]:.2g} in uv"
-                         if dist[i] > 0 else
-                         f"target u,v = {uv[i, 0]:.4f}, {uv[i, 1]:.4f} lies on the edge of the reachable region: "
-                         "no light can be made there")
+            reason[i] = (
+                f"target u,v = {uv[i, 0]:.4f}, {uv[i, 1]:.4f} is outside the fixture's reachable region "
+                f"(convex hull of the channel chromaticities) by {dist[i]:.2g} in uv"
+                if dist[i] > 0
+                else f"target u,v = {uv[i, 0]:.4f}, {uv[i, 1]:.4f} lies on the edge of the reachable region: "
+                "no light can be made there"
+            )
             solver[i] = lp_msgs[i]
             continue
         if Y[i] > ymax[i]:
             status[i] = "too-bright"
-            reason[i] = (f"luminous target {Y[i]:.4g} {lum_unit} is above the {ymax[i]:.4g} {lum_unit} the channels "
-                         "can give at this chromaticity with drives 0-1")
+            reason[i] = (
+                f"luminous target {Y[i]:.4g} {lum_unit} is above the {ymax[i]:.4g} {lum_unit} the channels "
+                "can give at this chromaticity with drives 0-1"
+            )
             solver[i] = lp_msgs[i]
             continue
         A = M / Y[i]
@@ -1083,8 +1148,11 @@ def _solve_path(channels: Channels, cct_K, duv, *, objective: str, sense: str, l
                 status[i] = "constraint-unmet"
                 reason[i] = f"the only blend has Rg {m['Rg'][j]:.1f}, R9 {m['R9'][j]:.1f}"
                 drives[i] = np.nan
-        todo = [i for i in systems if status[i] == "ok" and K > 3 and
-                (objective == "fidelity" or (i in have and bad[have.index(i)]))]
+        todo = [
+            i
+            for i in systems
+            if status[i] == "ok" and K > 3 and (objective == "fidelity" or (i in have and bad[have.index(i)]))
+        ]
     # 3. candidate blends of every such set point, evaluated in one vectorised batch
     starts: dict[int, np.ndarray] = {}
     if todo:
@@ -1101,7 +1169,7 @@ def _solve_path(channels: Channels, cct_K, duv, *, objective: str, sense: str, l
             if n == 0:
                 status[i], reason[i] = "solver-failed", "vertex search found no feasible drives"
                 continue
-            s, v = score[pos:pos + n], viol[pos:pos + n]
+            s, v = score[pos : pos + n], viol[pos : pos + n]
             k = int(np.argmin(np.where(v <= 0, s, np.inf))) if (v <= 0).any() else int(np.argmin(v))
             starts[i] = cand[i][k]
             solver[i] = (solver[i] + "; " if solver[i] else "") + f"candidate search ({n} blends)"
@@ -1141,10 +1209,24 @@ def _solve_path(channels: Channels, cct_K, duv, *, objective: str, sense: str, l
     else:
         metrics = {k: np.full(S, np.nan) for k in _metric_keys(channels)}
     return BlendPath(
-        channels=channels, target_cct_K=T, target_duv=D_target, target_uv=uv, drives=drives,
-        status=tuple(status), reason=tuple(reason), solver=tuple(solver), luminous_target=Y,
-        luminous_max=ymax, objective=objective, sense=sense, luminous_mode=mode, rg=rg, r9_min=r9_min,
-        hull_uv=hull, analysis=analysis, metrics=metrics,
+        channels=channels,
+        target_cct_K=T,
+        target_duv=D_target,
+        target_uv=uv,
+        drives=drives,
+        status=tuple(status),
+        reason=tuple(reason),
+        solver=tuple(solver),
+        luminous_target=Y,
+        luminous_max=ymax,
+        objective=objective,
+        sense=sense,
+        luminous_mode=mode,
+        rg=rg,
+        r9_min=r9_min,
+        hull_uv=hull,
+        analysis=analysis,
+        metrics=metrics,
     )
 
 

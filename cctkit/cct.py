@@ -186,8 +186,11 @@ def _grid(observer: int, c2: float) -> _Grid:
         lo = np.clip(corners.min(axis=0) - 1, 0, K - 2)
         hi = np.clip(corners.max(axis=0) + 2, 1, K - 1)
         span = np.where(corners.min(axis=0) < 0, np.iinfo(np.int32).max, hi - lo)
-        return {"lo": lo.ravel().astype(np.intp), "span": span.ravel().astype(np.intp),
-                "geometry": np.array([u0, v0, 1.0 / step])}
+        return {
+            "lo": lo.ravel().astype(np.intp),
+            "span": span.ravel().astype(np.intp),
+            "geometry": np.array([u0, v0, 1.0 / step]),
+        }
 
     from .tables import cached_arrays
 

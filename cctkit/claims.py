@@ -61,9 +61,10 @@ import difflib
 import math
 import os
 import tomllib
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Mapping, Sequence
+from typing import Any
 
 import numpy as np
 
@@ -92,19 +93,40 @@ __all__ = [
 # Scalar keys of the per-spectrum record (the lead's record contract), plus names
 # derived here.  Radiant and photon totals carry their quantity in the name.
 _RECORD_METRICS = (
-    "cct_K", "duv", "x", "y", "u", "v", "u_prime", "v_prime", "X", "Y", "Z",
-    "luminous_flux_lm", "illuminance_lx", "luminance_cd_per_m2", "intensity_cd",
+    "cct_K",
+    "duv",
+    "x",
+    "y",
+    "u",
+    "v",
+    "u_prime",
+    "v_prime",
+    "X",
+    "Y",
+    "Z",
+    "luminous_flux_lm",
+    "illuminance_lx",
+    "luminance_cd_per_m2",
+    "intensity_cd",
     *RADIANT_KEY.values(),
-    "ler_lm_per_W", "sp_ratio", *ALPHA_OPIC_KEYS,
-    "peak_nm", "centroid_nm", "fwhm_nm", "dominant_wavelength_nm", "purity",
+    "ler_lm_per_W",
+    "sp_ratio",
+    *ALPHA_OPIC_KEYS,
+    "peak_nm",
+    "centroid_nm",
+    "fwhm_nm",
+    "dominant_wavelength_nm",
+    "purity",
     *PHOTON_KEY.values(),
     *PPF_KEY.values(),
-    "Ra", "Rf", "Rg",
+    "Ra",
+    "Rf",
+    "Rg",
 )
 _DERIVED = ("efficacy_lm_per_W", "power_W")
 # TM-30 hue-bin values: Rf_h1..Rf_h16, Rcs_h1..Rcs_h16 [%], Rhs_h1..Rhs_h16 (bin 1 holds the reds).
 _BIN_METRICS = tuple(f"{k}{j}" for k in ("Rf_h", "Rcs_h", "Rhs_h") for j in range(1, 17))
-METRICS: tuple[str, ...] = (_RECORD_METRICS + tuple(f"R{i}" for i in range(1, 15)) + _DERIVED + _BIN_METRICS)
+METRICS: tuple[str, ...] = _RECORD_METRICS + tuple(f"R{i}" for i in range(1, 15)) + _DERIVED + _BIN_METRICS
 #: Design-intent claims of ``[design_intent]`` (ANSI/IES TM-30-20 Annex E), as verdict metric names.
 INTENT_METRICS = {"fidelity": "intent_fidelity", "preference": "intent_preference", "vividness": "intent_vividness"}
 _CHROMA_METRICS = ("sdcm", "ansi_quadrangle")
@@ -277,7 +299,9 @@ def parse_claims(doc: Mapping[str, Any], *, source: str = "<claims>", base_dir: 
     uncertainty: dict[str, float] = {}
     checked = {lim.metric for lim in limits}
     if chroma is not None:
-        checked |= {m for m, on in (("ansi_quadrangle", chroma.ansi_quadrangle), ("sdcm", chroma.max_sdcm is not None)) if on}
+        checked |= {
+            m for m, on in (("ansi_quadrangle", chroma.ansi_quadrangle), ("sdcm", chroma.max_sdcm is not None)) if on
+        }
     for metric, value in _table(doc, "uncertainty", source).items():
         where = f"[uncertainty] {metric}"
         if metric not in METRICS + _CHROMA_METRICS:
@@ -298,8 +322,7 @@ def parse_claims(doc: Mapping[str, Any], *, source: str = "<claims>", base_dir: 
         )
     intent = _parse_design_intent(_table(doc, "design_intent", source), source)
     if not limits and chroma is None and not intent:
-        raise InputError("no claims to check: add a [limits], [chromaticity] or [design_intent] table",
-                         source=source)
+        raise InputError("no claims to check: add a [limits], [chromaticity] or [design_intent] table", source=source)
     return Claims(
         source=source,
         supplier=head.get("supplier", ""),
@@ -328,8 +351,9 @@ def _parse_design_intent(table: Mapping, source: str) -> dict[str, int]:
         text = str(value).strip().upper() if isinstance(value, (str, int)) and not isinstance(value, bool) else ""
         level = text[1:] if text.startswith(prefix) else text
         if level not in ("1", "2", "3"):
-            raise InputError(f"{where}: expected a level {prefix}1, {prefix}2 or {prefix}3, got {value!r}",
-                             source=source)
+            raise InputError(
+                f"{where}: expected a level {prefix}1, {prefix}2 or {prefix}3, got {value!r}", source=source
+            )
         out[intent] = int(level)
     return out
 
@@ -345,8 +369,10 @@ def _parse_chromaticity(table: Mapping, source: str) -> ChromaticityClaim | None
     nominal = _number(table["nominal_cct_K"], "[chromaticity] nominal_cct_K", source)
     if nominal not in ANSI_NOMINAL_CCTS_K:
         allowed = ", ".join(str(n) for n in ANSI_NOMINAL_CCTS_K)
-        raise InputError(f"[chromaticity] nominal_cct_K: {nominal:g} K is not an ANSI C78.377 category; "
-                         f"expected one of {allowed}", source=source)
+        raise InputError(
+            f"[chromaticity] nominal_cct_K: {nominal:g} K is not an ANSI C78.377 category; expected one of {allowed}",
+            source=source,
+        )
     quad = table.get("ansi_quadrangle", False)
     if not isinstance(quad, bool):
         raise InputError(f"[chromaticity] ansi_quadrangle: expected true or false, got {quad!r}", source=source)
@@ -359,10 +385,11 @@ def _parse_chromaticity(table: Mapping, source: str) -> ChromaticityClaim | None
     default_centre = "iec" if int(nominal) in iec_nominals else "ansi"
     centre = table.get("sdcm_centre", default_centre)
     if centre not in ("iec", "ansi"):
-        raise InputError(f"[chromaticity] sdcm_centre: expected \"iec\" or \"ansi\", got {centre!r}", source=source)
+        raise InputError(f'[chromaticity] sdcm_centre: expected "iec" or "ansi", got {centre!r}', source=source)
     if centre == "iec" and int(nominal) not in iec_nominals:
-        raise InputError(f"[chromaticity] sdcm_centre: IEC 60081 has no {int(nominal)} K lamp ellipse; "
-                         f"use \"ansi\"", source=source)
+        raise InputError(
+            f'[chromaticity] sdcm_centre: IEC 60081 has no {int(nominal)} K lamp ellipse; use "ansi"', source=source
+        )
     if not quad and max_sdcm is None:
         raise InputError("[chromaticity]: set ansi_quadrangle = true and/or max_sdcm", source=source)
     return ChromaticityClaim(int(nominal), quad, max_sdcm, centre)
@@ -394,8 +421,9 @@ def _confined(name: str, base_dir: Path, source: str) -> Path:
         raise InputError(f"{where}: the name holds a NUL character", source=source)
     rel = Path(name)
     if rel.is_absolute() or rel.drive:
-        raise InputError(f"{where}: {name!r} is an absolute path; name a file in the claims file's folder",
-                         source=source)
+        raise InputError(
+            f"{where}: {name!r} is an absolute path; name a file in the claims file's folder", source=source
+        )
     if ".." in rel.parts:
         raise InputError(f"{where}: {name!r} leaves the claims file's folder ('..' is not allowed)", source=source)
     path = base_dir / rel
@@ -404,8 +432,7 @@ def _confined(name: str, base_dir: Path, source: str) -> Path:
     except (OSError, ValueError):
         inside = False
     if not inside:
-        raise InputError(f"{where}: {name!r} leads outside the claims file's folder (symbolic link)",
-                         source=source)
+        raise InputError(f"{where}: {name!r} leads outside the claims file's folder (symbolic link)", source=source)
     return path
 
 
@@ -422,8 +449,11 @@ def _read_sidecar(path: Path, where: str) -> tuple[dict[str, float], dict[str, s
     except UnicodeDecodeError:
         raise InputError("sidecar is not UTF-8 text", source=src) from None
     # Line numbers are kept for messages; blank lines and lines starting with "#" are skipped.
-    numbered = [(n, line) for n, line in enumerate(text.splitlines(), start=1)
-                if line.strip() and not line.lstrip().startswith("#")]
+    numbered = [
+        (n, line)
+        for n, line in enumerate(text.splitlines(), start=1)
+        if line.strip() and not line.lstrip().startswith("#")
+    ]
     rows = [(n, r) for n, r in zip((n for n, _ in numbered), csv.reader(line for _, line in numbered))]
     if not rows:
         raise InputError("sidecar is empty; expected columns name,power_W[,declared_id]", source=src)
@@ -431,8 +461,11 @@ def _read_sidecar(path: Path, where: str) -> tuple[dict[str, float], dict[str, s
     header = [c.strip() for c in head]
     for col in ("name", "power_W"):
         if col not in header:
-            raise InputError(f"sidecar has no {col!r} column{_suggest(col, header)}; "
-                             f"expected columns name,power_W[,declared_id]", source=src, line=head_line)
+            raise InputError(
+                f"sidecar has no {col!r} column{_suggest(col, header)}; expected columns name,power_W[,declared_id]",
+                source=src,
+                line=head_line,
+            )
     i_name, i_p = header.index("name"), header.index("power_W")
     i_id = header.index("declared_id") if "declared_id" in header else None
     power: dict[str, float] = {}
@@ -512,8 +545,12 @@ class SampleVerdict:
     declared_id: str | None = None
 
     def as_dict(self) -> dict[str, Any]:
-        return {"name": self.name, "verdict": self.verdict, "declared_id": self.declared_id,
-                "checks": [c.as_dict() for c in self.checks]}
+        return {
+            "name": self.name,
+            "verdict": self.verdict,
+            "declared_id": self.declared_id,
+            "checks": [c.as_dict() for c in self.checks],
+        }
 
 
 @dataclass(frozen=True)
@@ -585,9 +622,9 @@ def _record_value(rec: Mapping, metric: str, claims: Claims, name: str) -> float
     if metric in rec:
         return _finite(rec[metric])
     for key in ("Rf_h", "Rcs_h", "Rhs_h"):
-        if metric.startswith(key) and metric[len(key):].isdigit():
+        if metric.startswith(key) and metric[len(key) :].isdigit():
             bins = _need(rec, key, claims, name)
-            j = int(metric[len(key):]) - 1
+            j = int(metric[len(key) :]) - 1
             return None if bins is None or j >= len(bins) else _finite(bins[j])
     if metric[0] == "R" and metric[1:].isdigit() and "R" in rec:
         values = rec["R"]
@@ -620,8 +657,9 @@ def _guard(claims: Claims, computed: Mapping[str, float] | None, metric: str) ->
     return None, None
 
 
-def _limit_check(metric: str, value: float | None, lo: float | None, hi: float | None, U: float | None,
-                 source: str | None = None) -> Check:
+def _limit_check(
+    metric: str, value: float | None, lo: float | None, hi: float | None, U: float | None, source: str | None = None
+) -> Check:
     margin = None
     if value is not None:
         sides = []
@@ -654,8 +692,10 @@ def _chroma_checks(records: list[Mapping], claims: Claims, computed=None) -> lis
     out: list[list[Check]] = [[] for _ in records]
     if c is None:
         return out
-    xy = np.array([[_nan_if_none(_finite(_need(r, k, claims, _name(r, i)))) for k in ("x", "y")]
-                   for i, r in enumerate(records)], dtype=np.float64).reshape(-1, 2)
+    xy = np.array(
+        [[_nan_if_none(_finite(_need(r, k, claims, _name(r, i)))) for k in ("x", "y")] for i, r in enumerate(records)],
+        dtype=np.float64,
+    ).reshape(-1, 2)
     if c.ansi_quadrangle:
         quad = tol.ansi_quadrangle(c.nominal_cct_K)
         found = tol.classify_ansi(xy, space="xy")
@@ -668,8 +708,11 @@ def _chroma_checks(records: list[Mapping], claims: Claims, computed=None) -> lis
         steps = sdcm_ellipse(c).steps(xy)
         for i in range(len(records)):
             s = _finite(steps[i])
-            out[i].append(_limit_check("sdcm", s, None, c.max_sdcm,
-                                       *_guard(claims, computed[i] if computed is not None else None, "sdcm")))
+            out[i].append(
+                _limit_check(
+                    "sdcm", s, None, c.max_sdcm, *_guard(claims, computed[i] if computed is not None else None, "sdcm")
+                )
+            )
     return out
 
 
@@ -698,8 +741,17 @@ def _intent_checks(records: list[Mapping], claims: Claims) -> list[list[Check]]:
         for i in range(len(records)):
             g = int(got[i])
             margin = float(want - (g if g > 0 else 4))
-            out[i].append(Check(INTENT_METRICS[intent], f"{INTENTS[intent]}{g}" if g else "none", None,
-                                float(want), margin, _decide(margin, None), None))
+            out[i].append(
+                Check(
+                    INTENT_METRICS[intent],
+                    f"{INTENTS[intent]}{g}" if g else "none",
+                    None,
+                    float(want),
+                    margin,
+                    _decide(margin, None),
+                    None,
+                )
+            )
     return out
 
 
@@ -716,10 +768,14 @@ def _summary(samples: list[SampleVerdict], metrics: tuple[str, ...]) -> dict[str
     for j, metric in enumerate(metrics):
         checks = [s.checks[j] for s in samples]
         # For the quadrangle the value is a name; its statistics are of the uv margin.
-        nums = np.array([
-            (ch.margin if metric == "ansi_quadrangle" else ch.value) for ch in checks
-            if _finite(ch.margin if metric == "ansi_quadrangle" else ch.value) is not None
-        ], dtype=np.float64)
+        nums = np.array(
+            [
+                (ch.margin if metric == "ansi_quadrangle" else ch.value)
+                for ch in checks
+                if _finite(ch.margin if metric == "ansi_quadrangle" else ch.value) is not None
+            ],
+            dtype=np.float64,
+        )
         n = nums.size
         summary[metric] = {
             "count_pass": sum(ch.result == "pass" for ch in checks),
@@ -733,8 +789,9 @@ def _summary(samples: list[SampleVerdict], metrics: tuple[str, ...]) -> dict[str
     return summary
 
 
-def verify(records: Sequence[Mapping[str, Any]], claims: Claims,
-           uncertainties: Sequence[Mapping[str, float]] | None = None) -> Verdict:
+def verify(
+    records: Sequence[Mapping[str, Any]], claims: Claims, uncertainties: Sequence[Mapping[str, float]] | None = None
+) -> Verdict:
     """Check measured records (from ``Analysis.records()``) against ``claims``.
 
     Each sample gets one :class:`Check` per claimed metric, in the order of
@@ -765,14 +822,20 @@ def verify(records: Sequence[Mapping[str, Any]], claims: Claims,
     for i, rec in enumerate(records):
         name = _name(rec, i)
         checks = [
-            _limit_check(lim.metric, _record_value(rec, lim.metric, claims, name), lim.min, lim.max,
-                         *_guard(claims, uncertainties[i] if uncertainties is not None else None, lim.metric))
+            _limit_check(
+                lim.metric,
+                _record_value(rec, lim.metric, claims, name),
+                lim.min,
+                lim.max,
+                *_guard(claims, uncertainties[i] if uncertainties is not None else None, lim.metric),
+            )
             for lim in claims.limits
         ]
         checks += chroma[i]
         checks += intent_checks[i]
-        samples.append(SampleVerdict(name, _combine(c.result for c in checks), tuple(checks),
-                                     claims.declared_id.get(name)))
+        samples.append(
+            SampleVerdict(name, _combine(c.result for c in checks), tuple(checks), claims.declared_id.get(name))
+        )
     return Verdict(
         verdict=_combine(s.verdict for s in samples),
         samples=tuple(samples),
@@ -830,5 +893,7 @@ def verdict_csv(doc: Mapping[str, Any], claims: Claims) -> str:
 
     header, *rows = list(csv.reader(io.StringIO(text)))
     extra = [[s.get("source"), s.get("sha256"), claims.sha256] for s in doc["samples"]]
-    return csv_text(header + ["source", "sha256", "claims_sha256"],
-                    [row + ["" if v is None else v for v in more] for row, more in zip(rows, extra)])
+    return csv_text(
+        header + ["source", "sha256", "claims_sha256"],
+        [row + ["" if v is None else v for v in more] for row, more in zip(rows, extra)],
+    )

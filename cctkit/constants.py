@@ -10,13 +10,23 @@ from __future__ import annotations
 import numpy as np
 
 __all__ = [
-    "H_J_S", "C_M_PER_S", "K_B_J_PER_K",
-    "C1_W_M2", "C1L_W_M2_PER_SR", "C2_M_K", "C2_CODATA_M_K",
-    "WIEN_B_M_K", "SIGMA_W_PER_M2_K4",
-    "KM_LM_PER_W", "KM_SCOTOPIC_LM_PER_W",
-    "WAVELENGTH_NM", "WAVELENGTH_START_NM", "WAVELENGTH_END_NM",
+    "H_J_S",
+    "C_M_PER_S",
+    "K_B_J_PER_K",
+    "C1_W_M2",
+    "C1L_W_M2_PER_SR",
+    "C2_M_K",
+    "C2_CODATA_M_K",
+    "WIEN_B_M_K",
+    "SIGMA_W_PER_M2_K4",
+    "KM_LM_PER_W",
+    "KM_SCOTOPIC_LM_PER_W",
+    "WAVELENGTH_NM",
+    "WAVELENGTH_START_NM",
+    "WAVELENGTH_END_NM",
     "VISIBLE_BAND_NM",
-    "DUV_LIMIT", "KE_MEL_D65_W_PER_LM",
+    "DUV_LIMIT",
+    "KE_MEL_D65_W_PER_LM",
 ]
 
 #: Planck constant [J s] -- CODATA 2018 (exact).

@@ -47,9 +47,9 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from pathlib import Path
-from typing import Sequence
 
 import numpy as np
 
@@ -327,8 +327,10 @@ def solve_absorbed_fractions(led: WhiteLed, instrument: Instrument) -> np.ndarra
     a = np.linalg.solve(g[:, 1:], -g[:, 0])
     fractions = a if led.green is None else np.array([a[0], a[1], led.green_per_yellow * a[0]])
     if np.any(fractions < 0) or fractions.sum() >= 1.0:
-        raise CctkitError(f"design {led.name!r}: target {led.cct_K:g} K / Duv {led.duv:+g} needs "
-                          f"absorbed fractions {np.round(fractions, 4).tolist()} outside [0, 1)")
+        raise CctkitError(
+            f"design {led.name!r}: target {led.cct_K:g} K / Duv {led.duv:+g} needs "
+            f"absorbed fractions {np.round(fractions, 4).tolist()} outside [0, 1)"
+        )
     return fractions
 
 
@@ -359,26 +361,39 @@ PRODUCTS: dict[str, dict] = {
         "supplier": "Northbeam Lighting",
         # Binned to the IEC 60081 Annex D F3000 lamp-colour centre x = 0.440, y = 0.403 (from memory),
         # which is 2940 K, Duv -0.0008; the 3-SDCM check of the lot is made around that centre.
-        "design": WhiteLed("NB-3000-95", 2940.0, -0.0008, BlueDie(450.0, 20.0), _YAG, _NITRIDE_DEEP,
-                           green=_LUAG, green_per_yellow=1.0),
+        "design": WhiteLed(
+            "NB-3000-95", 2940.0, -0.0008, BlueDie(450.0, 20.0), _YAG, _NITRIDE_DEEP, green=_LUAG, green_per_yellow=1.0
+        ),
         "flux_lm": 1265.0,
         "instrument": "sphere-1nm",
         "file": "northbeam-nb-3000-95.csv",
     },
     "CL-2700-80": {
         "supplier": "Caldera Luminaires",
-        "design": WhiteLed("CL-2700-80", 2700.0, 0.0015, BlueDie(452.0, 21.0),
-                           Phosphor("YAG:Ce-type yellow garnet, broad", 552.0, 0.36, 0.95, doublet_ratio=0.55),
-                           Phosphor("(Sr,Ca)AlSiN3:Eu-type nitride red, short", 620.0, 0.22, 0.88)),
+        "design": WhiteLed(
+            "CL-2700-80",
+            2700.0,
+            0.0015,
+            BlueDie(452.0, 21.0),
+            Phosphor("YAG:Ce-type yellow garnet, broad", 552.0, 0.36, 0.95, doublet_ratio=0.55),
+            Phosphor("(Sr,Ca)AlSiN3:Eu-type nitride red, short", 620.0, 0.22, 0.88),
+        ),
         "flux_lm": 1310.0,
         "instrument": "sphere-5nm",
         "file": "caldera-cl-2700-80.csv",
     },
     "VO-4000-90": {
         "supplier": "Vell Optics",
-        "design": WhiteLed("VO-4000-90", 4000.0, 0.001, BlueDie(449.0, 19.0), replace(_YAG, peak_nm=552.0),
-                           replace(_NITRIDE_DEEP, peak_nm=628.0),
-                           green=replace(_LUAG, peak_nm=515.0), green_per_yellow=0.9),
+        "design": WhiteLed(
+            "VO-4000-90",
+            4000.0,
+            0.001,
+            BlueDie(449.0, 19.0),
+            replace(_YAG, peak_nm=552.0),
+            replace(_NITRIDE_DEEP, peak_nm=628.0),
+            green=replace(_LUAG, peak_nm=515.0),
+            green_per_yellow=0.9,
+        ),
         "flux_lm": 1280.0,
         "instrument": "sphere-1nm",
         "file": "vell-vo-4000-90.csv",
@@ -386,22 +401,47 @@ PRODUCTS: dict[str, dict] = {
 }
 
 INSTRUMENTS: dict[str, Instrument] = {
-    "sphere-1nm": Instrument(380.0, 780.0, 1.0, 2.0, 1.5e-4, 4e-4,
-                             "integrating sphere with array spectroradiometer, 2.0 nm bandpass"),
-    "sphere-5nm": Instrument(360.0, 830.0, 5.0, 5.0, 1.5e-4, 4e-4,
-                             "integrating sphere with scanning spectroradiometer, 5 nm bandpass"),
-    "lab-0.5nm": Instrument(350.0, 800.0, 0.5, 1.5, 2.0e-4, 5e-4,
-                            "cosine-corrected irradiance head at 2.00 m on axis, 1.5 nm bandpass"),
+    "sphere-1nm": Instrument(
+        380.0, 780.0, 1.0, 2.0, 1.5e-4, 4e-4, "integrating sphere with array spectroradiometer, 2.0 nm bandpass"
+    ),
+    "sphere-5nm": Instrument(
+        360.0, 830.0, 5.0, 5.0, 1.5e-4, 4e-4, "integrating sphere with scanning spectroradiometer, 5 nm bandpass"
+    ),
+    "lab-0.5nm": Instrument(
+        350.0, 800.0, 0.5, 1.5, 2.0e-4, 5e-4, "cosine-corrected irradiance head at 2.00 m on axis, 1.5 nm bandpass"
+    ),
 }
 
 #: TW-Lab channels: warm, cool and a mint (above-locus) channel that pulls the mix onto the locus.
 TUNABLE_CHANNELS = (
-    WhiteLed("TW-Lab warm", 2550.0, 0.0, BlueDie(452.0, 20.0), replace(_YAG, peak_nm=552.0),
-             replace(_NITRIDE_DEEP, peak_nm=632.0)),
-    WhiteLed("TW-Lab cool", 7000.0, 0.0, BlueDie(448.0, 19.0), replace(_YAG, peak_nm=545.0),
-             replace(_NITRIDE_DEEP, peak_nm=628.0), green=_LUAG, green_per_yellow=0.5),
-    WhiteLed("TW-Lab mint", 5000.0, 0.03, BlueDie(450.0, 20.0), replace(_YAG, peak_nm=550.0),
-             replace(_NITRIDE_DEEP, peak_nm=630.0), green=replace(_LUAG, peak_nm=525.0), green_per_yellow=2.0),
+    WhiteLed(
+        "TW-Lab warm",
+        2550.0,
+        0.0,
+        BlueDie(452.0, 20.0),
+        replace(_YAG, peak_nm=552.0),
+        replace(_NITRIDE_DEEP, peak_nm=632.0),
+    ),
+    WhiteLed(
+        "TW-Lab cool",
+        7000.0,
+        0.0,
+        BlueDie(448.0, 19.0),
+        replace(_YAG, peak_nm=545.0),
+        replace(_NITRIDE_DEEP, peak_nm=628.0),
+        green=_LUAG,
+        green_per_yellow=0.5,
+    ),
+    WhiteLed(
+        "TW-Lab mint",
+        5000.0,
+        0.03,
+        BlueDie(450.0, 20.0),
+        replace(_YAG, peak_nm=550.0),
+        replace(_NITRIDE_DEEP, peak_nm=630.0),
+        green=replace(_LUAG, peak_nm=525.0),
+        green_per_yellow=2.0,
+    ),
 )
 #: Illuminance the fixture's controller holds at each set point, on axis at 2 m [lx].
 TUNABLE_ILLUMINANCE_LX = (480.0, 495.0, 505.0, 510.0, 500.0)
@@ -414,17 +454,46 @@ TUNABLE_DUV = 0.0
 #: phosphor-converted ones are WhiteLed designs (the lime one with a fixed, nearly full conversion).
 WASH_FILE = "hl-wash5/hl-wash5-channels.csv"
 WASH_POWER_FILE = "hl-wash5/hl-wash5-power.csv"
-_LIME = WhiteLed("HL-Wash5 lime", 0.0, 0.0, BlueDie(450.0, 20.0),
-                 Phosphor("LuAG/YAG:Ce-type green-yellow garnet", 552.0, 0.30, 0.95, doublet_ratio=0.55),
-                 _NITRIDE_DEEP)
+_LIME = WhiteLed(
+    "HL-Wash5 lime",
+    0.0,
+    0.0,
+    BlueDie(450.0, 20.0),
+    Phosphor("LuAG/YAG:Ce-type green-yellow garnet", 552.0, 0.30, 0.95, doublet_ratio=0.55),
+    _NITRIDE_DEEP,
+)
 WASH_CHANNELS: tuple[tuple[str, str, BlueDie | WhiteLed, float, float], ...] = (
     ("royal blue", "direct", BlueDie(447.0, 18.0, 1.6), 1.10, 0.55),
-    ("warm white", "converted",
-     WhiteLed("HL-Wash5 warm white", 2200.0, 0.0, BlueDie(452.0, 20.0), replace(_YAG, peak_nm=556.0),
-              replace(_NITRIDE_DEEP, peak_nm=634.0)), 1.40, 0.50),
-    ("cool white", "converted",
-     WhiteLed("HL-Wash5 cool white", 7200.0, -0.002, BlueDie(448.0, 19.0), replace(_YAG, peak_nm=545.0),
-              replace(_NITRIDE_DEEP, peak_nm=626.0), green=_LUAG, green_per_yellow=0.6), 1.40, 0.50),
+    (
+        "warm white",
+        "converted",
+        WhiteLed(
+            "HL-Wash5 warm white",
+            2200.0,
+            0.0,
+            BlueDie(452.0, 20.0),
+            replace(_YAG, peak_nm=556.0),
+            replace(_NITRIDE_DEEP, peak_nm=634.0),
+        ),
+        1.40,
+        0.50,
+    ),
+    (
+        "cool white",
+        "converted",
+        WhiteLed(
+            "HL-Wash5 cool white",
+            7200.0,
+            -0.002,
+            BlueDie(448.0, 19.0),
+            replace(_YAG, peak_nm=545.0),
+            replace(_NITRIDE_DEEP, peak_nm=626.0),
+            green=_LUAG,
+            green_per_yellow=0.6,
+        ),
+        1.40,
+        0.50,
+    ),
     ("lime", "lime", _LIME, 1.40, 0.48),
     ("red", "direct", BlueDie(626.0, 17.0, 1.2), 0.80, 0.34),
 )
@@ -462,8 +531,15 @@ def _comment_block(lines: Sequence[str]) -> str:
     return "".join(f"# {line}\n" for line in lines)
 
 
-def _csv_text(wavelength_nm: np.ndarray, columns: dict[str, np.ndarray], *, quantity: str, unit: str,
-              comments: Sequence[str], wl_decimals: int) -> str:
+def _csv_text(
+    wavelength_nm: np.ndarray,
+    columns: dict[str, np.ndarray],
+    *,
+    quantity: str,
+    unit: str,
+    comments: Sequence[str],
+    wl_decimals: int,
+) -> str:
     names = list(columns)
     values = np.stack([columns[n] for n in names], axis=1)
     dec = _decimals(float(np.max(values)))
@@ -471,8 +547,7 @@ def _csv_text(wavelength_nm: np.ndarray, columns: dict[str, np.ndarray], *, quan
     head = _comment_block([_NOTICE, *comments, f"quantity: {quantity}", f"unit: {unit}"])
     header = ",".join(["wavelength_nm", *names]) + "\n"
     body = "".join(
-        f"{w:.{wl_decimals}f}," + ",".join(f"{x:.{dec}f}" for x in row) + "\n"
-        for w, row in zip(wavelength_nm, values)
+        f"{w:.{wl_decimals}f}," + ",".join(f"{x:.{dec}f}" for x in row) + "\n" for w, row in zip(wavelength_nm, values)
     )
     return head + header + body
 
@@ -522,8 +597,11 @@ def _lot_units() -> list[tuple[str, np.ndarray, str]]:
     notes[22] = "die from a low radiant-power bin"
     units = []
     for i in range(n):
-        led = replace(nominal, die=replace(nominal.die, peak_nm=float(die_peak[i]), fwhm_nm=float(die_fwhm[i])),
-                      red=replace(nominal.red, peak_nm=nominal.red.peak_nm + float(red_shift_nm[i])))
+        led = replace(
+            nominal,
+            die=replace(nominal.die, peak_nm=float(die_peak[i]), fwhm_nm=float(die_fwhm[i])),
+            red=replace(nominal.red, peak_nm=nominal.red.peak_nm + float(red_shift_nm[i])),
+        )
         fr = fractions0 * np.array([load_yellow[i], load_red[i], load_yellow[i]])
         clean = _measure_noise_free(led_spectrum(led, fr, blue_W * float(power[i])), inst)
         units.append((f"NB-3000-95-U{i + 1:02d}", _add_noise(clean, inst, rng), notes[i]))
@@ -536,9 +614,9 @@ def _tunable_measurement() -> tuple[np.ndarray, dict[str, np.ndarray], Instrumen
     from .locus import uv_from_cct_duv
 
     inst = INSTRUMENTS["lab-0.5nm"]
-    channels = np.stack([
-        _measure_noise_free(led_spectrum(ch, solve_absorbed_fractions(ch, inst)), inst) for ch in TUNABLE_CHANNELS
-    ])
+    channels = np.stack(
+        [_measure_noise_free(led_spectrum(ch, solve_absorbed_fractions(ch, inst)), inst) for ch in TUNABLE_CHANNELS]
+    )
     M = _working_XYZ(channels, inst).T  # (3 tristimulus, 3 channels)
     uv = uv_from_cct_duv(np.asarray(TUNABLE_SET_POINTS_K, dtype=np.float64), TUNABLE_DUV)
     Y = np.asarray(TUNABLE_ILLUMINANCE_LX) / KM_LM_PER_W
@@ -554,8 +632,16 @@ def _tunable_measurement() -> tuple[np.ndarray, dict[str, np.ndarray], Instrumen
     return inst.wavelength_nm, columns, inst
 
 
-def _json_document(name: str, wavelength_nm: np.ndarray, values: np.ndarray, *, quantity: str, unit: str,
-                   comment: str, spectrum_comment: str) -> str:
+def _json_document(
+    name: str,
+    wavelength_nm: np.ndarray,
+    values: np.ndarray,
+    *,
+    quantity: str,
+    unit: str,
+    comment: str,
+    spectrum_comment: str,
+) -> str:
     """The cctkit spectra JSON layout (see :mod:`cctkit.readers.jsonfile`), values rounded like the CSV."""
     dec = _decimals(float(np.max(values)))
     wl = [int(w) if float(w).is_integer() else float(w) for w in wavelength_nm]
@@ -588,9 +674,15 @@ def demo_files() -> list[DemoFile]:
         text = _csv_text(wl, {key: values}, quantity="radiant-flux", unit="W/nm", comments=comments, wl_decimals=wl_dec)
         files.append(DemoFile(spec["file"], text.encode("utf-8")))
         if key == "VO-4000-90":
-            doc = _json_document(key, wl, values, quantity="radiant-flux", unit="W/nm", comment=_NOTICE,
-                                 spectrum_comment=f"{spec['supplier']} (fictional) {key} downlight; "
-                                                  f"{inst.description} (simulated)")
+            doc = _json_document(
+                key,
+                wl,
+                values,
+                quantity="radiant-flux",
+                unit="W/nm",
+                comment=_NOTICE,
+                spectrum_comment=f"{spec['supplier']} (fictional) {key} downlight; {inst.description} (simulated)",
+            )
             files.append(DemoFile(spec["file"].replace(".csv", ".json"), doc.encode("utf-8")))
     wl, columns, inst = _tunable_measurement()
     comments = [
@@ -621,8 +713,9 @@ def demo_files() -> list[DemoFile]:
             f"instrument: {inst.description} (simulated)",
             f"range: {inst.start_nm:g}-{inst.stop_nm:g} nm, step {inst.step_nm:g} nm",
         ]
-        text = _csv_text(inst.wavelength_nm, {name: values}, quantity="radiant-flux", unit="W/nm",
-                         comments=comments, wl_decimals=0)
+        text = _csv_text(
+            inst.wavelength_nm, {name: values}, quantity="radiant-flux", unit="W/nm", comments=comments, wl_decimals=0
+        )
         files.append(DemoFile(f"lot-nb3000/{name.lower()}.csv", text.encode("utf-8")))
     return files
 
@@ -658,8 +751,9 @@ def write_demo(folder: str | Path, *, overwrite: bool = False) -> list[Path]:
 
 def main(argv: Sequence[str] | None = None) -> int:
     """``python -m cctkit.demo [--out FOLDER] [--overwrite]``."""
-    parser = argparse.ArgumentParser(prog="python -m cctkit.demo",
-                                     description="Regenerate the synthetic demonstration spectra.")
+    parser = argparse.ArgumentParser(
+        prog="python -m cctkit.demo", description="Regenerate the synthetic demonstration spectra."
+    )
     parser.add_argument("--out", default="spectra", help="output folder (default: spectra)")
     parser.add_argument("--overwrite", action="store_true", help="replace existing files")
     args = parser.parse_args(argv)

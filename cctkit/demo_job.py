@@ -23,9 +23,9 @@ its own previous outputs (never the spectra).
 from __future__ import annotations
 
 import argparse
-from dataclasses import replace
 import sys
 import time
+from dataclasses import replace
 from pathlib import Path
 
 CANDIDATES = ("northbeam-nb-3000-95.csv", "caldera-cl-2700-80.csv", "vell-vo-4000-90.csv")
@@ -38,10 +38,10 @@ WASH_POWER = "hl-wash5/hl-wash5-power.csv"
 LAB_MODEL = "models/harbourside-lab-spectro.toml"
 
 
-
 def _used(records) -> list:
     """The interpolation each record was actually resampled by (for the provenance block)."""
     return [r.get("interpolation") for r in records]
+
 
 def _say(message: str) -> None:
     print(message, file=sys.stderr, flush=True)
@@ -87,8 +87,15 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     tw = analyse(read_spectra(tw_file))
     tw_recs = tw.records()
     put("tw-lab.json", dumps({**provenance(used=_used(tw_recs)), "spectra": tw_recs}))
-    build_report(tw, out / "tw-lab.pdf", overwrite=True, inputs=[tw_file], date=date, records=tw_recs,
-                 signoff=signoff.merged(title="Tunable-white fixture at five set points"))
+    build_report(
+        tw,
+        out / "tw-lab.pdf",
+        overwrite=True,
+        inputs=[tw_file],
+        date=date,
+        records=tw_recs,
+        signoff=signoff.merged(title="Tunable-white fixture at five set points"),
+    )
     written["tw-lab.pdf"] = out / "tw-lab.pdf"
     _say(f"  wrote {out / 'tw-lab.pdf'}")
 
@@ -101,9 +108,17 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     put("nb3000-lot-verdict.json", dumps({**provenance(used=_used(lot_recs)), **verdict}))
     put("nb3000-lot-verdict.csv", verdict_csv(verdict, claims))
     put("nb3000-lot-verdict.txt", format_verdict(verdict, claims) + "\n")
-    build_report(lot, out / "nb3000-lot.pdf", overwrite=True, inputs=[*lot_files, spectra_dir / CLAIMS], date=date,
-                 verdict=verdict, claims=claims, records=lot_recs,
-                 signoff=signoff.merged(title="NB-3000-95 delivered lot against the supplier's claims"))
+    build_report(
+        lot,
+        out / "nb3000-lot.pdf",
+        overwrite=True,
+        inputs=[*lot_files, spectra_dir / CLAIMS],
+        date=date,
+        verdict=verdict,
+        claims=claims,
+        records=lot_recs,
+        signoff=signoff.merged(title="NB-3000-95 delivered lot against the supplier's claims"),
+    )
     written["nb3000-lot.pdf"] = out / "nb3000-lot.pdf"
     _say(f"  wrote {out / 'nb3000-lot.pdf'}")
     failing = [s["name"] for s in verdict["samples"] if s["verdict"] != "pass"]
@@ -119,15 +134,21 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
     wash_files = [spectra_dir / WASH, spectra_dir / WASH_POWER]
     _say(f"[5/6] tuning the five-channel HL-Wash5 from 1800 K to 6500 K (max Rf, Rg 95-110): {WASH}")
     channels = read_channels([wash_files[0]], power=wash_files[1])
-    tuning = solve_blend_path(channels, np.arange(1800.0, 6501.0, 100.0), 0.0, objective="fidelity",
-                              rg=(95.0, 110.0))
+    tuning = solve_blend_path(channels, np.arange(1800.0, 6501.0, 100.0), 0.0, objective="fidelity", rg=(95.0, 110.0))
     tuning_doc = tuning.document()
     put("hl-wash5-tuning.json", dumps(tuning_doc))
     put("hl-wash5-tuning.csv", tuning.csv())
     for suffix in (".pdf", ".png"):
         path = out / f"hl-wash5-tuning{suffix}"
-        build_tuning_report(tuning, path, overwrite=True, inputs=wash_files, date=date, document=tuning_doc,
-                            title="Tuning: HL-Wash5 stage wash, 1800-6500 K")
+        build_tuning_report(
+            tuning,
+            path,
+            overwrite=True,
+            inputs=wash_files,
+            date=date,
+            document=tuning_doc,
+            title="Tuning: HL-Wash5 stage wash, 1800-6500 K",
+        )
         written[path.name] = path
         _say(f"  wrote {path}")
 
@@ -137,19 +158,31 @@ def run(spectra_dir: Path, out: Path, *, date: str | None = None) -> dict[str, P
 
     model = load_model(spectra_dir / LAB_MODEL)
     model = replace(model, source=str(Path(spectra_dir.name) / LAB_MODEL))  # no machine-specific path in outputs
-    unc = monte_carlo(read_spectra(files[0]), model,
-                      progress=lambda i, n, m: _say(f"  {m} draws (JCGM 101 adaptive procedure)"))
+    unc = monte_carlo(
+        read_spectra(files[0]), model, progress=lambda i, n, m: _say(f"  {m} draws (JCGM 101 adaptive procedure)")
+    )
     put("nb3000-uncertainty.json", dumps(unc.document()))
     put("nb3000-uncertainty.csv", unc.csv())
-    write_uncertainty_report(unc, out / "nb3000-uncertainty.pdf", overwrite=True,
-                             inputs=[files[0], spectra_dir / LAB_MODEL], date=date or signoff.date)
+    write_uncertainty_report(
+        unc,
+        out / "nb3000-uncertainty.pdf",
+        overwrite=True,
+        inputs=[files[0], spectra_dir / LAB_MODEL],
+        date=date or signoff.date,
+    )
     written["nb3000-uncertainty.pdf"] = out / "nb3000-uncertainty.pdf"
     _say(f"  wrote {out / 'nb3000-uncertainty.pdf'}")
     # The same run in the full report: U (k = 2) in the headline strip, the uncertainty page after it.
     nb = analyse_files(files[:1])
-    build_report(nb, out / "nb3000-report-u.pdf", overwrite=True, inputs=[files[0], spectra_dir / LAB_MODEL],
-                 date=date, signoff=signoff.merged(title="NB-3000-95 with measurement uncertainty"),
-                 uncertainty=unc)
+    build_report(
+        nb,
+        out / "nb3000-report-u.pdf",
+        overwrite=True,
+        inputs=[files[0], spectra_dir / LAB_MODEL],
+        date=date,
+        signoff=signoff.merged(title="NB-3000-95 with measurement uncertainty"),
+        uncertainty=unc,
+    )
     written["nb3000-report-u.pdf"] = out / "nb3000-report-u.pdf"
     _say(f"  wrote {out / 'nb3000-report-u.pdf'}")
     _say(f"done in {time.perf_counter() - t0:.1f} s")

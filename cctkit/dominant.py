@@ -84,11 +84,14 @@ def resolve_white(white: Any = "E", *, observer: int = 2) -> tuple[str, tuple[fl
         try:
             white = (float(parts[0]), float(parts[1]))
         except ValueError:
-            raise InputError(f"white point must be one of {allowed} or x,y (e.g. 0.3127,0.3290), got {white!r}") from None
+            raise InputError(
+                f"white point must be one of {allowed} or x,y (e.g. 0.3127,0.3290), got {white!r}"
+            ) from None
     xy = np.asarray(white, dtype=np.float64)
     if xy.shape != (2,) or not np.all(np.isfinite(xy)) or np.any(xy <= 0) or xy.sum() >= 1:
-        raise InputError(f"white point must be one of {allowed} or a chromaticity x,y with x, y > 0 and x + y < 1, "
-                         f"got {given!r}")
+        raise InputError(
+            f"white point must be one of {allowed} or a chromaticity x,y with x, y > 0 and x + y < 1, got {given!r}"
+        )
     x, y = float(xy[0]), float(xy[1])
     return f"{x:g},{y:g}", (x, y)
 
@@ -195,9 +198,14 @@ def _candidates(S: np.ndarray, w: np.ndarray, observer: int) -> tuple[np.ndarray
     fwd = np.mod(sign * (phi - start), two_pi)
     back = np.mod(fwd + np.pi, two_pi)
     near = np.arange(-2, 2)
-    C = np.concatenate([np.mod(np.searchsorted(envelope, fwd)[:, None] + near, n_seg),
-                        np.mod(np.searchsorted(envelope, back)[:, None] + near, n_seg),
-                        np.full((S.shape[0], 1), n_seg - 1)], axis=1)
+    C = np.concatenate(
+        [
+            np.mod(np.searchsorted(envelope, fwd)[:, None] + near, n_seg),
+            np.mod(np.searchsorted(envelope, back)[:, None] + near, n_seg),
+            np.full((S.shape[0], 1), n_seg - 1),
+        ],
+        axis=1,
+    )
     rows = np.flatnonzero(_in_spans(fwd, span_lo, span_hi) | _in_spans(back, span_lo, span_hi))
     C_irr = np.concatenate([C[rows], np.broadcast_to(irregular, (rows.size, irregular.size))], axis=1)
     return np.sort(C, axis=1), rows, np.sort(C_irr, axis=1)
@@ -349,7 +357,8 @@ def dominant_wavelength(xy: Any, *, white_xy: Any = EQUAL_ENERGY_XY, observer: i
             finite = np.all(np.isfinite(s_xy), axis=1)
             at_white = finite & (np.hypot(*(s_xy - w).T) <= 1e-12)
             t_f, j_f, s_f, t_b, j_b, s_b, back_ok, purple_index = _hits(
-                np.where(finite[:, None], s_xy, w), w, locus, observer)
+                np.where(finite[:, None], s_xy, w), w, locus, observer
+            )
             found = finite & ~at_white & np.isfinite(t_f)
             is_purple = found & (j_f == purple_index)
             lam_f = wl[np.minimum(j_f, wl.shape[0] - 2)] + s_f

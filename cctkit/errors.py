@@ -55,7 +55,9 @@ class Stopped(BaseException):
 
         self.signum = int(signum)
         self.code = 128 + self.signum
-        self.reason = "interrupted" if self.signum == signal.SIGINT else f"stopped by {signal.Signals(self.signum).name}"
+        self.reason = (
+            "interrupted" if self.signum == signal.SIGINT else f"stopped by {signal.Signals(self.signum).name}"
+        )
         self.note = "nothing was written"  # what was left behind, for the one-line message
         super().__init__(self.reason)
 

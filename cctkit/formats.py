@@ -9,7 +9,8 @@ from __future__ import annotations
 import json
 import math
 import re
-from typing import Any, Iterable
+from collections.abc import Iterable
+from typing import Any
 
 __all__ = ["clean", "dumps", "csv_text", "csv_cell", "terminal_safe", "format_number", "finite_or_none"]
 
@@ -55,6 +56,7 @@ def terminal_safe(text: str, *, keep: str = "") -> str:
 
     Tab and line feed stay; so do the characters in ``keep`` (e.g. ``"\\r"`` for a progress line).
     """
+
     def escape(m: re.Match) -> str:
         c = m.group()
         if c in keep:
@@ -92,8 +94,14 @@ def csv_text(header: list[str], rows: Iterable[Iterable[Any]], *, write_header: 
     if write_header:
         w.writerow([csv_cell(h) for h in header])
     for row in rows:
-        w.writerow(["" if (isinstance(v, float) and not math.isfinite(v)) else
-                    (repr(float(v)) if isinstance(v, float) else csv_cell(v)) for v in row])
+        w.writerow(
+            [
+                ""
+                if (isinstance(v, float) and not math.isfinite(v))
+                else (repr(float(v)) if isinstance(v, float) else csv_cell(v))
+                for v in row
+            ]
+        )
     return buf.getvalue()
 
 

@@ -56,7 +56,7 @@ def _pandas():
 # --------------------------------------------------------------------------- pandas
 
 
-def spectra_to_frame(spectra: Spectra) -> "pd.DataFrame":
+def spectra_to_frame(spectra: Spectra) -> pd.DataFrame:
     """One column per spectrum (named by the spectrum) on a ``wavelength_nm`` index [nm].
 
     ``attrs`` carries ``quantity`` and ``spectral_unit`` so that :func:`spectra_from_frame`
@@ -71,8 +71,9 @@ def spectra_to_frame(spectra: Spectra) -> "pd.DataFrame":
     return df
 
 
-def spectra_from_frame(df: "pd.DataFrame", *, quantity: Quantity | str | None = None,
-                       wavelength_column: str | None = None) -> Spectra:
+def spectra_from_frame(
+    df: pd.DataFrame, *, quantity: Quantity | str | None = None, wavelength_column: str | None = None
+) -> Spectra:
     """A :class:`~cctkit.spectra.Spectra` from a DataFrame with one column per spectrum.
 
     Parameters
@@ -102,11 +103,14 @@ def spectra_from_frame(df: "pd.DataFrame", *, quantity: Quantity | str | None = 
         if wavelength_column is None and (positional or not pd.api.types.is_numeric_dtype(df.index.dtype)):
             raise InputError(
                 "no wavelength axis: give a numeric index [nm] or a column named one of "
-                + ", ".join(WAVELENGTH_COLUMNS), source="from_frame")
+                + ", ".join(WAVELENGTH_COLUMNS),
+                source="from_frame",
+            )
     if wavelength_column is not None:
         if wavelength_column not in df.columns:
-            raise InputError(f"wavelength_column {wavelength_column!r} is not a column of the frame",
-                             source="from_frame")
+            raise InputError(
+                f"wavelength_column {wavelength_column!r} is not a column of the frame", source="from_frame"
+            )
         wl = df[wavelength_column].to_numpy(dtype=np.float64)
         data = df.drop(columns=[wavelength_column])
     else:
@@ -117,8 +121,12 @@ def spectra_from_frame(df: "pd.DataFrame", *, quantity: Quantity | str | None = 
     if quantity is None:
         quantity = df.attrs.get("quantity", Quantity.RELATIVE)
     q = quantity if isinstance(quantity, Quantity) else Quantity.parse(str(quantity), source="quantity")
-    return Spectra(wavelength_nm=wl, values=data.to_numpy(dtype=np.float64).T,
-                   names=tuple(str(c) for c in data.columns), quantity=q)
+    return Spectra(
+        wavelength_nm=wl,
+        values=data.to_numpy(dtype=np.float64).T,
+        names=tuple(str(c) for c in data.columns),
+        quantity=q,
+    )
 
 
 # --------------------------------------------------------------------------- colour-science
@@ -156,28 +164,41 @@ def spectra_from_colour(obj: Any, *, quantity: Quantity | str = Quantity.RELATIV
 
     q = quantity if isinstance(quantity, Quantity) else Quantity.parse(str(quantity), source="quantity")
     if isinstance(obj, colour.MultiSpectralDistributions):
-        return Spectra(wavelength_nm=np.array(obj.wavelengths, dtype=np.float64),
-                       values=np.array(obj.values, dtype=np.float64).T,
-                       names=tuple(str(n) for n in obj.labels), quantity=q)
+        return Spectra(
+            wavelength_nm=np.array(obj.wavelengths, dtype=np.float64),
+            values=np.array(obj.values, dtype=np.float64).T,
+            names=tuple(str(n) for n in obj.labels),
+            quantity=q,
+        )
     if isinstance(obj, colour.SpectralDistribution):
         obj = [obj]
     items = list(obj) if isinstance(obj, (list, tuple)) else None
     if not items or not all(isinstance(s, colour.SpectralDistribution) for s in items):
-        raise InputError("expected a colour SpectralDistribution, MultiSpectralDistributions or a list of "
-                         f"SpectralDistribution, got {type(obj).__name__}", source="from_colour")
+        raise InputError(
+            "expected a colour SpectralDistribution, MultiSpectralDistributions or a list of "
+            f"SpectralDistribution, got {type(obj).__name__}",
+            source="from_colour",
+        )
     wl = np.array(items[0].wavelengths, dtype=np.float64)
     for s in items[1:]:
         if not np.array_equal(np.asarray(s.wavelengths, dtype=np.float64), wl):
-            raise InputError(f"spectral distribution {s.name!r} is not on the wavelength axis of "
-                             f"{items[0].name!r}; align them first", source="from_colour")
-    return Spectra(wavelength_nm=wl, values=np.array([np.asarray(s.values, dtype=np.float64) for s in items]),
-                   names=tuple(str(s.name) for s in items), quantity=q)
+            raise InputError(
+                f"spectral distribution {s.name!r} is not on the wavelength axis of "
+                f"{items[0].name!r}; align them first",
+                source="from_colour",
+            )
+    return Spectra(
+        wavelength_nm=wl,
+        values=np.array([np.asarray(s.values, dtype=np.float64) for s in items]),
+        names=tuple(str(s.name) for s in items),
+        quantity=q,
+    )
 
 
 # --------------------------------------------------------------------------- analysis
 
 
-def analysis_to_frame(analysis: "Analysis") -> "pd.DataFrame":
+def analysis_to_frame(analysis: Analysis) -> pd.DataFrame:
     """One row per spectrum; the columns of the records CSV (unit-bearing names, R1..R14, ...).
 
     Values are those of :meth:`~cctkit.analysis.Analysis.records` (None becomes NaN);
@@ -210,8 +231,17 @@ _HTML_COLUMNS = (
     ("Rg", "Rg"),
     ("flags", "flags"),
 )
-_HTML_FORMATS = {"cct_K": "{:.0f}", "duv": "{:+.4f}", "x": "{:.4f}", "y": "{:.4f}", "luminous": "{:.4g}",
-                 "Ra": "{:.1f}", "R9": "{:.1f}", "Rf": "{:.1f}", "Rg": "{:.1f}"}
+_HTML_FORMATS = {
+    "cct_K": "{:.0f}",
+    "duv": "{:+.4f}",
+    "x": "{:.4f}",
+    "y": "{:.4f}",
+    "luminous": "{:.4g}",
+    "Ra": "{:.1f}",
+    "R9": "{:.1f}",
+    "Rf": "{:.1f}",
+    "Rg": "{:.1f}",
+}
 _LUMINOUS_HEADERS = {
     "luminous_flux_lm": "flux [lm]",
     "illuminance_lx": "illuminance [lx]",
@@ -221,7 +251,7 @@ _LUMINOUS_HEADERS = {
 }
 
 
-def analysis_html(analysis: "Analysis", *, max_rows: int = 20) -> str:
+def analysis_html(analysis: Analysis, *, max_rows: int = 20) -> str:
     """A compact HTML table of the headline numbers (the notebook view of an analysis)."""
     from .formats import format_number
 
@@ -249,8 +279,12 @@ def analysis_html(analysis: "Analysis", *, max_rows: int = 20) -> str:
                 text = str(v)
             cells.append(f"<td>{html.escape(text)}</td>")
         rows.append("<tr>" + "".join(cells) + "</tr>")
-    caption = (f"cctkit analysis: {n} spectr{'um' if n == 1 else 'a'}, {analysis.spectra.quantity.value}, "
-               f"CIE {'1931 2°' if analysis.observer == 2 else '1964 10°'} observer")
+    caption = (
+        f"cctkit analysis: {n} spectr{'um' if n == 1 else 'a'}, {analysis.spectra.quantity.value}, "
+        f"CIE {'1931 2°' if analysis.observer == 2 else '1964 10°'} observer"
+    )
     head = "".join(f"<th>{html.escape(h)}</th>" for h in heads)
-    return (f"<table class=\"cctkit-analysis\"><caption>{html.escape(caption)}</caption>"
-            f"<thead><tr>{head}</tr></thead><tbody>{''.join(rows)}</tbody></table>")
+    return (
+        f'<table class="cctkit-analysis"><caption>{html.escape(caption)}</caption>'
+        f"<thead><tr>{head}</tr></thead><tbody>{''.join(rows)}</tbody></table>"
+    )

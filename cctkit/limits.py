@@ -23,5 +23,7 @@ MAX_VALUES = 20_000_000
 
 def too_many_spectra(count: int) -> str:
     """The one-line reason for refusing ``count`` spectra in a command other than ``batch``."""
-    return (f"{count} spectra in the inputs, over the limit of {MAX_SPECTRA} for one command; "
-            "use `cctkit batch` for large lots")
+    return (
+        f"{count} spectra in the inputs, over the limit of {MAX_SPECTRA} for one command; "
+        "use `cctkit batch` for large lots"
+    )

@@ -98,8 +98,15 @@ class Locus:
 
     def rows(self) -> list[dict[str, float]]:
         return [
-            {"T_K": float(t), "x": float(a[0]), "y": float(a[1]), "u": float(b[0]), "v": float(b[1]),
-             "u_prime": float(c[0]), "v_prime": float(c[1])}
+            {
+                "T_K": float(t),
+                "x": float(a[0]),
+                "y": float(a[1]),
+                "u": float(b[0]),
+                "v": float(b[1]),
+                "u_prime": float(c[0]),
+                "v_prime": float(c[1]),
+            }
             for t, a, b, c in zip(self.T_K, self.xy, self.uv, self.uvp)
         ]
 

@@ -358,9 +358,11 @@ class Photometry:
             out[RADIANT_KEY[self.quantity]] = _num(self.radiant[i])
             out[PHOTON_KEY[self.quantity]] = _num(self.photon_umol[i])
             out[PPF_KEY[self.quantity]] = _num(self.ppf_umol[i])
-        for key, r in (("radiometric_range_nm", self.radiometric_range_nm),
-                       ("photometric_range_nm", self.photometric_range_nm),
-                       ("ppf_range_nm", self.ppf_range_nm)):
+        for key, r in (
+            ("radiometric_range_nm", self.radiometric_range_nm),
+            ("photometric_range_nm", self.photometric_range_nm),
+            ("ppf_range_nm", self.ppf_range_nm),
+        ):
             if r is not None:
                 out[key] = [_num(r[i, 0]), _num(r[i, 1])]
         return out
@@ -373,16 +375,19 @@ class Photometry:
             cols[RADIANT_KEY[self.quantity]] = self.radiant
             cols[PHOTON_KEY[self.quantity]] = self.photon_umol
             cols[PPF_KEY[self.quantity]] = self.ppf_umol
-        for key, r in (("radiometric_range_nm", self.radiometric_range_nm),
-                       ("photometric_range_nm", self.photometric_range_nm),
-                       ("ppf_range_nm", self.ppf_range_nm)):
+        for key, r in (
+            ("radiometric_range_nm", self.radiometric_range_nm),
+            ("photometric_range_nm", self.photometric_range_nm),
+            ("ppf_range_nm", self.ppf_range_nm),
+        ):
             if r is not None:  # flattened as flatten_record does
                 cols[f"{key}_lo"], cols[f"{key}_hi"] = r[:, 0], r[:, 1]
         return cols
 
 
-def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE, *,
-               measured_range_nm=None, measured_totals: Any = None) -> Photometry:
+def photometry(
+    values: Any, quantity: Quantity | str = Quantity.RELATIVE, *, measured_range_nm=None, measured_totals: Any = None
+) -> Photometry:
     """All photometric and photon totals of spectra on the working grid.
 
     Parameters
@@ -426,12 +431,18 @@ def photometry(values: Any, quantity: Quantity | str = Quantity.RELATIVE, *,
     sco = np.where(short[:, 1], np.nan, scotopic_total(vm))
     rad = totals[:, 0]
     ppf = np.where(short[:, 2], np.nan, totals[:, 2])
-    names = (("luminous total and LER", "V(lambda)"), ("scotopic total and S/P ratio", "V'(lambda)"),
-             ("PPF", "the 400-700 nm photon weighting"))
+    names = (
+        ("luminous total and LER", "V(lambda)"),
+        ("scotopic total and S/P ratio", "V'(lambda)"),
+        ("PPF", "the 400-700 nm photon weighting"),
+    )
     flags: list[tuple[Flag, ...]] = [()] * n
     for i in np.flatnonzero(short.any(axis=1)).tolist():  # only the spectra with a withheld total
-        flags[i] = tuple(coverage_flag(m, w, float(share[i, k]), rng[i, 0], rng[i, 1])
-                         for k, (m, w) in enumerate(names) if short[i, k])
+        flags[i] = tuple(
+            coverage_flag(m, w, float(share[i, k]), rng[i, 0], rng[i, 1])
+            for k, (m, w) in enumerate(names)
+            if short[i, k]
+        )
     return Photometry(
         quantity=q,
         luminous=lum,

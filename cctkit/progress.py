@@ -37,8 +37,9 @@ class Progress:
         Least time between two plain lines [s] (the live bar redraws on its own).
     """
 
-    def __init__(self, total: int | None, *, stream: TextIO | None = None, enabled: bool = True,
-                 interval_s: float = 2.0):
+    def __init__(
+        self, total: int | None, *, stream: TextIO | None = None, enabled: bool = True, interval_s: float = 2.0
+    ):
         self.total = total
         # the command line escapes control characters on stderr; the bar's own escape codes must pass
         self.stream = stream if stream is not None else getattr(sys.stderr, "trusted", sys.stderr)
@@ -112,7 +113,9 @@ class Progress:
         self._bar = LiveBar(
             TextColumn("{task.description}"),
             BarColumn(),
-            TextColumn("{task.completed:,.0f}/{task.total:,.0f} spectra" if self.total else "{task.completed:,.0f} spectra"),
+            TextColumn(
+                "{task.completed:,.0f}/{task.total:,.0f} spectra" if self.total else "{task.completed:,.0f} spectra"
+            ),
             TimeElapsedColumn(),
             TextColumn("left"),
             TimeRemainingColumn(),

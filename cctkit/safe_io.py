@@ -31,9 +31,9 @@ import hashlib
 import os
 import stat
 import tempfile
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Iterable, Iterator
 
 from .errors import InputError
 
@@ -242,8 +242,10 @@ def place(tmp: Path, out: Path, *, overwrite: bool, inputs: Iterable = ()) -> No
         try:
             os.link(tmp, out)
         except FileExistsError:
-            raise InputError("output file appeared while the command ran; not replaced (pass --overwrite "
-                             "to replace it)", source=str(out)) from None
+            raise InputError(
+                "output file appeared while the command ran; not replaced (pass --overwrite to replace it)",
+                source=str(out),
+            ) from None
         except OSError as exc:
             if exc.errno not in (errno.EPERM, errno.ENOTSUP, errno.EOPNOTSUPP, errno.EXDEV, errno.EMLINK):
                 raise
@@ -284,8 +286,7 @@ def atomic_path(path: str | os.PathLike, *, overwrite: bool = False, inputs: Ite
     out = check_output_path(path, overwrite=overwrite, inputs=inputs)
     try:
         # the process id in the name tells a later run whether the writer is still alive (remove_stale_temps)
-        fd, tmp = tempfile.mkstemp(prefix=f".{out.name}.{os.getpid()}.", suffix=".tmp" + out.suffix,
-                                   dir=_folder(out))
+        fd, tmp = tempfile.mkstemp(prefix=f".{out.name}.{os.getpid()}.", suffix=".tmp" + out.suffix, dir=_folder(out))
         os.close(fd)
     except OSError as exc:
         raise InputError(f"cannot write the output ({os_error_text(exc)})", source=str(out)) from None
@@ -315,7 +316,7 @@ def remove_stale_temps(path: str | os.PathLike) -> list[Path]:
     removed = []
     prefix = f".{out.name}."
     for item in _folder(out).glob(f"{glob_escape(prefix)}*.tmp{glob_escape(out.suffix)}"):
-        pid_text = item.name[len(prefix):].split(".", 1)[0]
+        pid_text = item.name[len(prefix) :].split(".", 1)[0]
         if not pid_text.isdigit() or _alive(int(pid_text)):
             continue
         with contextlib.suppress(OSError):
@@ -352,9 +353,7 @@ def write_journal(path: Path, doc: dict) -> None:
     os.replace(tmp, path)
 
 
-def atomic_write(
-    path: str | os.PathLike, data: str | bytes, *, overwrite: bool = False, inputs: Iterable = ()
-) -> Path:
+def atomic_write(path: str | os.PathLike, data: str | bytes, *, overwrite: bool = False, inputs: Iterable = ()) -> Path:
     """Write ``data`` to ``path`` atomically (text is written as UTF-8 with ``\\n`` line ends)."""
     payload = data.encode("utf-8") if isinstance(data, str) else data
     with atomic_path(path, overwrite=overwrite, inputs=inputs) as tmp:

@@ -31,8 +31,20 @@ from .errors import Flag
 from .formats import finite_or_none as _num
 from .photometry import grid_values
 
-__all__ = ["ShapeMeasures", "spectral_shape", "peak_wavelength_nm", "centroid_wavelength_nm", "fwhm_nm",
-           "FLAT_LIMIT", "PEAK_OK", "PEAK_AT_EDGE", "PEAK_FLAT", "NO_SIGNAL", "FWHM_BROADBAND", "FWHM_NO_PEAK"]
+__all__ = [
+    "ShapeMeasures",
+    "spectral_shape",
+    "peak_wavelength_nm",
+    "centroid_wavelength_nm",
+    "fwhm_nm",
+    "FLAT_LIMIT",
+    "PEAK_OK",
+    "PEAK_AT_EDGE",
+    "PEAK_FLAT",
+    "NO_SIGNAL",
+    "FWHM_BROADBAND",
+    "FWHM_NO_PEAK",
+]
 
 _STEP_NM = 1.0
 #: A spectrum whose values span less than this share of its maximum over the measured range is flat
@@ -215,22 +227,34 @@ def _flags(status, fwhm_status, first, last, v) -> tuple[tuple[Flag, ...], ...]:
     span = lambda k: f"{_grid_nm(first[k])}-{_grid_nm(last[k])} nm"  # noqa: E731
     for k in np.flatnonzero(status == PEAK_AT_EDGE).tolist():
         end = first[k] if v[k, first[k]] >= v[k, last[k]] else last[k]
-        out[k] = (Flag("peak-at-range-edge",
-                       f"the highest value lies at the {_grid_nm(end)} nm end of the measured range ({span(k)}): "
-                       "the peak may lie outside it; peak wavelength and FWHM withheld"),)
+        out[k] = (
+            Flag(
+                "peak-at-range-edge",
+                f"the highest value lies at the {_grid_nm(end)} nm end of the measured range ({span(k)}): "
+                "the peak may lie outside it; peak wavelength and FWHM withheld",
+            ),
+        )
     for k in np.flatnonzero(status == PEAK_FLAT).tolist():
-        out[k] = (Flag("peak-not-meaningful",
-                       f"the spectrum varies by less than {FLAT_LIMIT:.0%} of its maximum over {span(k)} (flat): "
-                       "a peak wavelength has no meaning and FWHM is not defined; both withheld"),)
+        out[k] = (
+            Flag(
+                "peak-not-meaningful",
+                f"the spectrum varies by less than {FLAT_LIMIT:.0%} of its maximum over {span(k)} (flat): "
+                "a peak wavelength has no meaning and FWHM is not defined; both withheld",
+            ),
+        )
     y_peak = _peak(v)[2]  # the level FWHM is judged at
     for k in np.flatnonzero(fwhm_status == FWHM_BROADBAND).tolist():
         half = 0.5 * y_peak[k]
         ends = [e for e in (first[k], last[k]) if v[k, e] >= half]
         where = " and ".join(f"{_grid_nm(e)} nm" for e in ends)
-        out[k] = (Flag("fwhm-not-defined",
-                       f"FWHM is not defined for this broadband spectrum: it is at or above half its maximum at "
-                       f"{where}, the end{'s' if len(ends) > 1 else ''} of the measured range ({span(k)}); "
-                       "FWHM withheld"),)
+        out[k] = (
+            Flag(
+                "fwhm-not-defined",
+                f"FWHM is not defined for this broadband spectrum: it is at or above half its maximum at "
+                f"{where}, the end{'s' if len(ends) > 1 else ''} of the measured range ({span(k)}); "
+                "FWHM withheld",
+            ),
+        )
     return tuple(out)
 
 
@@ -244,5 +268,11 @@ def spectral_shape(values: Any, *, measured_range_nm=None) -> ShapeMeasures:
     peak, width, status, fwhm_status, first, last = _measures(v, measured_range_nm)
     flagged = (status == PEAK_AT_EDGE) | (status == PEAK_FLAT) | (fwhm_status == FWHM_BROADBAND)
     flags = _flags(status, fwhm_status, first, last, v) if flagged.any() else ((),) * v.shape[0]
-    return ShapeMeasures(peak_nm=peak, centroid_nm=centroid_wavelength_nm(v), fwhm_nm=width,
-                         peak_status=status, fwhm_status=fwhm_status, flags=flags)
+    return ShapeMeasures(
+        peak_nm=peak,
+        centroid_nm=centroid_wavelength_nm(v),
+        fwhm_nm=width,
+        peak_status=status,
+        fwhm_status=fwhm_status,
+        flags=flags,
+    )

@@ -40,9 +40,9 @@ and carries them unchanged through resampling, selection and concatenation.
 from __future__ import annotations
 
 import hashlib
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field, replace
 from enum import Enum
-from typing import Iterable, Sequence
 
 import numpy as np
 
@@ -85,14 +85,16 @@ class Quantity(str, Enum):
         return _LUMINOUS_NAME[self]
 
     @classmethod
-    def parse(cls, text: str, *, source: str | None = None, line: int | None = None) -> "Quantity":
+    def parse(cls, text: str, *, source: str | None = None, line: int | None = None) -> Quantity:
         key = str(text).strip().lower().replace("_", "-").replace(" ", "-")
         key = _QUANTITY_ALIASES.get(key, key)
         try:
             return cls(key)
         except ValueError:
             allowed = ", ".join(q.value for q in cls)
-            raise InputError(f"unknown quantity {text!r}; expected one of {allowed}", source=source, line=line) from None
+            raise InputError(
+                f"unknown quantity {text!r}; expected one of {allowed}", source=source, line=line
+            ) from None
 
 
 _SPECTRAL_UNIT = {
@@ -184,13 +186,16 @@ class Spectra:
         if wl.shape[0] < MIN_POINTS:
             raise InputError(f"only {wl.shape[0]} wavelength points; at least {MIN_POINTS} are needed", source=source)
         if wl.shape[0] > MAX_POINTS:
-            raise InputError(f"{wl.shape[0]} wavelength points, over the limit of {MAX_POINTS} per spectrum",
-                             source=source)
+            raise InputError(
+                f"{wl.shape[0]} wavelength points, over the limit of {MAX_POINTS} per spectrum", source=source
+            )
         if not np.all(np.isfinite(wl)):
             raise InputError("wavelengths contain NaN or infinite values", source=source)
         if wl.min() <= 0 or wl.max() > MAX_WAVELENGTH_NM:
             bad = wl.min() if wl.min() <= 0 else wl.max()
-            raise InputError(f"wavelength {bad:g} nm is outside 0-{MAX_WAVELENGTH_NM:g} nm (wrong unit?)", source=source)
+            raise InputError(
+                f"wavelength {bad:g} nm is outside 0-{MAX_WAVELENGTH_NM:g} nm (wrong unit?)", source=source
+            )
         steps = np.diff(wl)
         if np.any(steps <= 0):
             i = int(np.argmax(steps <= 0)) + 1
@@ -222,9 +227,7 @@ class Spectra:
             step = _median(steps)
             measured = ((float(wl[0]), float(wl[-1]), step),) * n
             negative = values.min(axis=1) < 0
-            flags = tuple(
-                f + ((_negative_flag(values[i]),) if negative[i] else ()) for i, f in enumerate(flags)
-            )
+            flags = tuple(f + ((_negative_flag(values[i]),) if negative[i] else ()) for i, f in enumerate(flags))
             if step > 5.0 + 1e-9:
                 flags = tuple(f + (_coarse_flag(step),) for f in flags)
             object.__setattr__(self, "measured_range_nm", measured)
@@ -255,7 +258,7 @@ class Spectra:
             np.array_equal(self.wavelength_nm, WAVELENGTH_NM)
         )
 
-    def select(self, index: int | slice | Sequence[int]) -> "Spectra":
+    def select(self, index: int | slice | Sequence[int]) -> Spectra:
         """The spectra at ``index`` (keeps names, sources and flags aligned)."""
         idx = np.arange(len(self))[index]
         idx = np.atleast_1d(idx)
@@ -272,14 +275,18 @@ class Spectra:
             interpolation=tuple(self.interpolation[i] for i in idx),
         )
 
-    def scaled(self, factor: float, quantity: Quantity | None = None) -> "Spectra":
+    def scaled(self, factor: float, quantity: Quantity | None = None) -> Spectra:
         """The same spectra multiplied by ``factor`` (e.g. a unit conversion)."""
-        return replace(self, values=self.values * factor, quantity=quantity or self.quantity,
-                       measured_totals=np.asarray(self.measured_totals) * factor)
+        return replace(
+            self,
+            values=self.values * factor,
+            quantity=quantity or self.quantity,
+            measured_totals=np.asarray(self.measured_totals) * factor,
+        )
 
     # pandas / colour-science interop lives in cctkit.interop; these are its doors.
     @classmethod
-    def from_frame(cls, df, **kwargs) -> "Spectra":
+    def from_frame(cls, df, **kwargs) -> Spectra:
         """Spectra from a pandas DataFrame, one column per spectrum (:func:`cctkit.interop.spectra_from_frame`)."""
         from .interop import spectra_from_frame
 
@@ -292,7 +299,7 @@ class Spectra:
         return spectra_to_frame(self)
 
     @classmethod
-    def from_colour(cls, obj, **kwargs) -> "Spectra":
+    def from_colour(cls, obj, **kwargs) -> Spectra:
         """Spectra from colour-science distributions (:func:`cctkit.interop.spectra_from_colour`)."""
         from .interop import spectra_from_colour
 
@@ -356,17 +363,20 @@ OVERSHOOT_LIMIT = 1e-3
 # CIE 167:2005 Table 4 (from memory): two extra points at each end, from the first/last six.
 _SPRAGUE_EXT = np.array([[884, -1960, 3033, -2648, 1080, -180], [508, -540, 488, -367, 144, -24]]) / 209.0
 # Sprague (1880) quintic coefficients a0..a5 from p[i-2..i+3], CIE 167:2005 eq. (5) (from memory).
-_SPRAGUE_COEF = np.array(
-    [
-        [0, 0, 24, 0, 0, 0],
-        [2, -16, 0, 16, -2, 0],
-        [-1, 16, -30, 16, -1, 0],
-        [-9, 39, -70, 66, -33, 7],
-        [13, -64, 126, -124, 61, -12],
-        [-5, 25, -50, 50, -25, 5],
-    ],
-    dtype=np.float64,
-) / 24.0
+_SPRAGUE_COEF = (
+    np.array(
+        [
+            [0, 0, 24, 0, 0, 0],
+            [2, -16, 0, 16, -2, 0],
+            [-1, 16, -30, 16, -1, 0],
+            [-9, 39, -70, 66, -33, 7],
+            [13, -64, 126, -124, 61, -12],
+            [-5, 25, -50, 50, -25, 5],
+        ],
+        dtype=np.float64,
+    )
+    / 24.0
+)
 
 
 def _positions(wl: np.ndarray, target: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -452,7 +462,9 @@ def interpolation_matrix(wavelength_nm: np.ndarray) -> np.ndarray | None:
     return _copy_exact(wl, np.eye(wl.shape[0]), WAVELENGTH_NM, W.T.copy()).T
 
 
-def resample(wavelength_nm: np.ndarray, values: np.ndarray, method: str = "auto") -> tuple[np.ndarray, tuple[str, ...], np.ndarray]:
+def resample(
+    wavelength_nm: np.ndarray, values: np.ndarray, method: str = "auto"
+) -> tuple[np.ndarray, tuple[str, ...], np.ndarray]:
     """Values (N, L) on ``wavelength_nm`` brought to the working grid by ``method``.
 
     Returns the (N, 471) values, the method used for each spectrum, and each spectrum's overshoot
@@ -470,8 +482,9 @@ def resample(wavelength_nm: np.ndarray, values: np.ndarray, method: str = "auto"
         out = _copy_exact(wl, v, target, _linear(wl, v, target))
         return out, ("as measured (1 nm)",) * n, np.zeros(n)
     if method == "sprague" and not uniform:
-        raise InputError("--interpolation sprague needs at least 6 uniformly spaced wavelengths; "
-                         "use linear or pchip for this file")
+        raise InputError(
+            "--interpolation sprague needs at least 6 uniformly spaced wavelengths; use linear or pchip for this file"
+        )
     if method == "linear":
         out, used = _linear(wl, v, target), ("linear",) * n
     elif method == "pchip" or (method == "auto" and not uniform):
@@ -555,11 +568,17 @@ def signal_problems(spectra: Spectra) -> tuple[Flag | None, ...]:
     out: list[Flag | None] = [None] * n
     for i in np.flatnonzero(outside | ~signal).tolist():
         if outside[i]:
-            out[i] = Flag("no-visible-data", f"no measured data in {lo_vis:g}-{hi_vis:g} nm (measured "
-                                             f"{lo[i]:g}-{hi[i]:g} nm): nothing can be computed")
+            out[i] = Flag(
+                "no-visible-data",
+                f"no measured data in {lo_vis:g}-{hi_vis:g} nm (measured "
+                f"{lo[i]:g}-{hi[i]:g} nm): nothing can be computed",
+            )
         else:
-            out[i] = Flag("no-signal", f"no signal: no positive value in {lo_vis:g}-{hi_vis:g} nm "
-                                       "(all zero or below zero); nothing can be computed")
+            out[i] = Flag(
+                "no-signal",
+                f"no signal: no positive value in {lo_vis:g}-{hi_vis:g} nm "
+                "(all zero or below zero); nothing can be computed",
+            )
     return tuple(out)
 
 

@@ -19,10 +19,18 @@ from __future__ import annotations
 import csv
 import io
 import re
-from typing import Any, Iterable
+from collections.abc import Iterable
+from typing import Any
 
-__all__ = ["CSV_DIALECTS", "XLSX_MAX_ROWS", "check_dialect", "csv_in_dialect", "csv_to_xlsx", "csv_file_to_xlsx",
-           "read_xlsx_table"]
+__all__ = [
+    "CSV_DIALECTS",
+    "XLSX_MAX_ROWS",
+    "check_dialect",
+    "csv_in_dialect",
+    "csv_to_xlsx",
+    "csv_file_to_xlsx",
+    "read_xlsx_table",
+]
 
 #: Rows a worksheet holds (the header included): the format's limit, 2**20.
 XLSX_MAX_ROWS = 1_048_576
@@ -163,8 +171,11 @@ def csv_file_to_xlsx(csv_path, xlsx_path, *, provenance: dict[str, Any] | None =
     with open(csv_path, encoding="utf-8", newline="") as fh:
         lines = sum(1 for _ in csv.reader(fh))
     if lines > XLSX_MAX_ROWS:
-        raise InputError(f"{lines - 1:,} rows do not fit in one worksheet (at most {XLSX_MAX_ROWS - 1:,}); "
-                         "write .csv or .parquet instead", source=str(xlsx_path))
+        raise InputError(
+            f"{lines - 1:,} rows do not fit in one worksheet (at most {XLSX_MAX_ROWS - 1:,}); "
+            "write .csv or .parquet instead",
+            source=str(xlsx_path),
+        )
     wb = Workbook(write_only=True)
     ws = wb.create_sheet("results")
     ws.freeze_panes = "B2"

@@ -47,12 +47,15 @@ def colour_version() -> str | None:
     if spec is not None and spec.origin:
         site = Path(spec.origin).parent.parent
         try:
-            found = [e.name for e in os.scandir(site)
-                     if e.name.startswith("colour_science-") and e.name.endswith(".dist-info")]
+            found = [
+                e.name
+                for e in os.scandir(site)
+                if e.name.startswith("colour_science-") and e.name.endswith(".dist-info")
+            ]
         except OSError:
             found = []
         if len(found) == 1:
-            return found[0][len("colour_science-"):-len(".dist-info")]
+            return found[0][len("colour_science-") : -len(".dist-info")]
     from importlib import metadata
 
     try:
@@ -106,7 +109,10 @@ def _build() -> dict[str, np.ndarray]:
         return out
 
     t: dict[str, np.ndarray] = {}
-    for key, name in (("cmf_2", "CIE 1931 2 Degree Standard Observer"), ("cmf_10", "CIE 1964 10 Degree Standard Observer")):
+    for key, name in (
+        ("cmf_2", "CIE 1931 2 Degree Standard Observer"),
+        ("cmf_10", "CIE 1964 10 Degree Standard Observer"),
+    ):
         m = MSDS_CMFS[name]
         t[key] = on_grid_zero(m.wavelengths, m.values)
     s = SDS_LEFS_SCOTOPIC["CIE 1951 Scotopic Standard Observer"]

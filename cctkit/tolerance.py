@@ -74,7 +74,7 @@ A MacAdam-type ellipse is written in CIE 1931 xy as the quadratic form
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cache, lru_cache
 
 import numpy as np
 
@@ -160,11 +160,10 @@ def _build(name: str, nominal: float, T: float, dT: float, duv: float) -> Quadra
     xy = uv_to_xy(uv)
     for a in (uv, xy):
         a.setflags(write=False)
-    return Quadrangle(name, float(nominal), float(T), float(dT), float(duv), tol,
-                      uv[4], uv[:4], xy[4], xy[:4])
+    return Quadrangle(name, float(nominal), float(T), float(dT), float(duv), tol, uv[4], uv[:4], xy[4], xy[:4])
 
 
-@lru_cache(maxsize=None)
+@cache
 def ansi_quadrangles() -> tuple[Quadrangle, ...]:
     """The ten nominal-CCT quadrangles of ANSI C78.377-2017, warmest first."""
     return tuple(_build(f"{n}K", n, *_ANSI_TABLE[n]) for n in ANSI_NOMINAL_CCTS_K)
@@ -404,9 +403,13 @@ def macadam1942_ellipse(centre_xy, *, name: str = "") -> Ellipse:
     g, extra = macadam1942_metric(c)
     c.setflags(write=False)
     g.setflags(write=False)
-    return Ellipse(name or f"MacAdam1942({c[0]:.4f},{c[1]:.4f})", c, g,
-                   "MacAdam 1942, Wyszecki & Stiles Table 2(5.4.1) via colour-science, interpolated",
-                   bool(extra))
+    return Ellipse(
+        name or f"MacAdam1942({c[0]:.4f},{c[1]:.4f})",
+        c,
+        g,
+        "MacAdam 1942, Wyszecki & Stiles Table 2(5.4.1) via colour-science, interpolated",
+        bool(extra),
+    )
 
 
 def ellipse_boundary_xy(ellipse: Ellipse, steps: float = 1.0, *, n_points: int = 181) -> np.ndarray:

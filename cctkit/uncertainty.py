@@ -120,10 +120,11 @@ import hashlib
 import math
 import tomllib
 import warnings
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import lru_cache
 from pathlib import Path
-from typing import Any, Callable, Mapping, Sequence
+from typing import Any
 
 import numpy as np
 
@@ -218,7 +219,7 @@ class UncertaintyModel:
         """What an output records about the model: its file, SHA-256 and tables."""
         return {"file": self.source, "sha256": self.sha256, "tables": _plain(self.document)}
 
-    def replace_draws(self, draws: int | None) -> "UncertaintyModel":
+    def replace_draws(self, draws: int | None) -> UncertaintyModel:
         from dataclasses import replace
 
         return replace(self, draws=draws)
@@ -256,16 +257,20 @@ def parse_model(doc: Mapping[str, Any], *, source: str = "<model>", sha256: str 
     kw: dict[str, Any] = {}
     for table, content in doc.items():
         if table not in _SCHEMA:
-            raise InputError(f"unknown table [{table}]{_suggest(table, _SCHEMA)}; expected one of "
-                             f"{', '.join(_SCHEMA)}", source=source)
+            raise InputError(
+                f"unknown table [{table}]{_suggest(table, _SCHEMA)}; expected one of {', '.join(_SCHEMA)}",
+                source=source,
+            )
         if not isinstance(content, Mapping):
             raise InputError(f"[{table}] must be a table", source=source)
         for key, value in content.items():
             kind = _SCHEMA[table].get(key)
             where = f"[{table}] {key}"
             if kind is None:
-                raise InputError(f"unknown key {where}{_suggest(key, _SCHEMA[table])}; expected one of "
-                                 f"{', '.join(_SCHEMA[table])}", source=source)
+                raise InputError(
+                    f"unknown key {where}{_suggest(key, _SCHEMA[table])}; expected one of {', '.join(_SCHEMA[table])}",
+                    source=source,
+                )
             kw[f"{table}_{key}" if table != "montecarlo" else key] = _value(value, kind, where, source)
     if kw.get("calibration_u_rel", 0.0) > 0 and kw.get("calibration_correlation_nm", 0.0) <= 0:
         raise InputError("[calibration] needs correlation_nm > 0 when u_rel > 0", source=source)
@@ -283,8 +288,9 @@ def _value(value: Any, kind: str, where: str, source: str):
         if isinstance(value, str) and value.strip().lower() == "adaptive":
             return None
         if isinstance(value, bool) or not isinstance(value, int) or value < 100:
-            raise InputError(f"{where} must be \"adaptive\" or a whole number of at least 100, got {value!r}",
-                             source=source)
+            raise InputError(
+                f'{where} must be "adaptive" or a whole number of at least 100, got {value!r}', source=source
+            )
         return int(value)
     if kind == "int":
         if isinstance(value, bool) or not isinstance(value, int) or value < 0:
@@ -341,7 +347,9 @@ def _prepare(wl: np.ndarray, base: np.ndarray, model: UncertaintyModel, repeats:
     peak = float(np.max(np.abs(base))) or 1.0
     basis = None
     if model.calibration_u_rel > 0:
-        basis = _calibration_basis(np.ascontiguousarray(wl).tobytes(), wl.shape[0], float(model.calibration_correlation_nm))
+        basis = _calibration_basis(
+            np.ascontiguousarray(wl).tobytes(), wl.shape[0], float(model.calibration_correlation_nm)
+        )
     deviations = None
     if repeats is not None:
         n = repeats.shape[0]
@@ -399,9 +407,15 @@ def measure_columns(a) -> dict[str, np.ndarray]:
     cols: dict[str, np.ndarray] = {
         "cct_K": np.where(a.cct.in_domain, a.cct.cct_K, np.nan),
         "duv": a.cct.duv,
-        "x": a.xy[:, 0], "y": a.xy[:, 1], "u": a.uv[:, 0], "v": a.uv[:, 1],
-        "u_prime": a.uvp[:, 0], "v_prime": a.uvp[:, 1],
-        "X": a.XYZ[:, 0], "Y": a.XYZ[:, 1], "Z": a.XYZ[:, 2],
+        "x": a.xy[:, 0],
+        "y": a.xy[:, 1],
+        "u": a.uv[:, 0],
+        "v": a.uv[:, 1],
+        "u_prime": a.uvp[:, 0],
+        "v_prime": a.uvp[:, 1],
+        "X": a.XYZ[:, 0],
+        "Y": a.XYZ[:, 1],
+        "Z": a.XYZ[:, 2],
     }
     ph = a.photometry
     if ph is not None:
@@ -431,21 +445,45 @@ def measure_columns(a) -> dict[str, np.ndarray]:
 
 #: The unit of each measure key (keys not listed are dimensionless).
 UNITS = {
-    "cct_K": "K", "luminous_flux_lm": "lm", "illuminance_lx": "lx", "luminance_cd_per_m2": "cd/m²",
-    "intensity_cd": "cd", "ler_lm_per_W": "lm/W", "peak_nm": "nm", "centroid_nm": "nm", "fwhm_nm": "nm",
+    "cct_K": "K",
+    "luminous_flux_lm": "lm",
+    "illuminance_lx": "lx",
+    "luminance_cd_per_m2": "cd/m²",
+    "intensity_cd": "cd",
+    "ler_lm_per_W": "lm/W",
+    "peak_nm": "nm",
+    "centroid_nm": "nm",
+    "fwhm_nm": "nm",
     "dominant_wavelength_nm": "nm",
 }
 
 
 #: (key, label) of the measures in the human table and the report, in order.
 TABLE_ROWS: tuple[tuple[str, str], ...] = (
-    ("cct_K", "CCT"), ("duv", "Duv"), ("x", "x"), ("y", "y"), ("u", "u (CIE 1960)"), ("v", "v (CIE 1960)"),
-    ("u_prime", "u' (CIE 1976)"), ("v_prime", "v' (CIE 1976)"), ("luminous_flux_lm", "Luminous flux"),
-    ("illuminance_lx", "Illuminance"), ("luminance_cd_per_m2", "Luminance"), ("intensity_cd", "Luminous intensity"),
-    ("ler_lm_per_W", "LER"), ("sp_ratio", "S/P ratio"), ("melanopic_der", "Melanopic DER"),
-    ("peak_nm", "Peak wavelength"), ("centroid_nm", "Centroid wavelength"), ("fwhm_nm", "FWHM"),
-    ("dominant_wavelength_nm", "Dominant wavelength"), ("purity", "Excitation purity"),
-    ("Ra", "Ra (CIE 13.3)"), ("R9", "R9"), ("Rf", "Rf (CIE 224 / TM-30)"), ("Rg", "Rg (TM-30)"),
+    ("cct_K", "CCT"),
+    ("duv", "Duv"),
+    ("x", "x"),
+    ("y", "y"),
+    ("u", "u (CIE 1960)"),
+    ("v", "v (CIE 1960)"),
+    ("u_prime", "u' (CIE 1976)"),
+    ("v_prime", "v' (CIE 1976)"),
+    ("luminous_flux_lm", "Luminous flux"),
+    ("illuminance_lx", "Illuminance"),
+    ("luminance_cd_per_m2", "Luminance"),
+    ("intensity_cd", "Luminous intensity"),
+    ("ler_lm_per_W", "LER"),
+    ("sp_ratio", "S/P ratio"),
+    ("melanopic_der", "Melanopic DER"),
+    ("peak_nm", "Peak wavelength"),
+    ("centroid_nm", "Centroid wavelength"),
+    ("fwhm_nm", "FWHM"),
+    ("dominant_wavelength_nm", "Dominant wavelength"),
+    ("purity", "Excitation purity"),
+    ("Ra", "Ra (CIE 13.3)"),
+    ("R9", "R9"),
+    ("Rf", "Rf (CIE 224 / TM-30)"),
+    ("Rg", "Rg (TM-30)"),
 )
 
 
@@ -511,7 +549,9 @@ def _block_stats(y: np.ndarray) -> dict[str, np.ndarray]:
     return {"mean": mean, "u": u, "lo": lo, "hi": hi, "finite": finite}
 
 
-def gum_validation(value: float, u_gum: float, interval_95: tuple[float, float], digits: int) -> tuple[float, float, float]:
+def gum_validation(
+    value: float, u_gum: float, interval_95: tuple[float, float], digits: int
+) -> tuple[float, float, float]:
     """JCGM 101 section 8.2: (d_low, d_high, delta) comparing the GUM interval with the Monte Carlo one.
 
     The GUM interval is value -/+ 1.96 u_gum (Gaussian, 95 %); d_low and d_high are the
@@ -585,8 +625,11 @@ class SpectrumUncertainty:
 
     def record(self) -> dict[str, Any]:
         out: dict[str, Any] = {
-            "name": self.name, "source": self.source, "sha256": self.sha256,
-            "quantity": self.quantity.value, "spectral_unit": self.quantity.unit,
+            "name": self.name,
+            "source": self.source,
+            "sha256": self.sha256,
+            "quantity": self.quantity.value,
+            "spectral_unit": self.quantity.unit,
             "montecarlo": {"draws_M": self.draws_M, "stages": self.stages, "converged": self.converged},
         }
         if self.unstable:
@@ -632,15 +675,46 @@ class UncertaintyResult:
         from . import __version__
         from .formats import csv_text
 
-        header = ["name", "measure", "unit", "value", "u", "U", "k", "interval_95_lo", "interval_95_hi",
-                  "draws", "mean", "u_gum", "draws_M", "model_sha256", "cctkit_version"]
+        header = [
+            "name",
+            "measure",
+            "unit",
+            "value",
+            "u",
+            "U",
+            "k",
+            "interval_95_lo",
+            "interval_95_hi",
+            "draws",
+            "mean",
+            "u_gum",
+            "draws_M",
+            "model_sha256",
+            "cctkit_version",
+        ]
         rows = []
         for s in self.spectra:
             for key, e in s.estimates.items():
                 d = e.as_dict()
-                rows.append([s.name, key, unit_of(key, s.quantity), d["value"], d["u"], d["U"], 2,
-                             d["interval_95"][0], d["interval_95"][1], d["draws"], d["mean"],
-                             d.get("u_gum"), s.draws_M, self.model.sha256, __version__])
+                rows.append(
+                    [
+                        s.name,
+                        key,
+                        unit_of(key, s.quantity),
+                        d["value"],
+                        d["u"],
+                        d["U"],
+                        2,
+                        d["interval_95"][0],
+                        d["interval_95"][1],
+                        d["draws"],
+                        d["mean"],
+                        d.get("u_gum"),
+                        s.draws_M,
+                        self.model.sha256,
+                        __version__,
+                    ]
+                )
         return csv_text(header, rows)
 
 
@@ -651,8 +725,9 @@ class UncertaintyResult:
 KEPT_KEYS = ("cct_K", "Ra", "u", "v", "x", "y")
 
 
-def _columns_of_draws(p: _Prepared, model, rng, m: int, *, quantity, observer: int, rendering: bool,
-                      dominant_white: str = "E") -> dict[str, np.ndarray]:
+def _columns_of_draws(
+    p: _Prepared, model, rng, m: int, *, quantity, observer: int, rendering: bool, dominant_white: str = "E"
+) -> dict[str, np.ndarray]:
     from .analysis import analyse
 
     parts: list[dict[str, np.ndarray]] = []
@@ -666,13 +741,24 @@ def _columns_of_draws(p: _Prepared, model, rng, m: int, *, quantity, observer: i
     return {key: np.concatenate([c[key] for c in parts]) for key in parts[0]}
 
 
-def _spectrum_mc(p: _Prepared, model: UncertaintyModel, rng: np.random.Generator, *, quantity, observer: int,
-                 rendering: bool, keys: Sequence[str], on_stage: Callable[[int], None] | None = None,
-                 dominant_white: str = "E"):
+def _spectrum_mc(
+    p: _Prepared,
+    model: UncertaintyModel,
+    rng: np.random.Generator,
+    *,
+    quantity,
+    observer: int,
+    rendering: bool,
+    keys: Sequence[str],
+    on_stage: Callable[[int], None] | None = None,
+    dominant_white: str = "E",
+):
     """Draw columns (M, K) for one spectrum: fixed M, or the adaptive stages of JCGM 101 section 7.9.4."""
+
     def stage(m):
-        cols = _columns_of_draws(p, model, rng, m, quantity=quantity, observer=observer, rendering=rendering,
-                                 dominant_white=dominant_white)
+        cols = _columns_of_draws(
+            p, model, rng, m, quantity=quantity, observer=observer, rendering=rendering, dominant_white=dominant_white
+        )
         return np.stack([cols[k] for k in keys], axis=1)
 
     if model.draws is not None:
@@ -715,11 +801,17 @@ def _spectrum_mc(p: _Prepared, model: UncertaintyModel, rng: np.random.Generator
     return np.concatenate(blocks), len(blocks), converged, unstable
 
 
-def monte_carlo(spectra: Spectra | Sequence[Spectra], model: UncertaintyModel, *, observer: int = 2,
-                rendering: bool = True, repeats: bool = False,
-                progress: Callable[[int, int, int], None] | None = None,
-                stage_progress: Callable[[int, int], None] | None = None,
-                dominant_white: str = "E") -> UncertaintyResult:
+def monte_carlo(
+    spectra: Spectra | Sequence[Spectra],
+    model: UncertaintyModel,
+    *,
+    observer: int = 2,
+    rendering: bool = True,
+    repeats: bool = False,
+    progress: Callable[[int, int, int], None] | None = None,
+    stage_progress: Callable[[int, int], None] | None = None,
+    dominant_white: str = "E",
+) -> UncertaintyResult:
     """Every measure of every spectrum with its Monte Carlo uncertainty (and the GUM u for chromaticity).
 
     Parameters
@@ -759,30 +851,58 @@ def monte_carlo(spectra: Spectra | Sequence[Spectra], model: UncertaintyModel, *
             raise InputError("repeat scans must share one wavelength grid", source=groups[1].sources[0] or None)
         n = len(groups[0])
         if n < 4:
-            raise InputError(f"{n} repeat scan(s) given; at least 4 are needed for a finite type-A uncertainty "
-                             "(JCGM 101 section 6.4.9, t distribution with n - 1 degrees of freedom)",
-                             source=groups[0].sources[0] or None)
+            raise InputError(
+                f"{n} repeat scan(s) given; at least 4 are needed for a finite type-A uncertainty "
+                "(JCGM 101 section 6.4.9, t distribution with n - 1 degrees of freedom)",
+                source=groups[0].sources[0] or None,
+            )
     total = 1 if repeats else sum(len(g) for g in groups)
     out: list[SpectrumUncertainty] = []
     for g in groups:
-        out.extend(_group_mc(g, model, observer=int(observer), rendering=rendering, repeats=repeats,
-                             first=len(out), total=total, progress=progress, stage_progress=stage_progress,
-                             dominant_white=dominant_white))
+        out.extend(
+            _group_mc(
+                g,
+                model,
+                observer=int(observer),
+                rendering=rendering,
+                repeats=repeats,
+                first=len(out),
+                total=total,
+                progress=progress,
+                stage_progress=stage_progress,
+                dominant_white=dominant_white,
+            )
+        )
     return UncertaintyResult(model=model, observer=int(observer), spectra=tuple(out), dominant_white=dominant_white)
 
 
-def _group_mc(spectra: Spectra, model: UncertaintyModel, *, observer: int, rendering: bool, repeats: bool,
-              first: int, total: int, progress, stage_progress=None,
-              dominant_white: str = "E") -> list[SpectrumUncertainty]:
+def _group_mc(
+    spectra: Spectra,
+    model: UncertaintyModel,
+    *,
+    observer: int,
+    rendering: bool,
+    repeats: bool,
+    first: int,
+    total: int,
+    progress,
+    stage_progress=None,
+    dominant_white: str = "E",
+) -> list[SpectrumUncertainty]:
     from .analysis import analyse
 
     wl = spectra.wavelength_nm
     rep = None
     if repeats:
         rep = spectra.values
-        measured = Spectra(wavelength_nm=wl, values=rep.mean(axis=0)[None, :],
-                           names=(f"{spectra.names[0]} (mean of {len(spectra)} scans)",), quantity=spectra.quantity,
-                           sources=(spectra.sources[0],), sha256=(spectra.sha256[0],))
+        measured = Spectra(
+            wavelength_nm=wl,
+            values=rep.mean(axis=0)[None, :],
+            names=(f"{spectra.names[0]} (mean of {len(spectra)} scans)",),
+            quantity=spectra.quantity,
+            sources=(spectra.sources[0],),
+            sha256=(spectra.sha256[0],),
+        )
     else:
         measured = spectra
     values = measure_columns(analyse(measured, observer=observer, rendering=rendering, dominant_white=dominant_white))
@@ -793,9 +913,17 @@ def _group_mc(spectra: Spectra, model: UncertaintyModel, *, observer: int, rende
         rng = np.random.default_rng(np.random.SeedSequence(model.seed, spawn_key=(first + i,)))
         p = _prepare(wl, measured.values[i], model, rep)
         on_stage = None if stage_progress is None else (lambda m, k=first + i + 1: stage_progress(k, m))
-        y, stages, converged, unstable = _spectrum_mc(p, model, rng, quantity=measured.quantity, observer=observer,
-                                            rendering=rendering, keys=keys, on_stage=on_stage,
-                                            dominant_white=dominant_white)
+        y, stages, converged, unstable = _spectrum_mc(
+            p,
+            model,
+            rng,
+            quantity=measured.quantity,
+            observer=observer,
+            rendering=rendering,
+            keys=keys,
+            on_stage=on_stage,
+            dominant_white=dominant_white,
+        )
         st = _block_stats(y)
         est = {}
         for j, key in enumerate(keys):
@@ -805,16 +933,35 @@ def _group_mc(spectra: Spectra, model: UncertaintyModel, *, observer: int, rende
             if gu is not None and gu > 0 and all(np.isfinite(interval)):
                 d_low, d_high, delta = gum_validation(float(values[key][i]), gu, interval, model.tolerance_digits)
                 ok = bool(d_low <= delta and d_high <= delta)
-            est[key] = Estimate(value=float(values[key][i]), mean=float(st["mean"][j]), u=float(st["u"][j]),
-                                interval_95=interval, draws=int(st["finite"][j]), u_gum=gu, gum_validated=ok)
+            est[key] = Estimate(
+                value=float(values[key][i]),
+                mean=float(st["mean"][j]),
+                u=float(st["u"][j]),
+                interval_95=interval,
+                draws=int(st["finite"][j]),
+                u_gum=gu,
+                gum_validated=ok,
+            )
         uvd = y[:, [keys.index("u"), keys.index("v")]]
         uvd = uvd[np.isfinite(uvd).all(axis=1)]
         cov = np.cov(uvd, rowvar=False) if uvd.shape[0] > 2 else np.full((2, 2), np.nan)
         kept = {k: y[:, keys.index(k)].copy() for k in KEPT_KEYS if k in keys}
-        out.append(SpectrumUncertainty(
-            name=measured.names[i], source=measured.sources[i], sha256=measured.sha256[i], quantity=measured.quantity,
-            estimates=est, draws_M=int(y.shape[0]), stages=stages, converged=converged, uv_covariance=cov,
-            kept=kept, repeats=len(spectra) if repeats else 1, unstable=unstable))
+        out.append(
+            SpectrumUncertainty(
+                name=measured.names[i],
+                source=measured.sources[i],
+                sha256=measured.sha256[i],
+                quantity=measured.quantity,
+                estimates=est,
+                draws_M=int(y.shape[0]),
+                stages=stages,
+                converged=converged,
+                uv_covariance=cov,
+                kept=kept,
+                repeats=len(spectra) if repeats else 1,
+                unstable=unstable,
+            )
+        )
         if progress is not None:
             progress(first + i + 1, total, int(y.shape[0]))
     return out
@@ -890,7 +1037,9 @@ def cct_duv_jacobian(uv: np.ndarray, cct_K: np.ndarray, *, observer: int = 2) ->
     T = np.asarray(cct_K, dtype=np.float64)
     P, dP = planckian_uv_dT(T, observer=observer)
     h = 1e-5 * T
-    d2P = (planckian_uv_dT(T + h, observer=observer)[1] - planckian_uv_dT(T - h, observer=observer)[1]) / (2 * h)[:, None]
+    d2P = (planckian_uv_dT(T + h, observer=observer)[1] - planckian_uv_dT(T - h, observer=observer)[1]) / (2 * h)[
+        :, None
+    ]
     r = uv - P
     denom = np.sum(dP * dP, axis=1) - np.sum(r * d2P, axis=1)
     dT = dP / denom[:, None]
@@ -898,8 +1047,9 @@ def cct_duv_jacobian(uv: np.ndarray, cct_K: np.ndarray, *, observer: int = 2) ->
     return dT, n
 
 
-def gum_chromaticity(spectra: Spectra, model: UncertaintyModel, *, observer: int = 2,
-                     repeats: np.ndarray | None = None) -> dict[str, np.ndarray]:
+def gum_chromaticity(
+    spectra: Spectra, model: UncertaintyModel, *, observer: int = 2, repeats: np.ndarray | None = None
+) -> dict[str, np.ndarray]:
     """GUM standard uncertainties (JCGM 100 section 5.1) of x, y, u, v, u', v', CCT and Duv, each (N,).
 
     cov(XYZ) = W^T Sigma W from the linearised model (see the module docstring), then
@@ -930,7 +1080,9 @@ def gum_chromaticity(spectra: Spectra, model: UncertaintyModel, *, observer: int
     dT, dD = cct_duv_jacobian(uv, cct.cct_K, observer=observer)
     Juv = np.stack([_chromaticity_jacobians(raw)["u"], _chromaticity_jacobians(raw)["v"]], axis=1)  # (N, 2, 3)
     cov_uv = Juv @ covs @ np.transpose(Juv, (0, 2, 1))
-    out["cct_K"] = np.where(cct.in_domain, np.sqrt(np.clip(np.einsum("ni,nij,nj->n", dT, cov_uv, dT), 0.0, None)), np.nan)
+    out["cct_K"] = np.where(
+        cct.in_domain, np.sqrt(np.clip(np.einsum("ni,nij,nj->n", dT, cov_uv, dT), 0.0, None)), np.nan
+    )
     out["duv"] = np.sqrt(np.clip(np.einsum("ni,nij,nj->n", dD, cov_uv, dD), 0.0, None))
     return out
 
@@ -968,24 +1120,28 @@ def grid_groups(items: Sequence[Spectra]) -> list[Spectra]:
     if not items:
         raise InputError("no spectra given")
     if len({s.quantity for s in items}) > 1:
-        raise InputError("spectra of different quantities cannot be analysed together: "
-                         + ", ".join(sorted({s.quantity.value for s in items})))
+        raise InputError(
+            "spectra of different quantities cannot be analysed together: "
+            + ", ".join(sorted({s.quantity.value for s in items}))
+        )
     out = []
     for _, same_grid in groupby(items, key=lambda s: s.wavelength_nm.tobytes()):
         run = list(same_grid)
         if len(run) == 1:
             out.append(run[0])
             continue
-        out.append(Spectra(
-            wavelength_nm=run[0].wavelength_nm,
-            values=np.concatenate([s.values for s in run]),
-            names=sum((s.names for s in run), ()),
-            quantity=run[0].quantity,
-            sources=sum((s.sources for s in run), ()),
-            sha256=sum((s.sha256 for s in run), ()),
-            flags=sum((s.flags for s in run), ()),
-            measured_range_nm=sum((s.measured_range_nm for s in run), ()),
-        ))
+        out.append(
+            Spectra(
+                wavelength_nm=run[0].wavelength_nm,
+                values=np.concatenate([s.values for s in run]),
+                names=sum((s.names for s in run), ()),
+                quantity=run[0].quantity,
+                sources=sum((s.sources for s in run), ()),
+                sha256=sum((s.sha256 for s in run), ()),
+                flags=sum((s.flags for s in run), ()),
+                measured_range_nm=sum((s.measured_range_nm for s in run), ()),
+            )
+        )
     return out
 
 

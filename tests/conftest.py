@@ -4,7 +4,9 @@ import numpy as np
 import pytest
 
 # Tests must not depend on (or pollute) the user's table cache: use one per session.
-os.environ.setdefault("CCTKIT_CACHE_DIR", os.path.join(os.path.dirname(__file__), "..", ".pytest_cache", "cctkit-tables"))
+os.environ.setdefault(
+    "CCTKIT_CACHE_DIR", os.path.join(os.path.dirname(__file__), "..", ".pytest_cache", "cctkit-tables")
+)
 
 
 @pytest.fixture(scope="session")

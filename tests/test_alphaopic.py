@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from conftest import cie_illuminant_1nm as _cie_illuminant
 
 from cctkit.alphaopic import (
     ALPHA_OPIC_NAMES,
@@ -17,8 +18,6 @@ from cctkit.constants import KE_MEL_D65_W_PER_LM, WAVELENGTH_NM
 from cctkit.errors import InputError
 from cctkit.photometry import luminous_total
 from cctkit.spectra import Quantity, Spectra, to_working_grid
-
-from conftest import cie_illuminant_1nm as _cie_illuminant
 
 # CIE S 026/E:2018 Table 2, alpha-opic ELR of D65 [mW/lm], published to 4 decimals
 PUBLISHED_D65_ELR_mW_PER_LM = [

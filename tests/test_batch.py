@@ -19,12 +19,11 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from conftest import illuminant_A_spd
 from typer.testing import CliRunner
 
 from cctkit.cli import app  # registers every command, batch included
 from cctkit.constants import C2_M_K
-
-from conftest import illuminant_A_spd
 
 runner = CliRunner()
 
@@ -48,7 +47,7 @@ def write_wide(path: Path, wl, rows, names=None, *, header_comment="# quantity: 
     with open(path, "w", encoding="utf-8") as fh:
         if header_comment:
             fh.write(header_comment + "\n")
-        head = ([ "name"] if names is not None else []) + [f"{w:g}" for w in wl]
+        head = (["name"] if names is not None else []) + [f"{w:g}" for w in wl]
         fh.write(",".join(head) + "\n")
         for k, row in enumerate(rows):
             cells = ([names[k]] if names is not None else []) + [repr(float(v)) for v in row]
@@ -76,12 +75,19 @@ def mixed_folder(tmp_path_factory):
         for w, x, y in zip(wl5, a.tolist(), b.tolist()):
             fh.write(f"{w:g},{x!r},{y!r}\n")
     wl1 = np.arange(360, 831, 1.0)
-    (d / "b_single.json").write_text(json.dumps({
-        "quantity": "irradiance", "wavelength_nm": wl1.tolist(),
-        "spectra": [{"name": "south lamp", "values": led(wl1, 455, 1.3).tolist()}],
-    }))
+    (d / "b_single.json").write_text(
+        json.dumps(
+            {
+                "quantity": "irradiance",
+                "wavelength_nm": wl1.tolist(),
+                "spectra": [{"name": "south lamp", "values": led(wl1, 455, 1.3).tolist()}],
+            }
+        )
+    )
     wl10 = np.arange(380, 781, 10.0)
-    data = "\n".join(f'    <SpectralData wavelength="{w:g}">{v!r}</SpectralData>' for w, v in zip(wl10, led(wl10, 445, 0.8).tolist()))
+    data = "\n".join(
+        f'    <SpectralData wavelength="{w:g}">{v!r}</SpectralData>' for w, v in zip(wl10, led(wl10, 445, 0.8).tolist())
+    )
     (d / "c_tm27.spdx").write_text(
         '<?xml version="1.0" encoding="UTF-8"?>\n<IESTM2714 xmlns="http://www.ies.org/iestm2714" version="1.0">\n'
         "  <Header><Manufacturer>Quay Works</Manufacturer><Description>synthetic</Description></Header>\n"
@@ -214,9 +220,19 @@ def test_dask_local_cluster_equals_local(wide_file, tmp_path):
     distributed = pytest.importorskip("distributed")
     r = run("batch", wide_file, "-o", tmp_path / "local.csv", "--chunk-size", 50, "--workers", 1)
     assert r.exit_code == 0, r.stderr
-    with distributed.LocalCluster(n_workers=1, threads_per_worker=1, processes=False, dashboard_address=None) as cluster:
-        r = run("batch", wide_file, "-o", tmp_path / "dask.csv", "--chunk-size", 50,
-                "--scheduler", cluster.scheduler_address)
+    with distributed.LocalCluster(
+        n_workers=1, threads_per_worker=1, processes=False, dashboard_address=None
+    ) as cluster:
+        r = run(
+            "batch",
+            wide_file,
+            "-o",
+            tmp_path / "dask.csv",
+            "--chunk-size",
+            50,
+            "--scheduler",
+            cluster.scheduler_address,
+        )
     assert r.exit_code == 0, r.stderr
     assert "dask" in r.stderr
     assert (tmp_path / "dask.csv").read_bytes() == (tmp_path / "local.csv").read_bytes()
@@ -267,8 +283,9 @@ def test_parquet_inputs_equal_the_wide_csv(wide_file, tmp_path):
     cols = {"name": pa.array(list(ref.names))}
     for j in range(ref.wavelength_nm.size - 1, -1, -1):
         cols[f"{ref.wavelength_nm[j]:g}"] = pa.array(ref.values[:, j])
-    pq.write_table(pa.table(cols).replace_schema_metadata({"quantity": "irradiance"}), tmp_path / "cols.parquet",
-                   row_group_size=40)
+    pq.write_table(
+        pa.table(cols).replace_schema_metadata({"quantity": "irradiance"}), tmp_path / "cols.parquet", row_group_size=40
+    )
     # one list column with the axis in the metadata
     t = pa.table({"values": pa.array(ref.values.tolist(), type=pa.list_(pa.float64()))})
     t = t.replace_schema_metadata({"wavelength_nm": json.dumps(ref.wavelength_nm.tolist()), "quantity": "irradiance"})
@@ -445,8 +462,15 @@ def test_columnar_table_matches_row_by_row_flattening(wide_file):
     odd = [
         {"name": "a", "x": 1.0, "R": [1.0, None], "flags": [{"code": "c1", "message": "m"}], "n": 2, "ok": True},
         {"name": "b", "x": None, "R": [2.0, 3.0], "flags": [], "n": 3, "ok": None, "extra": "s", "L": [1, 2, 3]},
-        {"name": "c", "x": 2.5, "R": None, "flags": [{"code": "c1", "message": "m"}, {"code": "c2", "message": "n"}],
-         "n": 4, "ok": False, "L": [4, 5]},
+        {
+            "name": "c",
+            "x": 2.5,
+            "R": None,
+            "flags": [{"code": "c1", "message": "m"}, {"code": "c2", "message": "n"}],
+            "n": 4,
+            "ok": False,
+            "L": [4, 5],
+        },
     ]
     for records in (real, odd):
         flat = [flatten_record(r) for r in records]
@@ -476,8 +500,9 @@ def test_wide_unit_directive_and_descending_header(tmp_path):
     wl = np.arange(380, 781, 5.0)
     rows = wide_rows(4, wl)
     write_wide(tmp_path / "w.csv", wl, rows, ["a", "b", "c", "d"], header_comment="# quantity: irradiance")
-    write_wide(tmp_path / "mw.csv", wl[::-1], rows[:, ::-1] * 1000.0, ["a", "b", "c", "d"],
-               header_comment="# unit: mW/m2/nm")
+    write_wide(
+        tmp_path / "mw.csv", wl[::-1], rows[:, ::-1] * 1000.0, ["a", "b", "c", "d"], header_comment="# unit: mW/m2/nm"
+    )
     (ref,) = list(open_chunked(tmp_path / "w.csv").chunks())
     (got,) = list(open_chunked(tmp_path / "mw.csv").chunks())
     assert got.quantity is ref.quantity and got.quantity.value == "irradiance"

@@ -69,9 +69,14 @@ def reference(lot, tmp_path_factory) -> bytes:
 
 
 def _start(args: list, cwd: Path) -> subprocess.Popen:
-    return subprocess.Popen([sys.executable, "-m", "cctkit", "batch", *map(str, args)], cwd=cwd,
-                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
-                            env={**os.environ, "OPENBLAS_NUM_THREADS": "1"})
+    return subprocess.Popen(
+        [sys.executable, "-m", "cctkit", "batch", *map(str, args)],
+        cwd=cwd,
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+        env={**os.environ, "OPENBLAS_NUM_THREADS": "1"},
+    )
 
 
 def _children(pid: int) -> list[int]:
@@ -130,8 +135,9 @@ def test_resume_refuses_another_chunking(lot, tmp_path):
     out = tmp_path / "out.csv"
     partial, journal = tmp_path / "out.csv.partial", tmp_path / "out.csv.partial.json"
     partial.write_text("name\n")
-    journal.write_text(json.dumps({"identity": {"chunk_size": 7}, "chunks": 1, "spectra": 7, "bytes": 5,
-                                   "columns": ["name"]}))
+    journal.write_text(
+        json.dumps({"identity": {"chunk_size": 7}, "chunks": 1, "spectra": 7, "bytes": 5, "columns": ["name"]})
+    )
     r = run("batch", lot, "-o", out, "--chunk-size", 10, "--no-rendering", "--resume")
     assert r.exit_code == 2 and "cannot continue" in r.output and "chunk size" in r.output
     # without --resume the unfinished run's files are removed, with a note, and the run starts afresh
@@ -145,8 +151,9 @@ def test_sigterm_removes_the_temporary_file_and_the_workers(long_lot, tmp_path):
     # (without it, 4,800 spectra take under a second; the test failed once in a full run, 3 Dec 11:48)
     proc = _start([long_lot, "-o", tmp_path / "out.csv", "--chunk-size", 10, "--workers", 2], tmp_path)
     try:
-        assert _wait_until(lambda: any(p.name.endswith(".tmp.csv") for p in tmp_path.iterdir())
-                           and len(_children(proc.pid)) >= 2)
+        assert _wait_until(
+            lambda: any(p.name.endswith(".tmp.csv") for p in tmp_path.iterdir()) and len(_children(proc.pid)) >= 2
+        )
         workers = _children(proc.pid)
         proc.send_signal(signal.SIGTERM)
         _, err = proc.communicate(timeout=60)
@@ -187,8 +194,13 @@ def test_a_local_worker_killed_mid_run_changes_nothing(lot, reference, tmp_path)
                 os.kill(victim.pid, signal.SIGKILL)
                 killed.append(victim.pid)
 
-    summary = run_batch(open_chunked(lot, chunk_size=10), tmp_path / "out.csv", workers=2, rendering=False,
-                        progress=KillOnce(None, enabled=False))
+    summary = run_batch(
+        open_chunked(lot, chunk_size=10),
+        tmp_path / "out.csv",
+        workers=2,
+        rendering=False,
+        progress=KillOnce(None, enabled=False),
+    )
     assert killed and summary.spectra == 400
     assert (tmp_path / "out.csv").read_bytes() == reference
 
@@ -243,12 +255,15 @@ def test_an_input_changed_during_the_run_is_refused(lot, tmp_path):
 # --------------------------------------------------------------------------- Dask
 
 
-@pytest.mark.parametrize("address, reason", [
-    ("tcp://127.0.0.1:9", "cannot reach the Dask scheduler at tcp://127.0.0.1:9 (Connection refused)"),
-    ("tls://127.0.0.1:9", "tls:// needs certificates"),
-    ("udp://127.0.0.1:9", "expected tcp://host:port"),
-    ("tcp://127.0.0.1", "expected host:port"),
-])
+@pytest.mark.parametrize(
+    "address, reason",
+    [
+        ("tcp://127.0.0.1:9", "cannot reach the Dask scheduler at tcp://127.0.0.1:9 (Connection refused)"),
+        ("tls://127.0.0.1:9", "tls:// needs certificates"),
+        ("udp://127.0.0.1:9", "expected tcp://host:port"),
+        ("tcp://127.0.0.1", "expected host:port"),
+    ],
+)
 def test_bad_scheduler_is_one_line_and_fast(lot, tmp_path, address, reason):
     t0 = time.monotonic()
     r = run("batch", lot, "-o", tmp_path / "out.csv", "--scheduler", address, "--no-rendering")
@@ -264,9 +279,12 @@ def test_dask_worker_killed_mid_run_loses_and_doubles_nothing(lot, reference, tm
     from cctkit.batch import Progress, run_batch
     from cctkit.readers.wide import open_chunked
 
-    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True, host="127.0.0.1",
-                                  dashboard_address=None, silence_logs=50) as cluster, \
-            distributed.Client(cluster) as client:
+    with (
+        distributed.LocalCluster(
+            n_workers=2, threads_per_worker=1, processes=True, host="127.0.0.1", dashboard_address=None, silence_logs=50
+        ) as cluster,
+        distributed.Client(cluster) as client,
+    ):
         pids = client.run(os.getpid)  # worker address -> process id
         victim = sorted(pids.values())[0]
 
@@ -276,8 +294,13 @@ def test_dask_worker_killed_mid_run_loses_and_doubles_nothing(lot, reference, tm
                 if self.done == 50:  # after the first chunk: one worker dies with chunks in flight
                     os.kill(victim, signal.SIGKILL)
 
-        summary = run_batch(open_chunked(lot, chunk_size=50), tmp_path / "dask.csv", scheduler=cluster.scheduler_address,
-                            rendering=False, progress=KillOnce(None, enabled=False))
+        summary = run_batch(
+            open_chunked(lot, chunk_size=50),
+            tmp_path / "dask.csv",
+            scheduler=cluster.scheduler_address,
+            rendering=False,
+            progress=KillOnce(None, enabled=False),
+        )
     assert summary.spectra == 400
     run_batch(open_chunked(lot, chunk_size=50), tmp_path / "here.csv", workers=1, rendering=False)
     # Every row once, in order, with the same bytes: the chunk function is pure, and a Dask worker process

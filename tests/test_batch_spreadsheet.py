@@ -32,8 +32,12 @@ def lot(tmp_path_factory) -> Path:
     names = [f"W{k:02d}" for k in range(12)]
     names[3], names[7] = "=1+2", "@SUM(A1)"
     body = "".join(
-        f"{n}," + ",".join(repr(float(v)) for v in np.exp(-0.5 * ((WL - 445 - k) / 11.0) ** 2)
-                           + 0.9 * np.exp(-0.5 * ((WL - 575 + 3 * k) / 55.0) ** 2)) + "\n"
+        f"{n},"
+        + ",".join(
+            repr(float(v))
+            for v in np.exp(-0.5 * ((WL - 445 - k) / 11.0) ** 2) + 0.9 * np.exp(-0.5 * ((WL - 575 + 3 * k) / 55.0) ** 2)
+        )
+        + "\n"
         for k, n in enumerate(names)
     )
     f = d / "lot.csv"

@@ -104,8 +104,13 @@ def _kkt_ok(res, d: np.ndarray, tol: float = 1e-7) -> bool:
         from scipy.optimize import linprog
 
         # any y with the sign conditions: a small feasibility problem in y
-        r = linprog(np.zeros(3), A_ub=np.vstack([A[:, lower].T, -A[:, upper].T]),
-                    b_ub=np.concatenate([c[lower], -c[upper]]), bounds=[(None, None)] * 3, method="highs")
+        r = linprog(
+            np.zeros(3),
+            A_ub=np.vstack([A[:, lower].T, -A[:, upper].T]),
+            b_ub=np.concatenate([c[lower], -c[upper]]),
+            bounds=[(None, None)] * 3,
+            method="highs",
+        )
         if r.status != 0:
             return False
         y = r.x
@@ -113,10 +118,13 @@ def _kkt_ok(res, d: np.ndarray, tol: float = 1e-7) -> bool:
     return bool(np.all(np.abs(r[free]) <= tol) and np.all(r[lower] >= -tol) and np.all(r[upper] <= tol))
 
 
-@pytest.mark.parametrize("names, step", [
-    (["royal blue", "warm white", "lime", "red"], 1e-4),
-    (["royal blue", "warm white", "cool white", "lime", "red"], 2e-3),
-])
+@pytest.mark.parametrize(
+    "names, step",
+    [
+        (["royal blue", "warm white", "lime", "red"], 1e-4),
+        (["royal blue", "warm white", "cool white", "lime", "red"], 2e-3),
+    ],
+)
 @pytest.mark.parametrize("objective, sense", [("efficacy", "max"), ("melanopic", "max"), ("melanopic", "min")])
 @pytest.mark.parametrize("cct_K", [2200.0, 4000.0, 6000.0])
 def test_linear_objectives_equal_a_brute_force_search(wash, names, step, objective, sense, cct_K):
@@ -171,8 +179,15 @@ def _recheck(path):
     ok = path.ok
     D = path.drives[ok]
     assert np.all((D >= 0) & (D <= 1))
-    a = analyse(Spectra(WAVELENGTH_NM, D @ path.channels.values, names=[str(i) for i in range(len(D))],
-                        quantity=path.channels.quantity), rendering=False)
+    a = analyse(
+        Spectra(
+            WAVELENGTH_NM,
+            D @ path.channels.values,
+            names=[str(i) for i in range(len(D))],
+            quantity=path.channels.quantity,
+        ),
+        rendering=False,
+    )
     # tolerances of the issue: |dDuv| <= 1e-5, |dCCT| <= 0.5 K
     assert np.max(np.abs(a.cct.duv - path.target_duv[ok])) <= 1e-5
     assert np.max(np.abs(a.cct.cct_K - path.target_cct_K[ok])) <= 0.5
@@ -247,8 +262,7 @@ def test_fidelity_beats_a_grid_of_blends(wash):
     rest = np.linalg.solve(M[:, 2:], (target[:, None] - M[:, :2] @ G.T)).T
     ok = np.all((rest >= 0) & (rest <= 1), axis=1)
     D = np.hstack([G, rest])[ok]
-    g = analyse(Spectra(WAVELENGTH_NM, D @ wash.values, names=[str(i) for i in range(len(D))],
-                        quantity=wash.quantity))
+    g = analyse(Spectra(WAVELENGTH_NM, D @ wash.values, names=[str(i) for i in range(len(D))], quantity=wash.quantity))
     inside = (g.tm30.Rg >= 95) & (g.tm30.Rg <= 110)
     assert inside.sum() >= 10
     # within the grid's resolution (0.025 in drive level) of the best grid blend; measured margin 0.0-0.1
@@ -281,11 +295,14 @@ def test_read_power_refuses_bad_files(tmp_path):
         blend.read_power(f, ["a", "b"])
 
 
-@pytest.mark.parametrize("text, message", [
-    ("6500:1800:100", "FIRST <= LAST"),
-    ("1800:6500", "FIRST:LAST:STEP or a comma list"),
-    ("500,600", "between 1000 and 25000 K"),
-])
+@pytest.mark.parametrize(
+    "text, message",
+    [
+        ("6500:1800:100", "FIRST <= LAST"),
+        ("1800:6500", "FIRST:LAST:STEP or a comma list"),
+        ("500,600", "between 1000 and 25000 K"),
+    ],
+)
 def test_bad_cct_paths(text, message):
     with pytest.raises(InputError, match=message):
         blend.parse_cct_path(text)
@@ -301,8 +318,21 @@ def test_cct_path_is_inclusive():
 
 def test_cli_json_drive_table(tmp_path):
     out = tmp_path / "drives.json"
-    r = runner.invoke(app, ["blend", str(CHANNELS), "--power", str(POWER), "--cct", "2700,4000,6000",
-                            "--maximise", "melanopic", "--output", str(out)])
+    r = runner.invoke(
+        app,
+        [
+            "blend",
+            str(CHANNELS),
+            "--power",
+            str(POWER),
+            "--cct",
+            "2700,4000,6000",
+            "--maximise",
+            "melanopic",
+            "--output",
+            str(out),
+        ],
+    )
     assert r.exit_code == 0, r.output
     doc = json.loads(out.read_text())
     assert doc["objective"]["quantity"] == "melanopic" and doc["objective"]["sense"] == "maximise"
@@ -319,8 +349,22 @@ def test_cli_json_drive_table(tmp_path):
 
 def test_cli_csv_and_report(tmp_path):
     csv_out, pdf = tmp_path / "drives.csv", tmp_path / "tuning.pdf"
-    r = runner.invoke(app, ["blend", str(CHANNELS), "--cct", "1800:6500:900", "--duv=-0.002", "--luminous", "300",
-                            "--output", str(csv_out), "--report", str(pdf)])
+    r = runner.invoke(
+        app,
+        [
+            "blend",
+            str(CHANNELS),
+            "--cct",
+            "1800:6500:900",
+            "--duv=-0.002",
+            "--luminous",
+            "300",
+            "--output",
+            str(csv_out),
+            "--report",
+            str(pdf),
+        ],
+    )
     assert r.exit_code == 0, r.output
     lines = csv_out.read_text().splitlines()
     assert lines[0].startswith("target_cct_K,target_duv,target_u,target_v,status,drive_royal blue,")
@@ -345,26 +389,34 @@ def test_cli_channels_on_different_grids_or_quantities_are_refused(tmp_path):
     a = tmp_path / "a.csv"
     b = tmp_path / "b.csv"
     c = tmp_path / "c.csv"
-    a.write_text("# quantity: radiant-flux\n# unit: W/nm\nwavelength_nm,x,y\n"
-                 + "".join(f"{w},1.0,2.0\n" for w in range(380, 781, 5)))
-    b.write_text("# quantity: radiant-flux\n# unit: W/nm\nwavelength_nm,z\n"
-                 + "".join(f"{w},1.0\n" for w in range(380, 781, 10)))
-    c.write_text("# quantity: irradiance\n# unit: W/(m^2 nm)\nwavelength_nm,z\n"
-                 + "".join(f"{w},1.0\n" for w in range(380, 781, 5)))
+    a.write_text(
+        "# quantity: radiant-flux\n# unit: W/nm\nwavelength_nm,x,y\n"
+        + "".join(f"{w},1.0,2.0\n" for w in range(380, 781, 5))
+    )
+    b.write_text(
+        "# quantity: radiant-flux\n# unit: W/nm\nwavelength_nm,z\n" + "".join(f"{w},1.0\n" for w in range(380, 781, 10))
+    )
+    c.write_text(
+        "# quantity: irradiance\n# unit: W/(m^2 nm)\nwavelength_nm,z\n"
+        + "".join(f"{w},1.0\n" for w in range(380, 781, 5))
+    )
     for other, what in ((b, "different wavelength grid"), (c, "all channels must be one quantity")):
         r = runner.invoke(app, ["blend", str(a), str(other), "--cct", "3000"])
         assert r.exit_code == 2
         assert r.output.count("\n") == 1 and other.name in r.output and what in r.output
 
 
-@pytest.mark.parametrize("args, message", [
-    (["--maximise", "speed"], "--maximise must be"),
-    (["--minimise", "efficacy"], "--minimise must be"),
-    (["--rg", "110:95"], "LO <= HI"),
-    (["--power", "1,2"], "2 power values given for 5 channels"),
-    (["--luminous", "bright"], "--luminous must be"),
-    (["--duv", "ansii"], "--duv must be a number or 'ansi'"),
-])
+@pytest.mark.parametrize(
+    "args, message",
+    [
+        (["--maximise", "speed"], "--maximise must be"),
+        (["--minimise", "efficacy"], "--minimise must be"),
+        (["--rg", "110:95"], "LO <= HI"),
+        (["--power", "1,2"], "2 power values given for 5 channels"),
+        (["--luminous", "bright"], "--luminous must be"),
+        (["--duv", "ansii"], "--duv must be a number or 'ansi'"),
+    ],
+)
 def test_cli_bad_options(args, message):
     r = runner.invoke(app, ["blend", str(CHANNELS), "--cct", "3000", *args])
     assert r.exit_code == 2 and r.output.count("\n") == 1 and message in r.output
@@ -372,7 +424,9 @@ def test_cli_bad_options(args, message):
 
 def test_cli_power_needs_radiant_flux(tmp_path):
     f = tmp_path / "irr.csv"
-    f.write_text("# quantity: irradiance\n# unit: W/(m^2 nm)\nwavelength_nm,a,b,c\n"
-                 + "".join(f"{w},1.0,{w / 500},{500 / w}\n" for w in range(380, 781, 5)))
+    f.write_text(
+        "# quantity: irradiance\n# unit: W/(m^2 nm)\nwavelength_nm,a,b,c\n"
+        + "".join(f"{w},1.0,{w / 500},{500 / w}\n" for w in range(380, 781, 5))
+    )
     r = runner.invoke(app, ["blend", str(f), "--cct", "3000", "--power", "1,1,1"])
     assert r.exit_code == 2 and "radiant flux" in r.output

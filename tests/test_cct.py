@@ -20,8 +20,9 @@ def brute_force(uv, observer=2):
     ms = np.linspace(10, 1000, 2000)
     d = np.sum((planckian_uv(1e6 / ms) - uv) ** 2, axis=-1)
     i = int(np.argmin(d))
-    r = minimize_scalar(dist, bounds=(ms[max(i - 1, 0)], ms[min(i + 1, ms.size - 1)]), method="bounded",
-                        options={"xatol": 1e-10})
+    r = minimize_scalar(
+        dist, bounds=(ms[max(i - 1, 0)], ms[min(i + 1, ms.size - 1)]), method="bounded", options={"xatol": 1e-10}
+    )
     return 1e6 / r.x
 
 

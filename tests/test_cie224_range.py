@@ -16,8 +16,12 @@ colour = pytest.importorskip("colour")
 def _measured(name: str, lo: int, hi: int) -> Spectra:
     sd = colour.SDS_ILLUMINANTS[name].copy().align(colour.SpectralShape(360, 830, 1))
     keep = (sd.wavelengths >= lo) & (sd.wavelengths <= hi)
-    return Spectra(wavelength_nm=sd.wavelengths[keep], values=sd.values[keep][None], names=(f"{name} {lo}-{hi}",),
-                   quantity=Quantity.RELATIVE)
+    return Spectra(
+        wavelength_nm=sd.wavelengths[keep],
+        values=sd.values[keep][None],
+        names=(f"{name} {lo}-{hi}",),
+        quantity=Quantity.RELATIVE,
+    )
 
 
 def _library_rf_zero_filled(s: Spectra) -> float:

@@ -29,8 +29,15 @@ def _fl_records() -> tuple[dict, ...]:
     for i in range(1, 13):
         sd = colour.SDS_ILLUMINANTS[f"FL{i}"]
         xy = colour.XYZ_to_xy(colour.sd_to_XYZ(sd))
-        out.append({"name": f"FL{i}", "quantity": "relative", "x": float(xy[0]), "y": float(xy[1]),
-                    "Ra": float(colour.colour_rendering_index(sd))})
+        out.append(
+            {
+                "name": f"FL{i}",
+                "quantity": "relative",
+                "x": float(xy[0]),
+                "y": float(xy[1]),
+                "Ra": float(colour.colour_rendering_index(sd)),
+            }
+        )
     return tuple(out)
 
 
@@ -110,8 +117,10 @@ def test_guard_band_decisions():
 
 
 def test_as_dict_layout():
-    v = cl.verify([{"name": "a", "Ra": 92.0, "R": [90.0] * 8 + [55.0] + [80.0] * 5}],
-                  _claims({"limits": {"Ra": {"min": 90}, "R9": {"min": 50}}}))
+    v = cl.verify(
+        [{"name": "a", "Ra": 92.0, "R": [90.0] * 8 + [55.0] + [80.0] * 5}],
+        _claims({"limits": {"Ra": {"min": 90}, "R9": {"min": 50}}}),
+    )
     d = v.as_dict()
     assert set(d) == {"verdict", "samples", "summary"}
     assert set(d["samples"][0]) == {"name", "verdict", "declared_id", "checks"}
@@ -139,8 +148,10 @@ def test_efficacy_from_single_power_and_from_sidecar(tmp_path):
     assert v.samples[0].checks[0].value == pytest.approx(1210.0 / 10.5)
     assert [s.verdict for s in v.samples] == ["pass", "fail"]
     (tmp_path / "p.csv").write_text("# electrical input power\nname,power_W,declared_id\nu1,11.5,SN-1\nu2,10.2,SN-2\n")
-    c2 = _claims({"limits": {"efficacy_lm_per_W": {"min": 110}, "power_W": {"max": 11}},
-                  "samples": {"sidecar": "p.csv"}}, tmp_path)
+    c2 = _claims(
+        {"limits": {"efficacy_lm_per_W": {"min": 110}, "power_W": {"max": 11}}, "samples": {"sidecar": "p.csv"}},
+        tmp_path,
+    )
     v2 = cl.verify(recs, c2)
     assert [s.verdict for s in v2.samples] == ["fail", "pass"]
     assert v2.samples[1].checks[0].value == pytest.approx(1150.0 / 10.2)
@@ -182,13 +193,16 @@ def test_malformed_claims(doc, message):
         _claims(doc)
 
 
-@pytest.mark.parametrize("text, message", [
-    ("name,power_W\nu1,abc\n", r"p.csv:2: power_W 'abc' is not a number"),
-    ("name,watts\nu1,3\n", r"p.csv:1: sidecar has no 'power_W' column"),
-    ("name,power_W\nu1,3\nu1,4\n", r"p.csv:3: sample 'u1' listed twice"),
-    ("name,power_W\nu1,0\n", r"p.csv:2: power_W must be a positive number"),
-    ("", r"p.csv: sidecar is empty"),
-])
+@pytest.mark.parametrize(
+    "text, message",
+    [
+        ("name,power_W\nu1,abc\n", r"p.csv:2: power_W 'abc' is not a number"),
+        ("name,watts\nu1,3\n", r"p.csv:1: sidecar has no 'power_W' column"),
+        ("name,power_W\nu1,3\nu1,4\n", r"p.csv:3: sample 'u1' listed twice"),
+        ("name,power_W\nu1,0\n", r"p.csv:2: power_W must be a positive number"),
+        ("", r"p.csv: sidecar is empty"),
+    ],
+)
 def test_malformed_sidecar(tmp_path, text, message):
     (tmp_path / "p.csv").write_text(text)
     with pytest.raises(InputError, match=message):
@@ -257,8 +271,10 @@ def _run(args):
 def test_cli_verify_and_bin(tmp_path):
     spectra = _write_fl_csv(tmp_path)
     claims = tmp_path / "c.toml"
-    claims.write_text('[claims]\nsupplier = "Test"\n[limits]\ncct_K = { min = 2870, max = 3220 }\n'
-                      "[chromaticity]\nnominal_cct_K = 3000\nansi_quadrangle = true\nmax_sdcm = 3\n")
+    claims.write_text(
+        '[claims]\nsupplier = "Test"\n[limits]\ncct_K = { min = 2870, max = 3220 }\n'
+        "[chromaticity]\nnominal_cct_K = 3000\nansi_quadrangle = true\nmax_sdcm = 3\n"
+    )
     r = _run(["verify", str(spectra), "--claims", str(claims), "--json"])
     assert r.exit_code == 1, r.stderr
     doc = json.loads(r.stdout)
@@ -268,8 +284,9 @@ def test_cli_verify_and_bin(tmp_path):
     assert r.exit_code == 1
     assert "verdict: FAIL" in r.stdout and "FL12" in r.stdout
     header = out.read_text().splitlines()[0]
-    assert header.startswith("name,declared_id,verdict,cct_K_value,cct_K_min,cct_K_max,cct_K_margin,cct_K_U,"
-                             "cct_K_result")
+    assert header.startswith(
+        "name,declared_id,verdict,cct_K_value,cct_K_min,cct_K_max,cct_K_margin,cct_K_U,cct_K_result"
+    )
     r = _run(["verify", str(spectra), "--claims", str(claims), "--output", str(out)])
     assert r.exit_code == 2 and "--overwrite" in r.stderr and r.stderr.count("\n") == 1
     ok = tmp_path / "ok.toml"

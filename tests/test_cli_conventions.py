@@ -52,7 +52,11 @@ def test_locus_prints_a_table_for_people_and_csv_on_request(tmp_path):
     assert r.exit_code == 0
     lines = r.stdout.splitlines()
     assert lines[0] == "Planckian locus, CIE 1931 2° observer" and lines[1].split()[:3] == ["T", "[K]", "x"]
-    assert lines[2].split()[:3] == ["2000", "0.52668", "0.41330"]  # 2000 K: x 0.5267, y 0.4133, CIE 15 locus (from memory)
+    assert lines[2].split()[:3] == [
+        "2000",
+        "0.52668",
+        "0.41330",
+    ]  # 2000 K: x 0.5267, y 0.4133, CIE 15 locus (from memory)
     assert "," not in "\n".join(lines[1:])
     csv = run("locus", "--from", "2000", "--to", "2100", "--step", "50", "--csv")
     assert csv.stdout.splitlines()[0] == "T_K,x,y,u,v,u_prime,v_prime" and len(csv.stdout.splitlines()) == 4
@@ -60,12 +64,15 @@ def test_locus_prints_a_table_for_people_and_csv_on_request(tmp_path):
     assert out.stdout == "" and (tmp_path / "l.csv").read_text() == csv.stdout
 
 
-@pytest.mark.parametrize("args, name", [
-    (("blackbody", "-5"), "T_K"),
-    (("reference", "-5"), "CCT_K"),
-    (("locus", "--from", "-5"), "--from"),
-    (("locus", "--to", "-300"), "--to"),
-])
+@pytest.mark.parametrize(
+    "args, name",
+    [
+        (("blackbody", "-5"), "T_K"),
+        (("reference", "-5"), "CCT_K"),
+        (("locus", "--from", "-5"), "--from"),
+        (("locus", "--to", "-300"), "--to"),
+    ],
+)
 def test_negative_temperatures_must_be_positive(args, name):
     r = run(*args)
     assert r.exit_code == 2
@@ -80,7 +87,7 @@ def test_locus_range_is_stated_and_matches_the_readme():
     assert "500 to 1000000" in run("locus", "--help").output
     readme = (ROOT / "README.md").read_text()
     locus_line = next(line for line in readme.splitlines() if line.startswith("cctkit locus"))
-    described = readme[readme.index(locus_line):].splitlines()[1]
+    described = readme[readme.index(locus_line) :].splitlines()[1]
     assert "500" in described and "1,000,000 K" in described
 
 

@@ -27,8 +27,10 @@ def test_cct_from_xy_json():
 
 
 def test_cct_methods_agree_on_a_datasheet_point():
-    docs = [json.loads(run("cct", "--xy", "0.4369", "0.4041", "--json", "--method", m).stdout)
-            for m in ("exact", "ohno2013", "robertson1968")]
+    docs = [
+        json.loads(run("cct", "--xy", "0.4369", "0.4041", "--json", "--method", m).stdout)
+        for m in ("exact", "ohno2013", "robertson1968")
+    ]
     # At this point our Ohno 2013 (one 1 % table) differs from the exact solver by 0.22 K and
     # Robertson 1968 by 0.19 K (measured); 2 K catches a broken method, not rounding.
     assert all(abs(d["cct_K"] - docs[0]["cct_K"]) < 2.0 for d in docs)
@@ -133,12 +135,19 @@ def test_short_commands_import_no_validation_library_and_no_numpy_ma(tmp_path):
     spectrum = Path(cctkit.__file__).resolve().parents[1] / "spectra" / "northbeam-nb-3000-95.csv"
     heavy = ("pydantic", "numpy.ma", "importlib.metadata", "colour", "scipy", "matplotlib", "pandas", "pyarrow")
     for argv in (["cct", "--xy", "0.3127,0.3290", "--json"], ["inspect", str(spectrum), "--json"]):
-        code = ("import sys, json; from cctkit.cli import _app_for; "
-                f"_app_for({argv!r})({argv!r}, standalone_mode=False); "
-                f"print(json.dumps(sorted(m for m in {heavy!r} if m in sys.modules)), file=sys.stderr)")
+        code = (
+            "import sys, json; from cctkit.cli import _app_for; "
+            f"_app_for({argv!r})({argv!r}, standalone_mode=False); "
+            f"print(json.dumps(sorted(m for m in {heavy!r} if m in sys.modules)), file=sys.stderr)"
+        )
         for _ in range(2):  # the first run builds the table cache (from colour-science), the second reads it
-            r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True,
-                               env={**os.environ, "CCTKIT_CACHE_DIR": str(tmp_path / "cache")})
+            r = subprocess.run(
+                [sys.executable, "-c", code],
+                capture_output=True,
+                text=True,
+                check=True,
+                env={**os.environ, "CCTKIT_CACHE_DIR": str(tmp_path / "cache")},
+            )
         assert json.loads(r.stderr.strip().splitlines()[-1]) == [], argv
         assert json.loads(r.stdout) == json.loads(run(*argv).stdout)
 

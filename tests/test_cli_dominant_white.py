@@ -39,8 +39,9 @@ def test_inspect_names_and_uses_the_white():
 def test_bad_white_is_one_line_exit_2():
     r = run("inspect", DEMO, "--dominant-white", "D75")
     assert r.exit_code == 2
-    assert r.output.strip() == ("cctkit: --dominant-white: white point must be one of E, D65, D50, A or x,y "
-                                "(e.g. 0.3127,0.3290), got 'D75'")
+    assert r.output.strip() == (
+        "cctkit: --dominant-white: white point must be one of E, D65, D50, A or x,y (e.g. 0.3127,0.3290), got 'D75'"
+    )
 
 
 def test_batch_rows_carry_the_white(tmp_path):

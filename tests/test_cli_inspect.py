@@ -30,9 +30,34 @@ def test_json_document_has_the_promised_keys():
     doc = inspect_json(SPECTRA / "northbeam-nb-3000-95.csv")
     assert doc["cctkit_version"] and doc["conventions"]["c2_m_K"] == 1.4388e-2  # CIE 15:2018 section 9.1
     (rec,) = doc["spectra"]
-    for key in ("name", "cct_K", "duv", "x", "y", "u", "v", "u_prime", "v_prime", "luminous_flux_lm",
-                "ler_lm_per_W", "sp_ratio", "melanopic_der", "peak_nm", "centroid_nm", "fwhm_nm",
-                "dominant_wavelength_nm", "purity", "Ra", "R", "Rf", "Rg", "Rf_h", "Rcs_h", "Rhs_h", "sha256"):
+    for key in (
+        "name",
+        "cct_K",
+        "duv",
+        "x",
+        "y",
+        "u",
+        "v",
+        "u_prime",
+        "v_prime",
+        "luminous_flux_lm",
+        "ler_lm_per_W",
+        "sp_ratio",
+        "melanopic_der",
+        "peak_nm",
+        "centroid_nm",
+        "fwhm_nm",
+        "dominant_wavelength_nm",
+        "purity",
+        "Ra",
+        "R",
+        "Rf",
+        "Rg",
+        "Rf_h",
+        "Rcs_h",
+        "Rhs_h",
+        "sha256",
+    ):
         assert key in rec, key
     # 14 test colour samples (CIE 13.3-1995), 16 hue bins (ANSI/IES TM-30-20), 99 CES (CIE 224:2017)
     assert len(rec["R"]) == 14 and len(rec["Rf_h"]) == 16 and len(rec["Rf_i"]) == 99
@@ -60,11 +85,15 @@ def test_numbers_match_the_reference_library():
 def test_same_input_gives_identical_bytes(tmp_path):
     a, b = tmp_path / "a.json", tmp_path / "b.json"
     for out in (a, b):
-        assert runner.invoke(app, ["inspect", str(SPECTRA / "tw-lab-setpoints.csv"), "--output", str(out)]).exit_code == 0
+        assert (
+            runner.invoke(app, ["inspect", str(SPECTRA / "tw-lab-setpoints.csv"), "--output", str(out)]).exit_code == 0
+        )
     assert a.read_bytes() == b.read_bytes()
     c1, c2 = tmp_path / "a.csv", tmp_path / "b.csv"
     for out in (c1, c2):
-        assert runner.invoke(app, ["inspect", str(SPECTRA / "tw-lab-setpoints.csv"), "--output", str(out)]).exit_code == 0
+        assert (
+            runner.invoke(app, ["inspect", str(SPECTRA / "tw-lab-setpoints.csv"), "--output", str(out)]).exit_code == 0
+        )
     assert c1.read_bytes() == c2.read_bytes()
     header = c1.read_text().splitlines()[0].split(",")
     assert {"R9", "Rf_h16", "sha256"} <= set(header)
@@ -102,7 +131,9 @@ def test_dc_validity_is_flagged(tmp_path):
     from cctkit.planck import spectral_exitance
 
     wl = WAVELENGTH_NM
-    v = spectral_exitance(3000.0) * (1 + 0.6 * np.exp(-0.5 * ((wl - 620) / 25) ** 2) + 0.5 * np.exp(-0.5 * ((wl - 450) / 20) ** 2))
+    v = spectral_exitance(3000.0) * (
+        1 + 0.6 * np.exp(-0.5 * ((wl - 620) / 25) ** 2) + 0.5 * np.exp(-0.5 * ((wl - 450) / 20) ** 2)
+    )
     f = write_csv(tmp_path / "pinkish.csv", wl, v / v.max())
     rec = inspect_json(f)["spectra"][0]
     assert rec["cri_dc"] >= 5.4e-3 and rec["cri_valid"] is False  # CIE 13.3-1995 section 5.3

@@ -45,7 +45,7 @@ def test_lot_fails_where_the_scenario_says(tmp_path):
 
 def test_claims_typo_is_one_line(tmp_path):
     bad = tmp_path / "bad.toml"
-    bad.write_text('[limits]\nRa = { min = 90 }\nR99 = { min = 50 }\n')
+    bad.write_text("[limits]\nRa = { min = 90 }\nR99 = { min = 50 }\n")
     r = runner.invoke(app, ["verify", str(ROOT / "northbeam-nb-3000-95.csv"), "--claims", str(bad)])
     assert r.exit_code == 2
     lines = [l for l in r.output.splitlines() if l.strip()]
@@ -66,7 +66,7 @@ def test_verify_text_fits_100_columns_with_counts_per_claim():
     assert max(len(line) for line in lines) <= 100
     doc = json.loads(runner.invoke(app, ["verify", *_lot(), "--claims", str(CLAIMS), "--json"]).stdout)
     n = len(doc["samples"])
-    summary = lines[lines.index(next(x for x in lines if x.startswith("claim "))) + 1:]
+    summary = lines[lines.index(next(x for x in lines if x.startswith("claim "))) + 1 :]
     for line, (metric, st) in zip(summary, doc["summary"].items()):
         cells = line.split()
         counts = [int(c) for c in cells if c.isdigit()][-3:]
@@ -100,9 +100,14 @@ def test_verify_csv_keeps_every_sidecar_column(tmp_path):
     r = runner.invoke(app, ["verify", *_lot(), "--claims", str(CLAIMS), "--output", str(out)])
     assert r.exit_code == 1
     rows = list(csv.DictReader(out.read_text().splitlines()))
-    sidecar = {row["name"]: row for row in csv.DictReader(
-        line for line in (ROOT / "claims" / "northbeam-3000K-power.csv").read_text().splitlines()
-        if line.strip() and not line.startswith("#"))}
+    sidecar = {
+        row["name"]: row
+        for row in csv.DictReader(
+            line
+            for line in (ROOT / "claims" / "northbeam-3000K-power.csv").read_text().splitlines()
+            if line.strip() and not line.startswith("#")
+        )
+    }
     for row in rows:
         side = sidecar[row["name"]]
         assert row["declared_id"] == side["declared_id"] and float(row["power_W"]) == float(side["power_W"])
@@ -121,8 +126,9 @@ def test_bin_and_verify_count_the_same_sdcm_steps():
 
 
 def test_readme_claims_example_is_accepted(tmp_path):
-    from cctkit.claims import parse_claims
     import tomllib
+
+    from cctkit.claims import parse_claims
 
     readme = (ROOT.parent / "README.md").read_text()
     block = re.search(r"```toml\n(.*?)```", readme, flags=re.S).group(1)
@@ -137,8 +143,10 @@ def test_readme_claims_example_is_accepted(tmp_path):
 
 def test_design_intent_and_hue_bin_claims(tmp_path):
     claims = tmp_path / "c.toml"
-    claims.write_text('[limits]\nRf_h1 = { min = 80 }\nRcs_h1 = { min = -5, max = 15 }\n'
-                      '[design_intent]\nfidelity = "F3"\npreference = "P1"\n')
+    claims.write_text(
+        "[limits]\nRf_h1 = { min = 80 }\nRcs_h1 = { min = -5, max = 15 }\n"
+        '[design_intent]\nfidelity = "F3"\npreference = "P1"\n'
+    )
     r = runner.invoke(app, ["verify", str(ROOT / "northbeam-nb-3000-95.csv"), "--claims", str(claims), "--json"])
     doc = json.loads(r.stdout)
     checks = {c["metric"]: c for c in doc["samples"][0]["checks"]}

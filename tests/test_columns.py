@@ -68,8 +68,28 @@ def test_part_columns_fall_back_to_records_when_they_disagree():
 def tricky_floats() -> np.ndarray:
     rng = np.random.default_rng(9)
     wide = rng.standard_normal(20_000) * np.exp(rng.uniform(-40, 45, 20_000))
-    edges = [0.0, -0.0, 1e-4, -1e-4, 9.999999999999999e-05, 1e10, 9999999999.999998, 1e16, 1e15, 123.0, -5.0,
-             0.1, 1 / 3, 2.5e-7, 1.7976931348623157e308, 5e-324, math.nan, math.inf, -math.inf, 380.0]
+    edges = [
+        0.0,
+        -0.0,
+        1e-4,
+        -1e-4,
+        9.999999999999999e-05,
+        1e10,
+        9999999999.999998,
+        1e16,
+        1e15,
+        123.0,
+        -5.0,
+        0.1,
+        1 / 3,
+        2.5e-7,
+        1.7976931348623157e308,
+        5e-324,
+        math.nan,
+        math.inf,
+        -math.inf,
+        380.0,
+    ]
     return np.concatenate([edges, wide, np.round(wide, 3)])
 
 

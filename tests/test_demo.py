@@ -42,8 +42,15 @@ def _reference(wavelength_nm: np.ndarray, values: np.ndarray) -> dict[str, float
     cct, duv = colour.temperature.uv_to_CCT_Ohno2013(uv)
     cri = colour.colour_rendering_index(sd, additional_data=True)
     x, y = colour.XYZ_to_xy(XYZ)
-    return {"cct_K": float(cct), "duv": float(duv), "Y": float(XYZ[1]), "x": float(x), "y": float(y),
-            "Ra": float(cri.Q_a), "R9": float(cri.Q_as[9].Q_a)}
+    return {
+        "cct_K": float(cct),
+        "duv": float(duv),
+        "Y": float(XYZ[1]),
+        "x": float(x),
+        "y": float(y),
+        "Ra": float(cri.Q_a),
+        "R9": float(cri.Q_as[9].Q_a),
+    }
 
 
 # --------------------------------------------------------------------------- determinism
@@ -156,8 +163,10 @@ def test_products_land_on_their_targets(key):
 
 def test_product_names_keep_their_colour_rendering_promise():
     # The trade's naming: the last number is the minimum Ra (common practice, no source).
-    got = {key: _reference(*(lambda n, w, v: (w, v[:, 0]))(*_load_csv(SPECTRA / s["file"])))
-           for key, s in demo.PRODUCTS.items()}  # reference library: colour-science 0.4.7
+    got = {
+        key: _reference(*(lambda n, w, v: (w, v[:, 0]))(*_load_csv(SPECTRA / s["file"])))
+        for key, s in demo.PRODUCTS.items()
+    }  # reference library: colour-science 0.4.7
     assert got["NB-3000-95"]["Ra"] >= 95 and got["NB-3000-95"]["R9"] >= 50
     assert got["VO-4000-90"]["Ra"] >= 90
     assert 80 <= got["CL-2700-80"]["Ra"] < 90 and got["CL-2700-80"]["R9"] < 20  # the weak-red candidate

@@ -73,8 +73,13 @@ def test_white_point_and_nan():
     r = dominant_wavelength(np.array([[1 / 3, 1 / 3], [np.nan, 0.3]]))
     assert np.isnan(r.dominant_wavelength_nm).all()
     assert r.purity[0] == 0.0 and np.isnan(r.purity[1])
-    assert r.record(0) == {"dominant_wavelength_nm": None, "purity": 0.0, "dominant_white": "E",
-                           "dominant_white_x": 1 / 3, "dominant_white_y": 1 / 3}
+    assert r.record(0) == {
+        "dominant_wavelength_nm": None,
+        "purity": 0.0,
+        "dominant_white": "E",
+        "dominant_white_x": 1 / 3,
+        "dominant_white_y": 1 / 3,
+    }
 
 
 def test_leading_shape_and_spectra_entry():
@@ -119,12 +124,14 @@ def test_sorted_search_equals_exhaustive_bit_for_bit(observer, white):
 
     bench = _exhaustive()
     rng = np.random.default_rng(11)
-    xy = np.vstack([
-        rng.uniform([0.0, 0.0], [0.75, 0.85], (4000, 2)),  # inside and outside the locus, purples too
-        spectral_locus_xy(observer)[::3],  # on the locus, vertices included
-        spectral_locus_xy(observer)[400:] + 1e-7,  # beyond 760 nm, where the locus turns back on itself
-        [[np.nan, 0.3], [1 / 3, 1 / 3]],
-    ])
+    xy = np.vstack(
+        [
+            rng.uniform([0.0, 0.0], [0.75, 0.85], (4000, 2)),  # inside and outside the locus, purples too
+            spectral_locus_xy(observer)[::3],  # on the locus, vertices included
+            spectral_locus_xy(observer)[400:] + 1e-7,  # beyond 760 nm, where the locus turns back on itself
+            [[np.nan, 0.3], [1 / 3, 1 / 3]],
+        ]
+    )
     _, w = resolve_white(white, observer=observer) if isinstance(white, str) else ("", white)
     r = dominant_wavelength(xy, white_xy=w, observer=observer)
     old = bench.exhaustive_dominant(xy, w, observer)
@@ -152,7 +159,10 @@ def test_named_white_points_against_reference_library():
     from cctkit.dominant import WHITE_POINTS, resolve_white
 
     colour = pytest.importorskip("colour")
-    for observer, lib_name in ((2, "CIE 1931 2 Degree Standard Observer"), (10, "CIE 1964 10 Degree Standard Observer")):
+    for observer, lib_name in (
+        (2, "CIE 1931 2 Degree Standard Observer"),
+        (10, "CIE 1964 10 Degree Standard Observer"),
+    ):
         lib = colour.CCS_ILLUMINANTS[lib_name]
         for name in WHITE_POINTS:
             # reference library: colour-science 0.4.7 CCS_ILLUMINANTS (4-5 digits), hence 5e-5

@@ -15,8 +15,14 @@ from cctkit.photometry import COVERAGE_LIMIT, measured_mask, photometry, uncover
 from cctkit.spectra import Spectra, signal_problems
 from cctkit.tables import table
 
-RANGES = [(360.0, 830.0, 1.0), (380.0, 780.0, 5.0), (400.0, 700.0, 2.0), (420.0, 680.0, 1.0),
-          (500.0, 600.0, 1.0), (800.0, 830.0, 1.0)]
+RANGES = [
+    (360.0, 830.0, 1.0),
+    (380.0, 780.0, 5.0),
+    (400.0, 700.0, 2.0),
+    (420.0, 680.0, 1.0),
+    (500.0, 600.0, 1.0),
+    (800.0, 830.0, 1.0),
+]
 
 
 def _chunk(n: int = 60) -> Spectra:
@@ -25,8 +31,13 @@ def _chunk(n: int = 60) -> Spectra:
     values = np.exp(-0.5 * ((wl - rng.uniform(430, 620, (n, 1))) / rng.uniform(10, 80, (n, 1))) ** 2)
     values[7] = 0.0  # nothing positive: no-signal
     values[13] = -values[13]
-    return Spectra(wl, values, tuple(f"s{i}" for i in range(n)), quantity="radiant-flux",
-                   measured_range_nm=tuple(RANGES[i % len(RANGES)] for i in range(n)))
+    return Spectra(
+        wl,
+        values,
+        tuple(f"s{i}" for i in range(n)),
+        quantity="radiant-flux",
+        measured_range_nm=tuple(RANGES[i % len(RANGES)] for i in range(n)),
+    )
 
 
 def test_signal_problems_follow_the_spectrum_by_spectrum_rule():
@@ -52,9 +63,9 @@ def test_coverage_once_per_range_equals_the_per_spectrum_masks():
     ao = alpha_opic(v, s.quantity, measured_range_nm=s.measured_range_nm)
     vm = np.where(mask, v, 0.0)
     for i in range(len(s)):  # each spectrum alone, with its own range: same totals, same flags
-        one = dict(measured_range_nm=s.measured_range_nm[i:i + 1])
-        p1 = photometry(v[i:i + 1], s.quantity, **one)
-        a1 = alpha_opic(v[i:i + 1], s.quantity, **one)
+        one = dict(measured_range_nm=s.measured_range_nm[i : i + 1])
+        p1 = photometry(v[i : i + 1], s.quantity, **one)
+        a1 = alpha_opic(v[i : i + 1], s.quantity, **one)
         np.testing.assert_allclose(ph.luminous[i], p1.luminous[0], rtol=1e-13)
         np.testing.assert_allclose(ao.radiant[i], a1.radiant[0], rtol=1e-13)
         assert ph.flags[i] == p1.flags[0] and ao.flags[i] == a1.flags[0]
@@ -63,8 +74,9 @@ def test_coverage_once_per_range_equals_the_per_spectrum_masks():
     share = uncovered_share(mask, table("cmf_2")[:, 1])  # V(lambda), per spectrum with the full mask
     assert np.array_equal(withheld, share > COVERAGE_LIMIT)
     # luminous total: Km times the V(lambda)-weighted sum over the measured range (CIE 15:2018 practice)
-    np.testing.assert_allclose(ph.luminous[~withheld], (KM_LM_PER_W * (vm @ table("cmf_2")[:, 1]))[~withheld],
-                               rtol=1e-12)
+    np.testing.assert_allclose(
+        ph.luminous[~withheld], (KM_LM_PER_W * (vm @ table("cmf_2")[:, 1]))[~withheld], rtol=1e-12
+    )
     assert not any("-0.00 %" in f.message for flags in ph.flags + ao.flags for f in flags)
 
 

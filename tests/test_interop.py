@@ -22,8 +22,12 @@ DEMO = SPECTRA / "northbeam-nb-3000-95.csv"
 
 def _two_spectra() -> Spectra:
     wl = np.arange(380.0, 781.0, 5.0)
-    values = np.vstack([np.exp(-0.5 * ((wl - 450) / 11) ** 2) + 0.7 * np.exp(-0.5 * ((wl - 590) / 50) ** 2),
-                        np.linspace(0.1, 1.3, wl.size) ** 1.7])
+    values = np.vstack(
+        [
+            np.exp(-0.5 * ((wl - 450) / 11) ** 2) + 0.7 * np.exp(-0.5 * ((wl - 590) / 50) ** 2),
+            np.linspace(0.1, 1.3, wl.size) ** 1.7,
+        ]
+    )
     return Spectra(wl, values, ("lamp one", "lamp two"), quantity=Quantity.IRRADIANCE)
 
 

@@ -57,8 +57,9 @@ def test_stencil_equals_the_matrix_and_colour_science():
     y = np.exp(-(((wl - 520) / 40) ** 2)) + 0.3
     ours = resample(wl, y[None], "sprague")[0][0]
     assert ours == pytest.approx(interpolation_matrix(wl) @ y, abs=1e-12)
-    sd = colour.SpectralDistribution(dict(zip(wl, y))).interpolate(colour.SpectralShape(380, 780, 1),
-                                                                   interpolator=colour.SpragueInterpolator)
+    sd = colour.SpectralDistribution(dict(zip(wl, y))).interpolate(
+        colour.SpectralShape(380, 780, 1), interpolator=colour.SpragueInterpolator
+    )
     assert ours[20:421] == pytest.approx(sd.values, abs=1e-9)  # reference library: colour-science Sprague
 
 

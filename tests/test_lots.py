@@ -44,8 +44,9 @@ def lot(tmp_path) -> Path:
     (folder / "sub").mkdir(parents=True)
     write_csv(folder / "b.csv", lamp(450, 1.1), "W/nm", notes="Operator: Ana\n")
     write_csv(folder / "a.csv", lamp(455, 0.9), "W/nm")
-    (folder / "c.json").write_text(json.dumps({"quantity": "radiant-flux", "wavelength_nm": WL.tolist(),
-                                               "values": lamp(448, 1.3).tolist()}))
+    (folder / "c.json").write_text(
+        json.dumps({"quantity": "radiant-flux", "wavelength_nm": WL.tolist(), "values": lamp(448, 1.3).tolist()})
+    )
     (folder / "notes.md").write_text("not a spectrum")  # unknown extension: not read
     (folder / ".hidden.csv").write_text("junk")  # hidden: not read
     write_csv(folder / "sub" / "d.csv", lamp(460, 1.0), "W/nm")
@@ -55,7 +56,11 @@ def lot(tmp_path) -> Path:
 def test_folder_files_sorted_known_extensions(lot):
     assert [Path(f).name for f in folder_files(lot)] == ["a.csv", "b.csv", "c.json"]
     assert [Path(f).relative_to(lot).as_posix() for f in folder_files(lot, recursive=True)] == [
-        "a.csv", "b.csv", "c.json", "sub/d.csv"]
+        "a.csv",
+        "b.csv",
+        "c.json",
+        "sub/d.csv",
+    ]
 
 
 @pytest.mark.parametrize("command", ["inspect", "bin", "versus"])
@@ -143,8 +148,9 @@ def test_mixed_quantities_in_one_report(tmp_path):
     flux = write_csv(tmp_path / "supplier_a.csv", lamp(450, 1.1), "W/nm")
     rel = write_csv(tmp_path / "supplier_b.csv", lamp(455, 0.9))
     irr = tmp_path / "supplier_c.json"
-    irr.write_text(json.dumps({"quantity": "irradiance", "wavelength_nm": WL.tolist(),
-                               "values": (0.01 * lamp(448, 1.2)).tolist()}))
+    irr.write_text(
+        json.dumps({"quantity": "irradiance", "wavelength_nm": WL.tolist(), "values": (0.01 * lamp(448, 1.2)).tolist()})
+    )
     a = analyse_files([flux, rel, irr])
     recs = a.records()
     assert [r["quantity"] for r in recs] == ["radiant-flux", "relative", "irradiance"]
@@ -167,7 +173,9 @@ def test_mixed_quantities_in_one_report(tmp_path):
 
 def test_quantity_conflict_names_file_and_both_quantities(tmp_path):
     irr = tmp_path / "stated.json"
-    irr.write_text(json.dumps({"quantity": "irradiance", "wavelength_nm": WL.tolist(), "values": lamp(450, 1).tolist()}))
+    irr.write_text(
+        json.dumps({"quantity": "irradiance", "wavelength_nm": WL.tolist(), "values": lamp(450, 1).tolist()})
+    )
     r = run("report", irr, "--quantity", "radiance", "--output", tmp_path / "x.pdf")
     assert r.exit_code == 2
     assert r.stderr.strip() == (f"cctkit: {irr}: the file states quantity 'irradiance' but 'radiance' was asked for")
@@ -181,8 +189,10 @@ def test_average_of_repeat_columns_keeps_the_spread(tmp_path):
     base = lamp(452, 1.0)
     scans = np.stack([base * 0.98, base * 1.00, base * 1.02])
     p = tmp_path / "repeats.csv"
-    p.write_text("Integration time: 50 ms\nwavelength (nm),scan 1 (W/nm),scan 2 (W/nm),scan 3 (W/nm)\n"
-                 + "".join(f"{w:g}," + ",".join(repr(float(v)) for v in scans[:, i]) + "\n" for i, w in enumerate(WL)))
+    p.write_text(
+        "Integration time: 50 ms\nwavelength (nm),scan 1 (W/nm),scan 2 (W/nm),scan 3 (W/nm)\n"
+        + "".join(f"{w:g}," + ",".join(repr(float(v)) for v in scans[:, i]) + "\n" for i, w in enumerate(WL))
+    )
     rep = average_repeats(read_spectra(p))
     assert rep.count == 3 and len(rep.mean) == 1
     np.testing.assert_allclose(rep.mean.values[0], base, rtol=1e-14)
@@ -201,8 +211,10 @@ def test_average_of_repeat_files_on_different_grids(tmp_path):
     a = write_csv(tmp_path / "a.csv", lamp(452, 1.0), "W/nm")
     wl5 = np.arange(380, 781, 5.0)
     b = tmp_path / "b.csv"
-    b.write_text("wavelength (nm),lamp (W/nm)\n" + "".join(
-        f"{w:g},{float(v)!r}\n" for w, v in zip(wl5, np.interp(wl5, WL, lamp(452, 1.0)))))
+    b.write_text(
+        "wavelength (nm),lamp (W/nm)\n"
+        + "".join(f"{w:g},{float(v)!r}\n" for w, v in zip(wl5, np.interp(wl5, WL, lamp(452, 1.0))))
+    )
     rep = average_repeats([read_spectra(a), read_spectra(b)])
     assert rep.mean.wavelength_nm.shape == (471,)  # brought to the working grid first
     assert rep.count == 2
@@ -211,8 +223,11 @@ def test_average_of_repeat_files_on_different_grids(tmp_path):
 def test_average_refuses_mixed_quantities_and_single_scan(tmp_path):
     flux = read_spectra(write_csv(tmp_path / "f.csv", lamp(452, 1.0), "W/nm"))
     rel = read_spectra(write_csv(tmp_path / "r.csv", lamp(452, 1.0)))
-    with pytest.raises(InputError, match=r"repeat scans must be of one quantity: .*f\.csv is radiant-flux, "
-                                         r"this one is relative"):
+    with pytest.raises(
+        InputError,
+        match=r"repeat scans must be of one quantity: .*f\.csv is radiant-flux, "
+        r"this one is relative",
+    ):
         average_repeats([flux, rel])
     with pytest.raises(InputError, match=r"at least 2 scans, got 1"):
         average_repeats(flux)

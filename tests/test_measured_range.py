@@ -6,14 +6,13 @@ import json
 
 import numpy as np
 import pytest
+from conftest import illuminant_A_spd
 from typer.testing import CliRunner
 
 from cctkit.analysis import analyse
 from cctkit.cli import app
 from cctkit.constants import KM_LM_PER_W
 from cctkit.spectra import Spectra
-
-from conftest import illuminant_A_spd
 
 runner = CliRunner()
 H, C, NA = 6.62607015e-34, 299792458.0, 6.02214076e23  # CODATA 2018 (exact)

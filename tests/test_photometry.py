@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from conftest import cie_illuminant_1nm as _cie_illuminant
 
 from cctkit.constants import KM_LM_PER_W, WAVELENGTH_NM
 from cctkit.errors import InputError
@@ -17,8 +18,6 @@ from cctkit.photometry import (
     sp_ratio,
 )
 from cctkit.spectra import Quantity
-
-from conftest import cie_illuminant_1nm as _cie_illuminant
 
 # Sum of the CIE 1931 2 deg y-bar at 1 nm over 360-830 nm (plain summation, CIE 15:2018 convention).
 # reference library: colour-science 0.4.7 data (MSDS_CMFS "CIE 1931 2 Degree Standard Observer",
@@ -49,7 +48,8 @@ def test_equal_energy_luminous_total_matches_reference_library():
 def test_ler_of_equal_energy_spectrum():
     # Km * sum(y-bar) / 471 over 360-830 nm at 1 nm: hand arithmetic from the CIE 1931 table sum above
     assert luminous_efficacy_of_radiation(np.full(471, 2.5)) == pytest.approx(
-        KM_LM_PER_W * YBAR_SUM_1NM / 471, rel=1e-7)
+        KM_LM_PER_W * YBAR_SUM_1NM / 471, rel=1e-7
+    )
     # 683.002 * 106.856917 / 471 = 154.954 (hand arithmetic)
     assert luminous_efficacy_of_radiation(np.full(471, 2.5)) == pytest.approx(154.95, abs=0.01)
 
@@ -131,9 +131,15 @@ def test_record_keys_follow_the_quantity():
     flat = np.ones((1, 471))
     irr = photometry(flat, Quantity.IRRADIANCE).record(0)
     assert set(irr) == {
-        "ler_lm_per_W", "sp_ratio", "illuminance_lx", "radiant_total_W_per_m2",
-        "photon_flux_umol_per_m2_s", "ppfd_umol_per_m2_s",
-        "radiometric_range_nm", "photometric_range_nm", "ppf_range_nm",  # every total names its range
+        "ler_lm_per_W",
+        "sp_ratio",
+        "illuminance_lx",
+        "radiant_total_W_per_m2",
+        "photon_flux_umol_per_m2_s",
+        "ppfd_umol_per_m2_s",
+        "radiometric_range_nm",
+        "photometric_range_nm",
+        "ppf_range_nm",  # every total names its range
     }
     assert irr["radiometric_range_nm"] == [360.0, 830.0] and irr["ppf_range_nm"] == [400.0, 700.0]
     flux = photometry(flat, "radiant-flux").record(0)

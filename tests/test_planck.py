@@ -36,7 +36,10 @@ def test_stefan_boltzmann_is_the_integral_of_planck(T):
     # Integral of Planck spectral exitance over all wavelengths (CODATA c2) equals sigma T^4.
     peak = planck.wien_peak_nm(T)
     f = lambda lam: planck.spectral_exitance(T, np.array([lam]), c2="codata")[0]  # noqa: E731
-    total = sum(quad(f, a, b, limit=200, epsabs=0)[0] for a, b in [(peak / 50, peak), (peak, 10 * peak), (10 * peak, 2000 * peak)])
+    total = sum(
+        quad(f, a, b, limit=200, epsabs=0)[0]
+        for a, b in [(peak / 50, peak), (peak, 10 * peak), (10 * peak, 2000 * peak)]
+    )
     assert total == pytest.approx(planck.total_exitance(T), rel=1e-6)
 
 

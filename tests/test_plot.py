@@ -70,7 +70,7 @@ def test_index_none_shows_every_spectrum_where_it_can(analysis):
     ax = plot.chromaticity(analysis)
     try:
         labels = [t.get_text() for t in ax.get_legend().get_texts()]
-        assert labels[-len(analysis):] == list(analysis.spectra.names)
+        assert labels[-len(analysis) :] == list(analysis.spectra.names)
     finally:
         plt.close(ax.figure)
     ax = plot.spectrum(analysis)

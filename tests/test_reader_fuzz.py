@@ -22,7 +22,11 @@ from cctkit.readers import read_spectra
 from cctkit.spectra import MIN_POINTS, Quantity, Spectra
 
 # CCTKIT_FUZZ_EXAMPLES raises the count for a longer local hunt; CI keeps the file under ~20 s.
-SETTINGS = settings(max_examples=int(os.environ.get("CCTKIT_FUZZ_EXAMPLES", "60")), deadline=None, suppress_health_check=[HealthCheck.too_slow])
+SETTINGS = settings(
+    max_examples=int(os.environ.get("CCTKIT_FUZZ_EXAMPLES", "60")),
+    deadline=None,
+    suppress_health_check=[HealthCheck.too_slow],
+)
 
 # unit text -> (quantity, factor to base unit); factors are unit arithmetic, SI
 UNITS = {
@@ -64,8 +68,9 @@ def write(folder: Path, name: str, data: bytes) -> Path:
     return p
 
 
-def read_generated(folder: Path, name: str, data: bytes, *, valid: bool, n_points: int,
-                   refused: bool = False) -> Spectra | None:
+def read_generated(
+    folder: Path, name: str, data: bytes, *, valid: bool, n_points: int, refused: bool = False
+) -> Spectra | None:
     """Write and read a generated file; its Spectra when it must be read, else None.
 
     ``refused`` files must raise InputError.  A ``valid`` file must be read when it
@@ -90,10 +95,33 @@ def damage(draw, text: str) -> str:
         return text
     i = draw(st.integers(0, len(text) - 1))
     if kind == "delete":
-        return text[:i] + text[i + 1:]
+        return text[:i] + text[i + 1 :]
     if kind == "insert":
-        junk = draw(st.sampled_from(["n/a", "nan", ",", ";", "\t", "abc", "\n", "1e999", "-", "<", "&", '"', "{", "]",
-                                     "\x00", "\u2028", "#", "0,5", "."]))
+        junk = draw(
+            st.sampled_from(
+                [
+                    "n/a",
+                    "nan",
+                    ",",
+                    ";",
+                    "\t",
+                    "abc",
+                    "\n",
+                    "1e999",
+                    "-",
+                    "<",
+                    "&",
+                    '"',
+                    "{",
+                    "]",
+                    "\x00",
+                    "\u2028",
+                    "#",
+                    "0,5",
+                    ".",
+                ]
+            )
+        )
         return text[:i] + junk + text[i:]
     lines = text.split("\n")
     if kind == "dup-line":
@@ -120,8 +148,9 @@ def delimited_files(draw):
     start = draw(st.integers(300, 700))
     step = draw(st.sampled_from([0.5, 1.0, 2.0, 5.0]))
     wl = start + step * np.arange(n_rows)
-    values = np.array(draw(st.lists(st.lists(FLOATS, min_size=n_cols, max_size=n_cols),
-                                    min_size=n_rows, max_size=n_rows)))
+    values = np.array(
+        draw(st.lists(st.lists(FLOATS, min_size=n_cols, max_size=n_cols), min_size=n_rows, max_size=n_rows))
+    )
     order = np.arange(n_rows)[::-1] if draw(st.booleans()) else np.arange(n_rows)
     lines = []
     if draw(st.booleans()):
@@ -160,10 +189,10 @@ def test_delimited_property(folder, case):
 
 # --------------------------------------------------------------------------- JSON
 
-JSON_LEAVES = st.none() | st.booleans() | st.integers(-10**6, 10**6) | FLOATS | st.text(max_size=8)
-JSON_VALUES = st.recursive(JSON_LEAVES, lambda c: st.lists(c, max_size=6) | st.dictionaries(st.text(max_size=6), c,
-                                                                                             max_size=4),
-                           max_leaves=20)
+JSON_LEAVES = st.none() | st.booleans() | st.integers(-(10**6), 10**6) | FLOATS | st.text(max_size=8)
+JSON_VALUES = st.recursive(
+    JSON_LEAVES, lambda c: st.lists(c, max_size=6) | st.dictionaries(st.text(max_size=6), c, max_size=4), max_leaves=20
+)
 KEYS = ["quantity", "unit", "comment", "wavelength_nm", "spectra", "values", "name", "extra"]
 
 
@@ -222,23 +251,34 @@ def xml_files(draw):
     quantity = draw(st.sampled_from(["irradiance", "flux", "relative", "other", "radiance", "intensity"]))
     ns = draw(st.sampled_from(['xmlns="http://www.ies.org/iestm2714" ', ""]))
     data = "".join(f'<SpectralData wavelength="{w}">{v!r}</SpectralData>\n' for w, v in zip(wl, vals))
-    text = (f'<?xml version="1.0" encoding="UTF-8"?>\n<IESTM2714 {ns}version="1.0">\n<Header><Manufacturer>'
-            f"Quayside</Manufacturer></Header>\n<SpectralDistribution>\n<SpectralQuantity>{quantity}"
-            f"</SpectralQuantity>\n{data}</SpectralDistribution>\n</IESTM2714>\n")
+    text = (
+        f'<?xml version="1.0" encoding="UTF-8"?>\n<IESTM2714 {ns}version="1.0">\n<Header><Manufacturer>'
+        f"Quayside</Manufacturer></Header>\n<SpectralDistribution>\n<SpectralQuantity>{quantity}"
+        f"</SpectralQuantity>\n{data}</SpectralDistribution>\n</IESTM2714>\n"
+    )
     mode = draw(st.sampled_from(["valid", "damage-text", "bad-number", "dtd"]))
     if mode == "damage-text":
         text = damage(draw, text)
     elif mode == "bad-number":
         bad = draw(XML_NUMBERS)
-        text = text.replace(f'wavelength="{wl[0]}">', f'wavelength="{bad}">' if draw(st.booleans())
-                            else f'wavelength="{wl[0]}">{bad}<x/>', 1)
+        text = text.replace(
+            f'wavelength="{wl[0]}">',
+            f'wavelength="{bad}">' if draw(st.booleans()) else f'wavelength="{wl[0]}">{bad}<x/>',
+            1,
+        )
     elif mode == "dtd":
         text = text.replace("<IESTM2714", '<!DOCTYPE IESTM2714 [<!ENTITY e "x">]>\n<IESTM2714', 1)
     return text.encode(), wl, vals, quantity, mode
 
 
-QUANTITY_OF = {"irradiance": Quantity.IRRADIANCE, "flux": Quantity.RADIANT_FLUX, "relative": Quantity.RELATIVE,
-               "other": Quantity.RELATIVE, "radiance": Quantity.RADIANCE, "intensity": Quantity.INTENSITY}
+QUANTITY_OF = {
+    "irradiance": Quantity.IRRADIANCE,
+    "flux": Quantity.RADIANT_FLUX,
+    "relative": Quantity.RELATIVE,
+    "other": Quantity.RELATIVE,
+    "radiance": Quantity.RADIANCE,
+    "intensity": Quantity.INTENSITY,
+}
 
 
 @SETTINGS
@@ -263,7 +303,10 @@ def test_arbitrary_bytes(folder, data, ext):
 
 
 @SETTINGS
-@given(st.text(max_size=300), st.sampled_from([".csv", ".json", ".spdx", ".dat"]),
-       st.sampled_from([None, "irradiance", "relative"]))
+@given(
+    st.text(max_size=300),
+    st.sampled_from([".csv", ".json", ".spdx", ".dat"]),
+    st.sampled_from([None, "irradiance", "relative"]),
+)
 def test_arbitrary_text(folder, text, ext, quantity):
     outcome(write(folder, "text" + ext, text.encode("utf-8", errors="surrogatepass")), quantity=quantity)

@@ -9,9 +9,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
+from cctkit.constants import WAVELENGTH_NM
 from cctkit.errors import InputError
 from cctkit.readers import parse_length_unit, parse_spectral_unit, read_spectra
-from cctkit.constants import WAVELENGTH_NM
 from cctkit.spectra import Quantity, sha256_of_file, to_working_grid
 
 DATA = Path(__file__).parent / "data"
@@ -84,8 +84,14 @@ def test_delimited_variants_read_the_same_numbers(tmp_path, name, text):
 
 @pytest.mark.parametrize(
     "encoding, bom",
-    [("utf-8", b""), ("utf-8", codecs.BOM_UTF8), ("utf-16-le", codecs.BOM_UTF16_LE),
-     ("utf-16-be", codecs.BOM_UTF16_BE), ("utf-16-le", b""), ("utf-32-le", codecs.BOM_UTF32_LE)],
+    [
+        ("utf-8", b""),
+        ("utf-8", codecs.BOM_UTF8),
+        ("utf-16-le", codecs.BOM_UTF16_LE),
+        ("utf-16-be", codecs.BOM_UTF16_BE),
+        ("utf-16-le", b""),
+        ("utf-32-le", codecs.BOM_UTF32_LE),
+    ],
 )
 def test_text_encodings(tmp_path, encoding, bom):
     text = table(",", header="wavelength (µm),Ä lamp (µW/cm²/nm),B (µW/cm²/nm)")
@@ -293,8 +299,9 @@ def test_json_shorthand_and_defaults(tmp_path):
     assert "wavelength-descending" in [f.code for f in s.flags[0]]
     s = read_spectra(write(tmp_path, "u.json", json.dumps({"unit": "W/sr/nm", "wavelength_nm": WL, "values": VB})))
     assert s.quantity is Quantity.INTENSITY
-    s = read_spectra(write(tmp_path, "anon.json", json.dumps(
-        {"wavelength_nm": WL, "spectra": [{"values": VA}, {"values": VB}]})))
+    s = read_spectra(
+        write(tmp_path, "anon.json", json.dumps({"wavelength_nm": WL, "spectra": [{"values": VA}, {"values": VB}]}))
+    )
     assert s.names == ("anon#1", "anon#2")
 
 
@@ -325,8 +332,13 @@ def test_tm27_fixture_against_reference_reader():
 
 @pytest.mark.parametrize(
     "tm27, quantity",
-    [("flux", Quantity.RADIANT_FLUX), ("irradiance", Quantity.IRRADIANCE), ("radiance", Quantity.RADIANCE),
-     ("intensity", Quantity.INTENSITY), ("relative", Quantity.RELATIVE)],
+    [
+        ("flux", Quantity.RADIANT_FLUX),
+        ("irradiance", Quantity.IRRADIANCE),
+        ("radiance", Quantity.RADIANCE),
+        ("intensity", Quantity.INTENSITY),
+        ("relative", Quantity.RELATIVE),
+    ],
 )
 def test_tm27_written_by_reference_writer(tmp_path, tm27, quantity):
     from colour.io.tm2714 import Header_IESTM2714, SpectralDistribution_IESTM2714
@@ -344,8 +356,10 @@ def test_tm27_written_by_reference_writer(tmp_path, tm27, quantity):
 
 
 def _tm27(body: str, quantity: str = "irradiance", ns: str = ' xmlns="http://www.ies.org/iestm2714"') -> str:
-    return (f'<?xml version="1.0"?>\n<IESTM2714{ns} version="1.0">\n<SpectralDistribution>\n'
-            f"<SpectralQuantity>{quantity}</SpectralQuantity>\n{body}</SpectralDistribution>\n</IESTM2714>\n")
+    return (
+        f'<?xml version="1.0"?>\n<IESTM2714{ns} version="1.0">\n<SpectralDistribution>\n'
+        f"<SpectralQuantity>{quantity}</SpectralQuantity>\n{body}</SpectralDistribution>\n</IESTM2714>\n"
+    )
 
 
 def _data(wl=WL, vals=VA) -> str:
@@ -363,9 +377,12 @@ def test_tm27_without_namespace_other_quantity_and_argument(tmp_path):
 
 def test_tm27_several_distributions_and_descending(tmp_path):
     body = _data(WL[::-1], VA[::-1])
-    text = _tm27(body).replace("</IESTM2714>", f"<SpectralDistribution><SpectralQuantity>irradiance"
-                                             f"</SpectralQuantity>{_data(WL[::-1], VB[::-1])}"
-                                             "</SpectralDistribution></IESTM2714>")
+    text = _tm27(body).replace(
+        "</IESTM2714>",
+        f"<SpectralDistribution><SpectralQuantity>irradiance"
+        f"</SpectralQuantity>{_data(WL[::-1], VB[::-1])}"
+        "</SpectralDistribution></IESTM2714>",
+    )
     p = write(tmp_path, "two.spdx", text)
     s = read_spectra(p)
     assert s.names == ("two#1", "two#2") and s.sources == (f"{p}#1", f"{p}#2")
@@ -416,7 +433,9 @@ def test_wide_reads_comments_encodings_and_quotes_as_delimited_does(tmp_path):
         "latin1.csv": wide_text("# unit: mW/m2/nm", WIDE_HEAD.replace("name", "lampe µ")).encode("latin-1"),
         "utf16.csv": codecs.BOM_UTF16_LE + wide_text("# unit: mW/m2/nm", WIDE_HEAD).encode("utf-16-le"),
         "trailing.csv": "# unit: mW/m2/nm\n" + wide_text(WIDE_HEAD + ",").replace("\n", ",\n"),
-        "quoted.csv": wide_text("# unit: mW/m2/nm", WIDE_HEAD).replace("a,0.1,", '"a",0.1,"').replace(",0.2,", '",0.2,'),
+        "quoted.csv": wide_text("# unit: mW/m2/nm", WIDE_HEAD)
+        .replace("a,0.1,", '"a",0.1,"')
+        .replace(",0.2,", '",0.2,'),
         "cr.csv": wide_text("# unit: mW/m2/nm", WIDE_HEAD).replace("\n", "\r"),
         "semicolon.csv": wide_text("# unit: mW/m2/nm", WIDE_HEAD.replace(",", ";"), sep=";"),
     }

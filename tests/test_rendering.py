@@ -9,7 +9,7 @@ from cctkit.cct import cct_duv
 from cctkit.colorimetry import XYZ, XYZ_to_uv
 from cctkit.constants import WAVELENGTH_NM
 from cctkit.rendering import colour_rendition, compare_to_reference
-from cctkit.rendering.cam import ciecam02_JMh, cam02ucs
+from cctkit.rendering.cam import cam02ucs, ciecam02_JMh
 from cctkit.rendering.cie13_3 import cie13_3
 from cctkit.rendering.tm30 import fidelity_from_dE, tm30
 from cctkit.spectra import Spectra, to_working_grid
@@ -66,8 +66,18 @@ def cases() -> dict[str, np.ndarray]:
 # CIE 15:2004, colorimetric data of the fluorescent illuminants FL1-FL12, general colour
 # rendering index Ra (integers; from memory).
 PUBLISHED_RA = {
-    "FL1": 76, "FL2": 64, "FL3": 57, "FL4": 51, "FL5": 72, "FL6": 59,
-    "FL7": 90, "FL8": 95, "FL9": 90, "FL10": 81, "FL11": 83, "FL12": 83,
+    "FL1": 76,
+    "FL2": 64,
+    "FL3": 57,
+    "FL4": 51,
+    "FL5": 72,
+    "FL6": 59,
+    "FL7": 90,
+    "FL8": 95,
+    "FL9": 90,
+    "FL10": 81,
+    "FL11": 83,
+    "FL12": 83,
 }
 
 
@@ -207,8 +217,7 @@ FL2_IES = {
     "Rg": 86,
     "Rf_h": [60, 61, 53, 68, 80, 88, 77, 73, 76, 62, 70, 77, 81, 71, 64, 65],
     "Rcs_h_percent": [-25, -18, -9, 5, 11, 4, -8, -15, -17, -15, -4, 5, 11, 7, -6, -16],
-    "Rhs_h": [-0.02, 0.14, 0.24, 0.20, 0.09, -0.07, -0.12, -0.08, 0.01, 0.17, 0.19, 0.11, -0.08, -0.15,
-              -0.26, -0.17],
+    "Rhs_h": [-0.02, 0.14, 0.24, 0.20, 0.09, -0.07, -0.12, -0.08, 0.01, 0.17, 0.19, 0.11, -0.08, -0.15, -0.26, -0.17],
 }
 
 
@@ -344,7 +353,9 @@ def test_cli_versus_json_and_csv(cli, tmp_path):
     import hashlib
 
     # first line: the input and the SHA-256 of the bytes analysed (common practice, no source)
-    assert lines[0].startswith(f"# input lamp.csv sha256 {hashlib.sha256((tmp_path / 'lamp.csv').read_bytes()).hexdigest()}")
+    assert lines[0].startswith(
+        f"# input lamp.csv sha256 {hashlib.sha256((tmp_path / 'lamp.csv').read_bytes()).hexdigest()}"
+    )
     assert lines[1].startswith("wavelength_nm,bench lamp: test (Y=100)") and len(lines) == 473
     # refuses to overwrite without --overwrite: one line on stderr, exit 2, file untouched
     before = (tmp_path / "cmp.csv").read_bytes()

@@ -30,8 +30,10 @@ def sources(n: int = 300, seed: int = 4) -> tuple[np.ndarray, np.ndarray]:
     """Our own white LEDs with CCTs spread over 1000-25000 K (every reference kind and the blend)."""
     rng = np.random.default_rng(seed)
     wl = WAVELENGTH_NM[None, :]
-    v = 0.01 * (np.exp(-0.5 * ((wl - rng.uniform(440, 462, (n, 1))) / 9.5) ** 2)
-                + rng.uniform(0.2, 2.0, (n, 1)) * np.exp(-0.5 * ((wl - rng.uniform(540, 615, (n, 1))) / 55.0) ** 2))
+    v = 0.01 * (
+        np.exp(-0.5 * ((wl - rng.uniform(440, 462, (n, 1))) / 9.5) ** 2)
+        + rng.uniform(0.2, 2.0, (n, 1)) * np.exp(-0.5 * ((wl - rng.uniform(540, 615, (n, 1))) / 55.0) ** 2)
+    )
     T = np.exp(rng.uniform(np.log(1000.0), np.log(25000.0), n))
     T[:6] = [4000.0, 5000.0, 4500.0, 3999.999, 5000.001, np.nan]  # the blend's edges, and no reference
     return v, T

@@ -11,17 +11,17 @@ import pytest
 
 pypdf = pytest.importorskip("pypdf")
 
+from conftest import build_report_strict as _build  # noqa: E402
+from conftest import pdf_page_texts as _text
+
 from cctkit.analysis import analyse  # noqa: E402
 from cctkit.cli import app  # noqa: E402  (registers every command, report included)
+from cctkit.constants import DUV_LIMIT  # noqa: E402
 from cctkit.errors import InputError  # noqa: E402
 from cctkit.planck import spectral_exitance  # noqa: E402
 from cctkit.readers import read_spectra  # noqa: E402
-from cctkit.report import BATCH_PAGE_LIMIT, PNG_SIZE_PX, build_report, plan_pages  # noqa: E402
-from cctkit.report import charts, pages  # noqa: E402
-from cctkit.constants import DUV_LIMIT  # noqa: E402
+from cctkit.report import BATCH_PAGE_LIMIT, PNG_SIZE_PX, build_report, charts, pages, plan_pages  # noqa: E402  # noqa: E402
 from cctkit.spectra import Quantity, Spectra, concatenate  # noqa: E402
-
-from conftest import build_report_strict as _build, pdf_page_texts as _text  # noqa: E402
 
 WL = np.arange(380.0, 781.0, 5.0)
 
@@ -66,8 +66,21 @@ def test_single_spectrum_pdf_has_a_signoff_page_a_spectrum_page_and_the_library_
     assert len(text) == 2 == len(rep.pages) and rep.pages[0] == "sign-off and inputs"
     text = text[1:]
     rec = one.records()[0]
-    for key in ("cct_K", "duv", "x", "y", "u_prime", "v_prime", "ler_lm_per_W", "sp_ratio", "melanopic_der",
-                "Ra", "R9", "Rf", "Rg"):
+    for key in (
+        "cct_K",
+        "duv",
+        "x",
+        "y",
+        "u_prime",
+        "v_prime",
+        "ler_lm_per_W",
+        "sp_ratio",
+        "melanopic_der",
+        "Ra",
+        "R9",
+        "Rf",
+        "Rg",
+    ):
         shown = pages.format_value(rec, key)
         assert shown not in ("not computed", "n/a"), key  # the lead's analysis computes all of these
         assert shown in text[0], (key, shown)
@@ -91,8 +104,16 @@ def test_pdf_uses_the_standard_fonts_without_embedding(one, tmp_path):
     assert "CIE 1931 2\u00b0" in text[1] and "?" not in "".join(text)
 
 
-@pytest.mark.parametrize("n, expected", [(1, 2), (3, 5), (BATCH_PAGE_LIMIT, BATCH_PAGE_LIMIT + 2),
-                                         (BATCH_PAGE_LIMIT + 1, 3), (100, math.ceil(100 / pages.SUMMARY_ROWS_PER_PAGE) + 2)])
+@pytest.mark.parametrize(
+    "n, expected",
+    [
+        (1, 2),
+        (3, 5),
+        (BATCH_PAGE_LIMIT, BATCH_PAGE_LIMIT + 2),
+        (BATCH_PAGE_LIMIT + 1, 3),
+        (100, math.ceil(100 / pages.SUMMARY_ROWS_PER_PAGE) + 2),
+    ],
+)
 def test_page_plan(n, expected):
     plan = plan_pages(n)
     assert len(plan) == expected and plan[0] == ("cover", None)
@@ -237,11 +258,11 @@ def test_cli_writes_and_refuses_overwrite(one_file, tmp_path):
 def test_cli_refuses_to_write_over_an_input(one_file):
     from typer.testing import CliRunner
 
-    r = CliRunner().invoke(app, ["report", str(one_file), "--output", str(one_file.with_suffix(".png")),
-                                        "--overwrite"])
+    r = CliRunner().invoke(app, ["report", str(one_file), "--output", str(one_file.with_suffix(".png")), "--overwrite"])
     assert r.exit_code == 0  # a different file is fine
-    r = CliRunner().invoke(app, ["report", str(one_file.with_suffix(".png")), "--output",
-                                        str(one_file.with_suffix(".png")), "--overwrite"])
+    r = CliRunner().invoke(
+        app, ["report", str(one_file.with_suffix(".png")), "--output", str(one_file.with_suffix(".png")), "--overwrite"]
+    )
     assert r.exit_code == 2 and "over an input" in r.output
 
 

@@ -76,8 +76,11 @@ def test_one_wide_file_is_one_input_and_a_changed_file_gets_no_size(tmp_path):
     from cctkit.report.pages import input_rows
 
     src = tmp_path / "two.csv"
-    src.write_text("wavelength_nm,a,b\n" + "\n".join(f"{w},{1 + w / 1000:.4f},{2 - w / 1000:.4f}"
-                                                      for w in range(380, 781, 5)) + "\n")
+    src.write_text(
+        "wavelength_nm,a,b\n"
+        + "\n".join(f"{w},{1 + w / 1000:.4f},{2 - w / 1000:.4f}" for w in range(380, 781, 5))
+        + "\n"
+    )
     recs = analyse_files([src], quantity="relative").records()
     rows = input_rows(recs)
     assert len(rows) == 1 and rows[0]["role"] == "2 spectra" and rows[0]["size_bytes"] == src.stat().st_size
@@ -124,7 +127,11 @@ def test_headline_strip_shows_u_beside_each_number_that_has_one(tmp_path, nb_wit
     assert u_text(41.6, "lm") == "42 lm" and u_text(0.2136) == "0.21" and u_text(float("nan")) == ""
     # the uncertainty page follows with the report's own page numbers and footer
     third = _text(out)[2]
-    assert "Measurement uncertainty" in third and "page 3 of 4" in third and analysis.records()[0]["sha256"] in _flat(third)
+    assert (
+        "Measurement uncertainty" in third
+        and "page 3 of 4" in third
+        and analysis.records()[0]["sha256"] in _flat(third)
+    )
     # without a result: no U line
     plain = tmp_path / "plain.pdf"
     build_report(analysis, plain, date="2026-01-15")
@@ -148,15 +155,16 @@ def test_cli_report_with_uncertainty_model(tmp_path):
     model = tmp_path / "m.toml"
     model.write_text(MODEL.read_text().replace('draws = "adaptive"', "draws = 200"))
     out = tmp_path / "r.pdf"
-    r = runner.invoke(app, ["report", str(f), "-o", str(out), "--uncertainty-model", str(model), "--date",
-                            "2026-01-15"])
+    r = runner.invoke(
+        app, ["report", str(f), "-o", str(out), "--uncertainty-model", str(model), "--date", "2026-01-15"]
+    )
     assert r.exit_code == 0, r.output
     pages = _text(out)
     assert "U (k=2)" in pages[1] and "Measurement uncertainty" in pages[2]
     # the model is an input: listed with its SHA-256
     assert hashlib.sha256(model.read_bytes()).hexdigest() in _flat(pages[-1])
     bad = tmp_path / "bad.toml"
-    bad.write_text("[montecarlo]\ndraws = \"lots\"\n")
+    bad.write_text('[montecarlo]\ndraws = "lots"\n')
     r = runner.invoke(app, ["report", str(f), "-o", str(tmp_path / "b.pdf"), "--uncertainty-model", str(bad)])
     assert r.exit_code == 2 and "draws" in r.output and not (tmp_path / "b.pdf").exists()
 
@@ -225,11 +233,16 @@ def _tm30_of(values):
     from cctkit.rendering.tm30 import chroma_shift_percent
     from cctkit.spectra import Spectra
 
-    a = analyse(Spectra(wavelength_nm=_WL, values=values, quantity="relative",
-                        names=tuple(f"s{k}" for k in range(len(values)))))
+    a = analyse(
+        Spectra(wavelength_nm=_WL, values=values, quantity="relative", names=tuple(f"s{k}" for k in range(len(values))))
+    )
     t = a.tm30
-    return a, {"Rf": np.asarray(t.Rf), "Rg": np.asarray(t.Rg), "Rf_h1": np.asarray(t.Rf_h)[:, 0],
-               "Rcs_h1": chroma_shift_percent(t)[:, 0]}
+    return a, {
+        "Rf": np.asarray(t.Rf),
+        "Rg": np.asarray(t.Rg),
+        "Rf_h1": np.asarray(t.Rf_h)[:, 0],
+        "Rcs_h1": chroma_shift_percent(t)[:, 0],
+    }
 
 
 def _straddle(family, lo, hi, metric, threshold):
@@ -244,17 +257,20 @@ def _straddle(family, lo, hi, metric, threshold):
     return _FAMILIES[family](np.array([lo, hi]))
 
 
-@pytest.mark.parametrize("family, lo, hi, metric, level, above, below", [
-    # (family, parameter range, metric, the criterion whose threshold is crossed, strictest level
-    #  met with the metric at/above the threshold, and just below it)
-    ("redshift", 0.2, 0.6, "Rf", "F1", 1, 2),
-    ("redshift", 0.6, 1.0, "Rf", "F2", 2, 3),
-    ("redshift", -1.1, -0.85, "Rf_h1", "F3", 3, 0),
-    ("yellow", -0.35, -0.25, "Rcs_h1", "P1", 1, 2),
-    ("yellow", -0.2, 0.0, "Rcs_h1", "P2", 2, 3),
-    ("yellow", 0.0, 0.13, "Rcs_h1", "P3", 3, 0),
-    ("yellow", -0.7, -0.5, "Rg", "V2", 2, 3),
-])
+@pytest.mark.parametrize(
+    "family, lo, hi, metric, level, above, below",
+    [
+        # (family, parameter range, metric, the criterion whose threshold is crossed, strictest level
+        #  met with the metric at/above the threshold, and just below it)
+        ("redshift", 0.2, 0.6, "Rf", "F1", 1, 2),
+        ("redshift", 0.6, 1.0, "Rf", "F2", 2, 3),
+        ("redshift", -1.1, -0.85, "Rf_h1", "F3", 3, 0),
+        ("yellow", -0.35, -0.25, "Rcs_h1", "P1", 1, 2),
+        ("yellow", -0.2, 0.0, "Rcs_h1", "P2", 2, 3),
+        ("yellow", 0.0, 0.13, "Rcs_h1", "P3", 3, 0),
+        ("yellow", -0.7, -0.5, "Rg", "V2", 2, 3),
+    ],
+)
 def test_annex_e_levels_of_spectra_either_side_of_a_threshold(family, lo, hi, metric, level, above, below):
     from cctkit.rendering import intents
     from cctkit.report.build import design_intents

@@ -12,19 +12,19 @@ import pytest
 
 pypdf = pytest.importorskip("pypdf")
 
+from conftest import build_report_strict as _build  # noqa: E402
+from conftest import pdf_page_texts as _text
 from typer.testing import CliRunner  # noqa: E402
 
 from cctkit.analysis import analyse  # noqa: E402
 from cctkit.cli import app  # noqa: E402
 from cctkit.errors import InputError  # noqa: E402
 from cctkit.planck import spectral_exitance  # noqa: E402
+from cctkit.rendering import intents  # noqa: E402
 from cctkit.report import charts, pages  # noqa: E402
 from cctkit.report.build import report_meta  # noqa: E402
 from cctkit.report.profile import load_profile, report_date  # noqa: E402
-from cctkit.rendering import intents  # noqa: E402
 from cctkit.spectra import Quantity, Spectra  # noqa: E402
-
-from conftest import build_report_strict as _build, pdf_page_texts as _text  # noqa: E402
 
 WL = np.arange(380.0, 781.0, 5.0)
 runner = CliRunner()
@@ -67,8 +67,7 @@ def test_summary_cells_of_relative_data_hold_only_their_own_values(nine_relative
     for k, (r, row) in enumerate(zip(recs, rows)):
         cells = dict(zip(header, row))
         assert cells["#"] == str(k + 1) and cells["Name"] == r["name"]
-        for head, key in (("CCT [K]", "cct_K"), ("Duv", "duv"), ("Ra", "Ra"), ("R9", "R9"), ("Rf", "Rf"),
-                          ("Rg", "Rg")):
+        for head, key in (("CCT [K]", "cct_K"), ("Duv", "duv"), ("Ra", "Ra"), ("R9", "R9"), ("Rf", "Rf"), ("Rg", "Rg")):
             assert cells[head] == pages.format_value(r, key)
         assert sum(r["name"] in c for c in row) == 1  # the name in the name column only
 
@@ -90,8 +89,9 @@ def test_summary_picture_text_never_overlaps(nine, nine_relative, tmp_path):
         from cctkit.report.build import _RC
 
         with rc_context(_RC):
-            fig = pages.summary_picture(a, recs, meta, comparison=charts.reference_comparison(a), diagram="uv",
-                                        regions=None)
+            fig = pages.summary_picture(
+                a, recs, meta, comparison=charts.reference_comparison(a), diagram="uv", regions=None
+            )
             r = charts.renderer_of(fig)
             cells = [t for t in fig.texts if (t.get_gid() or "").startswith("summary-")]
             assert len(cells) == len(pages.summary_cells(recs)[0]) * (len(recs) + 1)
@@ -116,8 +116,9 @@ def test_saturated_sources_stay_in_view_with_the_spectrum_locus():
     green = np.exp(-0.5 * ((WL - 525.0) / 12.0) ** 2)
     red = np.exp(-0.5 * ((WL - 630.0) / 9.0) ** 2)
     white = spectral_exitance(4000.0, WL)
-    a = analyse(Spectra(WL, np.stack([green, red, white / white.max()]), ("green", "red", "white"),
-                        quantity=Quantity.RELATIVE))
+    a = analyse(
+        Spectra(WL, np.stack([green, red, white / white.max()]), ("green", "red", "white"), quantity=Quantity.RELATIVE)
+    )
     fig = _figure()
     ax = fig.add_axes((0.15, 0.15, 0.7, 0.7))
     charts.chromaticity_chart(a, ax)
@@ -178,13 +179,18 @@ def test_the_same_identity_on_bars_lines_and_points(nine):
     for k in range(9):
         st = charts.series_style(k)
         bars = [p for p in ax_bars.patches if p.get_label() == f"#{k + 1}" or p in ax_bars.containers[k].patches]
-        assert all(to_hex(p.get_edgecolor()) == st["color"] and (p.get_hatch() or "") == st["hatch"]
-                   for p in ax_bars.containers[k].patches)
+        assert all(
+            to_hex(p.get_edgecolor()) == st["color"] and (p.get_hatch() or "") == st["hatch"]
+            for p in ax_bars.containers[k].patches
+        )
         assert bars
         line = next(ln for ln in ax_lines.lines if ln.get_label() == f"{k + 1}")
         assert to_hex(line.get_color()) == st["color"] and line.get_marker() == st["marker"]
-        pts = [ln for ln in ax_pts.lines if ln.get_marker() == st["marker"] and to_hex(ln.get_markeredgecolor())
-               == st["color"]]
+        pts = [
+            ln
+            for ln in ax_pts.lines
+            if ln.get_marker() == st["marker"] and to_hex(ln.get_markeredgecolor()) == st["color"]
+        ]
         assert len(pts) == 1
 
 
@@ -256,16 +262,43 @@ def _write_lamps(path: Path, n: int) -> Path:
 def test_signoff_fields_approval_block_page_numbers_and_sha_on_every_page(tmp_path):
     src = _write_lamps(tmp_path / "lamps.csv", 3)
     out = tmp_path / "signed.pdf"
-    r = runner.invoke(app, ["report", str(src), "--quantity", "radiant-flux", "-o", str(out), "--title",
-                            "Foyer candidates", "--project", "Harbourside Lantern Hall foyer", "--lab",
-                            "Quay Street photometry bench", "--operator", "I. Marsh", "--instrument",
-                            "array spectroradiometer QS-2", "--notes", "30 min warm-up at 25 degC",
-                            "--date", "2026-02-03"])
+    r = runner.invoke(
+        app,
+        [
+            "report",
+            str(src),
+            "--quantity",
+            "radiant-flux",
+            "-o",
+            str(out),
+            "--title",
+            "Foyer candidates",
+            "--project",
+            "Harbourside Lantern Hall foyer",
+            "--lab",
+            "Quay Street photometry bench",
+            "--operator",
+            "I. Marsh",
+            "--instrument",
+            "array spectroradiometer QS-2",
+            "--notes",
+            "30 min warm-up at 25 degC",
+            "--date",
+            "2026-02-03",
+        ],
+    )
     assert r.exit_code == 0, r.output
     text = _text(out)
     first = " ".join(text[0].split())
-    for field in ("Foyer candidates", "Harbourside Lantern Hall foyer", "Quay Street photometry bench", "I. Marsh",
-                  "array spectroradiometer QS-2", "30 min warm-up at 25 degC", "2026-02-03"):
+    for field in (
+        "Foyer candidates",
+        "Harbourside Lantern Hall foyer",
+        "Quay Street photometry bench",
+        "I. Marsh",
+        "array spectroradiometer QS-2",
+        "30 min warm-up at 25 degC",
+        "2026-02-03",
+    ):
         assert field in first, field
     for box, _ in pages.APPROVAL_BOXES:
         assert box in first
@@ -284,9 +317,11 @@ def test_profile_sets_fields_paper_sections_and_logo(tmp_path):
     fig.text(0.1, 0.4, "HLH")
     fig.savefig(logo, format="png", dpi=50)
     prof = tmp_path / "lab.toml"
-    prof.write_text('title = "Harbourside lab report"\nlab = "Harbourside photometry bench"\n'
-                    'operator = "R. Okafor"\ndate = 2026-12-02\npaper = "letter"\nlogo = "logo.png"\n'
-                    'sections = ["spectra"]\n')
+    prof.write_text(
+        'title = "Harbourside lab report"\nlab = "Harbourside photometry bench"\n'
+        'operator = "R. Okafor"\ndate = 2026-12-02\npaper = "letter"\nlogo = "logo.png"\n'
+        'sections = ["spectra"]\n'
+    )
     src = _write_lamps(tmp_path / "lamps.csv", 2)
     out = tmp_path / "p.pdf"
     r = runner.invoke(app, ["report", str(src), "-o", str(out), "--profile", str(prof), "--operator", "T. Ngata"])
@@ -301,13 +336,16 @@ def test_profile_sets_fields_paper_sections_and_logo(tmp_path):
     assert "/XObject" in reader.pages[0]["/Resources"]  # the logo image
 
 
-@pytest.mark.parametrize("body, match", [
-    ('colour = "red"\n', "unknown key 'colour'"),
-    ('sections = ["appendix"]\n', "unknown section 'appendix'"),
-    ('date = "yesterday"\n', "YYYY-MM-DD"),
-    ('title = 3\n', "expected text"),
-    ('title = \n', "not valid TOML"),
-])
+@pytest.mark.parametrize(
+    "body, match",
+    [
+        ('colour = "red"\n', "unknown key 'colour'"),
+        ('sections = ["appendix"]\n', "unknown section 'appendix'"),
+        ('date = "yesterday"\n', "YYYY-MM-DD"),
+        ("title = 3\n", "expected text"),
+        ("title = \n", "not valid TOML"),
+    ],
+)
 def test_bad_profiles_are_one_line_errors(tmp_path, body, match):
     prof = tmp_path / "bad.toml"
     prof.write_text(body)
@@ -340,15 +378,24 @@ def _level(intent, Rf, Rg, Rf_h1, Rcs_h1):
 def test_each_annex_e_threshold_classifies_on_either_side(crit):
     # A point that meets the criterion comfortably (thresholds: cctkit.rendering.intents.CRITERIA,
     # from memory of TM-30-20 Annex E), then each limit moved just past its threshold.
-    base = {"Rf": max(crit.Rf_min or 0, 0) + 0.5 if crit.Rf_min else 90.0,
-            "Rg": (crit.Rg_min + (crit.Rg_max or crit.Rg_min + 1)) / 2 if crit.Rg_min is not None else 100.0,
-            "Rf_h1": (crit.Rf_h1_min + 0.5) if crit.Rf_h1_min is not None else 90.0,
-            "Rcs_h1": (0.5 * (crit.Rcs_h1_min + crit.Rcs_h1_max) if crit.Rcs_h1_max is not None
-                       else crit.Rcs_h1_min + 0.5) if crit.Rcs_h1_min is not None else 0.0}
+    base = {
+        "Rf": max(crit.Rf_min or 0, 0) + 0.5 if crit.Rf_min else 90.0,
+        "Rg": (crit.Rg_min + (crit.Rg_max or crit.Rg_min + 1)) / 2 if crit.Rg_min is not None else 100.0,
+        "Rf_h1": (crit.Rf_h1_min + 0.5) if crit.Rf_h1_min is not None else 90.0,
+        "Rcs_h1": (0.5 * (crit.Rcs_h1_min + crit.Rcs_h1_max) if crit.Rcs_h1_max is not None else crit.Rcs_h1_min + 0.5)
+        if crit.Rcs_h1_min is not None
+        else 0.0,
+    }
     ok = intents.meets(crit, base["Rf"], base["Rg"], base["Rf_h1"], base["Rcs_h1"])
     assert bool(ok), base
-    edges = [("Rf", crit.Rf_min, -1), ("Rg", crit.Rg_min, -1), ("Rg", crit.Rg_max, +1),
-             ("Rf_h1", crit.Rf_h1_min, -1), ("Rcs_h1", crit.Rcs_h1_min, -1), ("Rcs_h1", crit.Rcs_h1_max, +1)]
+    edges = [
+        ("Rf", crit.Rf_min, -1),
+        ("Rg", crit.Rg_min, -1),
+        ("Rg", crit.Rg_max, +1),
+        ("Rf_h1", crit.Rf_h1_min, -1),
+        ("Rcs_h1", crit.Rcs_h1_min, -1),
+        ("Rcs_h1", crit.Rcs_h1_max, +1),
+    ]
     for key, lim, side in edges:
         if lim is None:
             continue
@@ -387,8 +434,14 @@ def test_tables_never_print_a_negative_zero():
 
 
 def test_instrument_metadata_a_reader_found_is_printed():
-    rec = {"metadata": {"instrument": "QS-2 array spectroradiometer", "serial": "A0917", "integration_time_ms": 120,
-                        "comment": "bench 2"}}
+    rec = {
+        "metadata": {
+            "instrument": "QS-2 array spectroradiometer",
+            "serial": "A0917",
+            "integration_time_ms": 120,
+            "comment": "bench 2",
+        }
+    }
     text = pages.instrument_text(rec)
     assert text.startswith("instrument QS-2 array spectroradiometer; serial A0917; integration time ms 120")
     assert pages.instrument_text({}) == "" and pages.instrument_text({"metadata": None}) == ""
@@ -400,12 +453,24 @@ def test_spectrum_page_text_does_not_overlap_even_with_metadata_and_flags(nine):
     from cctkit.report.build import _RC
 
     rec = dict(nine.records()[0])
-    rec["metadata"] = {"instrument": "QS-2 array spectroradiometer with a long description of its optics",
-                       "serial": "A0917", "comment": "a note " * 30}
+    rec["metadata"] = {
+        "instrument": "QS-2 array spectroradiometer with a long description of its optics",
+        "serial": "A0917",
+        "comment": "a note " * 30,
+    }
     rec["flags"] = [{"code": f"test-{k}", "message": "a made-up flag with a long message " * 3} for k in range(5)]
     meta = report_meta(date="2026-01-15", records=[rec])
     with rc_context(_RC):
-        fig = pages.sample_page(nine, 0, rec, meta, paper="a4", comparison=charts.reference_comparison(nine),
-                                diagram="uv", regions=None, page_label="page 2 of 2")
+        fig = pages.sample_page(
+            nine,
+            0,
+            rec,
+            meta,
+            paper="a4",
+            comparison=charts.reference_comparison(nine),
+            diagram="uv",
+            regions=None,
+            page_label="page 2 of 2",
+        )
         r = charts.renderer_of(fig)
         assert charts.text_collisions(fig.texts, r) == []

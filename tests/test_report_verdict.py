@@ -17,6 +17,8 @@ import pytest
 
 pypdf = pytest.importorskip("pypdf")
 
+from conftest import build_report_strict as _build  # noqa: E402
+from conftest import pdf_page_texts as _text
 from typer.testing import CliRunner  # noqa: E402
 
 from cctkit.analysis import analyse  # noqa: E402
@@ -25,10 +27,9 @@ from cctkit.cli import app  # noqa: E402
 from cctkit.errors import InputError  # noqa: E402
 from cctkit.planck import spectral_exitance  # noqa: E402
 from cctkit.readers import read_spectra  # noqa: E402
-from cctkit.report import build_report, charts, verdict as vd  # noqa: E402
+from cctkit.report import build_report, charts  # noqa: E402
+from cctkit.report import verdict as vd
 from cctkit.spectra import Quantity, Spectra, concatenate  # noqa: E402
-
-from conftest import build_report_strict as _build, pdf_page_texts as _text  # noqa: E402
 
 ROOT = Path(__file__).resolve().parents[1]
 SPECTRA = ROOT / "spectra"
@@ -68,8 +69,8 @@ def test_verdict_pages_come_first_and_add_to_the_page_count(lot, lot_pdf, tmp_pa
     assert len(rep.pages) == len(plain.pages) + n_verdict
     assert len(_text(out)) == len(rep.pages)
     assert rep.pages[0] == "sign-off and inputs"  # the approval block stays on the first page
-    assert rep.pages[1:1 + n_verdict] == ("claims verdict", "claims verdict table 1")
-    assert rep.pages[1 + n_verdict:] == plain.pages[1:]
+    assert rep.pages[1 : 1 + n_verdict] == ("claims verdict", "claims verdict table 1")
+    assert rep.pages[1 + n_verdict :] == plain.pages[1:]
     text = _text(out)
     assert "Claims verdict \u2014 Northbeam Lighting" in text[1]
     assert f"page 2 of {len(rep.pages)}" in text[1]
@@ -96,8 +97,7 @@ def test_overview_shows_claims_rule_and_the_verdict_summary(lot, lot_pdf):
     assert f"{doc['summary']['sdcm']['max']:.2f}" in flat
     assert f"{doc['summary']['ansi_quadrangle']['min']:+.4f}" in flat
     counts = {k: sum(s["verdict"] == k for s in doc["samples"]) for k in WORDS}
-    assert (f"Samples: {counts['pass']} pass, {counts['inconclusive']} inconclusive, {counts['fail']} FAIL"
-            in flat)
+    assert f"Samples: {counts['pass']} pass, {counts['inconclusive']} inconclusive, {counts['fail']} FAIL" in flat
 
 
 def test_table_names_every_sample_with_its_verdict_and_the_claim_limits(lot, lot_pdf):
@@ -111,12 +111,18 @@ def test_table_names_every_sample_with_its_verdict_and_the_claim_limits(lot, lot
         starts.append(m.start())
     starts.append(table.index("Each cell"))
     for k, s in enumerate(samples):
-        row = table[starts[k]:starts[k + 1]]
+        row = table[starts[k] : starts[k + 1]]
         word = WORDS[s["verdict"]]
         assert row.split()[2 + bool(claims.declared_id)] == word, (s["name"], row[:80])
         for c in s["checks"]:
-            assert WORDS[c["decision"]["result"] if "decision" in c else
-                         {True: "pass", False: "fail", None: "inconclusive"}[c["pass"]]] in row
+            assert (
+                WORDS[
+                    c["decision"]["result"]
+                    if "decision" in c
+                    else {True: "pass", False: "fail", None: "inconclusive"}[c["pass"]]
+                ]
+                in row
+            )
         if s["verdict"] == "pass":
             assert "FAIL" not in row and "inconclusive" not in row
     # The limits as the verdict document has them.
@@ -158,8 +164,9 @@ def test_chart_marks_pass_and_fail_by_marker_shape_and_draws_the_claimed_regions
     verdicts = np.array([_chroma_result(s) for s in doc["samples"]])
     for key in WORDS:
         ln = lines[f"verdict-{key}"]
-        np.testing.assert_array_equal(np.column_stack([ln.get_xdata(), ln.get_ydata()]),
-                                      np.asarray(analysis.uv)[verdicts == key])
+        np.testing.assert_array_equal(
+            np.column_stack([ln.get_xdata(), ln.get_ydata()]), np.asarray(analysis.uv)[verdicts == key]
+        )
     # The claimed quadrangle and ellipse come from cctkit.tolerance.
     quad_uv = np.asarray(tol.ansi_quadrangle(3000).corners_uv)
     ell_uv = xy_to_uv(tol.ellipse_boundary_xy(tol.iec60081_ellipse(3000), 3.0))
@@ -201,9 +208,19 @@ def test_badge_words_do_not_sit_on_the_hatching(lot):
 
 def test_table_head_gives_a_two_sided_limit_in_full(lot, tmp_path):
     analysis = analyse(_batch(4), rendering=False)
-    claims = parse_claims({"limits": {"duv": {"min": -0.006, "max": 0.006}, "cct_K": {"min": 2900, "max": 3200},
-                                      "x": {"min": 0.41}, "y": {"max": 0.42}, "u_prime": {"min": 0.24},
-                                      "v_prime": {"min": 0.5}}}, source="two.toml")
+    claims = parse_claims(
+        {
+            "limits": {
+                "duv": {"min": -0.006, "max": 0.006},
+                "cct_K": {"min": 2900, "max": 3200},
+                "x": {"min": 0.41},
+                "y": {"max": 0.42},
+                "u_prime": {"min": 0.24},
+                "v_prime": {"min": 0.5},
+            }
+        },
+        source="two.toml",
+    )
     doc = verify(analysis.records(), claims).as_dict()
     out = tmp_path / "two.pdf"
     _build(analysis, out, verdict=doc, claims=claims, pages=False)
@@ -217,13 +234,18 @@ def test_table_hatches_exactly_the_cells_that_do_not_pass(lot):
     analysis, claims, doc = lot
     with warnings.catch_warnings():
         warnings.simplefilter("error")
-        (fig,) = list(vd.verdict_table_pages(doc, claims, report_meta(date="2026-01-15"), paper="a4",
-                                             page_labels=["page 2 of 2"]))
+        (fig,) = list(
+            vd.verdict_table_pages(doc, claims, report_meta(date="2026-01-15"), paper="a4", page_labels=["page 2 of 2"])
+        )
     hatches = [a.get_hatch() for a in fig.artists if getattr(a, "get_hatch", lambda: None)()]
     want = {"fail": 0, "inconclusive": 0}
     for s in doc["samples"]:
         for c in s["checks"]:
-            r = c["decision"]["result"] if "decision" in c else {True: "pass", False: "fail", None: "inconclusive"}[c["pass"]]
+            r = (
+                c["decision"]["result"]
+                if "decision" in c
+                else {True: "pass", False: "fail", None: "inconclusive"}[c["pass"]]
+            )
             if r != "pass":
                 want[r] += 1
     assert want["fail"] > 0 and want["inconclusive"] > 0  # the demo lot has both
@@ -246,12 +268,24 @@ def _batch(n: int) -> Spectra:
 def test_many_samples_and_claims_paginate_rows_and_columns(tmp_path):
     n = vd.VERDICT_ROWS_PER_PAGE + 6
     analysis = analyse(_batch(n), rendering=False)
-    limits = {"cct_K": {"min": 2900, "max": 3200}, "duv": {"min": -0.006, "max": 0.006},
-              "x": {"min": 0.41}, "y": {"max": 0.42}, "u_prime": {"min": 0.24}, "v_prime": {"min": 0.5},
-              "peak_nm": {"min": 500}, "radiant_total_W": {"min": 0.0}}
-    claims = parse_claims({"claims": {"supplier": "Quay Works"}, "limits": limits,
-                           "chromaticity": {"nominal_cct_K": 3000, "ansi_quadrangle": True, "max_sdcm": 5}},
-                          source="many.toml")
+    limits = {
+        "cct_K": {"min": 2900, "max": 3200},
+        "duv": {"min": -0.006, "max": 0.006},
+        "x": {"min": 0.41},
+        "y": {"max": 0.42},
+        "u_prime": {"min": 0.24},
+        "v_prime": {"min": 0.5},
+        "peak_nm": {"min": 500},
+        "radiant_total_W": {"min": 0.0},
+    }
+    claims = parse_claims(
+        {
+            "claims": {"supplier": "Quay Works"},
+            "limits": limits,
+            "chromaticity": {"nominal_cct_K": 3000, "ansi_quadrangle": True, "max_sdcm": 5},
+        },
+        source="many.toml",
+    )
     doc = verify(analysis.records(), claims).as_dict()
     assert len(claims.metrics) == 10  # two column groups of at most 6
     assert vd.verdict_page_count(doc) == 1 + 2 * 2
@@ -291,15 +325,15 @@ runner = CliRunner()
 def test_cli_report_and_verify_write_the_verdict_report(tmp_path):
     files = [str(f) for f in _lot_files()]
     out = tmp_path / "report.pdf"
-    res = runner.invoke(app, ["report", *files, "--claims", str(CLAIMS), "--output", str(out), "--date",
-                              "2026-01-15"])
+    res = runner.invoke(app, ["report", *files, "--claims", str(CLAIMS), "--output", str(out), "--date", "2026-01-15"])
     assert res.exit_code == 1, res.output  # a failing verdict: verify's exit status, and the report is written
     first = _text(out)[1]
     assert "Claims verdict" in first and "verdict: FAIL" in first
 
     out2 = tmp_path / "verify.pdf"
-    res = runner.invoke(app, ["verify", *files, "--claims", str(CLAIMS), "--report", str(out2)],
-                        env={"SOURCE_DATE_EPOCH": "1768435200"})  # 2026-01-15
+    res = runner.invoke(
+        app, ["verify", *files, "--claims", str(CLAIMS), "--report", str(out2)], env={"SOURCE_DATE_EPOCH": "1768435200"}
+    )  # 2026-01-15
     assert res.exit_code == 1, res.output  # the lot fails (exit status of verify unchanged)
     assert _text(out2)[:3] == _text(out)[:3]  # the same sign-off and verdict pages from either command
     assert "Claims verdict" in _text(out2)[1]

@@ -33,8 +33,9 @@ runner = CliRunner()
 LIMIT_AS = 1536 * 1024 * 1024
 
 
-def run_limited(args: list[str], *, cwd: Path, limit_as: int = LIMIT_AS, fsize: int | None = None,
-                timeout: float = 120) -> subprocess.CompletedProcess:
+def run_limited(
+    args: list[str], *, cwd: Path, limit_as: int = LIMIT_AS, fsize: int | None = None, timeout: float = 120
+) -> subprocess.CompletedProcess:
     """``cctkit ARGS`` in a child process under resource limits; returns the finished process."""
     code = textwrap.dedent(f"""
         import resource, signal, sys
@@ -47,8 +48,14 @@ def run_limited(args: list[str], *, cwd: Path, limit_as: int = LIMIT_AS, fsize: 
         sys.argv = ["cctkit"] + {args!r}
         main()
     """)
-    return subprocess.run([sys.executable, "-c", code], cwd=cwd, capture_output=True, text=True, timeout=timeout,
-                          env={**os.environ, "OPENBLAS_NUM_THREADS": "1", "OMP_NUM_THREADS": "1"})
+    return subprocess.run(
+        [sys.executable, "-c", code],
+        cwd=cwd,
+        capture_output=True,
+        text=True,
+        timeout=timeout,
+        env={**os.environ, "OPENBLAS_NUM_THREADS": "1", "OMP_NUM_THREADS": "1"},
+    )
 
 
 def one_line(text: str) -> str:
@@ -60,7 +67,7 @@ def one_line(text: str) -> str:
 
 def claims_with(tmp_path: Path, samples: str = "", name: str = "c.toml") -> Path:
     p = tmp_path / name
-    p.write_text('[limits]\nRa = { min = 80 }\n' + samples)
+    p.write_text("[limits]\nRa = { min = 80 }\n" + samples)
     return p
 
 
@@ -77,14 +84,17 @@ def test_claims_fifo_and_device_are_refused_at_once(tmp_path):
     assert r.exit_code == 2 and "/dev/zero: cannot read claims file (is not a regular file" in one_line(r.output)
 
 
-@pytest.mark.parametrize("sidecar, reason", [
-    ("/dev/zero", "absolute path"),
-    ("/etc/passwd", "absolute path"),
-    ("../power.csv", "leaves the claims file's folder"),
-    ("sub/../../power.csv", "leaves the claims file's folder"),
-    ("link.csv", "outside the claims file's folder"),
-    ("fifo.csv", "not a regular file"),
-])
+@pytest.mark.parametrize(
+    "sidecar, reason",
+    [
+        ("/dev/zero", "absolute path"),
+        ("/etc/passwd", "absolute path"),
+        ("../power.csv", "leaves the claims file's folder"),
+        ("sub/../../power.csv", "leaves the claims file's folder"),
+        ("link.csv", "outside the claims file's folder"),
+        ("fifo.csv", "not a regular file"),
+    ],
+)
 def test_sidecar_is_confined_to_the_claims_folder(tmp_path, sidecar, reason):
     inner = tmp_path / "claims"
     inner.mkdir()
@@ -135,14 +145,19 @@ def test_spectra_limit_points_to_batch_under_a_memory_limit(tmp_path):
     n = MAX_SPECTRA + 1
     f = tmp_path / "many.json"
     wl = list(range(380, 781, 20))
-    f.write_text(json.dumps({"wavelength_nm": wl, "spectra": [{"name": f"s{i}", "values": [1.0] * len(wl)}
-                                                            for i in range(n)]}))
+    f.write_text(
+        json.dumps({"wavelength_nm": wl, "spectra": [{"name": f"s{i}", "values": [1.0] * len(wl)} for i in range(n)]})
+    )
     p = run_limited(["inspect", str(f)], cwd=tmp_path)
     assert p.returncode == 2, p.stderr
     line = one_line(p.stderr)
     assert f"{n} spectra" in line and "cctkit batch" in line
-    for command in (["versus"], ["bin"], ["report", "--output", str(tmp_path / "r.pdf")],
-                    ["verify", "--claims", str(CLAIMS)]):
+    for command in (
+        ["versus"],
+        ["bin"],
+        ["report", "--output", str(tmp_path / "r.pdf")],
+        ["verify", "--claims", str(CLAIMS)],
+    ):
         r = runner.invoke(app, [command[0], str(f), *command[1:]])
         assert r.exit_code == 2, r.output
         assert f"{n} spectra" in one_line(r.output) and "cctkit batch" in r.output
@@ -214,8 +229,19 @@ def test_verify_writes_both_outputs_in_one_group(tmp_path, monkeypatch):
             raise OSError(errno.ENOSPC, "No space left on device")
 
     monkeypatch.setattr(report, "build_report", no_room)
-    r = runner.invoke(app, ["verify", str(LAMP), "--claims", str(CLAIMS), "--output", str(tmp_path / "v.csv"),
-                            "--report", str(tmp_path / "v.pdf")])
+    r = runner.invoke(
+        app,
+        [
+            "verify",
+            str(LAMP),
+            "--claims",
+            str(CLAIMS),
+            "--output",
+            str(tmp_path / "v.csv"),
+            "--report",
+            str(tmp_path / "v.pdf"),
+        ],
+    )
     assert r.exit_code == 2 and "v.pdf: cannot write the output (No space left" in one_line(r.output)
     assert list(tmp_path.iterdir()) == []
 
@@ -250,7 +276,7 @@ def test_read_only_folder_names_the_file(tmp_path, monkeypatch):
 def _named(tmp_path: Path, name: str) -> Path:
     wl = list(range(380, 781, 5))
     f = tmp_path / "named.json"
-    values = [float(np.exp(-((w - 560) / 120) ** 2)) + 0.1 for w in wl]
+    values = [float(np.exp(-(((w - 560) / 120) ** 2))) + 0.1 for w in wl]
     f.write_text(json.dumps({"wavelength_nm": wl, "spectra": [{"name": name, "values": values}]}))
     return f
 
@@ -303,8 +329,8 @@ def test_runtime_warnings_are_one_line(tmp_path):
     r = runner.invoke(app, ["inspect", str(LAMP)])
     assert r.exit_code == 0
     with _one_line_warnings():
-        import io
         import contextlib
+        import io
 
         buf = io.StringIO()
         with contextlib.redirect_stderr(buf):
@@ -320,10 +346,23 @@ def test_interrupt_is_one_line_exit_130(tmp_path):
     big = tmp_path / "lot.json"
     wl = list(range(380, 781, 5))
     rng = np.random.default_rng(1)
-    big.write_text(json.dumps({"wavelength_nm": wl, "spectra": [
-        {"name": f"s{i}", "values": (rng.random(len(wl)) + 0.5).tolist()} for i in range(MAX_SPECTRA)]}))
-    proc = subprocess.Popen([sys.executable, "-m", "cctkit", "report", str(big), "--output", "r.pdf"], cwd=tmp_path,
-                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    big.write_text(
+        json.dumps(
+            {
+                "wavelength_nm": wl,
+                "spectra": [
+                    {"name": f"s{i}", "values": (rng.random(len(wl)) + 0.5).tolist()} for i in range(MAX_SPECTRA)
+                ],
+            }
+        )
+    )
+    proc = subprocess.Popen(
+        [sys.executable, "-m", "cctkit", "report", str(big), "--output", "r.pdf"],
+        cwd=tmp_path,
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+    )
 
     def cpu_s() -> float:  # the child's own CPU time: past start-up whatever the machine's load
         fields = Path(f"/proc/{proc.pid}/stat").read_text().rsplit(")", 1)[1].split()
@@ -355,14 +394,17 @@ def test_internal_errors_name_no_python_types(monkeypatch):
 # --------------------------------------------------------------------------- no visible data (verify)
 
 
-@pytest.mark.parametrize("case, wavelengths, values, reason", [
-    # NIR only (a spectrometer's 900-1700 nm head), UV only, and angstroms read as nm (3800-7800 "nm")
-    ("nir", np.arange(900.0, 1701.0, 5.0), None, "no measured data in 380-780 nm"),
-    ("uv", np.arange(250.0, 371.0, 1.0), None, "no measured data in 380-780 nm"),
-    ("angstrom", np.arange(3800.0, 7801.0, 50.0), None, "no measured data in 380-780 nm"),
-    ("negative", np.arange(380.0, 781.0, 5.0), -1.0, "no signal"),
-    ("zero", np.arange(380.0, 781.0, 5.0), 0.0, "no signal"),
-])
+@pytest.mark.parametrize(
+    "case, wavelengths, values, reason",
+    [
+        # NIR only (a spectrometer's 900-1700 nm head), UV only, and angstroms read as nm (3800-7800 "nm")
+        ("nir", np.arange(900.0, 1701.0, 5.0), None, "no measured data in 380-780 nm"),
+        ("uv", np.arange(250.0, 371.0, 1.0), None, "no measured data in 380-780 nm"),
+        ("angstrom", np.arange(3800.0, 7801.0, 50.0), None, "no measured data in 380-780 nm"),
+        ("negative", np.arange(380.0, 781.0, 5.0), -1.0, "no signal"),
+        ("zero", np.arange(380.0, 781.0, 5.0), 0.0, "no signal"),
+    ],
+)
 def test_verify_never_passes_a_spectrum_without_visible_data(tmp_path, case, wavelengths, values, reason):
     v = np.full(wavelengths.size, values) if values is not None else 1.0 + 0.1 * np.sin(wavelengths / 40.0)
     f = tmp_path / f"{case}.csv"

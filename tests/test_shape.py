@@ -90,9 +90,11 @@ def _exhaustive_fwhm():
 def test_mask_fwhm_equals_the_former_form_bit_for_bit():
     rng = np.random.default_rng(3)
     n = 400
-    s = (_gauss(rng.uniform(380, 800, n), rng.uniform(2, 40, n))
-         + rng.uniform(0, 0.9, (n, 1)) * _gauss(rng.uniform(380, 800, n), rng.uniform(5, 80, n))
-         + rng.uniform(0, 0.02, (n, 471)))
+    s = (
+        _gauss(rng.uniform(380, 800, n), rng.uniform(2, 40, n))
+        + rng.uniform(0, 0.9, (n, 1)) * _gauss(rng.uniform(380, 800, n), rng.uniform(5, 80, n))
+        + rng.uniform(0, 0.02, (n, 471))
+    )
     new = fwhm_nm(s)
     old = _exhaustive_fwhm()(s)
     defined = np.isfinite(new)

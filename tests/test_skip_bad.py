@@ -76,7 +76,9 @@ def lots(tmp_path_factory) -> dict[str, Path]:
     messy = d / "messy.csv"
     messy.write_text(header + "".join(f"L{k:04d}," + ",".join(row_cells(k)) + "\n" for k in range(N)))
     clean = d / "clean.csv"  # the same file with the broken rows taken out by hand
-    clean.write_text(header + "".join(f"L{k:04d}," + ",".join(row_cells(k)) + "\n" for k in range(N) if k not in FAULTS))
+    clean.write_text(
+        header + "".join(f"L{k:04d}," + ",".join(row_cells(k)) + "\n" for k in range(N) if k not in FAULTS)
+    )
     return {"dir": d, "messy": messy, "clean": clean}
 
 
@@ -139,8 +141,12 @@ def test_batch_without_skip_bad_refuses_in_one_line_and_writes_nothing(lots, tmp
 
 def test_a_file_whose_every_row_is_bad_gives_no_output(tmp_path):
     f = tmp_path / "all-bad.csv"
-    f.write_text("name," + ",".join(f"{w:g}" for w in WL) + "\n" + "".join(f"z{k}," + ",".join(["0"] * WL.size) + "\n"
-                                                                          for k in range(3)))
+    f.write_text(
+        "name,"
+        + ",".join(f"{w:g}" for w in WL)
+        + "\n"
+        + "".join(f"z{k}," + ",".join(["0"] * WL.size) + "\n" for k in range(3))
+    )
     out = tmp_path / "r.csv"
     r = run("batch", f, "-o", out, "--skip-bad", "--workers", 1)
     assert r.exit_code == 2 and "no spectra found" in r.stderr
@@ -207,8 +213,10 @@ def test_parquet_rows_with_missing_values_are_skipped(tmp_path):
     skipped: list[InputError] = []
     names = [n for c in open_chunked(f, skipped=skipped).chunks() for n in c.names]
     assert names == ["lot#1", "lot#2", "lot#4", "lot#6"]
-    assert [e.reason for e in skipped] == ["row 3: missing or non-finite value at 420 nm",
-                                           "row 5: missing or non-finite value at 500 nm"]
+    assert [e.reason for e in skipped] == [
+        "row 3: missing or non-finite value at 420 nm",
+        "row 5: missing or non-finite value at 500 nm",
+    ]
     with pytest.raises(InputError, match="row 3: missing value at 420 nm"):
         list(open_chunked(f).chunks())
 
@@ -218,8 +226,19 @@ def test_skip_bad_combines_with_resume(lots, tmp_path):
     out = tmp_path / "r.csv"
     src = open_chunked(lots["messy"], chunk_size=64, skipped=[])
     run_batch(src, out, workers=1, rendering=False, resume=True)
-    r = run("batch", lots["messy"], "-o", tmp_path / "s.csv", "--skip-bad", "--resume", "--no-rendering",
-            "--workers", 1, "--chunk-size", 64)
+    r = run(
+        "batch",
+        lots["messy"],
+        "-o",
+        tmp_path / "s.csv",
+        "--skip-bad",
+        "--resume",
+        "--no-rendering",
+        "--workers",
+        1,
+        "--chunk-size",
+        64,
+    )
     assert r.exit_code == EXIT_SKIPPED
     assert len(read_rows(tmp_path / "s.errors.csv")) == len(FAULTS)
     assert (tmp_path / "s.csv").read_bytes() == out.read_bytes()

@@ -65,12 +65,15 @@ def test_inspect_xlsx_holds_the_csv_numbers(tmp_path):
     assert prov["input tw-lab-setpoints.csv sha256"] == hashlib.sha256(DEMO.read_bytes()).hexdigest()
 
 
-@pytest.mark.parametrize("args", [
-    ("locus", "--from", "2000", "--to", "6000", "--step", "500"),
-    ("blackbody", "3000"),
-    ("reference", "4000"),
-    ("bin", SPECTRA / "northbeam-nb-3000-95.csv"),
-])
+@pytest.mark.parametrize(
+    "args",
+    [
+        ("locus", "--from", "2000", "--to", "6000", "--step", "500"),
+        ("blackbody", "3000"),
+        ("reference", "4000"),
+        ("bin", SPECTRA / "northbeam-nb-3000-95.csv"),
+    ],
+)
 def test_every_table_output_takes_xlsx(tmp_path, args):
     assert run(*args, "--output", tmp_path / "t.csv").exit_code == 0
     r = run(*args, "--output", tmp_path / "t.xlsx")
@@ -120,8 +123,8 @@ def test_semicolon_dialect_has_decimal_commas(tmp_path):
 
 
 def test_dialect_keeps_comment_lines_and_quotes_text():
-    text = "# a comment, with commas\nname,v\n\"a;b, c\",1.5\n"
-    assert csv_in_dialect(text, "semicolon") == "# a comment, with commas\nname;v\n\"a;b, c\";1,5\n"
+    text = '# a comment, with commas\nname,v\n"a;b, c",1.5\n'
+    assert csv_in_dialect(text, "semicolon") == '# a comment, with commas\nname;v\n"a;b, c";1,5\n'
     assert csv_in_dialect(text, "comma") == text
 
 

@@ -34,7 +34,7 @@ def test_tables_equal_the_reference_library_data():
     # 99 CES (CIE 224:2017), 14 TCS (CIE 13.3-1995), 471 = 360-830 nm at 1 nm
     assert tables.table("ces_2017").shape == (471, 99) and tables.table("tcs_1995").shape == (471, 14)
     # zero outside the published ranges of the action spectra (the CIE 170-1:2006 cone fundamentals start at 390 nm)
-    assert np.all(tables.table("lms_10")[:at(390)] == 0)
+    assert np.all(tables.table("lms_10")[: at(390)] == 0)
 
 
 def test_corrupt_cache_is_rebuilt(tmp_path, monkeypatch):

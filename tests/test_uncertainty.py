@@ -48,8 +48,23 @@ def test_fully_correlated_scale_leaves_relative_measures_unchanged(lamp):
     u_rel = 0.02
     r = monte_carlo(lamp, _model(scale={"u_rel": u_rel}, montecarlo={"draws": 2000, "seed": 3}))
     est = r.spectra[0].estimates
-    for key in ("x", "y", "u", "v", "u_prime", "v_prime", "cct_K", "duv", "Ra", "R9", "Rf", "Rg", "ler_lm_per_W",
-                "melanopic_der", "sp_ratio"):
+    for key in (
+        "x",
+        "y",
+        "u",
+        "v",
+        "u_prime",
+        "v_prime",
+        "cct_K",
+        "duv",
+        "Ra",
+        "R9",
+        "Rf",
+        "Rg",
+        "ler_lm_per_W",
+        "melanopic_der",
+        "sp_ratio",
+    ):
         e = est[key]
         assert e.u <= 1e-9 * max(abs(e.value), 1e-3), (key, e.u, e.value)
     # The luminous total scales with the error: u / value = u_rel, up to the Monte Carlo scatter of a
@@ -63,8 +78,10 @@ def test_uncorrelated_noise_agrees_with_the_gum_law(lamp):
     # Noise alone, small: the chromaticity is close to linear in the spectrum, so the GUM law
     # (JCGM 100 section 5.1, cov(XYZ) = W^T Sigma W and the analytic Jacobian) and the Monte Carlo
     # method must agree within the numerical tolerance: JCGM 101 section 8.2 validation.
-    model = _model(noise={"u_rel": 0.02, "floor": 0.0},
-                   montecarlo={"draws": "adaptive", "tolerance_digits": 1, "block": 2000, "seed": 5})
+    model = _model(
+        noise={"u_rel": 0.02, "floor": 0.0},
+        montecarlo={"draws": "adaptive", "tolerance_digits": 1, "block": 2000, "seed": 5},
+    )
     r = monte_carlo(lamp, model, rendering=False)
     s = r.spectra[0]
     assert s.converged
@@ -83,13 +100,15 @@ def test_wavelength_offset_alone_matches_the_finite_difference(lamp):
     h = 0.05
 
     def cct_at(shift):
-        moved = Spectra(wavelength_nm=lamp.wavelength_nm + shift, values=lamp.values, names=lamp.names,
-                        quantity=lamp.quantity)
+        moved = Spectra(
+            wavelength_nm=lamp.wavelength_nm + shift, values=lamp.values, names=lamp.names, quantity=lamp.quantity
+        )
         return float(analyse(moved, rendering=False).cct.cct_K[0])
 
     slope = (cct_at(h) - cct_at(-h)) / (2 * h)
-    r = monte_carlo(lamp, _model(wavelength={"offset_u_nm": u_off}, montecarlo={"draws": 4000, "seed": 7}),
-                    rendering=False)
+    r = monte_carlo(
+        lamp, _model(wavelength={"offset_u_nm": u_off}, montecarlo={"draws": 4000, "seed": 7}), rendering=False
+    )
     e = r.spectra[0].estimates["cct_K"]
     # Monte Carlo scatter of u from 4000 draws: 1.1 % relative; the second-order shift model adds less.
     assert e.u == pytest.approx(abs(slope) * u_off, rel=0.05)
@@ -120,8 +139,14 @@ def test_gum_of_a_fully_correlated_scale_is_zero_for_chromaticity(lamp):
     # for functions homogeneous of degree 0): common practice, no source.
     g = gum_chromaticity(lamp, _model(scale={"u_rel": 0.05}))
     a = analyse(lamp, rendering=False)
-    values = {"x": a.xy[0, 0], "y": a.xy[0, 1], "u": a.uv[0, 0], "v": a.uv[0, 1], "cct_K": a.cct.cct_K[0],
-              "duv": 0.3}  # Duv on the scale of the uv coordinates
+    values = {
+        "x": a.xy[0, 0],
+        "y": a.xy[0, 1],
+        "u": a.uv[0, 0],
+        "v": a.uv[0, 1],
+        "cct_K": a.cct.cct_K[0],
+        "duv": 0.3,
+    }  # Duv on the scale of the uv coordinates
     for key, value in values.items():
         assert g[key][0] <= 1e-9 * abs(value), key  # rounding noise of the cancelling sums
 
@@ -166,8 +191,10 @@ def test_adaptive_procedure_meets_its_tolerance(lamp):
 
 def test_the_adaptive_rule_can_fail_to_stabilise(lamp):
     # A cap below what three digits need: the run says so instead of claiming stability.
-    m = _model(noise={"u_rel": 0.01}, montecarlo={"draws": "adaptive", "tolerance_digits": 3, "block": 500,
-                                                   "max_draws": 1000, "seed": 1})
+    m = _model(
+        noise={"u_rel": 0.01},
+        montecarlo={"draws": "adaptive", "tolerance_digits": 3, "block": 500, "max_draws": 1000, "seed": 1},
+    )
     s = monte_carlo(lamp, m, rendering=False).spectra[0]
     assert not s.converged and s.draws_M == 1000
 
@@ -190,8 +217,12 @@ def test_type_a_from_repeats(lamp):
     rng = np.random.default_rng(4)
     n = 8
     factors = 1 + 0.01 * rng.standard_normal(n)
-    reps = Spectra(wavelength_nm=lamp.wavelength_nm, values=lamp.values * factors[:, None],
-                   names=tuple(f"scan {i}" for i in range(n)), quantity=lamp.quantity)
+    reps = Spectra(
+        wavelength_nm=lamp.wavelength_nm,
+        values=lamp.values * factors[:, None],
+        names=tuple(f"scan {i}" for i in range(n)),
+        quantity=lamp.quantity,
+    )
     r = monte_carlo(reps, _model(montecarlo={"draws": 5000, "seed": 2}), rendering=False, repeats=True)
     s = r.spectra[0]
     assert s.repeats == n and "mean of 8 scans" in s.name
@@ -288,14 +319,19 @@ def test_verify_takes_guard_bands_from_the_model_and_the_claims_file_overrides(t
     model.write_text(MODEL.read_text().replace('draws = "adaptive"', "draws = 100"))
     claims = ROOT / "spectra" / "claims" / "northbeam-3000K.toml"
     out = tmp_path / "v.json"
-    r = runner.invoke(app, ["verify", str(LAMP), "--claims", str(claims), "--uncertainty-model", str(model),
-                            "--output", str(out)])
+    r = runner.invoke(
+        app, ["verify", str(LAMP), "--claims", str(claims), "--uncertainty-model", str(model), "--output", str(out)]
+    )
     assert r.exit_code in (0, 1, 3), r.output
     doc = json.loads(out.read_text())
     assert doc["uncertainty_model"]["sha256"] == __import__("hashlib").sha256(model.read_bytes()).hexdigest()
     checks = {c["metric"]: c for c in doc["samples"][0]["checks"]}
-    assert checks["Ra"]["decision"] == {"rule": "guard-band", "U": 0.5, "result": checks["Ra"]["result"],
-                                        "U_source": "claims"}
+    assert checks["Ra"]["decision"] == {
+        "rule": "guard-band",
+        "U": 0.5,
+        "result": checks["Ra"]["result"],
+        "U_source": "claims",
+    }
     r9 = checks["R9"]["decision"]
     assert r9["U_source"] == "model"
     # the same U the uncertainty command reports for this sample with this model (same seed, same draws)

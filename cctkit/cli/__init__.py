@@ -103,9 +103,20 @@ def _install_quick_coercion(params) -> None:
             continue
         info = descriptor.parameter_info
         try:
-            special = (descriptor.file_annotation is not None or info.parser is not None or info.min is not None
-                       or info.max is not None or info.clamp or info.exists or info.resolve_path or info.writable
-                       or not info.file_okay or not info.dir_okay or info.allow_dash or info.path_type is not None)
+            special = (
+                descriptor.file_annotation is not None
+                or info.parser is not None
+                or info.min is not None
+                or info.max is not None
+                or info.clamp
+                or info.exists
+                or info.resolve_path
+                or info.writable
+                or not info.file_okay
+                or not info.dir_okay
+                or info.allow_dash
+                or info.path_type is not None
+            )
         except AttributeError:  # a framework version that describes parameters otherwise
             return
         if special:
@@ -165,8 +176,13 @@ class _OneLineErrors(TyperGroup):
         streams = _guard_streams()
         try:
             with _one_line_warnings(), _stop_signals():
-                rv = super().main(args=args, prog_name=prog_name or "cctkit", complete_var=complete_var,
-                                  standalone_mode=False, **extra)
+                rv = super().main(
+                    args=args,
+                    prog_name=prog_name or "cctkit",
+                    complete_var=complete_var,
+                    standalone_mode=False,
+                    **extra,
+                )
         except typer.TyperException as exc:  # usage errors (exit 2) and other framework errors
             ctx = getattr(exc, "ctx", None)
             name = getattr(ctx, "info_name", None)
@@ -324,11 +340,19 @@ def _version(value: bool) -> None:
 
 
 def _root(
-    version: bool = typer.Option(False, "--version", callback=_version, is_eager=True, help="Print the version and exit."),
-    quiet: bool = typer.Option(False, "--quiet", help="Only results and errors: no progress, notes or 'wrote' lines "
-                               "(before or after the command)."),
-    verbose: bool = typer.Option(False, "--verbose", help="Also the run time on stderr, and a traceback on an "
-                                 "internal error (before or after the command)."),
+    version: bool = typer.Option(
+        False, "--version", callback=_version, is_eager=True, help="Print the version and exit."
+    ),
+    quiet: bool = typer.Option(
+        False,
+        "--quiet",
+        help="Only results and errors: no progress, notes or 'wrote' lines (before or after the command).",
+    ),
+    verbose: bool = typer.Option(
+        False,
+        "--verbose",
+        help="Also the run time on stderr, and a traceback on an internal error (before or after the command).",
+    ),
 ) -> None:
     """Colour temperature, chromaticity, colour rendering and photometry from measured spectra."""
     from .options import set_verbosity
@@ -357,9 +381,18 @@ def _build_app(modules: tuple[str, ...] = _COMMAND_MODULES) -> _App:
 # The module holding each command: a run of one command imports and builds only that module's commands
 # (tests/test_cli_core.py holds this table equal to what the modules register).
 COMMAND_MODULE = {
-    "inspect": "core", "cct": "core", "locus": "core", "blackbody": "core",
-    "versus": "compare", "reference": "compare", "verify": "verify", "bin": "verify",
-    "report": "report", "batch": "batch", "blend": "blend", "uncertainty": "uncertainty",
+    "inspect": "core",
+    "cct": "core",
+    "locus": "core",
+    "blackbody": "core",
+    "versus": "compare",
+    "reference": "compare",
+    "verify": "verify",
+    "bin": "verify",
+    "report": "report",
+    "batch": "batch",
+    "blend": "blend",
+    "uncertainty": "uncertainty",
 }
 
 app: _App  # every command; built on first use (module __getattr__ below)

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import sys
 from pathlib import Path
-from typing import Optional
 
 import typer
 
@@ -13,13 +12,13 @@ from .options import (
     CSV_DIALECT_OPTION,
     DOMINANT_WHITE_OPTION,
     INTERPOLATION_OPTION,
-    parse_dominant_white,
-    parse_interpolation,
     OBSERVER_HELP,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
     RECURSIVE_OPTION,
     info,
+    parse_dominant_white,
+    parse_interpolation,
     parse_observer,
     require_suffix,
     write_output,
@@ -31,29 +30,45 @@ EXIT_SKIPPED = 4
 
 def batch_cmd(
     input_path: Path = typer.Argument(
-        ..., metavar="INPUT",
+        ...,
+        metavar="INPUT",
         help="Wide CSV (one spectrum per row, header = wavelengths in nm), a spectrum file, "
         "a folder of spectrum files, or a Parquet file.",
     ),
-    output: Path = typer.Option(..., "--output", "-o", help="Results file: .csv, .parquet or .xlsx (one row per "
-                                "spectrum; .xlsx holds at most 1,048,575 rows)."),
+    output: Path = typer.Option(
+        ...,
+        "--output",
+        "-o",
+        help="Results file: .csv, .parquet or .xlsx (one row per spectrum; .xlsx holds at most 1,048,575 rows).",
+    ),
     chunk_size: int = typer.Option(4096, "--chunk-size", help="Spectra per chunk; memory grows with it [spectra]."),
-    workers: Optional[int] = typer.Option(None, "--workers", help="Local worker processes (default: one per available CPU, at most one per chunk)."),
-    scheduler: Optional[str] = typer.Option(None, "--scheduler", help="Run the chunks on a Dask scheduler, e.g. tcp://host:8786."),
-    quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
+    workers: int | None = typer.Option(
+        None, "--workers", help="Local worker processes (default: one per available CPU, at most one per chunk)."
+    ),
+    scheduler: str | None = typer.Option(
+        None, "--scheduler", help="Run the chunks on a Dask scheduler, e.g. tcp://host:8786."
+    ),
+    quantity: str | None = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),
-    rendering: bool = typer.Option(True, "--rendering/--no-rendering", help="Compute CIE 13.3 and TM-30 colour rendering (the costly part)."),
+    rendering: bool = typer.Option(
+        True, "--rendering/--no-rendering", help="Compute CIE 13.3 and TM-30 colour rendering (the costly part)."
+    ),
     overwrite: bool = OVERWRITE_OPTION,
     progress: bool = typer.Option(False, "--progress", help="Show progress on stderr even when it is not a terminal."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress and no summary line (as cctkit --quiet)."),
     interpolation: str = INTERPOLATION_OPTION,
     dominant_white: str = DOMINANT_WHITE_OPTION,
-    resume: bool = typer.Option(False, "--resume", help="CSV output: keep the finished chunks if the run is stopped "
-                                "or killed, and continue an earlier such run from its last complete chunk."),
+    resume: bool = typer.Option(
+        False,
+        "--resume",
+        help="CSV output: keep the finished chunks if the run is stopped "
+        "or killed, and continue an earlier such run from its last complete chunk.",
+    ),
     recursive: bool = RECURSIVE_OPTION,
     csv_dialect: str = CSV_DIALECT_OPTION,
     skip_bad: bool = typer.Option(
-        False, "--skip-bad",
+        False,
+        "--skip-bad",
         help="Skip what cannot be read and go on: a folder's unreadable files, a wide CSV's or Parquet file's bad "
         "rows (text, empty, NaN or infinite cells, wrong cell count, no positive value in 380-780 nm), a long "
         "file's bad value columns.  Each becomes a row (file, line, skipped, cause) of OUTPUT-STEM.errors.csv "
@@ -70,7 +85,6 @@ def batch_cmd(
     from ..readers.wide import open_chunked
     from ..safe_io import check_output_path
     from ..spectra import Quantity
-
     from ..spreadsheet import check_dialect
 
     suffix = require_suffix(output, (".csv", ".parquet", ".xlsx"))
@@ -95,8 +109,9 @@ def batch_cmd(
     if skip_bad:
         check_output_path(errors_path, overwrite=overwrite, inputs=[input_path])
     skipped: list[InputError] | None = [] if skip_bad else None
-    source = open_chunked(input_path, chunk_size=chunk_size, quantity=quantity, recursive=recursive, interpolation=interp,
-                          skipped=skipped)
+    source = open_chunked(
+        input_path, chunk_size=chunk_size, quantity=quantity, recursive=recursive, interpolation=interp, skipped=skipped
+    )
     from .options import verbosity
 
     quiet = quiet or verbosity() < 0

@@ -9,7 +9,6 @@ tuning report (:mod:`cctkit.report.tuning`).
 from __future__ import annotations
 
 from pathlib import Path
-from typing import List, Optional
 
 import typer
 
@@ -22,7 +21,7 @@ _OBJECTIVES_MAX = ("efficacy", "fidelity", "melanopic")
 _OBJECTIVES_MIN = ("melanopic",)
 
 
-def _objective(maximise: Optional[str], minimise: Optional[str]) -> tuple[str, str]:
+def _objective(maximise: str | None, minimise: str | None) -> tuple[str, str]:
     if maximise is not None and minimise is not None:
         raise InputError("give --maximise or --minimise, not both")
     if minimise is not None:
@@ -36,7 +35,7 @@ def _objective(maximise: Optional[str], minimise: Optional[str]) -> tuple[str, s
     return key, "max"
 
 
-def _power(text: Optional[str]):
+def _power(text: str | None):
     """A power file path, or a comma list of watts in channel order."""
     if text is None:
         return None
@@ -46,8 +45,9 @@ def _power(text: Optional[str]):
     try:
         return [float(v) for v in text.split(",")]
     except ValueError:
-        raise InputError(f"--power must be a CSV file (channel,power_W) or a comma list of watts, got {text!r}") \
-            from None
+        raise InputError(
+            f"--power must be a CSV file (channel,power_W) or a comma list of watts, got {text!r}"
+        ) from None
 
 
 def _luminous(text: str):
@@ -70,28 +70,46 @@ def _fmt(v, spec: str, width: int) -> str:
 
 
 def blend_cmd(
-    files: List[Path] = typer.Argument(..., help="Channel spectra: one column per channel, each measured alone at "
-                                       "full drive (several files are joined; one grid, one quantity)."),
-    cct: Optional[str] = typer.Option(None, "--cct", help="Target CCTs [K]: FIRST:LAST:STEP (inclusive) or a comma "
-                                      "list, e.g. 1800:6500:100 or 2700,3000,4000."),
-    points: Optional[Path] = typer.Option(None, "--points", help="Set points from a CSV file with header "
-                                          "cct_K,duv (instead of --cct/--duv)."),
-    duv: str = typer.Option("0", "--duv", help="Target Duv: a number (|Duv| <= 0.05; negative as --duv=-0.003) or "
-                            "'ansi' for the ANSI C78.377 centre line (2580-7040 K)."),
-    maximise: Optional[str] = typer.Option(None, "--maximise", help="efficacy (default) | fidelity | melanopic."),
-    minimise: Optional[str] = typer.Option(None, "--minimise", help="melanopic."),
-    rg: Optional[str] = typer.Option(None, "--rg", help="Keep TM-30 Rg within LO:HI, e.g. 95:110."),
-    r9_floor: Optional[float] = typer.Option(None, "--r9-floor", help="Keep CIE 13.3 R9 at or above this value."),
-    luminous: str = typer.Option("flat", "--luminous", help="Luminous output at every set point, in the luminous "
-                                 "unit of the channels (lm for radiant flux, lx for irradiance), or 'flat': the "
-                                 "highest output every reachable set point can give."),
-    power: Optional[str] = typer.Option(None, "--power", help="Electrical power of each channel at full drive: a "
-                                        "CSV file (channel,power_W) or a comma list of watts in channel order. "
-                                        "Efficacy is then lm/W electrical, otherwise the LER."),
-    quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
-    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the drive table to FILE "
-                                          "(.csv or .json)."),
-    report: Optional[Path] = typer.Option(None, "--report", help="Write the tuning report to FILE (.pdf or .png)."),
+    files: list[Path] = typer.Argument(
+        ...,
+        help="Channel spectra: one column per channel, each measured alone at "
+        "full drive (several files are joined; one grid, one quantity).",
+    ),
+    cct: str | None = typer.Option(
+        None,
+        "--cct",
+        help="Target CCTs [K]: FIRST:LAST:STEP (inclusive) or a comma list, e.g. 1800:6500:100 or 2700,3000,4000.",
+    ),
+    points: Path | None = typer.Option(
+        None, "--points", help="Set points from a CSV file with header cct_K,duv (instead of --cct/--duv)."
+    ),
+    duv: str = typer.Option(
+        "0",
+        "--duv",
+        help="Target Duv: a number (|Duv| <= 0.05; negative as --duv=-0.003) or "
+        "'ansi' for the ANSI C78.377 centre line (2580-7040 K).",
+    ),
+    maximise: str | None = typer.Option(None, "--maximise", help="efficacy (default) | fidelity | melanopic."),
+    minimise: str | None = typer.Option(None, "--minimise", help="melanopic."),
+    rg: str | None = typer.Option(None, "--rg", help="Keep TM-30 Rg within LO:HI, e.g. 95:110."),
+    r9_floor: float | None = typer.Option(None, "--r9-floor", help="Keep CIE 13.3 R9 at or above this value."),
+    luminous: str = typer.Option(
+        "flat",
+        "--luminous",
+        help="Luminous output at every set point, in the luminous "
+        "unit of the channels (lm for radiant flux, lx for irradiance), or 'flat': the "
+        "highest output every reachable set point can give.",
+    ),
+    power: str | None = typer.Option(
+        None,
+        "--power",
+        help="Electrical power of each channel at full drive: a "
+        "CSV file (channel,power_W) or a comma list of watts in channel order. "
+        "Efficacy is then lm/W electrical, otherwise the LER.",
+    ),
+    quantity: str | None = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
+    output: Path | None = typer.Option(None, "--output", "-o", help="Write the drive table to FILE (.csv or .json)."),
+    report: Path | None = typer.Option(None, "--report", help="Write the tuning report to FILE (.pdf or .png)."),
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
 ) -> None:
@@ -140,8 +158,17 @@ def blend_cmd(
         if done == total or done % step == 0:
             info(f"set point {done}/{total}")
 
-    result = solve_blend_path(channels, T, duv_target, objective=objective, sense=sense, luminous=level,
-                              rg=rg_bounds, r9_min=r9_floor, progress=progress if len(T) > 1 else None)
+    result = solve_blend_path(
+        channels,
+        T,
+        duv_target,
+        objective=objective,
+        sense=sense,
+        luminous=level,
+        rg=rg_bounds,
+        r9_min=r9_floor,
+        progress=progress if len(T) > 1 else None,
+    )
     doc = result.document()
     if points is not None:
         from ..spectra import sha256_of_file
@@ -150,8 +177,14 @@ def blend_cmd(
     if report is not None:
         from ..report.tuning import build_tuning_report
 
-        build_tuning_report(result, report, overwrite=overwrite, inputs=inputs, document=doc,
-                            title=f"Tuning: {files[0].stem}" + (f" and {len(files) - 1} more" if len(files) > 1 else ""))
+        build_tuning_report(
+            result,
+            report,
+            overwrite=overwrite,
+            inputs=inputs,
+            document=doc,
+            title=f"Tuning: {files[0].stem}" + (f" and {len(files) - 1} more" if len(files) > 1 else ""),
+        )
         info(f"wrote {report}")
     if output is not None:
         from ..formats import dumps
@@ -170,18 +203,25 @@ def _print_table(result, doc) -> None:
     eff = "efficacy_lm_per_W" if ch.power_W is not None else "ler_lm_per_W"
     obj = doc["objective"]
     typer.echo(f"{len(ch)} channels: " + ", ".join(f"d{k + 1} = {n}" for k, n in enumerate(ch.names)))
-    typer.echo(f"objective: {obj['sense']} {obj['quantity']} (efficacy basis: {obj['efficacy_basis']}); "
-               f"luminous output: {doc['luminous_target']}")
-    head = (f"{'target K':>8} {'Duv':>7}  {'status':<16}" + "".join(f"{'d' + str(k + 1):>6}" for k in range(len(ch)))
-            + f" {'CCT K':>7} {'Duv':>8} {unit:>7} {'lm/W':>6} {'Rf':>5} {'Rg':>5} {'Ra':>5} {'R9':>6} {'melDER':>6}")
+    typer.echo(
+        f"objective: {obj['sense']} {obj['quantity']} (efficacy basis: {obj['efficacy_basis']}); "
+        f"luminous output: {doc['luminous_target']}"
+    )
+    head = (
+        f"{'target K':>8} {'Duv':>7}  {'status':<16}"
+        + "".join(f"{'d' + str(k + 1):>6}" for k in range(len(ch)))
+        + f" {'CCT K':>7} {'Duv':>8} {unit:>7} {'lm/W':>6} {'Rf':>5} {'Rg':>5} {'Ra':>5} {'R9':>6} {'melDER':>6}"
+    )
     typer.echo(head)
     for r in doc["set_points"]:
         line = f"{_fmt(r['target_cct_K'], '{:.0f}', 8)} {_fmt(r['target_duv'], '{:+.4f}', 7)}  {r['status']:<16}"
         if r["status"] == "ok":
             line += "".join(_fmt(r["drives"][n], "{:.3f}", 6) for n in ch.names)
-            line += (f" {_fmt(r['cct_K'], '{:.1f}', 7)} {_fmt(r['duv'], '{:+.5f}', 8)} {_fmt(r[lum_key], '{:.1f}', 7)}"
-                     f" {_fmt(r[eff], '{:.1f}', 6)} {_fmt(r['Rf'], '{:.1f}', 5)} {_fmt(r['Rg'], '{:.1f}', 5)}"
-                     f" {_fmt(r['Ra'], '{:.1f}', 5)} {_fmt(r['R9'], '{:.1f}', 6)} {_fmt(r['melanopic_der'], '{:.3f}', 6)}")
+            line += (
+                f" {_fmt(r['cct_K'], '{:.1f}', 7)} {_fmt(r['duv'], '{:+.5f}', 8)} {_fmt(r[lum_key], '{:.1f}', 7)}"
+                f" {_fmt(r[eff], '{:.1f}', 6)} {_fmt(r['Rf'], '{:.1f}', 5)} {_fmt(r['Rg'], '{:.1f}', 5)}"
+                f" {_fmt(r['Ra'], '{:.1f}', 5)} {_fmt(r['R9'], '{:.1f}', 6)} {_fmt(r['melanopic_der'], '{:.3f}', 6)}"
+            )
         else:
             line += f"  {r['reason']}"
         typer.echo(line)
@@ -190,7 +230,9 @@ def _print_table(result, doc) -> None:
         a, b = step["between_target_cct_K"]
         typer.echo(f"largest drive step between neighbouring set points: {step['value']:.3f} ({a:.0f} K -> {b:.0f} K)")
     n_ok = sum(r["status"] == "ok" for r in doc["set_points"])
-    typer.echo(f"{n_ok} of {len(doc['set_points'])} set points reached.  {doc['guarantee'][0].upper() + doc['guarantee'][1:]}.")
+    typer.echo(
+        f"{n_ok} of {len(doc['set_points'])} set points reached.  {doc['guarantee'][0].upper() + doc['guarantee'][1:]}."
+    )
     typer.echo(f"Assumed: {doc['additivity']}.")
 
 

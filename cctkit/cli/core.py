@@ -3,38 +3,38 @@
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any, List, Optional
+from typing import Any
 
 import typer
 
 from ..errors import InputError
 from ..formats import format_number
 from .options import (
+    COLUMNS_OPTION,
+    CSV_DIALECT_OPTION,
+    DECIMAL_OPTION,
+    DELIMITER_OPTION,
     DOMINANT_WHITE_OPTION,
     INTERPOLATION_OPTION,
-    parse_dominant_white,
-    parse_interpolation,
-    RECURSIVE_OPTION,
-    SKIP_ROWS_OPTION,
-    DELIMITER_OPTION,
-    DECIMAL_OPTION,
-    WAVELENGTH_COLUMN_OPTION,
-    COLUMNS_OPTION,
-    input_files,
-    table_layout,
-    CSV_DIALECT_OPTION,
     JSON_OPTION,
     OBSERVER_HELP,
     OUTPUT_OPTION,
     OVERWRITE_OPTION,
     QUANTITY_HELP,
+    RECURSIVE_OPTION,
+    SKIP_ROWS_OPTION,
+    WAVELENGTH_COLUMN_OPTION,
     csv_text,
     dumps,
     emit_json,
     info,
+    input_files,
+    parse_dominant_white,
+    parse_interpolation,
     parse_observer,
     require_suffix,
     spectrum_file_text,
+    table_layout,
     write_output,
 )
 
@@ -53,15 +53,33 @@ INSPECT_ROWS: tuple[tuple[str, str, str, str], ...] = (
     ("luminance_cd_per_m2", "Luminance", "cd/m2", "{:.1f}"),
     ("intensity_cd", "Luminous intensity", "cd", "{:.1f}"),
     ("ler_lm_per_W", "LER", "lm/W", "{:.1f}"),
-    *((k, "Radiant total", u, "{:.5g}") for k, u in (
-        ("radiant_total_W", "W"), ("radiant_total_W_per_m2", "W/m2"),
-        ("radiant_total_W_per_sr_m2", "W/(sr m2)"), ("radiant_total_W_per_sr", "W/sr"))),
-    *((k, "Photon flux", u, "{:.5g}") for k, u in (
-        ("photon_flux_umol_per_s", "umol/s"), ("photon_flux_umol_per_m2_s", "umol/(m2 s)"),
-        ("photon_flux_umol_per_sr_m2_s", "umol/(sr m2 s)"), ("photon_flux_umol_per_sr_s", "umol/(sr s)"))),
-    *((k, label, u, "{:.5g}") for k, label, u in (
-        ("ppf_umol_per_s", "PPF", "umol/s"), ("ppfd_umol_per_m2_s", "PPFD", "umol/(m2 s)"),
-        ("ppf_umol_per_sr_m2_s", "PPF per sr m2", "umol/(sr m2 s)"), ("ppf_umol_per_sr_s", "PPF per sr", "umol/(sr s)"))),
+    *(
+        (k, "Radiant total", u, "{:.5g}")
+        for k, u in (
+            ("radiant_total_W", "W"),
+            ("radiant_total_W_per_m2", "W/m2"),
+            ("radiant_total_W_per_sr_m2", "W/(sr m2)"),
+            ("radiant_total_W_per_sr", "W/sr"),
+        )
+    ),
+    *(
+        (k, "Photon flux", u, "{:.5g}")
+        for k, u in (
+            ("photon_flux_umol_per_s", "umol/s"),
+            ("photon_flux_umol_per_m2_s", "umol/(m2 s)"),
+            ("photon_flux_umol_per_sr_m2_s", "umol/(sr m2 s)"),
+            ("photon_flux_umol_per_sr_s", "umol/(sr s)"),
+        )
+    ),
+    *(
+        (k, label, u, "{:.5g}")
+        for k, label, u in (
+            ("ppf_umol_per_s", "PPF", "umol/s"),
+            ("ppfd_umol_per_m2_s", "PPFD", "umol/(m2 s)"),
+            ("ppf_umol_per_sr_m2_s", "PPF per sr m2", "umol/(sr m2 s)"),
+            ("ppf_umol_per_sr_s", "PPF per sr", "umol/(sr s)"),
+        )
+    ),
     ("sp_ratio", "S/P ratio", "", "{:.3f}"),
     ("melanopic_der", "Melanopic DER", "", "{:.3f}"),
     ("melanopic_edi_lx", "Melanopic EDI", "lx", "{:.1f}"),
@@ -78,6 +96,8 @@ INSPECT_ROWS: tuple[tuple[str, str, str, str], ...] = (
     ("Rf", "Rf (TM-30 / CIE 224)", "", "{:.1f}"),
     ("Rg", "Rg (TM-30)", "", "{:.1f}"),
 )
+
+
 def _range_key(key: str) -> str | None:
     """The record key holding the wavelength range the total ``key`` covers."""
     if key.startswith(("radiant_total", "photon_flux")) or key == "ler_lm_per_W":
@@ -91,8 +111,10 @@ def _range_key(key: str) -> str | None:
 
 #: After this row the table says where the other alpha-opic quantities are.
 ALPHA_OPIC_LAST_ROW = "melanopic_equivalent_daylight_intensity_cd"
-ALPHA_OPIC_NOTE = ("other CIE S 026 alpha-opic quantities (S-, M-, L-cone-opic, rhodopic; totals, ELR, DER): --json\n"
-                   "  alpha-opic values describe the optical stimulus only; they are not medical advice")
+ALPHA_OPIC_NOTE = (
+    "other CIE S 026 alpha-opic quantities (S-, M-, L-cone-opic, rhodopic; totals, ELR, DER): --json\n"
+    "  alpha-opic values describe the optical stimulus only; they are not medical advice"
+)
 
 
 def _fmt(value: Any, fmt: str) -> str:
@@ -116,8 +138,10 @@ def format_records(records: list[dict[str, Any]]) -> str:
                 span = rec.get(_range_key(key) or "")
                 over = f" over {span[0]:g}-{span[1]:g} nm" if span and None not in span else ""
                 if key == "dominant_wavelength_nm" and rec.get("dominant_white"):
-                    over = (f" from white {rec['dominant_white']} (x {rec['dominant_white_x']:.4f}, "
-                            f"y {rec['dominant_white_y']:.4f})")
+                    over = (
+                        f" from white {rec['dominant_white']} (x {rec['dominant_white_x']:.4f}, "
+                        f"y {rec['dominant_white_y']:.4f})"
+                    )
                 lines.append(f"  {label:<24} {_fmt(rec[key], fmt):>12}  {unit}{over}".rstrip())
             if key == ALPHA_OPIC_LAST_ROW and "melanopic_der" in rec:
                 lines.append(f"  {ALPHA_OPIC_NOTE}")
@@ -128,20 +152,26 @@ def format_records(records: list[dict[str, Any]]) -> str:
 
 
 def inspect_cmd(
-    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of them."),
-    quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
+    files: list[Path] = typer.Argument(
+        ..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML) or folders of them."
+    ),
+    quantity: str | None = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),
     json_out: bool = JSON_OPTION,
-    output: Optional[Path] = OUTPUT_OPTION,
+    output: Path | None = OUTPUT_OPTION,
     overwrite: bool = OVERWRITE_OPTION,
     recursive: bool = RECURSIVE_OPTION,
-    skip_rows: Optional[int] = SKIP_ROWS_OPTION,
-    delimiter: Optional[str] = DELIMITER_OPTION,
-    decimal: Optional[str] = DECIMAL_OPTION,
-    wavelength_column: Optional[int] = WAVELENGTH_COLUMN_OPTION,
-    columns: Optional[str] = COLUMNS_OPTION,
-    repeats: bool = typer.Option(False, "--as-repeats", help="Take every spectrum read as a repeat scan of one "
-                                 "sample: analyse their mean, and give the standard deviation per wavelength."),
+    skip_rows: int | None = SKIP_ROWS_OPTION,
+    delimiter: str | None = DELIMITER_OPTION,
+    decimal: str | None = DECIMAL_OPTION,
+    wavelength_column: int | None = WAVELENGTH_COLUMN_OPTION,
+    columns: str | None = COLUMNS_OPTION,
+    repeats: bool = typer.Option(
+        False,
+        "--as-repeats",
+        help="Take every spectrum read as a repeat scan of one "
+        "sample: analyse their mean, and give the standard deviation per wavelength.",
+    ),
     csv_dialect: str = CSV_DIALECT_OPTION,
     interpolation: str = INTERPOLATION_OPTION,
     dominant_white: str = DOMINANT_WHITE_OPTION,
@@ -178,8 +208,14 @@ def inspect_cmd(
         if output.suffix.lower() == ".json":
             write_output(output, dumps(doc), overwrite=overwrite, inputs=files)
         else:
-            write_output(output, records_csv(records), overwrite=overwrite, inputs=files, dialect=csv_dialect,
-                         provenance_doc=prov)
+            write_output(
+                output,
+                records_csv(records),
+                overwrite=overwrite,
+                inputs=files,
+                dialect=csv_dialect,
+                provenance_doc=prov,
+            )
     if json_out:
         emit_json(doc)
     else:
@@ -196,19 +232,21 @@ def _coordinate_pair(name: str, text: str, rest: list[str]) -> tuple[float, floa
             raise ValueError
         return float(parts[0]), float(parts[1])
     except ValueError:
-        raise InputError(f"{name} takes two numbers separated by a comma, e.g. {name} 0.3127,0.3290; "
-                         f"got {' '.join(parts)!r}") from None
+        raise InputError(
+            f"{name} takes two numbers separated by a comma, e.g. {name} 0.3127,0.3290; got {' '.join(parts)!r}"
+        ) from None
 
 
 def cct_cmd(
-    xy: Optional[str] = typer.Option(None, "--xy", metavar="X,Y", help="CIE 1931 chromaticity, e.g. --xy 0.3127,0.3290 "
-                                     "(or --xy 0.3127 0.3290)."),
-    uv: Optional[str] = typer.Option(None, "--uv", metavar="U,V", help="CIE 1960 chromaticity u,v."),
-    uvp: Optional[str] = typer.Option(None, "--uvp", metavar="U',V'", help="CIE 1976 chromaticity u',v'."),
+    xy: str | None = typer.Option(
+        None, "--xy", metavar="X,Y", help="CIE 1931 chromaticity, e.g. --xy 0.3127,0.3290 (or --xy 0.3127 0.3290)."
+    ),
+    uv: str | None = typer.Option(None, "--uv", metavar="U,V", help="CIE 1960 chromaticity u,v."),
+    uvp: str | None = typer.Option(None, "--uvp", metavar="U',V'", help="CIE 1976 chromaticity u',v'."),
     method: str = typer.Option("exact", "--method", help="exact | ohno2013 | robertson1968."),
     observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),
     json_out: bool = JSON_OPTION,
-    rest: Optional[List[str]] = typer.Argument(None, hidden=True),  # the second number of the "X Y" form
+    rest: list[str] | None = typer.Argument(None, hidden=True),  # the second number of the "X Y" form
 ) -> None:
     """CCT and Duv of one chromaticity (from a datasheet, say)."""
     import numpy as np
@@ -238,11 +276,19 @@ def cct_cmd(
     r = cct_duv(p, method=method, observer=parse_observer(observer))
     cct, duv = float(r.cct_K), float(r.duv)
     meaningful = bool(r.in_domain)
-    doc = {"cct_K": cct if meaningful else None, "duv": duv if np.isfinite(duv) else None, "method": method, "u": float(p[0]), "v": float(p[1])}
+    doc = {
+        "cct_K": cct if meaningful else None,
+        "duv": duv if np.isfinite(duv) else None,
+        "method": method,
+        "u": float(p[0]),
+        "v": float(p[1]),
+    }
     if not meaningful:
         if not np.isfinite(duv):
-            doc["warning"] = (f"the nearest Planckian point lies outside the {method} table "
-                              f"({table_range_text(method)}): CCT and Duv not computed")
+            doc["warning"] = (
+                f"the nearest Planckian point lies outside the {method} table "
+                f"({table_range_text(method)}): CCT and Duv not computed"
+            )
         elif abs(duv) > DUV_LIMIT:
             doc["warning"] = f"|Duv| = {abs(duv):.4f} exceeds {DUV_LIMIT}: CCT is not meaningful"
         else:
@@ -266,8 +312,10 @@ def locus_cmd(
     observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),
     t_min: float = typer.Option(1000.0, "--from", help="Lowest temperature [K], 500 to 1000000."),
     t_max: float = typer.Option(100000.0, "--to", help="Highest temperature [K], 500 to 1000000."),
-    step: Optional[float] = typer.Option(None, "--step", help="Temperature step [K] (default: 10 K to 10000 K, then 100 K)."),
-    output: Optional[Path] = OUTPUT_OPTION,
+    step: float | None = typer.Option(
+        None, "--step", help="Temperature step [K] (default: 10 K to 10000 K, then 100 K)."
+    ),
+    output: Path | None = OUTPUT_OPTION,
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
     csv_out: bool = typer.Option(False, "--csv", help="Print CSV on stdout instead of the table."),
@@ -281,7 +329,9 @@ def locus_cmd(
     lo, hi = LOCUS_RANGE_K
     for option, value in (("--from", t_min), ("--to", t_max)):
         if not np.isfinite(value) or value <= 0:
-            raise InputError(f"{option} must be positive (a temperature in kelvin, {lo:.0f} to {hi:.0f}), got {value:g}")
+            raise InputError(
+                f"{option} must be positive (a temperature in kelvin, {lo:.0f} to {hi:.0f}), got {value:g}"
+            )
         if not lo <= value <= hi:
             raise InputError(f"{option} must be between {lo:.0f} and {hi:.0f} K, got {value:g}")
     if not t_min < t_max:
@@ -321,19 +371,25 @@ def locus_cmd(
 def _locus_table(rows: list[dict[str, Any]], *, observer: Any) -> str:
     """The locus for people: one row per temperature, five decimals, units in the header."""
     name = {2: "CIE 1931 2°", 10: "CIE 1964 10°"}.get(observer, str(observer))
-    lines = [f"Planckian locus, {name} observer",
-             f"{'T [K]':>9}  {'x':>7}  {'y':>7}  {'u':>7}  {'v':>7}  {'u′':>7}  {'v′':>7}"]
+    lines = [
+        f"Planckian locus, {name} observer",
+        f"{'T [K]':>9}  {'x':>7}  {'y':>7}  {'u':>7}  {'v':>7}  {'u′':>7}  {'v′':>7}",
+    ]
     for r in rows:
-        lines.append(f"{r['T_K']:>9.0f}  " + "  ".join(f"{r[k]:.5f}" for k in ("x", "y", "u", "v", "u_prime", "v_prime")))
+        lines.append(
+            f"{r['T_K']:>9.0f}  " + "  ".join(f"{r[k]:.5f}" for k in ("x", "y", "u", "v", "u_prime", "v_prime"))
+        )
     return "\n".join(lines)
 
 
 def blackbody_cmd(
     T_K: float = typer.Argument(..., help="Temperature [K]."),
-    output: Optional[Path] = OUTPUT_OPTION,
+    output: Path | None = OUTPUT_OPTION,
     overwrite: bool = OVERWRITE_OPTION,
     json_out: bool = JSON_OPTION,
-    quantity: str = typer.Option("exitance", "--as", help="exitance [W/(m2 nm)] or radiance [W/(sr m2 nm)] in the file."),
+    quantity: str = typer.Option(
+        "exitance", "--as", help="exitance [W/(m2 nm)] or radiance [W/(sr m2 nm)] in the file."
+    ),
     csv_dialect: str = CSV_DIALECT_OPTION,
 ) -> None:
     """A blackbody at T_K: Wien peak, total exitance, efficacy, chromaticity; the spectrum to a file."""
@@ -341,9 +397,8 @@ def blackbody_cmd(
 
     from ..cct import cct_duv
     from ..colorimetry import uv_to_xy
+    from ..constants import C2_M_K, WAVELENGTH_NM
     from ..locus import planckian_uv
-    from ..constants import C2_M_K
-    from ..constants import WAVELENGTH_NM
     from ..photometry import luminous_efficacy_of_radiation
     from ..planck import blackbody_efficacy, spectral_exitance, spectral_radiance, total_exitance, wien_peak_nm
 
@@ -377,8 +432,13 @@ def blackbody_cmd(
             values, unit, col = spectral_radiance(T_K), "W/(sr m2 nm)", "spectral_radiance (W/(sr m2 nm))"
         # exitance shares the unit of irradiance, which is how the readers take it back
         text = spectrum_file_text(
-            ".json" if suffix == ".json" else ".csv", f"blackbody {T_K:g} K", values, quantity="irradiance" if quantity == "exitance" else "radiance",
-            unit=unit, column=col, comment=f"blackbody at {T_K:g} K, Planck's law, c2 = {C2_M_K:g} m K; unit: {unit}",
+            ".json" if suffix == ".json" else ".csv",
+            f"blackbody {T_K:g} K",
+            values,
+            quantity="irradiance" if quantity == "exitance" else "radiance",
+            unit=unit,
+            column=col,
+            comment=f"blackbody at {T_K:g} K, Planck's law, c2 = {C2_M_K:g} m K; unit: {unit}",
         )
         write_output(output, text, overwrite=overwrite, dialect=csv_dialect)
     if json_out:
@@ -387,8 +447,10 @@ def blackbody_cmd(
         typer.echo(f"Blackbody at {T_K:g} K")
         typer.echo(f"  Wien peak              {doc['peak_nm']:12.2f}  nm")
         typer.echo(f"  Total exitance         {doc['exitance_W_per_m2']:12.5g}  W/m2")
-        typer.echo(f"  Efficacy (sigma T^4)   {doc['all_wavelength_efficacy_lm_per_W']:12.3f}  lm/W "
-                   "(all-wavelength: luminous exitance / sigma T^4)")
+        typer.echo(
+            f"  Efficacy (sigma T^4)   {doc['all_wavelength_efficacy_lm_per_W']:12.3f}  lm/W "
+            "(all-wavelength: luminous exitance / sigma T^4)"
+        )
         typer.echo(f"  LER, 360-830 nm        {doc['ler_lm_per_W']:12.3f}  lm/W (as `inspect` of the written spectrum)")
         typer.echo(f"  x, y                   {doc['x']:.5f}, {doc['y']:.5f}")
         typer.echo(f"  u, v (CIE 1960)        {doc['u']:.5f}, {doc['v']:.5f}")

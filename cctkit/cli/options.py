@@ -9,8 +9,9 @@
 from __future__ import annotations
 
 import sys
+from collections.abc import Iterable
 from pathlib import Path
-from typing import Any, Iterable
+from typing import Any
 
 import typer
 
@@ -18,38 +19,56 @@ from ..errors import InputError
 from ..formats import csv_text, dumps  # noqa: F401  (re-exported for the commands)
 
 JSON_OPTION = typer.Option(False, "--json", help="Print one JSON document on stdout instead of a table.")
-OUTPUT_OPTION = typer.Option(None, "--output", "-o", help="Write the result to FILE (.csv, .xlsx or .json by extension).")
+OUTPUT_OPTION = typer.Option(
+    None, "--output", "-o", help="Write the result to FILE (.csv, .xlsx or .json by extension)."
+)
 OVERWRITE_OPTION = typer.Option(False, "--overwrite", help="Allow replacing an existing output file.")
-RECURSIVE_OPTION = typer.Option(False, "--recursive", "-r", help="For a folder given as input, also read its sub-folders.")
+RECURSIVE_OPTION = typer.Option(
+    False, "--recursive", "-r", help="For a folder given as input, also read its sub-folders."
+)
 CSV_DIALECT_OPTION = typer.Option(
-    "comma", "--csv-dialect", metavar="comma|semicolon",
+    "comma",
+    "--csv-dialect",
+    metavar="comma|semicolon",
     help="CSV written by --output: comma (decimal point) or semicolon (decimal comma, for spreadsheets "
     "in European locales).",
 )
 QUANTITY_HELP = "Radiometric quantity of the values: radiant-flux | irradiance | radiance | intensity | relative."
 DOMINANT_WHITE_OPTION = typer.Option(
-    "E", "--dominant-white", metavar="E|D65|D50|A|X,Y",
+    "E",
+    "--dominant-white",
+    metavar="E|D65|D50|A|X,Y",
     help="White point of the dominant wavelength and excitation purity: E (equal energy, the default for "
-         "light sources), D65, D50, A, or a chromaticity x,y; every output names it.",
+    "light sources), D65, D50, A, or a chromaticity x,y; every output names it.",
 )
 INTERPOLATION_OPTION = typer.Option(
-    "auto", "--interpolation",
+    "auto",
+    "--interpolation",
     help="How spectra not at 1 nm are brought to the 1 nm grid: auto (Sprague, CIE 167, for uniform steps; "
-         "PCHIP otherwise; line spectra that ring below zero are flagged), sprague, linear or pchip.",
+    "PCHIP otherwise; line spectra that ring below zero are flagged), sprague, linear or pchip.",
 )
 OBSERVER_HELP = "CIE standard observer for colorimetry: 2 (CIE 1931) or 10 (CIE 1964)."
 
 
-SKIP_ROWS_OPTION = typer.Option(None, "--skip-rows", help="Delimited text: take the first N lines as notes, "
-                                "and look for the table below them.")
-DELIMITER_OPTION = typer.Option(None, "--delimiter", help="Delimited text: the column separator, "
-                                "tab | ';' | ',' | space (found out when not given).")
-DECIMAL_OPTION = typer.Option(None, "--decimal", help="Delimited text: the decimal mark, '.' or ',' (found out "
-                              "when not given).")
-WAVELENGTH_COLUMN_OPTION = typer.Option(None, "--wavelength-column", help="Delimited text: the column holding the "
-                                        "wavelengths, counted from 1 (default 1).")
-COLUMNS_OPTION = typer.Option(None, "--columns", help="Delimited text: the value columns to read, counted from 1, "
-                              "e.g. 2,4 or 2-5 (default: every other column).")
+SKIP_ROWS_OPTION = typer.Option(
+    None, "--skip-rows", help="Delimited text: take the first N lines as notes, and look for the table below them."
+)
+DELIMITER_OPTION = typer.Option(
+    None,
+    "--delimiter",
+    help="Delimited text: the column separator, tab | ';' | ',' | space (found out when not given).",
+)
+DECIMAL_OPTION = typer.Option(
+    None, "--decimal", help="Delimited text: the decimal mark, '.' or ',' (found out when not given)."
+)
+WAVELENGTH_COLUMN_OPTION = typer.Option(
+    None, "--wavelength-column", help="Delimited text: the column holding the wavelengths, counted from 1 (default 1)."
+)
+COLUMNS_OPTION = typer.Option(
+    None,
+    "--columns",
+    help="Delimited text: the value columns to read, counted from 1, e.g. 2,4 or 2-5 (default: every other column).",
+)
 
 
 def table_layout(skip_rows=None, delimiter=None, decimal=None, wavelength_column=None, columns=None):
@@ -58,8 +77,9 @@ def table_layout(skip_rows=None, delimiter=None, decimal=None, wavelength_column
         return None
     from ..readers import TableLayout
 
-    return TableLayout.from_options(skip_rows=skip_rows, delimiter=delimiter, decimal=decimal,
-                                    wavelength_column=wavelength_column, columns=columns)
+    return TableLayout.from_options(
+        skip_rows=skip_rows, delimiter=delimiter, decimal=decimal, wavelength_column=wavelength_column, columns=columns
+    )
 
 
 def input_files(paths: Iterable[Path], *, recursive: bool = False) -> list[Path]:
@@ -92,8 +112,16 @@ def info(message: str) -> None:
         typer.echo(message, err=True)
 
 
-def write_output(path: Path, text: str | bytes, *, overwrite: bool, inputs: Iterable = (),
-                 dialect: str = "comma", announce: bool = True, provenance_doc: dict | None = None) -> None:
+def write_output(
+    path: Path,
+    text: str | bytes,
+    *,
+    overwrite: bool,
+    inputs: Iterable = (),
+    dialect: str = "comma",
+    announce: bool = True,
+    provenance_doc: dict | None = None,
+) -> None:
     """Write ``text`` atomically; CSV text becomes a workbook for ``.xlsx`` or ``dialect`` CSV for ``.csv``.
 
     ``provenance_doc`` (the command's :func:`cctkit.analysis.provenance`, with the interpolation

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any, List, Optional
+from typing import Any
 
 import typer
 
@@ -38,13 +38,18 @@ def uncertainty_table(doc: dict[str, Any]) -> str:
 
     lines = []
     model = doc["uncertainty_model"]
-    lines.append(f"model {model['file']} (SHA-256 {model['sha256'][:12]}...); k = 2, 95 % intervals "
-                 "probabilistically symmetric (JCGM 101)")
+    lines.append(
+        f"model {model['file']} (SHA-256 {model['sha256'][:12]}...); k = 2, 95 % intervals "
+        "probabilistically symmetric (JCGM 101)"
+    )
     for rec in doc["spectra"]:
         mc = rec["montecarlo"]
-        how = (f"adaptive, {mc['stages']} stages, " + ("stable" if mc["converged"] else
-               "NOT stable at max_draws: " + ", ".join(mc.get("unstable", [])))
-               if doc["uncertainty_method"]["adaptive"] else "fixed")
+        how = (
+            f"adaptive, {mc['stages']} stages, "
+            + ("stable" if mc["converged"] else "NOT stable at max_draws: " + ", ".join(mc.get("unstable", [])))
+            if doc["uncertainty_method"]["adaptive"]
+            else "fixed"
+        )
         lines.append("")
         lines.append(f"{rec['name']}  ({rec['source']}; M = {mc['draws_M']} draws, {how})")
         head = f"  {'measure':<24} {'value':>12} {'u':>10} {'U (k=2)':>10}  {'95 % interval':<25} {'u GUM':>10}  unit"
@@ -60,8 +65,10 @@ def uncertainty_table(doc: dict[str, Any]) -> str:
             lo, hi = e["interval_95"]
             interval = f"[{_n(lo, d)}, {_n(hi, d)}]"
             gum = _n(e.get("u_gum"), d + 1) if "u_gum" in e else ""
-            lines.append(f"  {label:<24} {_n(e['value'], d):>12} {_n(e['u'], d + 1):>10} {_n(e['U'], d + 1):>10}  "
-                         f"{interval:<25} {gum:>10}  {unit}".rstrip())
+            lines.append(
+                f"  {label:<24} {_n(e['value'], d):>12} {_n(e['u'], d + 1):>10} {_n(e['U'], d + 1):>10}  "
+                f"{interval:<25} {gum:>10}  {unit}".rstrip()
+            )
             if key == "dominant_wavelength_nm" and doc.get("dominant_white"):
                 lines[-1] += f"  (from white {doc['dominant_white']})"
     lines.append("")
@@ -70,16 +77,20 @@ def uncertainty_table(doc: dict[str, Any]) -> str:
 
 
 def uncertainty_cmd(
-    files: List[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
+    files: list[Path] = typer.Argument(..., help="Spectrum files (CSV/TSV/TXT, JSON, IES TM-27 XML)."),
     model_file: Path = typer.Option(..., "--model", help=MODEL_HELP),
-    quantity: Optional[str] = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
+    quantity: str | None = typer.Option(None, "--quantity", "-q", help=QUANTITY_HELP),
     observer: str = typer.Option("2", "--observer", help=OBSERVER_HELP),
-    repeats: bool = typer.Option(False, "--as-repeats", help="Take every spectrum read as a repeat scan of one "
-                                 "sample: their mean is measured, their scatter is the type-A component (4 or more)."),
+    repeats: bool = typer.Option(
+        False,
+        "--as-repeats",
+        help="Take every spectrum read as a repeat scan of one "
+        "sample: their mean is measured, their scatter is the type-A component (4 or more).",
+    ),
     recursive: bool = RECURSIVE_OPTION,
     json_out: bool = JSON_OPTION,
-    output: Optional[Path] = typer.Option(None, "--output", "-o", help="Write the results to FILE (.json or .csv)."),
-    report: Optional[Path] = typer.Option(None, "--report", help="Also write the uncertainty report to FILE (.pdf)."),
+    output: Path | None = typer.Option(None, "--output", "-o", help="Write the results to FILE (.json or .csv)."),
+    report: Path | None = typer.Option(None, "--report", help="Also write the uncertainty report to FILE (.pdf)."),
     overwrite: bool = OVERWRITE_OPTION,
     dominant_white: str = DOMINANT_WHITE_OPTION,
 ) -> None:
@@ -118,8 +129,9 @@ def uncertainty_cmd(
     def stage(i: int, m: int) -> None:
         info(f"spectrum {i}: {m} draws so far (adaptive, JCGM 101 7.9)")
 
-    result = monte_carlo(spectra, model, observer=obs, repeats=repeats, progress=progress, stage_progress=stage,
-                         dominant_white=white)
+    result = monte_carlo(
+        spectra, model, observer=obs, repeats=repeats, progress=progress, stage_progress=stage, dominant_white=white
+    )
     doc = result.document()
     if output is not None:
         text = dumps(doc) if output.suffix.lower() == ".json" else result.csv()

@@ -38,9 +38,9 @@ import hashlib
 import itertools
 import os
 import re
+from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Iterable, Iterator, Sequence
 
 import numpy as np
 
@@ -113,8 +113,18 @@ class TableLayout:
         if isinstance(self.skip_rows, bool) or not isinstance(self.skip_rows, int) or self.skip_rows < 0:
             raise InputError(f"--skip-rows must be a whole number >= 0, got {self.skip_rows!r}")
         if self.delimiter is not None:
-            key = {"\\t": "tab", "\t": "tab", "tab": "tab", ";": ";", "semicolon": ";", ",": ",", "comma": ",",
-                   " ": "space", "space": "space", "whitespace": "space"}.get(str(self.delimiter).lower())
+            key = {
+                "\\t": "tab",
+                "\t": "tab",
+                "tab": "tab",
+                ";": ";",
+                "semicolon": ";",
+                ",": ",",
+                "comma": ",",
+                " ": "space",
+                "space": "space",
+                "whitespace": "space",
+            }.get(str(self.delimiter).lower())
             if key is None:
                 raise InputError(f"--delimiter must be one of tab, ';', ',', space; got {self.delimiter!r}")
             object.__setattr__(self, "delimiter", key)
@@ -126,7 +136,8 @@ class TableLayout:
                 raise InputError("--decimal ',' cannot go with --delimiter ','")
             object.__setattr__(self, "decimal", key)
         if self.wavelength_column is not None and (
-            isinstance(self.wavelength_column, bool) or not isinstance(self.wavelength_column, int)
+            isinstance(self.wavelength_column, bool)
+            or not isinstance(self.wavelength_column, int)
             or self.wavelength_column < 1
         ):
             raise InputError(f"--wavelength-column must be a column number >= 1, got {self.wavelength_column!r}")
@@ -143,8 +154,15 @@ class TableLayout:
         return self == TableLayout()
 
     @classmethod
-    def from_options(cls, *, skip_rows: int | None = None, delimiter: str | None = None, decimal: str | None = None,
-                     wavelength_column: int | None = None, columns: str | None = None) -> "TableLayout":
+    def from_options(
+        cls,
+        *,
+        skip_rows: int | None = None,
+        delimiter: str | None = None,
+        decimal: str | None = None,
+        wavelength_column: int | None = None,
+        columns: str | None = None,
+    ) -> TableLayout:
         """A layout from command-line text; ``columns`` as ``2,4`` or ``2-5``."""
         cols = None
         if columns is not None:
@@ -162,8 +180,13 @@ class TableLayout:
                 else:
                     raise InputError(f"--columns must be numbers such as 2,4 or 2-5, got {columns!r}")
             cols = tuple(cols_list)
-        return cls(skip_rows=skip_rows or 0, delimiter=delimiter, decimal=decimal,
-                   wavelength_column=wavelength_column, columns=cols)
+        return cls(
+            skip_rows=skip_rows or 0,
+            delimiter=delimiter,
+            decimal=decimal,
+            wavelength_column=wavelength_column,
+            columns=cols,
+        )
 
 
 def read_spectra(
@@ -215,8 +238,11 @@ def read_spectra(
     data = _read_bytes(p, source, int(max_bytes))
     kind = _format_of(p, data)
     if layout is not None and not layout.is_default and kind != "delimited":
-        raise InputError("table layout options apply to delimited text only, not to a "
-                         f"{'JSON' if kind == 'json' else 'TM-27 XML'} file", source=source)
+        raise InputError(
+            "table layout options apply to delimited text only, not to a "
+            f"{'JSON' if kind == 'json' else 'TM-27 XML'} file",
+            source=source,
+        )
     if kind == "json":
         from . import jsonfile
 
@@ -306,9 +332,7 @@ def _quantity_argument(quantity, source: str) -> Quantity | None:
 def resolve_quantity(stated: Quantity | None, wanted: Quantity | None, *, source: str) -> Quantity:
     """The file's quantity, else the asked-for one, else relative; refuses the two disagreeing."""
     if stated is not None and wanted is not None and stated is not wanted:
-        raise InputError(
-            f"the file states quantity {stated.value!r} but {wanted.value!r} was asked for", source=source
-        )
+        raise InputError(f"the file states quantity {stated.value!r} but {wanted.value!r} was asked for", source=source)
     return stated or wanted or Quantity.RELATIVE
 
 
@@ -463,9 +487,7 @@ def check_controls(text: str, *, source: str, first_line: int = 1) -> None:
     m = _CONTROL.search(text)
     if m is not None:
         line = first_line + text.count("\n", 0, m.start())
-        raise InputError(
-            f"binary file, not text (control character 0x{ord(m.group()):02x})", source=source, line=line
-        )
+        raise InputError(f"binary file, not text (control character 0x{ord(m.group()):02x})", source=source, line=line)
 
 
 def decode_text(data: bytes, source: str) -> tuple[str, tuple[Flag, ...]]:
@@ -588,20 +610,63 @@ def order_axis(
 # --------------------------------------------------------------------------- units
 
 _RELATIVE_UNITS = {
-    "", "1", "-", "a.u.", "a.u", "au", "arb", "arb.", "arb.u.", "arb. units", "arb units", "arbitrary",
-    "arbitrary units", "rel", "rel.", "relative", "relative units", "rel. units", "counts", "count", "cts",
-    "%", "norm", "norm.", "normalised", "normalized", "unitless", "dimensionless",
+    "",
+    "1",
+    "-",
+    "a.u.",
+    "a.u",
+    "au",
+    "arb",
+    "arb.",
+    "arb.u.",
+    "arb. units",
+    "arb units",
+    "arbitrary",
+    "arbitrary units",
+    "rel",
+    "rel.",
+    "relative",
+    "relative units",
+    "rel. units",
+    "counts",
+    "count",
+    "cts",
+    "%",
+    "norm",
+    "norm.",
+    "normalised",
+    "normalized",
+    "unitless",
+    "dimensionless",
 }
 # Decimal exponents, kept as integers so that a conversion factor is one exact power of ten.
 _PREFIXES = {"p": -12, "n": -9, "u": -6, "m": -3, "c": -2, "d": -1, "k": 3, "M": 6, "G": 9}
 # symbol -> (dimension index, decimal exponent of its SI value): dimensions are W, m, sr
 _BASE = {"W": (0, 0), "w": (0, 0), "m": (1, 0), "sr": (2, 0), "Å": (1, -10)}
-_SUPERSCRIPTS = str.maketrans({"⁻": "-", "⁺": "+", "⁰": "0", "¹": "1", "²": "2", "³": "3", "⁴": "4",
-                               "µ": "u", "μ": "u", "·": " ", "⋅": " ", "*": " ", "×": " ", "^": "",
-                               "−": "-"})
+_SUPERSCRIPTS = str.maketrans(
+    {
+        "⁻": "-",
+        "⁺": "+",
+        "⁰": "0",
+        "¹": "1",
+        "²": "2",
+        "³": "3",
+        "⁴": "4",
+        "µ": "u",
+        "μ": "u",
+        "·": " ",
+        "⋅": " ",
+        "*": " ",
+        "×": " ",
+        "^": "",
+        "−": "-",
+    }
+)
 # Exponents have at most 6 digits (a longer one is a syntax error, not a huge int), groups nest
 # at most _MAX_DEPTH deep (so the recursive reading of groups stays shallow).
-_TOKEN = re.compile(r"\s*(?:(?P<open>[(\[])|(?P<close>[)\]])|(?P<div>/)|(?P<sym>[A-Za-zÅ]+)(?P<exp>[+-]?\d{1,6}(?!\d))?)")
+_TOKEN = re.compile(
+    r"\s*(?:(?P<open>[(\[])|(?P<close>[)\]])|(?P<div>/)|(?P<sym>[A-Za-zÅ]+)(?P<exp>[+-]?\d{1,6}(?!\d))?)"
+)
 _MAX_DEPTH = 16
 #: (W, m, sr) exponents -> quantity; the base unit of each is W (sr) m^-2? nm^-1 = 1e9 in SI.
 _SPECTRAL_DIMENSIONS = {
@@ -773,7 +838,9 @@ def parse_spectral_unit(text: str, *, source: str, line: int | None = None) -> t
     if re.search(r"\b(lm|lx|cd|lux|nit)\b", low):
         raise InputError(
             f"{t!r} is a photometric unit; spectral radiometric values are needed, e.g. W/nm, W/(m2 nm), "
-            "W/(sr m2 nm), W/(sr nm) or a.u.", source=source, line=line
+            "W/(sr m2 nm), W/(sr nm) or a.u.",
+            source=source,
+            line=line,
         )
     try:
         dims, factor = _unit_dimensions(t)
@@ -791,8 +858,9 @@ def parse_spectral_unit(text: str, *, source: str, line: int | None = None) -> t
             line=line,
         )
     if abs(factor - _BASE_UNIT_EXP) > 30:
-        raise InputError(f"unit {t!r} is off by a factor of 1e{factor - _BASE_UNIT_EXP}; refused as a typo",
-                         source=source, line=line)
+        raise InputError(
+            f"unit {t!r} is off by a factor of 1e{factor - _BASE_UNIT_EXP}; refused as a typo", source=source, line=line
+        )
     return q, 10.0 ** (factor - _BASE_UNIT_EXP)
 
 

@@ -62,28 +62,105 @@ _LINES = re.compile(r"\r\n|\r|\n")
 _NUMBER = re.compile(r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
 _NUMBER_COMMA = re.compile(r"[+-]?(?:[0-9]+,?[0-9]*|,[0-9]+)(?:[eE][+-]?[0-9]+)?")
 _DECIMAL_COMMA_CELL = re.compile(r"[+-]?[0-9]*,[0-9]+(?:[eE][+-]?[0-9]+)?")
-_MISSING = {"", "n/a", "na", "nan", "null", "none", "-", "--", "?", "inf", "+inf", "-inf", "infinity",
-            "-infinity", "+infinity", "#n/a", "#value!", "#div/0!"}
+_MISSING = {
+    "",
+    "n/a",
+    "na",
+    "nan",
+    "null",
+    "none",
+    "-",
+    "--",
+    "?",
+    "inf",
+    "+inf",
+    "-inf",
+    "infinity",
+    "-infinity",
+    "+infinity",
+    "#n/a",
+    "#value!",
+    "#div/0!",
+}
 #: Lines of text allowed between two pieces of one table before the second counts as a table of its own.
 _MAX_GAP = 2
 #: Rows a second monotonic run needs to count as a rival table (shorter runs are metadata).
 _MIN_RIVAL = 3
-_GENERIC_NAMES = {"value", "values", "irradiance", "radiance", "intensity", "flux", "power", "relative",
-                  "spectrum", "spd", "data", "y", "counts", "signal", "spectral irradiance",
-                  "spectral radiance", "spectral intensity", "spectral flux", "spectral power",
-                  "radiant flux", "relative power", "relative spectral power", "amplitude", "energy",
-                  "spectral irradiance e", "irradiance e", "spectral power distribution", "absolute", "abs",
-                  "measurement", "measured", "intensity counts", "raw", "raw counts", "emission", "output",
-                  "photometric", "radiometric", "reading", "level",
-                  "bestrahlungsstärke", "spektrale bestrahlungsstärke", "strahldichte", "spektrale strahldichte",
-                  "strahlstärke", "strahlungsfluss", "strahlungsleistung", "intensität", "leistung", "wert",
-                  "messwert", "éclairement", "éclairement énergétique", "luminance énergétique", "intensité",
-                  "flux énergétique", "puissance", "valeur", "irradiancia", "radiancia", "intensidad", "valor",
-                  "irradianza", "radianza", "intensità", "valore", "spectral value", "spectral values"}
+_GENERIC_NAMES = {
+    "value",
+    "values",
+    "irradiance",
+    "radiance",
+    "intensity",
+    "flux",
+    "power",
+    "relative",
+    "spectrum",
+    "spd",
+    "data",
+    "y",
+    "counts",
+    "signal",
+    "spectral irradiance",
+    "spectral radiance",
+    "spectral intensity",
+    "spectral flux",
+    "spectral power",
+    "radiant flux",
+    "relative power",
+    "relative spectral power",
+    "amplitude",
+    "energy",
+    "spectral irradiance e",
+    "irradiance e",
+    "spectral power distribution",
+    "absolute",
+    "abs",
+    "measurement",
+    "measured",
+    "intensity counts",
+    "raw",
+    "raw counts",
+    "emission",
+    "output",
+    "photometric",
+    "radiometric",
+    "reading",
+    "level",
+    "bestrahlungsstärke",
+    "spektrale bestrahlungsstärke",
+    "strahldichte",
+    "spektrale strahldichte",
+    "strahlstärke",
+    "strahlungsfluss",
+    "strahlungsleistung",
+    "intensität",
+    "leistung",
+    "wert",
+    "messwert",
+    "éclairement",
+    "éclairement énergétique",
+    "luminance énergétique",
+    "intensité",
+    "flux énergétique",
+    "puissance",
+    "valeur",
+    "irradiancia",
+    "radiancia",
+    "intensidad",
+    "valor",
+    "irradianza",
+    "radianza",
+    "intensità",
+    "valore",
+    "spectral value",
+    "spectral values",
+}
 
 
-def parse(data: bytes, *, source: str, stem: str, layout: TableLayout | None = None,
-          skipped: list[InputError] | None = None) -> ParsedSpectra:
+def parse(
+    data: bytes, *, source: str, stem: str, layout: TableLayout | None = None, skipped: list[InputError] | None = None
+) -> ParsedSpectra:
     """Parse delimited text (see the module docstring) into spectra in base units.
 
     With ``skipped`` a list, a value column holding a bad cell (text, empty, missing, beyond
@@ -124,8 +201,9 @@ def parse(data: bytes, *, source: str, stem: str, layout: TableLayout | None = N
             line=data_rows[0][0],
         )
     if wcol >= ncol:
-        raise InputError(f"--wavelength-column {wcol + 1} but the table has {ncol} columns", source=source,
-                         line=data_rows[0][0])
+        raise InputError(
+            f"--wavelength-column {wcol + 1} but the table has {ncol} columns", source=source, line=data_rows[0][0]
+        )
     value_cols = _value_columns(layout, wcol, ncol, source, data_rows[0][0])
 
     column_errors: dict[int, InputError] | None = None if skipped is None else {}
@@ -154,8 +232,9 @@ def parse(data: bytes, *, source: str, stem: str, layout: TableLayout | None = N
     else:
         check_plain_nm(wl, source=source, line=header_line)
 
-    names, columns, quantity, factors = _columns(header, header_line, value_cols, directives, stem, source,
-                                                 count=all_count)
+    names, columns, quantity, factors = _columns(
+        header, header_line, value_cols, directives, stem, source, count=all_count
+    )
     values = values * factors[:, None]
     wl, values, order_flags = order_axis(wl, values, source=source, lines=line_numbers)
     _check_finite(values, source)
@@ -223,8 +302,7 @@ def find_table(rows, split, decimal_comma: bool, wcol: int, *, source: str) -> T
         wide = [(n, c) for (n, _), c in zip(rows, cells) if len(c) >= 2]
         if wide:
             raise InputError("header but no data rows", source=source, line=wide[-1][0])
-        raise InputError(f"no table of numbers found (lines {rows[0][0]}-{rows[-1][0]} hold text only)",
-                         source=source)
+        raise InputError(f"no table of numbers found (lines {rows[0][0]}-{rows[-1][0]} hold text only)", source=source)
 
     def best_run(seg) -> tuple[int, int, int, int]:
         """(length, start, end, direction) of the longest monotonic all-number run in ``seg``."""
@@ -265,14 +343,20 @@ def find_table(rows, split, decimal_comma: bool, wcol: int, *, source: str) -> T
         return 0 < jump <= 1.5 * step * (gap + 1) + 1e-9
 
     k = primary + 1  # later segments that carry on the wavelengths
-    while (k < len(segments) and segments[k][0] - last - 1 <= _MAX_GAP
-           and continues(keys[last], keys[segments[k][0]], segments[k][0] - last - 1)):
+    while (
+        k < len(segments)
+        and segments[k][0] - last - 1 <= _MAX_GAP
+        and continues(keys[last], keys[segments[k][0]], segments[k][0] - last - 1)
+    ):
         last = segments[k][1]
         merged.add(k)
         k += 1
     k = primary - 1  # earlier ones
-    while (k >= 0 and first - segments[k][1] - 1 <= _MAX_GAP
-           and continues(keys[segments[k][1]], keys[first], first - segments[k][1] - 1)):
+    while (
+        k >= 0
+        and first - segments[k][1] - 1 <= _MAX_GAP
+        and continues(keys[segments[k][1]], keys[first], first - segments[k][1] - 1)
+    ):
         first = segments[k][0]
         merged.add(k)
         k -= 1
@@ -343,11 +427,13 @@ def _value_columns(layout: TableLayout, wcol: int, ncol: int, source: str, line:
     cols = [c - 1 for c in layout.columns]
     for c in cols:
         if c >= ncol:
-            raise InputError(f"--columns names column {c + 1} but the table has {ncol} columns", source=source,
-                             line=line)
+            raise InputError(
+                f"--columns names column {c + 1} but the table has {ncol} columns", source=source, line=line
+            )
         if c == wcol:
-            raise InputError(f"--columns names column {c + 1}, which is the wavelength column", source=source,
-                             line=line)
+            raise InputError(
+                f"--columns names column {c + 1}, which is the wavelength column", source=source, line=line
+            )
     return cols
 
 
@@ -400,8 +486,9 @@ def _sniff_by_characters(rows: list[tuple[int, str]]) -> tuple[str | None, bool]
     elif any("," in s for s in sample):
         delimiter = ","
         tokens = [s.split() for s in sample]
-        if all(len(t) >= 2 and all(_DECIMAL_COMMA_CELL.fullmatch(c) or _NUMBER.fullmatch(c) for c in t)
-               for t in tokens):
+        if all(
+            len(t) >= 2 and all(_DECIMAL_COMMA_CELL.fullmatch(c) or _NUMBER.fullmatch(c) for c in t) for t in tokens
+        ):
             delimiter = None  # "380,5 0,012": white space between decimal-comma numbers
     else:
         delimiter = None
@@ -462,8 +549,16 @@ def _is_number(cell: str, decimal_comma: bool) -> bool:
     return bool((_NUMBER_COMMA if decimal_comma else _NUMBER).fullmatch(cell))
 
 
-def _numbers(rows, split, ncol: int, decimal_comma: bool, source: str, *, wcol: int = 0,
-             column_errors: dict[int, InputError] | None = None) -> np.ndarray:
+def _numbers(
+    rows,
+    split,
+    ncol: int,
+    decimal_comma: bool,
+    source: str,
+    *,
+    wcol: int = 0,
+    column_errors: dict[int, InputError] | None = None,
+) -> np.ndarray:
     """The table's numbers (rows, ncol).  With ``column_errors`` a dict, a bad cell outside the
     wavelength column ``wcol`` is NaN and the first error of each column is recorded there."""
     pattern = _NUMBER_COMMA if decimal_comma else _NUMBER
@@ -489,8 +584,9 @@ def _numbers(rows, split, ncol: int, decimal_comma: bool, source: str, *, wcol: 
         for r, c in np.argwhere(~np.isfinite(out)).tolist():
             if column_errors is not None and c in column_errors:
                 continue
-            too_big = InputError(f"value in column {c + 1} is beyond floating-point range", source=source,
-                                 line=rows[r][0])
+            too_big = InputError(
+                f"value in column {c + 1} is beyond floating-point range", source=source, line=rows[r][0]
+            )
             if column_errors is None or c == wcol:
                 raise too_big
             column_errors[c] = too_big
@@ -500,9 +596,7 @@ def _numbers(rows, split, ncol: int, decimal_comma: bool, source: str, *, wcol: 
 def _row_error(cells, ncol, line, source, decimal_comma, column=None):
     texty = [c for c in cells if any(ch.isalpha() for ch in c) and c.lower() not in _MISSING]
     if texty and len(texty) == len(cells) or (texty and any(ch.isalpha() for ch in cells[0])):
-        raise InputError(
-            f"text among the data rows (a second header?): {short(cells[0])}", source=source, line=line
-        )
+        raise InputError(f"text among the data rows (a second header?): {short(cells[0])}", source=source, line=line)
     if len(cells) != ncol:
         raise InputError(
             f"row has {len(cells)} cell{'s' if len(cells) != 1 else ''}, expected {ncol}", source=source, line=line
@@ -665,8 +759,7 @@ def _columns(header, header_line, value_cols, directives, stem, source, count=No
     stated_units = {q for q in quantities if q is not None}
     if len(stated_units) > 1:
         raise InputError(
-            "value columns are in units of different quantities: "
-            + ", ".join(sorted(q.value for q in stated_units)),
+            "value columns are in units of different quantities: " + ", ".join(sorted(q.value for q in stated_units)),
             source=source,
             line=header_line,
         )

@@ -75,18 +75,21 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
         raise InputError(f"not valid JSON: {exc.msg} (column {exc.colno})", source=source, line=exc.lineno) from None
     except _BadConstant as exc:
         raise InputError(
-            f"{exc.args[0]} is not a number; every value must be finite", source=source,
+            f"{exc.args[0]} is not a number; every value must be finite",
+            source=source,
             line=_line_of_token(text, exc.args[0]),
         ) from None
     except _DuplicateKey as exc:
         key = exc.args[0]
-        raise InputError(f"key {short(key)} appears twice in one object", source=source,
-                         line=_line_of_key(text, key, nth=2)) from None
+        raise InputError(
+            f"key {short(key)} appears twice in one object", source=source, line=_line_of_key(text, key, nth=2)
+        ) from None
     except RecursionError:
         raise InputError("JSON nested too deeply", source=source) from None
     except ValueError as exc:  # e.g. integers with more digits than Python converts
-        raise InputError(f"not valid JSON: {str(exc).splitlines()[0] if str(exc) else 'bad number'}",
-                         source=source) from None
+        raise InputError(
+            f"not valid JSON: {str(exc).splitlines()[0] if str(exc) else 'bad number'}", source=source
+        ) from None
 
     def fail(message: str, key: str | None = None):
         raise InputError(message, source=source, line=_line_of_key(text, key) if key else None)
@@ -116,8 +119,7 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
                 fail(f"spectra[{i}] must be an object with 'name' and 'values', got {_kind(entry)}", "spectra")
             for key in entry:
                 if key not in _SPECTRUM_KEYS:
-                    fail(f"unknown key {short(key)} in spectra[{i}]; allowed: {', '.join(sorted(_SPECTRUM_KEYS))}",
-                         key)
+                    fail(f"unknown key {short(key)} in spectra[{i}]; allowed: {', '.join(sorted(_SPECTRUM_KEYS))}", key)
             if "values" not in entry:
                 fail(f"spectra[{i}] has no key 'values'", "spectra")
             if "comment" in entry and not isinstance(entry["comment"], str):
@@ -170,7 +172,11 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
     else:
         columns = tuple(names) if all("name" in e for e in entries) else tuple(str(i + 1) for i in range(len(entries)))
     return ParsedSpectra(
-        wavelength_nm=wl, values=values, names=tuple(names), columns=columns, quantity=quantity,
+        wavelength_nm=wl,
+        values=values,
+        names=tuple(names),
+        columns=columns,
+        quantity=quantity,
         flags=flags + order_flags,
     )
 
@@ -221,5 +227,3 @@ def _line_of_key(text: str, key: str | None, *, nth: int = 1) -> int | None:
 def _line_of_token(text: str, token: str) -> int | None:
     m = re.search(rf"(?<![\w\"]){re.escape(token)}(?![\w\"])", text)
     return None if m is None else text.count("\n", 0, m.start()) + 1
-
-

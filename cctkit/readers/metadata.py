@@ -23,7 +23,7 @@ the file uses.
 from __future__ import annotations
 
 import re
-from typing import Iterable, Mapping
+from collections.abc import Iterable, Mapping
 
 __all__ = [
     "MAX_ENTRIES",
@@ -126,7 +126,9 @@ def _matches(key: str, words: tuple[str, ...]) -> bool:
     return any((w in tokens) if len(w) <= 3 else (w in k) for w in words)
 
 
-def identity_rows(metadata: Mapping[str, str] | Iterable[tuple[str, str]]) -> tuple[list[tuple[str, str]], list[tuple[str, str]]]:
+def identity_rows(
+    metadata: Mapping[str, str] | Iterable[tuple[str, str]],
+) -> tuple[list[tuple[str, str]], list[tuple[str, str]]]:
     """Recognised identity rows ``(label, value)`` and the remaining ``(key, value)`` pairs.
 
     Each label takes the first key that names it; free-text lines stay with the rest.

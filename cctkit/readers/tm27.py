@@ -103,8 +103,9 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
         reason = str(exc).split(":", 1)[0] or "syntax error"
         raise InputError(f"not well-formed XML: {reason} (column {column})", source=source, line=line) from None
     except (ValueError, LookupError) as exc:  # UnicodeError is a ValueError
-        raise InputError(f"not readable XML: {str(exc).splitlines()[0] if str(exc) else type(exc).__name__}",
-                         source=source) from None
+        raise InputError(
+            f"not readable XML: {str(exc).splitlines()[0] if str(exc) else type(exc).__name__}", source=source
+        ) from None
     except RecursionError:
         raise InputError("XML nested too deeply", source=source) from None
 
@@ -112,8 +113,11 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
         return builder.lines.get(id(element))
 
     if _local(root.tag) != "IESTM2714":
-        raise InputError(f"not an IES TM-27 document: root element is <{short(_local(root.tag), 30)[1:-1]}>",
-                         source=source, line=line_of(root))
+        raise InputError(
+            f"not an IES TM-27 document: root element is <{short(_local(root.tag), 30)[1:-1]}>",
+            source=source,
+            line=line_of(root),
+        )
     distributions = [el for el in root if _local(el.tag) == "SpectralDistribution"]
     if not distributions:
         raise InputError("no <SpectralDistribution> element", source=source, line=line_of(root))
@@ -129,7 +133,8 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
         if not np.array_equal(axes[k], axes[0]):
             raise InputError(
                 f"<SpectralDistribution> {k + 1} has a wavelength axis different from the first",
-                source=source, line=line_of(distributions[k]),
+                source=source,
+                line=line_of(distributions[k]),
             )
     if len(set(stated)) > 1:
         raise InputError(
@@ -138,16 +143,22 @@ def parse(data: bytes, *, source: str, stem: str) -> ParsedSpectra:
             source=source,
         )
     lines = point_lines[0]
-    wl, values, flags = order_axis(axes[0], np.vstack(rows), source=source,
-                                   lines=lines if all(lines) else None)
+    wl, values, flags = order_axis(axes[0], np.vstack(rows), source=source, lines=lines if all(lines) else None)
     n = len(rows)
     metadata = _header_fields(root)
     fields = dict(metadata)
     base = (fields.get("CatalogNumber") or fields.get("Description") or "").strip() or stem
     names = (base,) if n == 1 else tuple(f"{base}#{k + 1}" for k in range(n))
     columns = None if n == 1 else tuple(str(k + 1) for k in range(n))
-    return ParsedSpectra(wavelength_nm=wl, values=values, names=names, columns=columns,
-                         quantity=stated[0], flags=flags, metadata=metadata)
+    return ParsedSpectra(
+        wavelength_nm=wl,
+        values=values,
+        names=names,
+        columns=columns,
+        quantity=stated[0],
+        flags=flags,
+        metadata=metadata,
+    )
 
 
 def _header_fields(root) -> tuple[tuple[str, str], ...]:
@@ -186,19 +197,20 @@ def _distribution(dist, source, line_of):
                 raise InputError(
                     f"SpectralQuantity {short(text)} is not a light-source quantity; expected flux, irradiance, "
                     "radiance, intensity or relative",
-                    source=source, line=line_of(el),
+                    source=source,
+                    line=line_of(el),
                 )
             if key not in QUANTITY_OF:
                 raise InputError(
                     f"unknown SpectralQuantity {short(text)}; expected flux, irradiance, radiance, intensity, "
                     "relative or other",
-                    source=source, line=line_of(el),
+                    source=source,
+                    line=line_of(el),
                 )
             quantity = QUANTITY_OF[key]
     data = _data_elements(dist)
     if not data:
-        raise InputError("<SpectralDistribution> holds no <SpectralData> elements", source=source,
-                         line=line_of(dist))
+        raise InputError("<SpectralDistribution> holds no <SpectralData> elements", source=source, line=line_of(dist))
     wl = np.empty(len(data))
     vals = np.empty(len(data))
     for i, el in enumerate(data):

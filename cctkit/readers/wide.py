@@ -52,9 +52,9 @@ import json
 import os
 import re
 import stat
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Callable, Iterable, Iterator
 
 import numpy as np
 
@@ -176,8 +176,9 @@ def open_chunked(
     except (OSError, ValueError) as exc:
         raise InputError(f"cannot read ({_oserror_text(exc)})", source=source) from None
     if stat.S_ISDIR(st.st_mode):
-        return _open_folder(p, source, chunk_size, wanted, recursive=recursive, skipped=skipped,
-                            interpolation=interpolation)
+        return _open_folder(
+            p, source, chunk_size, wanted, recursive=recursive, skipped=skipped, interpolation=interpolation
+        )
     if not stat.S_ISREG(st.st_mode):
         raise InputError("is not a regular file or folder", source=source)
     if st.st_size == 0:
@@ -247,8 +248,9 @@ def _join(parts: list[Spectra]) -> Spectra:
 # --------------------------------------------------------------------------- single files and folders
 
 
-def _open_single(p: Path, source: str, chunk_size: int, wanted: Quantity | None,
-                 skipped: list[InputError] | None = None) -> ChunkedInput:
+def _open_single(
+    p: Path, source: str, chunk_size: int, wanted: Quantity | None, skipped: list[InputError] | None = None
+) -> ChunkedInput:
     from . import read_spectra
 
     def make() -> Iterator[Spectra]:
@@ -257,8 +259,16 @@ def _open_single(p: Path, source: str, chunk_size: int, wanted: Quantity | None,
     return ChunkedInput(source, "file", None, (source,), chunk_size, make)
 
 
-def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None, *, recursive: bool = False,
-                 skipped: list[InputError] | None = None, interpolation: str = "auto") -> ChunkedInput:
+def _open_folder(
+    p: Path,
+    source: str,
+    chunk_size: int,
+    wanted: Quantity | None,
+    *,
+    recursive: bool = False,
+    skipped: list[InputError] | None = None,
+    interpolation: str = "auto",
+) -> ChunkedInput:
     from . import folder_files
 
     files = folder_files(p, recursive=recursive)
@@ -266,8 +276,7 @@ def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None,
     def make() -> Iterator[Spectra]:
         from . import read_spectra
 
-        def member(f: str, first: Quantity | None, parts_skipped: list[InputError] | None = None
-                   ) -> Iterator[Spectra]:
+        def member(f: str, first: Quantity | None, parts_skipped: list[InputError] | None = None) -> Iterator[Spectra]:
             head = _wide_head(Path(f), f) if Path(f).suffix.lower() in _WIDE_SUFFIXES else None
             if head is not None:
                 parts: Iterable[Spectra] = _open_wide(Path(f), f, chunk_size, wanted, head, parts_skipped).chunks()
@@ -295,8 +304,9 @@ def _open_folder(p: Path, source: str, chunk_size: int, wanted: Quantity | None,
                     try:  # a bad member is skipped whole, so it is read whole before any of it is used
                         got = list(member(f, first, parts_skipped))
                     except InputError as exc:
-                        whole = exc.with_traceback(None) if exc.source else InputError(exc.reason, source=f,
-                                                                                       line=exc.line)
+                        whole = (
+                            exc.with_traceback(None) if exc.source else InputError(exc.reason, source=f, line=exc.line)
+                        )
                         whole.part = "file"
                         skipped.append(whole)
                         continue
@@ -422,15 +432,33 @@ def _wide_head(p: Path, source: str) -> _WideHead | None:
         stated = Quantity.parse(text, source=source, line=quantity_line)
     quantity = combine_quantity(stated, unit_q, source=source, line=quantity_line)
     return _WideHead(
-        delimiter, named, ordered, bool(steps[0] < 0), text_flags + order_flags, quantity, factor, header_line,
-        directives, codec, label, bom, digest, line_ends,
+        delimiter,
+        named,
+        ordered,
+        bool(steps[0] < 0),
+        text_flags + order_flags,
+        quantity,
+        factor,
+        header_line,
+        directives,
+        codec,
+        label,
+        bom,
+        digest,
+        line_ends,
         # in UTF-8 and Latin-1 a control character is its own byte: a file without one needs no line check
         controls or codec not in ("utf-8", "latin-1"),
     )
 
 
-def _open_wide(p: Path, source: str, chunk_size: int, wanted: Quantity | None, head: _WideHead,
-               skipped: list[InputError] | None = None) -> ChunkedInput:
+def _open_wide(
+    p: Path,
+    source: str,
+    chunk_size: int,
+    wanted: Quantity | None,
+    head: _WideHead,
+    skipped: list[InputError] | None = None,
+) -> ChunkedInput:
     quantity = resolve_quantity(head.quantity, wanted, source=source)
     estimate = max(head.line_ends - head.header_line, 0)
 
@@ -440,8 +468,9 @@ def _open_wide(p: Path, source: str, chunk_size: int, wanted: Quantity | None, h
     return ChunkedInput(source, "wide-csv", estimate, (source,), chunk_size, make)
 
 
-def _iter_wide(p: Path, source: str, chunk_size: int, quantity: Quantity, head: _WideHead,
-               skipped: list[InputError] | None = None) -> Iterator[Spectra]:
+def _iter_wide(
+    p: Path, source: str, chunk_size: int, quantity: Quantity, head: _WideHead, skipped: list[InputError] | None = None
+) -> Iterator[Spectra]:
     stem = p.stem or source
     count = 0
     directives = dict(head.directives)
@@ -450,8 +479,7 @@ def _iter_wide(p: Path, source: str, chunk_size: int, quantity: Quantity, head: 
         late = [(line, key) for key, (_, line) in directives.items() if key not in head.directives]
         if late:
             line, key = min(late)
-            raise InputError(f"'# {key}:' after the header; directives must come before it", source=source,
-                             line=line)
+            raise InputError(f"'# {key}:' after the header; directives must come before it", source=source, line=line)
 
     rows: list[tuple[int, str]] = []
     with _open_text(p, source, head.codec, head.bom) as fh:
@@ -481,7 +509,12 @@ def _iter_wide(p: Path, source: str, chunk_size: int, quantity: Quantity, head: 
 
 
 def _wide_chunk(
-    rows: list[tuple[int, str]], source: str, stem: str, offset: int, quantity: Quantity, head: _WideHead,
+    rows: list[tuple[int, str]],
+    source: str,
+    stem: str,
+    offset: int,
+    quantity: Quantity,
+    head: _WideHead,
     skipped: list[InputError] | None = None,
 ) -> Spectra | None:
     """The spectra of ``rows``; with ``skipped`` a list, bad rows go there instead (None when none is left)."""
@@ -520,8 +553,9 @@ def _wide_chunk(
             if r in bad_rows:
                 continue
             c = int(np.argmax(bad[r]))
-            exc = InputError(f"missing or non-finite value at {_file_wavelength(head, c):g} nm", source=source,
-                             line=rows[r][0])
+            exc = InputError(
+                f"missing or non-finite value at {_file_wavelength(head, c):g} nm", source=source, line=rows[r][0]
+            )
             if skipped is None:
                 raise exc
             bad_rows[r] = exc
@@ -600,10 +634,20 @@ def _arrow_values(bodies: list[str], delimiter: str | None, L: int) -> np.ndarra
         table = pacsv.read_csv(
             io.BytesIO("\n".join(bodies).encode("utf-8")),
             read_options=pacsv.ReadOptions(column_names=names, use_threads=False, block_size=1 << 30),
-            parse_options=pacsv.ParseOptions(delimiter=delimiter, quote_char=False, double_quote=False,
-                                             escape_char=False, newlines_in_values=False, ignore_empty_lines=False),
-            convert_options=pacsv.ConvertOptions(column_types=dict.fromkeys(names, pa.float64()), null_values=[],
-                                                 strings_can_be_null=False, quoted_strings_can_be_null=False),
+            parse_options=pacsv.ParseOptions(
+                delimiter=delimiter,
+                quote_char=False,
+                double_quote=False,
+                escape_char=False,
+                newlines_in_values=False,
+                ignore_empty_lines=False,
+            ),
+            convert_options=pacsv.ConvertOptions(
+                column_types=dict.fromkeys(names, pa.float64()),
+                null_values=[],
+                strings_can_be_null=False,
+                quoted_strings_can_be_null=False,
+            ),
         )
     except (pa.ArrowException, ValueError, UnicodeError):
         return None
@@ -617,8 +661,9 @@ def _file_wavelength(head: _WideHead, column: int) -> float:
     return float(head.wavelength_nm[::-1][column] if head.reverse else head.wavelength_nm[column])
 
 
-def _cell_by_cell(rows: list[tuple[int, str]], head: _WideHead, source: str,
-                  bad_rows: dict[int, InputError] | None = None) -> np.ndarray:
+def _cell_by_cell(
+    rows: list[tuple[int, str]], head: _WideHead, source: str, bad_rows: dict[int, InputError] | None = None
+) -> np.ndarray:
     """The values of ``rows`` split and checked as the delimited reader does; an InputError names a bad row.
 
     With ``bad_rows`` a dict, a bad row is recorded there (0-based row -> error) and left NaN instead.
@@ -654,18 +699,19 @@ def _row_values(s: str, number: int, head: _WideHead, source: str) -> list[float
         if cell == "":
             raise InputError(f"empty cell in value column {c + 1}", source=source, line=number)
         if cell.lower() in _MISSING:
-            raise InputError(f"missing or non-finite value at {_file_wavelength(head, c):g} nm", source=source,
-                             line=number)
-        raise InputError(f"expected a number, got {short(cell)} in value column {c + 1}", source=source,
-                         line=number)
+            raise InputError(
+                f"missing or non-finite value at {_file_wavelength(head, c):g} nm", source=source, line=number
+            )
+        raise InputError(f"expected a number, got {short(cell)} in value column {c + 1}", source=source, line=number)
     return [float(cell) for cell in cells]
 
 
 # --------------------------------------------------------------------------- Parquet
 
 
-def _open_parquet(p: Path, source: str, chunk_size: int, wanted: Quantity | None,
-                  skipped: list[InputError] | None = None) -> ChunkedInput:
+def _open_parquet(
+    p: Path, source: str, chunk_size: int, wanted: Quantity | None, skipped: list[InputError] | None = None
+) -> ChunkedInput:
     try:
         import pyarrow.parquet as pq
     except ImportError:  # pragma: no cover - a declared dependency
@@ -673,7 +719,9 @@ def _open_parquet(p: Path, source: str, chunk_size: int, wanted: Quantity | None
     try:
         pf = pq.ParquetFile(p)
     except Exception as exc:  # noqa: BLE001 - pyarrow raises several types for a bad file
-        raise InputError(f"not a readable Parquet file ({type(exc).__name__}: {str(exc).splitlines()[0]})", source=source) from None
+        raise InputError(
+            f"not a readable Parquet file ({type(exc).__name__}: {str(exc).splitlines()[0]})", source=source
+        ) from None
     schema = pf.schema_arrow
     meta = {k.decode(): v.decode() for k, v in (schema.metadata or {}).items() if not k.startswith(b"ARROW")}
     names_col = "name" if "name" in schema.names else None
@@ -705,8 +753,10 @@ def _open_parquet(p: Path, source: str, chunk_size: int, wanted: Quantity | None
     check_plain_nm(wl, source=source)
     order = np.argsort(wl, kind="stable")
     ordered, _, _ = order_axis(wl[order], np.zeros((0, wl.size)), source=source)  # refuses duplicates
-    flags = () if np.array_equal(order, np.arange(wl.size)) else (
-        Flag("wavelength-reordered", "wavelength columns were not in ascending order in the file; sorted"),
+    flags = (
+        ()
+        if np.array_equal(order, np.arange(wl.size))
+        else (Flag("wavelength-reordered", "wavelength columns were not in ascending order in the file; sorted"),)
     )
     digest = sha256_of_file(p)
     stem = p.stem or source
@@ -726,8 +776,9 @@ def _open_parquet(p: Path, source: str, chunk_size: int, wanted: Quantity | None
             bad_rows: dict[int, InputError] = {}
             for r in np.flatnonzero(bad.any(axis=1)).tolist():
                 c = int(np.argmax(bad[r]))
-                exc = InputError(f"row {offset + r + 1}: missing or non-finite value at {ordered[c]:g} nm",
-                                 source=source)
+                exc = InputError(
+                    f"row {offset + r + 1}: missing or non-finite value at {ordered[c]:g} nm", source=source
+                )
                 if skipped is None:
                     raise exc
                 bad_rows[r] = exc
@@ -790,7 +841,9 @@ def _parquet_values(batch, wl_columns, L: int, source: str, offset: int, lenient
     wrong = np.flatnonzero(lengths != L)
     if wrong.size:
         r = int(wrong[0])
-        raise InputError(f"row {offset + r + 1}: spectrum has {lengths[r]} values, metadata 'wavelength_nm' has {L}", source=source)
+        raise InputError(
+            f"row {offset + r + 1}: spectrum has {lengths[r]} values, metadata 'wavelength_nm' has {L}", source=source
+        )
     flat = col.flatten()
     if flat.null_count and lenient:
         flat = flat.cast(pa.float64()).fill_null(float("nan"))

@@ -25,17 +25,17 @@ import numpy as np
 
 from ..colorimetry import XYZ, XYZ_to_uv
 from .cie13_3 import DC_LIMIT, Cri13Result, cie13_3, cie13_3_samples
+from .cie13_3 import from_rows as cri_from_rows
 from .reference import (
     Reference,
+    _to_Y100,
     daylight_reference,
     daylight_xy,
     nominal_daylight_cct_K,
     planckian_reference,
     reference_cie13_3,
     reference_cie224,
-    _to_Y100,
 )
-from .cie13_3 import from_rows as cri_from_rows
 from .tm30 import Tm30Result, tm30, tm30_samples
 from .tm30 import from_rows as tm30_from_rows
 from .tristimulus import rendering_rows
@@ -221,11 +221,16 @@ def _concatenate(parts):
 
     if len(parts) == 1:
         return parts[0]
-    return type(parts[0])(**{
-        f.name: (sum((getattr(p, f.name) for p in parts), ()) if isinstance(getattr(parts[0], f.name), tuple)
-                 else np.concatenate([getattr(p, f.name) for p in parts]))
-        for f in fields(parts[0])
-    })
+    return type(parts[0])(
+        **{
+            f.name: (
+                sum((getattr(p, f.name) for p in parts), ())
+                if isinstance(getattr(parts[0], f.name), tuple)
+                else np.concatenate([getattr(p, f.name) for p in parts])
+            )
+            for f in fields(parts[0])
+        }
+    )
 
 
 @dataclass(frozen=True)
@@ -269,8 +274,9 @@ class ReferenceComparison:
     tcs_dE: np.ndarray
 
 
-def compare_to_reference(values, cct_K=None, *, method: str = "cie224",
-                         rendition: Rendition | None = None) -> ReferenceComparison:
+def compare_to_reference(
+    values, cct_K=None, *, method: str = "cie224", rendition: Rendition | None = None
+) -> ReferenceComparison:
     """Test spectra against the reference illuminant of their CCT, per wavelength and per sample.
 
     Parameters

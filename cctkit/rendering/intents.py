@@ -94,8 +94,14 @@ def meets(criterion: Criterion, Rf, Rg, Rf_h1, Rcs_h1_percent) -> np.ndarray:
     """True where a spectrum meets every limit of ``criterion`` (NaN meets nothing), shape (N,)."""
     Rf, Rg, Rf_h1, Rcs = (np.asarray(a, dtype=np.float64) for a in (Rf, Rg, Rf_h1, Rcs_h1_percent))
     with np.errstate(invalid="ignore"):
-        ok = (_ge(Rf, criterion.Rf_min) & _ge(Rg, criterion.Rg_min) & _le(Rg, criterion.Rg_max)
-              & _ge(Rf_h1, criterion.Rf_h1_min) & _ge(Rcs, criterion.Rcs_h1_min) & _le(Rcs, criterion.Rcs_h1_max))
+        ok = (
+            _ge(Rf, criterion.Rf_min)
+            & _ge(Rg, criterion.Rg_min)
+            & _le(Rg, criterion.Rg_max)
+            & _ge(Rf_h1, criterion.Rf_h1_min)
+            & _ge(Rcs, criterion.Rcs_h1_min)
+            & _le(Rcs, criterion.Rcs_h1_max)
+        )
     finite = np.isfinite(Rf) & np.isfinite(Rg) & np.isfinite(Rf_h1) & np.isfinite(Rcs)
     return ok & finite
 
@@ -117,5 +123,8 @@ def levels(Rf, Rg, Rf_h1, Rcs_h1_percent) -> dict[str, np.ndarray]:
 
 def level_names(lv: dict[str, np.ndarray], i: int) -> list[str]:
     """The levels spectrum ``i`` meets as names (``["F2", "P1"]``); empty when none."""
-    return [f"{INTENTS[k]}{int(np.asarray(v).reshape(-1)[i])}" for k, v in lv.items()
-            if int(np.asarray(v).reshape(-1)[i]) > 0]
+    return [
+        f"{INTENTS[k]}{int(np.asarray(v).reshape(-1)[i])}"
+        for k, v in lv.items()
+        if int(np.asarray(v).reshape(-1)[i]) > 0
+    ]

@@ -46,7 +46,16 @@ from .cam import xyz_to_cam02ucs
 
 __all__ = [
     "vector_graphic_xy",
-    "chroma_shift_percent", "short_range_rule", "Tm30Result", "tm30", "tm30_samples", "fidelity_from_dE", "CF_CIE224", "N_BINS", "RANGE_NM"]
+    "chroma_shift_percent",
+    "short_range_rule",
+    "Tm30Result",
+    "tm30",
+    "tm30_samples",
+    "fidelity_from_dE",
+    "CF_CIE224",
+    "N_BINS",
+    "RANGE_NM",
+]
 
 #: Scaling factor c_f of CIE 224:2017 (section 4.6, from memory) and ANSI/IES TM-30-18/-20.
 CF_CIE224 = 6.73
@@ -261,8 +270,11 @@ def tm30(values, cct_K, *, cf: float = CF_CIE224, blend_observer: int = 10) -> T
 
     _as_cct(T)
     parts = [
-        from_rows(rendering_rows(test[i : i + _CHUNK], T[i : i + _CHUNK], which="tm30", blend_observer=blend_observer),
-                  T[i : i + _CHUNK], cf=cf)
+        from_rows(
+            rendering_rows(test[i : i + _CHUNK], T[i : i + _CHUNK], which="tm30", blend_observer=blend_observer),
+            T[i : i + _CHUNK],
+            cf=cf,
+        )
         for i in range(0, test.shape[0], _CHUNK)
     ]
     if not parts:

@@ -12,16 +12,26 @@ from __future__ import annotations
 import gc
 import math
 import os
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Iterable, Sequence
+from typing import Any
 
 import numpy as np
 
 from ..errors import InputError
 
-__all__ = ["BATCH_PAGE_LIMIT", "PNG_SIZE_PX", "PNG_DPI", "REPORT_SUFFIXES", "Report", "plan_pages", "build_report",
-           "check_options", "report_meta"]
+__all__ = [
+    "BATCH_PAGE_LIMIT",
+    "PNG_SIZE_PX",
+    "PNG_DPI",
+    "REPORT_SUFFIXES",
+    "Report",
+    "plan_pages",
+    "build_report",
+    "check_options",
+    "report_meta",
+]
 
 #: Batches larger than this get a summary table and a scatter instead of a page per spectrum.
 BATCH_PAGE_LIMIT = 12
@@ -157,15 +167,16 @@ def check_options(path: str | os.PathLike, *, paper: str = "a4", diagram: str = 
 
     out = Path(path)
     if out.suffix.lower() not in REPORT_SUFFIXES:
-        raise InputError(f"report output must end in {' or '.join(REPORT_SUFFIXES)}, got {out.name!r}",
-                         source=str(out))
+        raise InputError(f"report output must end in {' or '.join(REPORT_SUFFIXES)}, got {out.name!r}", source=str(out))
     if paper not in PAPER_IN:
         raise InputError(f"paper must be one of {', '.join(PAPER_IN)}, got {paper!r}", source="--paper")
     if diagram not in DIAGRAMS:
         raise InputError(f"diagram must be one of {', '.join(DIAGRAMS)}, got {diagram!r}", source="--diagram")
     if verdict and out.suffix.lower() != ".pdf":
-        raise InputError(f"the claims verdict is part of the PDF report: the output must end in .pdf, "
-                         f"got {out.name!r}", source=str(out))
+        raise InputError(
+            f"the claims verdict is part of the PDF report: the output must end in .pdf, got {out.name!r}",
+            source=str(out),
+        )
 
 
 def build_report(
@@ -243,8 +254,10 @@ def build_report(
     suffix = out.suffix.lower()
     check_options(out, paper=paper, diagram=diagram, verdict=verdict is not None)
     if (verdict is None) != (claims is None):
-        raise InputError("a verdict page needs both the verdict and the claims it was checked against",
-                         source="verdict" if claims is None else "claims")
+        raise InputError(
+            "a verdict page needs both the verdict and the claims it was checked against",
+            source="verdict" if claims is None else "claims",
+        )
     from ..safe_io import atomic_path, check_output_path
 
     check_output_path(out, overwrite=overwrite, inputs=list(inputs))  # fail before the slow part
@@ -272,9 +285,22 @@ def build_report(
             if suffix == ".png":
                 _write_png(analysis, records, meta, tmp, comparison=comparison, diagram=diagram, regions=regions)
                 return Report(path=out, kind="png", pages=("summary",), size_px=PNG_SIZE_PX)
-            titles = _write_pdf(analysis, records, meta, tmp, paper=paper, pages=pages, comparison=comparison,
-                                diagram=diagram, regions=regions, verdict=verdict, claims=claims,
-                                sections=so.sections, logo=logo, uncertainty=uncertainty)
+            titles = _write_pdf(
+                analysis,
+                records,
+                meta,
+                tmp,
+                paper=paper,
+                pages=pages,
+                comparison=comparison,
+                diagram=diagram,
+                regions=regions,
+                verdict=verdict,
+                claims=claims,
+                sections=so.sections,
+                logo=logo,
+                uncertainty=uncertainty,
+            )
     return Report(path=out, kind="pdf", pages=tuple(titles))
 
 
@@ -286,22 +312,43 @@ def uncertainty_of(result, records: Sequence[dict]) -> dict[int, dict[str, float
     """
     spectra = result.spectra
     if len(spectra) != len(records):
-        raise InputError(f"the uncertainty result has {len(spectra)} spectra, the report {len(records)}",
-                         source="uncertainty")
+        raise InputError(
+            f"the uncertainty result has {len(spectra)} spectra, the report {len(records)}", source="uncertainty"
+        )
     out: dict[int, dict[str, float]] = {}
     for i, (s, r) in enumerate(zip(spectra, records)):
         if s.name != r.get("name") or (s.sha256 and r.get("sha256") and s.sha256 != r.get("sha256")):
-            raise InputError(f"the uncertainty result's spectrum {i + 1} ({s.name!r}) is not the report's "
-                             f"({r.get('name')!r})", source="uncertainty")
+            raise InputError(
+                f"the uncertainty result's spectrum {i + 1} ({s.name!r}) is not the report's ({r.get('name')!r})",
+                source="uncertainty",
+            )
         out[i] = {k: float(e.U) for k, e in s.estimates.items() if e.U is not None and math.isfinite(e.U)}
     return out
 
 
 # Characters outside Windows-1252 (the PDF core fonts' set) and what the PDF prints instead.
-_PDF_TEXT = {"\u2265": ">=", "\u2264": "<=", "\u2192": "->", "\u2190": "<-", "\u0394": "d", "\u2212": "-",
-             "\u2032": "'", "\u2033": "''", "\u03b1": "alpha", "\u03b2": "beta", "\u03b3": "gamma",
-             "\u03c3": "sigma", "\u03bb": "lambda", "\u03bc": "\u00b5", "\u25b2": "!", "\u207b": "-",
-             "\u2248": "~", "\u221a": "sqrt", "\u2009": " ", "\u202f": " "}
+_PDF_TEXT = {
+    "\u2265": ">=",
+    "\u2264": "<=",
+    "\u2192": "->",
+    "\u2190": "<-",
+    "\u0394": "d",
+    "\u2212": "-",
+    "\u2032": "'",
+    "\u2033": "''",
+    "\u03b1": "alpha",
+    "\u03b2": "beta",
+    "\u03b3": "gamma",
+    "\u03c3": "sigma",
+    "\u03bb": "lambda",
+    "\u03bc": "\u00b5",
+    "\u25b2": "!",
+    "\u207b": "-",
+    "\u2248": "~",
+    "\u221a": "sqrt",
+    "\u2009": " ",
+    "\u202f": " ",
+}
 
 
 def pdf_text(text: str) -> str:
@@ -351,8 +398,10 @@ def _texts(fig):
             stack += [a.label, a.offsetText]
             # Tick labels given as text (set_ticks(..., labels) makes one of these) are written at
             # draw time by the formatter: make its output printable there.
-            for fmt, setter in ((a.get_major_formatter(), a.set_major_formatter),
-                                (a.get_minor_formatter(), a.set_minor_formatter)):
+            for fmt, setter in (
+                (a.get_major_formatter(), a.set_major_formatter),
+                (a.get_minor_formatter(), a.set_minor_formatter),
+            ):
                 if isinstance(fmt, (FixedFormatter, FuncFormatter)) and not getattr(fmt, "_cctkit_printable", False):
                     wrapped = FuncFormatter(lambda x, pos=None, f=fmt: pdf_text(str(f(x, pos))))
                     wrapped._cctkit_printable = True
@@ -544,8 +593,16 @@ class _quiet_font_lookup:
 def _write_png(analysis, records, meta, tmp: Path, *, comparison, diagram, regions) -> None:
     from .pages import summary_picture
 
-    fig = summary_picture(analysis, records, meta, comparison=comparison, diagram=diagram, regions=regions,
-                          size_px=PNG_SIZE_PX, dpi=PNG_DPI)
+    fig = summary_picture(
+        analysis,
+        records,
+        meta,
+        comparison=comparison,
+        diagram=diagram,
+        regions=regions,
+        size_px=PNG_SIZE_PX,
+        dpi=PNG_DPI,
+    )
     fig.savefig(tmp, format="png", dpi=PNG_DPI, metadata={"Software": f"cctkit {meta['cctkit_version']}"})
 
 
@@ -563,8 +620,23 @@ def _title(kind: str, arg, records) -> str:
     return "chromaticity scatter"
 
 
-def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, diagram, regions,
-               verdict=None, claims=None, sections=None, logo=None, uncertainty=None) -> list[str]:
+def _write_pdf(
+    analysis,
+    records,
+    meta,
+    tmp: Path,
+    *,
+    paper,
+    pages,
+    comparison,
+    diagram,
+    regions,
+    verdict=None,
+    claims=None,
+    sections=None,
+    logo=None,
+    uncertainty=None,
+) -> list[str]:
     from matplotlib.backends.backend_pdf import PdfPages
 
     from . import pages as pg
@@ -573,8 +645,11 @@ def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, 
     sections = SECTIONS if sections is None else sections
     plan = plan_pages(len(records), pages=pages, sections=sections)
     if uncertainty is not None:  # each spectrum page is followed by its uncertainty page
-        plan = [e for kind, arg in plan for e in ([(kind, arg), ("uncertainty", arg)] if kind == "sample"
-                                                   else [(kind, arg)])]
+        plan = [
+            e
+            for kind, arg in plan
+            for e in ([(kind, arg), ("uncertainty", arg)] if kind == "sample" else [(kind, arg)])
+        ]
     n_verdict = 0
     if verdict is not None and "verdict" in sections:
         from .verdict import verdict_page_count
@@ -587,12 +662,12 @@ def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, 
     total = n_verdict + len(plan) + n_inputs
     labels = [f"page {k + 1} of {total}" for k in range(total)]
     labels_v = labels[1:]
-    labels_in = labels[total - n_inputs:]
+    labels_in = labels[total - n_inputs :]
     contents = [f"{labels[0]}: {_title('cover', None, records)}"]
-    contents += [f"{labels_v[k]}: claims verdict" + (" (overview)" if k == 0 else f" table {k}")
-                 for k in range(n_verdict)]
-    contents += [f"{labels[1 + n_verdict + k]}: {_title(kind, arg, records)}"
-                 for k, (kind, arg) in enumerate(plan[1:])]
+    contents += [
+        f"{labels_v[k]}: claims verdict" + (" (overview)" if k == 0 else f" table {k}") for k in range(n_verdict)
+    ]
+    contents += [f"{labels[1 + n_verdict + k]}: {_title(kind, arg, records)}" for k, (kind, arg) in enumerate(plan[1:])]
     contents += [f"{labels_in[k]}: inputs, sizes and SHA-256" for k in range(n_inputs)]
     titles: list[str] = []
     n_summary = sum(1 for kind, _ in plan if kind == "summary")
@@ -604,40 +679,82 @@ def _write_pdf(analysis, records, meta, tmp: Path, *, paper, pages, comparison, 
         **PDF_METADATA,
     }
     with PdfPages(tmp, metadata=info) as pdf:
-        fig = pg.cover_page(records, meta, paper=paper, contents=contents, page_label=labels[0], logo=logo,
-                            inputs_page=labels_in[0] if n_inputs else "")
+        fig = pg.cover_page(
+            records,
+            meta,
+            paper=paper,
+            contents=contents,
+            page_label=labels[0],
+            logo=logo,
+            inputs_page=labels_in[0] if n_inputs else "",
+        )
         titles.append(_title("cover", None, records))
         save_pdf_page(pdf, fig)
         if n_verdict:
             from .verdict import verdict_pages
 
-            for title, fig in verdict_pages(analysis, verdict, claims, meta, paper=paper, diagram=diagram,
-                                            page_labels=labels_v[:n_verdict]):
+            for title, fig in verdict_pages(
+                analysis, verdict, claims, meta, paper=paper, diagram=diagram, page_labels=labels_v[:n_verdict]
+            ):
                 titles.append(title)
                 save_pdf_page(pdf, fig)
-        body = labels_v[n_verdict:total - 1 - n_inputs]
+        body = labels_v[n_verdict : total - 1 - n_inputs]
         for k, (kind, arg) in enumerate(plan[1:]):
             common = {"paper": paper}
             if kind == "sample":
                 ident = arg if len(records) <= BATCH_PAGE_LIMIT else None
-                fig = pg.sample_page(analysis, arg, records[arg], meta, comparison=comparison, diagram=diagram,
-                                     regions=regions, page_label=body[k], identity=ident, **common)
+                fig = pg.sample_page(
+                    analysis,
+                    arg,
+                    records[arg],
+                    meta,
+                    comparison=comparison,
+                    diagram=diagram,
+                    regions=regions,
+                    page_label=body[k],
+                    identity=ident,
+                    **common,
+                )
             elif kind == "comparison":
-                fig = pg.comparison_page(analysis, list(arg), records, meta, comparison=comparison,
-                                         diagram=diagram, regions=regions, page_label=body[k], **common)
+                fig = pg.comparison_page(
+                    analysis,
+                    list(arg),
+                    records,
+                    meta,
+                    comparison=comparison,
+                    diagram=diagram,
+                    regions=regions,
+                    page_label=body[k],
+                    **common,
+                )
             elif kind == "uncertainty":
                 from .uncertainty import uncertainty_page
 
-                fig = uncertainty_page(uncertainty, arg, date=meta["date"], version=meta["cctkit_version"],
-                                       page_label=body[k], footer=pg.footer_line(meta, body[k], records[arg].get("sha256")))
+                fig = uncertainty_page(
+                    uncertainty,
+                    arg,
+                    date=meta["date"],
+                    version=meta["cctkit_version"],
+                    page_label=body[k],
+                    footer=pg.footer_line(meta, body[k], records[arg].get("sha256")),
+                )
             elif kind == "summary":
                 if summary_figs is None:
-                    summary_figs = pg.summary_table_pages(analysis, records, meta,
-                                                          page_labels=body[k:k + n_summary], **common)
+                    summary_figs = pg.summary_table_pages(
+                        analysis, records, meta, page_labels=body[k : k + n_summary], **common
+                    )
                 fig = next(summary_figs)
             else:
-                fig = pg.scatter_page(analysis, records, meta, comparison=comparison, diagram=diagram,
-                                      regions=regions, page_label=body[k], **common)
+                fig = pg.scatter_page(
+                    analysis,
+                    records,
+                    meta,
+                    comparison=comparison,
+                    diagram=diagram,
+                    regions=regions,
+                    page_label=body[k],
+                    **common,
+                )
             titles.append(_title(kind, arg, records))
             save_pdf_page(pdf, fig)
         for fig in pg.inputs_pages(input_list, meta, paper=paper, page_labels=labels_in):

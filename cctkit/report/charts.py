@@ -18,10 +18,10 @@ functions use only Axes methods), so importing this module costs nothing.
 from __future__ import annotations
 
 import functools
-from dataclasses import dataclass
-from typing import Any, Sequence
-
 import textwrap
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -66,8 +66,20 @@ LIGHT = "#d9d9d9"
 # One identity per spectrum, the same on every chart of a report: a colour for screens,
 # and a marker, a hatch and a line style that keep the spectra apart in a greyscale print.
 # Twelve of each, chosen so that no two identities share colour, marker or hatch.
-IDENTITY_COLOURS = ("#1b1b1b", "#1f4e9a", "#b35900", "#2d7a3a", "#7a1f6b", "#8a6d00",
-                    "#0e7c86", "#a3243b", "#5448c8", "#6b6b6b", "#c0569b", "#4a6b00")
+IDENTITY_COLOURS = (
+    "#1b1b1b",
+    "#1f4e9a",
+    "#b35900",
+    "#2d7a3a",
+    "#7a1f6b",
+    "#8a6d00",
+    "#0e7c86",
+    "#a3243b",
+    "#5448c8",
+    "#6b6b6b",
+    "#c0569b",
+    "#4a6b00",
+)
 IDENTITY_MARKERS = ("o", "s", "^", "D", "v", "P", "X", "<", ">", "h", "*", "p")
 IDENTITY_HATCHES = ("", "////", "....", "xxxx", "\\\\\\\\", "++++", "oo", "----", "||||", "**", "OO", "..//")
 IDENTITY_LINES = ("-", "--", "-.", ":")
@@ -142,8 +154,9 @@ def layout_problems(ax) -> list[str]:
         if getattr(t, "_cctkit_outside", False):
             continue
         bb = t.get_window_extent(r)
-        if not (frame.x0 - 0.5 <= bb.x0 and bb.x1 <= frame.x1 + 0.5 and frame.y0 - 0.5 <= bb.y0
-                and bb.y1 <= frame.y1 + 0.5):
+        if not (
+            frame.x0 - 0.5 <= bb.x0 and bb.x1 <= frame.x1 + 0.5 and frame.y0 - 0.5 <= bb.y0 and bb.y1 <= frame.y1 + 0.5
+        ):
             out.append(f"{t.get_text()!r} crosses the axes frame")
     leg = ax.get_legend()
     if leg is not None:
@@ -179,8 +192,11 @@ def declutter(ax) -> None:
         inside = frame.x0 <= bb.x0 and bb.x1 <= frame.x1 and frame.y0 <= bb.y0 and bb.y1 <= frame.y1
         return inside and not any(bb.overlaps(p) for p in placed)
 
-    texts = [t for t in _shown_texts(ax)
-             if not getattr(t, "_cctkit_outside", False) and not getattr(t, "_cctkit_fixed", False)]
+    texts = [
+        t
+        for t in _shown_texts(ax)
+        if not getattr(t, "_cctkit_outside", False) and not getattr(t, "_cctkit_fixed", False)
+    ]
     for t in sorted(texts, key=lambda t: -t.get_zorder()):
         tries: list[tuple[int, int] | None] = [None]
         if isinstance(t, Annotation) and t.anncoords == "offset points" and getattr(t, "_cctkit_movable", False):
@@ -207,7 +223,7 @@ def shorten(text: str, width: int, *, keep: str = "end") -> str:
     if width <= 1:
         return "\u2026"
     if keep == "tail":
-        return "\u2026" + text[-(width - 1):]
+        return "\u2026" + text[-(width - 1) :]
     return text[: width - 1].rstrip() + "\u2026"
 
 
@@ -218,8 +234,16 @@ def not_computed(ax, what: str) -> None:
     for side in ax.spines.values():
         side.set_linestyle(":")
         side.set_edgecolor(GREY)
-    ax.text(0.5, 0.5, f"{what}\nnot computed", transform=ax.transAxes, ha="center", va="center",
-            color=GREY, fontsize="small")
+    ax.text(
+        0.5,
+        0.5,
+        f"{what}\nnot computed",
+        transform=ax.transAxes,
+        ha="center",
+        va="center",
+        color=GREY,
+        fontsize="small",
+    )
 
 
 def _finite(x) -> bool:
@@ -315,22 +339,45 @@ def spectrum_chart(analysis, ax, *, index: int = 0, comparison=None, legend: boo
     has_ref = bool(np.all(np.isfinite(ref)))
     if has_ref:
         kind = cmp.reference_kind[index]
-        ax.plot(wl, ref, color=GREY, lw=1.0, linestyle="--",
-                label=f"reference ({kind}, {cmp.cct_K[index]:.0f} K)")
+        ax.plot(wl, ref, color=GREY, lw=1.0, linestyle="--", label=f"reference ({kind}, {cmp.cct_K[index]:.0f} K)")
     else:
-        t = ax.text(0.98, 0.95, "no reference: CCT not reported", transform=ax.transAxes, ha="right", va="top",
-                    color=GREY, fontsize="small")
+        t = ax.text(
+            0.98,
+            0.95,
+            "no reference: CCT not reported",
+            transform=ax.transAxes,
+            ha="right",
+            va="top",
+            color=GREY,
+            fontsize="small",
+        )
         t.set_zorder(5)
     ax.set_xlim(wl[0], wl[-1])
     top = np.nanmax(np.concatenate([test, ref if has_ref else test]))
     ax.set_ylim(min(0.0, float(np.nanmin(test))), 1.08 * top if np.isfinite(top) and top > 0 else 1.0)
     ax.set_ylabel("Rel. power [Y = 100]")
     ax.set_xlabel("Wavelength [nm]")
-    ax.text(0.5 * sum(VISIBLE_BAND_NM), 0.0, "380-780 nm", transform=ax.get_xaxis_transform(),
-            ha="center", va="bottom", fontsize="x-small", color=GREY, zorder=1)
+    ax.text(
+        0.5 * sum(VISIBLE_BAND_NM),
+        0.0,
+        "380-780 nm",
+        transform=ax.get_xaxis_transform(),
+        ha="center",
+        va="bottom",
+        fontsize="x-small",
+        color=GREY,
+        zorder=1,
+    )
     if legend:
-        ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.0), fontsize="x-small", frameon=False, ncol=3,
-                  borderaxespad=0.2, handlelength=2.0)
+        ax.legend(
+            loc="lower left",
+            bbox_to_anchor=(0.0, 1.0),
+            fontsize="x-small",
+            frameon=False,
+            ncol=3,
+            borderaxespad=0.2,
+            handlelength=2.0,
+        )
     declutter(ax)
 
 
@@ -349,26 +396,43 @@ def difference_chart(analysis, ax, *, index: int = 0, comparison=None) -> None:
     ax.set_xlabel("Wavelength [nm]")
     ax.set_ylabel("Test - ref. [Y = 100]")
     if not np.all(np.isfinite(d)):
-        ax.text(0.5, 0.5, "no reference: CCT not reported", transform=ax.transAxes, ha="center", va="center",
-                color=GREY, fontsize="small")
+        ax.text(
+            0.5,
+            0.5,
+            "no reference: CCT not reported",
+            transform=ax.transAxes,
+            ha="center",
+            va="center",
+            color=GREY,
+            fontsize="small",
+        )
         ax.set_ylim(-1, 1)
         return
     mask = measured_mask(analysis, index, wl)
     ax.fill_between(wl, 0.0, d, where=(d >= 0) & mask, color="#bdbdbd", lw=0, label="test above")
-    ax.fill_between(wl, 0.0, d, where=(d < 0) & mask, facecolor="white", edgecolor=GREY, hatch="////", lw=0,
-                    label="test below")
+    ax.fill_between(
+        wl, 0.0, d, where=(d < 0) & mask, facecolor="white", edgecolor=GREY, hatch="////", lw=0, label="test below"
+    )
     measured, extra = _split(wl, d, mask)
     ax.plot(wl, measured, color=INK, lw=0.7)
     if not mask.all():
         ax.plot(wl, extra, color=GREY, lw=0.7, linestyle=(0, (1, 1.5)))
     lim = float(np.max(np.abs(d[mask] if mask.any() else d))) * 1.15 or 1.0
     ax.set_ylim(-lim, lim)
-    ax.legend(loc="lower right", bbox_to_anchor=(1.0, 1.0), fontsize="x-small", frameon=False, ncol=2,
-              borderaxespad=0.1)
+    ax.legend(
+        loc="lower right", bbox_to_anchor=(1.0, 1.0), fontsize="x-small", frameon=False, ncol=2, borderaxespad=0.1
+    )
 
 
-def spectra_overlay_chart(analysis, ax, *, indices: Sequence[int] | None = None, comparison=None,
-                          labels: Sequence[str] | None = None, legend: bool = True) -> None:
+def spectra_overlay_chart(
+    analysis,
+    ax,
+    *,
+    indices: Sequence[int] | None = None,
+    comparison=None,
+    labels: Sequence[str] | None = None,
+    legend: bool = True,
+) -> None:
     """Several test spectra overlaid, each scaled to Y = 100 (so their shapes compare).
 
     Up to :data:`IDENTITIES` spectra each get their identity (:func:`series_style`); the
@@ -386,19 +450,48 @@ def spectra_overlay_chart(analysis, ax, *, indices: Sequence[int] | None = None,
             continue
         st = series_style(k)
         label = labels[k] if labels is not None else f"{k + 1}"
-        ax.plot(wl, y, color=st["color"], linestyle=st["linestyle"], marker=st["marker"], mfc=st["mfc"],
-                markevery=(5 * k % 40, 40), markersize=3, lw=0.9, label=label)
+        ax.plot(
+            wl,
+            y,
+            color=st["color"],
+            linestyle=st["linestyle"],
+            marker=st["marker"],
+            mfc=st["mfc"],
+            markevery=(5 * k % 40, 40),
+            markersize=3,
+            lw=0.9,
+            label=label,
+        )
     ax.set_xlim(wl[0], wl[-1])
     ax.set_ylim(bottom=min(0.0, float(np.nanmin(cmp.test[idx]))))
     ax.set_xlabel("Wavelength [nm]")
     ax.set_ylabel("Rel. power [Y = 100]")
     if legend and not many:
         h, lab = ax.get_legend_handles_labels()
-        row_first_legend(ax, h, lab, ncol=6, loc="lower left", bbox_to_anchor=(0.0, 1.0), fontsize="x-small",
-                         frameon=False, borderaxespad=0.2, handlelength=2.2, columnspacing=1.0)
+        row_first_legend(
+            ax,
+            h,
+            lab,
+            ncol=6,
+            loc="lower left",
+            bbox_to_anchor=(0.0, 1.0),
+            fontsize="x-small",
+            frameon=False,
+            borderaxespad=0.2,
+            handlelength=2.2,
+            columnspacing=1.0,
+        )
     if many:
-        ax.text(0.99, 0.97, f"{len(idx)} spectra", transform=ax.transAxes, ha="right", va="top",
-                fontsize="small", color=GREY)
+        ax.text(
+            0.99,
+            0.97,
+            f"{len(idx)} spectra",
+            transform=ax.transAxes,
+            ha="right",
+            va="top",
+            fontsize="small",
+            color=GREY,
+        )
 
 
 # ---------------------------------------------------------------- chromaticity
@@ -577,8 +670,11 @@ def chromaticity_chart(
     observer = int(analysis.observer)
     idx = list(range(len(analysis))) if indices is None else list(indices)
     sample = {"uv": analysis.uv, "uvp": analysis.uvp, "xy": analysis.xy}[diagram][idx]
-    win = _window(np.asarray(sample, dtype=np.float64), diagram, observer=observer) if window is None else \
-        tuple(float(w) for w in window)
+    win = (
+        _window(np.asarray(sample, dtype=np.float64), diagram, observer=observer)
+        if window is None
+        else tuple(float(w) for w in window)
+    )
 
     geo = _locus_geometry(observer)
     locus = _convert(geo["locus"], "uv", diagram)
@@ -590,8 +686,17 @@ def chromaticity_chart(
         inside = np.flatnonzero(_inside(line, win))
         if inside.size:
             j = inside[len(inside) // 2]
-            ax.text(line[j, 0], line[j, 1], f"{duv:+.2f}", fontsize=5, color=GREY, ha="center", va="center",
-                    zorder=2, bbox={"boxstyle": "square,pad=0.05", "fc": "white", "ec": "none"})
+            ax.text(
+                line[j, 0],
+                line[j, 1],
+                f"{duv:+.2f}",
+                fontsize=5,
+                color=GREY,
+                ha="center",
+                va="center",
+                zorder=2,
+                bbox={"boxstyle": "square,pad=0.05", "fc": "white", "ec": "none"},
+            )
     locus = _near(locus, win)
     ax.plot(locus[:, 0], locus[:, 1], color=INK, lw=1.1, zorder=3, label="Planckian locus")
     spectral = _convert(geo["spectral"], "uv", diagram)
@@ -616,8 +721,18 @@ def chromaticity_chart(
                 continue  # too close to a line already labelled: leave this level out here
             placed.append(fx)
             ax.plot(line[:, 0], line[:, 1], color=GREY, lw=0.6, zorder=2)
-            ax.text(line[j, 0], line[j, 1], f"{t} K", fontsize=5.5, color=INK, ha="center", va="bottom",
-                    zorder=4, bbox={"boxstyle": "square,pad=0.1", "fc": "white", "ec": "none"}, clip_on=True)
+            ax.text(
+                line[j, 0],
+                line[j, 1],
+                f"{t} K",
+                fontsize=5.5,
+                color=INK,
+                ha="center",
+                va="bottom",
+                zorder=4,
+                bbox={"boxstyle": "square,pad=0.1", "fc": "white", "ec": "none"},
+                clip_on=True,
+            )
 
     # ANSI C78.377 quadrangles are defined for the 2 deg observer: not drawn by default on a 10 deg diagram.
     outlines = (ansi_outlines() if observer == 2 else ()) if regions is None else tuple(regions)
@@ -627,12 +742,20 @@ def chromaticity_chart(
         if not _inside(pts, win).any():
             continue
         closed = np.vstack([pts, pts[:1]])
-        ax.plot(closed[:, 0], closed[:, 1], color="#4d4d4d", lw=0.7, linestyle=o.linestyle, zorder=2,
-                label=None)
+        ax.plot(closed[:, 0], closed[:, 1], color="#4d4d4d", lw=0.7, linestyle=o.linestyle, zorder=2, label=None)
         top = pts[np.argmax(pts[:, 1])]  # label above the highest corner, clear of the centre
         if _inside(top[None], win)[0]:
-            ax.annotate(o.label, top, xytext=(0, 1.5), textcoords="offset points", fontsize=5, color="#4d4d4d",
-                        ha="center", va="bottom", zorder=2)
+            ax.annotate(
+                o.label,
+                top,
+                xytext=(0, 1.5),
+                textcoords="offset points",
+                fontsize=5,
+                color="#4d4d4d",
+                ha="center",
+                va="bottom",
+                zorder=2,
+            )
         drawn_region = True
 
     annotate = (1 < len(idx) <= IDENTITIES) if annotate is None else annotate
@@ -643,16 +766,34 @@ def chromaticity_chart(
         for k, p in enumerate(pts):
             st = series_style(k)
             lab = legend_labels[k] if legend_labels is not None else None
-            ax.plot(p[0], p[1], linestyle="none", marker=st["marker"], markersize=5, mfc=st["mfc"],
-                    mec=st["color"], mew=1.0, zorder=5, label=lab)
+            ax.plot(
+                p[0],
+                p[1],
+                linestyle="none",
+                marker=st["marker"],
+                markersize=5,
+                mfc=st["mfc"],
+                mec=st["color"],
+                mew=1.0,
+                zorder=5,
+                label=lab,
+            )
     else:
-        ax.plot(pts[:, 0], pts[:, 1], linestyle="none", marker="o", markersize=2.5, mfc="white", mec=INK,
-                mew=0.6, zorder=5)
+        ax.plot(
+            pts[:, 0], pts[:, 1], linestyle="none", marker="o", markersize=2.5, mfc="white", mec=INK, mew=0.6, zorder=5
+        )
     if annotate and mark_samples:
         for k, p in enumerate(pts):
             if np.all(np.isfinite(p)):
-                t = ax.annotate(str(k + 1), p, xytext=(3, 3), textcoords="offset points", fontsize=5, zorder=6,
-                                color=series_style(k)["color"])
+                t = ax.annotate(
+                    str(k + 1),
+                    p,
+                    xytext=(3, 3),
+                    textcoords="offset points",
+                    fontsize=5,
+                    zorder=6,
+                    color=series_style(k)["color"],
+                )
                 t._cctkit_movable = True
 
     ax.set_aspect("equal", adjustable="box")
@@ -664,8 +805,7 @@ def chromaticity_chart(
     if drawn_region:
         notes.append("outlines: ANSI C78.377 quadrangles" if regions is None else "outlines: tolerance regions")
     width_in = ax.get_position().width * ax.figure.get_figwidth()
-    ax.set_title(textwrap.fill("; ".join(notes), max(20, int(width_in / 0.037))), fontsize=5.5, color=GREY,
-                 loc="left")
+    ax.set_title(textwrap.fill("; ".join(notes), max(20, int(width_in / 0.037))), fontsize=5.5, color=GREY, loc="left")
     if legend_labels is not None and len(idx) <= IDENTITIES and mark_samples:
         ax.legend(loc="lower right", fontsize="x-small", frameon=True, framealpha=0.9, edgecolor=LIGHT)
     declutter(ax)
@@ -788,12 +928,24 @@ def vector_graphic_chart(analysis, ax, *, index: int = 0) -> None:
     if not np.all(np.isfinite(tx)):
         ax.text(0, 0, "no result", ha="center", va="center", color=GREY)
     else:
-        ax.plot(np.append(tx, tx[0]), np.append(ty, ty[0]), color=INK, lw=1.1, marker="o", markersize=2.2,
-                label="test")
+        ax.plot(np.append(tx, tx[0]), np.append(ty, ty[0]), color=INK, lw=1.1, marker="o", markersize=2.2, label="test")
         # One artist for the sixteen arrows (reference to test per bin): an arrow each was a
         # tenth of the page's drawing time.
-        ax.quiver(c, s, tx - c, ty - s, angles="xy", scale_units="xy", scale=1.0, color=INK, width=0.004,
-                  headwidth=4.0, headlength=5.0, headaxislength=4.5, zorder=3.5)
+        ax.quiver(
+            c,
+            s,
+            tx - c,
+            ty - s,
+            angles="xy",
+            scale_units="xy",
+            scale=1.0,
+            color=INK,
+            width=0.004,
+            headwidth=4.0,
+            headlength=5.0,
+            headaxislength=4.5,
+            zorder=3.5,
+        )
     for k in range(16):
         ax.text(1.33 * c[k], 1.33 * s[k], str(k + 1), ha="center", va="center", fontsize=5, color=GREY)
     ax.set_xlim(-1.45, 1.45)
@@ -807,12 +959,12 @@ def vector_graphic_chart(analysis, ax, *, index: int = 0) -> None:
     rg = float(np.asarray(t.Rg)[index])
     if np.isfinite(rf):
         ax.set_title(f"Rf {rf:.0f}   Rg {rg:.0f}", fontsize=6.5, loc="right")
-    ax.legend(loc="lower left", bbox_to_anchor=(1.01, 0.0), fontsize=5, frameon=False, borderpad=0.1,
-              handlelength=1.5)
+    ax.legend(loc="lower left", bbox_to_anchor=(1.01, 0.0), fontsize=5, frameon=False, borderpad=0.1, handlelength=1.5)
 
 
-def index_comparison_chart(analysis, ax, *, indices: Sequence[int] | None = None,
-                           legend_labels: Sequence[str] | None = None) -> None:
+def index_comparison_chart(
+    analysis, ax, *, indices: Sequence[int] | None = None, legend_labels: Sequence[str] | None = None
+) -> None:
     """Ra, R9, Rf and Rg of several spectra as grouped bars, each spectrum in its identity.
 
     Bars carry the spectrum's colour and hatch (:func:`series_style`), in the order #1, #2, ...
@@ -839,8 +991,16 @@ def index_comparison_chart(analysis, ax, *, indices: Sequence[int] | None = None
         st = series_style(k)
         vals = np.array([s[1][i] for s in series], dtype=np.float64)
         xs = np.arange(len(series)) - 0.42 + (k + 0.5) * width
-        bars = ax.bar(xs, np.nan_to_num(vals), width=width * 0.9, facecolor="white", edgecolor=st["color"],
-                      lw=0.8, hatch=st["hatch"] or None, label=legend_labels[k] if legend_labels else f"#{k + 1}")
+        bars = ax.bar(
+            xs,
+            np.nan_to_num(vals),
+            width=width * 0.9,
+            facecolor="white",
+            edgecolor=st["color"],
+            lw=0.8,
+            hatch=st["hatch"] or None,
+            label=legend_labels[k] if legend_labels else f"#{k + 1}",
+        )
         handles.append(bars)
         if len(idx) <= 6:
             _bar_labels(ax, xs, vals, fontsize=5)
@@ -850,9 +1010,20 @@ def index_comparison_chart(analysis, ax, *, indices: Sequence[int] | None = None
     ax.set_ylim(min(0.0, lo - 12.0), 118)
     ax.set_ylabel("Index [1]")
     labels = [h.get_label() for h in handles]
-    row_first_legend(ax, handles, labels, ncol=min(len(idx), 6), loc="lower left", bbox_to_anchor=(0.0, 1.0),
-                     fontsize=5.5, frameon=False, borderaxespad=0.2, handlelength=2.4, handleheight=1.2,
-                     columnspacing=1.2)
+    row_first_legend(
+        ax,
+        handles,
+        labels,
+        ncol=min(len(idx), 6),
+        loc="lower left",
+        bbox_to_anchor=(0.0, 1.0),
+        fontsize=5.5,
+        frameon=False,
+        borderaxespad=0.2,
+        handlelength=2.4,
+        handleheight=1.2,
+        columnspacing=1.2,
+    )
     declutter(ax)
 
 
@@ -904,14 +1075,27 @@ def hue_wheel_chart(analysis, ax, *, index: int = 0, identity: int | None = None
     rhs = np.asarray(t.Rhs_h[index], dtype=np.float64)
     sectors = [(theta[j] - half, theta[j] + half) for j in range(16)]
     decrease = [bool(np.isfinite(rcs[j]) and rcs[j] < -0.5) for j in range(16)]
-    shades = [1.0 - 0.7 * np.clip((100.0 - rf[j]) / 50.0, 0.0, 1.0) if np.isfinite(rf[j]) else 1.0
-              for j in range(16)]
-    _wedges(ax, *_RING_RCS, [a for a, d in zip(sectors, decrease) if not d], facecolor="white", edgecolor=LIGHT,
-            linewidth=0.4)
-    _wedges(ax, *_RING_RCS, [a for a, d in zip(sectors, decrease) if d], facecolor="white", edgecolor=GREY,
-            linewidth=0.4, hatch="////")
-    _wedges(ax, *_RING_RF, sectors, facecolor=[str(round(float(v), 3)) for v in shades], edgecolor="white",
-            linewidth=0.6)
+    shades = [1.0 - 0.7 * np.clip((100.0 - rf[j]) / 50.0, 0.0, 1.0) if np.isfinite(rf[j]) else 1.0 for j in range(16)]
+    _wedges(
+        ax,
+        *_RING_RCS,
+        [a for a, d in zip(sectors, decrease) if not d],
+        facecolor="white",
+        edgecolor=LIGHT,
+        linewidth=0.4,
+    )
+    _wedges(
+        ax,
+        *_RING_RCS,
+        [a for a, d in zip(sectors, decrease) if d],
+        facecolor="white",
+        edgecolor=GREY,
+        linewidth=0.4,
+        hatch="////",
+    )
+    _wedges(
+        ax, *_RING_RF, sectors, facecolor=[str(round(float(v), 3)) for v in shades], edgecolor="white", linewidth=0.6
+    )
     _wedges(ax, *_RING_RHS, sectors, facecolor="white", edgecolor=LIGHT, linewidth=0.4)
     for j in range(16):
         dec, shade = decrease[j], shades[j]
@@ -923,12 +1107,30 @@ def hue_wheel_chart(analysis, ax, *, index: int = 0, identity: int | None = None
             r = 0.5 * (ring[0] + ring[1])
             # Sixteen sectors of at least 0.3 in of arc at the page's size hold at most five
             # characters each: these labels cannot meet (fixed by construction; the layout tests check).
-            ax.text(r * np.cos(theta[j]), r * np.sin(theta[j]), text, ha="center", va="center", fontsize=4.8,
-                    color="white" if dark else INK, zorder=4,
-                    bbox={"boxstyle": "square,pad=0.05", "fc": "white", "ec": "none"} if ring is _RING_RCS and dec
-                    else None)._cctkit_fixed = True
-        ax.text(_RING_BIN * np.cos(theta[j]), _RING_BIN * np.sin(theta[j]), str(j + 1), ha="center",
-                va="center", fontsize=5.2, weight="bold", color=GREY, zorder=4)._cctkit_fixed = True
+            ax.text(
+                r * np.cos(theta[j]),
+                r * np.sin(theta[j]),
+                text,
+                ha="center",
+                va="center",
+                fontsize=4.8,
+                color="white" if dark else INK,
+                zorder=4,
+                bbox={"boxstyle": "square,pad=0.05", "fc": "white", "ec": "none"}
+                if ring is _RING_RCS and dec
+                else None,
+            )._cctkit_fixed = True
+        ax.text(
+            _RING_BIN * np.cos(theta[j]),
+            _RING_BIN * np.sin(theta[j]),
+            str(j + 1),
+            ha="center",
+            va="center",
+            fontsize=5.2,
+            weight="bold",
+            color=GREY,
+            zorder=4,
+        )._cctkit_fixed = True
     for r in (0.8, 1.2):
         ax.plot(r * np.cos(circle), r * np.sin(circle), color=LIGHT, lw=0.5, linestyle=":", zorder=1)
     ax.plot(np.cos(circle), np.sin(circle), color=GREY, lw=1.0, linestyle="--", zorder=2)
@@ -939,8 +1141,21 @@ def hue_wheel_chart(analysis, ax, *, index: int = 0, identity: int | None = None
         ax.plot(tx, ty, linestyle="none", marker="o", markersize=2.0, color=colour, zorder=3)
         # One artist for the sixteen arrows (reference to test per bin): an arrow each was a
         # tenth of the page's drawing time.
-        ax.quiver(c, s, tx - c, ty - s, angles="xy", scale_units="xy", scale=1.0, color=INK, width=0.004,
-                  headwidth=4.0, headlength=5.0, headaxislength=4.5, zorder=3.5)
+        ax.quiver(
+            c,
+            s,
+            tx - c,
+            ty - s,
+            angles="xy",
+            scale_units="xy",
+            scale=1.0,
+            color=INK,
+            width=0.004,
+            headwidth=4.0,
+            headlength=5.0,
+            headaxislength=4.5,
+            zorder=3.5,
+        )
     lim = _RING_BIN + 0.2
     ax.set_xlim(-lim, lim)
     ax.set_ylim(-lim, lim)
@@ -949,6 +1164,15 @@ def hue_wheel_chart(analysis, ax, *, index: int = 0, identity: int | None = None
     rf_all = float(np.asarray(t.Rf)[index])
     rg_all = float(np.asarray(t.Rg)[index])
     if np.isfinite(rf_all):
-        ax.text(0.0, -0.12, f"Rf {rf_all:.0f}\nRg {rg_all:.0f}", ha="center", va="center", fontsize=6,
-                weight="bold", zorder=5, bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": LIGHT, "lw": 0.4})
+        ax.text(
+            0.0,
+            -0.12,
+            f"Rf {rf_all:.0f}\nRg {rg_all:.0f}",
+            ha="center",
+            va="center",
+            fontsize=6,
+            weight="bold",
+            zorder=5,
+            bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": LIGHT, "lw": 0.4},
+        )
     declutter(ax)

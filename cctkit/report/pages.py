@@ -8,7 +8,8 @@ formatted by :func:`format_value`; nothing is computed here.
 from __future__ import annotations
 
 import textwrap
-from typing import Any, Sequence
+from collections.abc import Sequence
+from typing import Any
 
 import numpy as np
 
@@ -84,8 +85,23 @@ HEADLINE_ROWS: tuple[tuple[str, str, str, str], ...] = (
 _ROW = {r[0]: r for r in HEADLINE_ROWS}
 _LUMINOUS_KEYS = ("luminous_flux_lm", "illuminance_lx", "luminance_cd_per_m2", "intensity_cd")
 # Keys always shown (as "n/a" / "not computed" when absent); the others only where the quantity has them.
-_ALWAYS = ("cct_K", "duv", "x", "y", "u", "v", "u_prime", "v_prime", "ler_lm_per_W", "sp_ratio",
-           "melanopic_der", "Ra", "R9", "Rf", "Rg")
+_ALWAYS = (
+    "cct_K",
+    "duv",
+    "x",
+    "y",
+    "u",
+    "v",
+    "u_prime",
+    "v_prime",
+    "ler_lm_per_W",
+    "sp_ratio",
+    "melanopic_der",
+    "Ra",
+    "R9",
+    "Rf",
+    "Rg",
+)
 
 #: Rows of the batch summary table on one page.
 SUMMARY_ROWS_PER_PAGE = 44
@@ -179,8 +195,15 @@ class _Page:
     def rule(self, y: float, lw: float = 0.6):
         from matplotlib.lines import Line2D
 
-        self.fig.add_artist(Line2D([self.left / self.w, self.right / self.w], [1 - y / self.h] * 2,
-                                   transform=self.fig.transFigure, color=INK, lw=lw))
+        self.fig.add_artist(
+            Line2D(
+                [self.left / self.w, self.right / self.w],
+                [1 - y / self.h] * 2,
+                transform=self.fig.transFigure,
+                color=INK,
+                lw=lw,
+            )
+        )
 
 
 def _header(page: _Page, title: str, subtitle: str, page_label: str) -> float:
@@ -194,10 +217,16 @@ def _header(page: _Page, title: str, subtitle: str, page_label: str) -> float:
 def footer_line(meta: dict[str, Any], page_label: str = "", sha256: str | None = None) -> str:
     """The line every page ends with: input SHA-256, report date, software, page n of N."""
     sha = sha256 or meta.get("input_sha256") or ""
-    what = "input SHA-256" if sha256 or meta.get("input_count", 1) == 1 else \
-        f"SHA-256 of the {meta.get('input_count')} inputs' digests"
-    parts = [f"{what} {sha}" if sha else "input not from a file",
-             f"report date {meta['date']}", f"cctkit {meta['cctkit_version']}"]
+    what = (
+        "input SHA-256"
+        if sha256 or meta.get("input_count", 1) == 1
+        else f"SHA-256 of the {meta.get('input_count')} inputs' digests"
+    )
+    parts = [
+        f"{what} {sha}" if sha else "input not from a file",
+        f"report date {meta['date']}",
+        f"cctkit {meta['cctkit_version']}",
+    ]
     if page_label:
         parts.append(page_label)
     return "  |  ".join(parts)
@@ -209,15 +238,32 @@ def _footer(page: _Page, meta: dict[str, Any], page_label: str = "", sha256: str
     page.text(page.left, y0 + 0.05, "Cautions", fontsize=6, weight="bold")
     for k, line in enumerate(CAUTIONS):
         page.text(page.left, y0 + 0.16 + 0.085 * k, f"- {line}", fontsize=5.2)
-    page.text(page.left, page.h - page.MARGIN - 0.02, footer_line(meta, page_label, sha256), fontsize=5.2,
-              color=GREY, va="bottom", family="monospace")
+    page.text(
+        page.left,
+        page.h - page.MARGIN - 0.02,
+        footer_line(meta, page_label, sha256),
+        fontsize=5.2,
+        color=GREY,
+        va="bottom",
+        family="monospace",
+    )
 
 
 _FOOTER_H = 0.62 + 0.1
 
 
-def _kv_block(page: _Page, x: float, y: float, rows: Sequence[tuple[str, str]], *, label_w: float,
-              pitch: float = 0.125, fontsize: float = 6.0, value_chars: int = 62, max_lines: int = 4) -> float:
+def _kv_block(
+    page: _Page,
+    x: float,
+    y: float,
+    rows: Sequence[tuple[str, str]],
+    *,
+    label_w: float,
+    pitch: float = 0.125,
+    fontsize: float = 6.0,
+    value_chars: int = 62,
+    max_lines: int = 4,
+) -> float:
     """Label/value lines; long values wrap (at most ``max_lines`` lines); returns the y below the block."""
     for label, value in rows:
         page.text(x, y, label, fontsize=fontsize, weight="bold")
@@ -227,10 +273,15 @@ def _kv_block(page: _Page, x: float, y: float, rows: Sequence[tuple[str, str]], 
             continue
         lines = textwrap.wrap(value, value_chars, break_long_words=True) or [""]
         if len(lines) > max_lines:
-            lines = lines[:max_lines - 1] + [shorten(" ".join(lines[max_lines - 1:]), value_chars)]
+            lines = lines[: max_lines - 1] + [shorten(" ".join(lines[max_lines - 1 :]), value_chars)]
         for k, line in enumerate(lines):
-            page.text(x + label_w, y + k * pitch, line, fontsize=fontsize,
-                      family="monospace" if label.startswith("SHA") else None)
+            page.text(
+                x + label_w,
+                y + k * pitch,
+                line,
+                fontsize=fontsize,
+                family="monospace" if label.startswith("SHA") else None,
+            )
         y += pitch * len(lines)
     return y
 
@@ -270,20 +321,37 @@ def provenance_rows(rec: dict[str, Any], meta: dict[str, Any]) -> list[tuple[str
         rows.append(("Instrument", inst + " (from the file)"))
     rows += [
         ("Observer", f"{observer} for chromaticity and CCT; rendering metrics use their standard's observer"),
-        ("Interpolation", f"{rec.get('interpolation') or conv.get('interpolation_method', 'auto')} (used for this "
-                          f"spectrum); extrapolation: {conv['extrapolation']}"),
-        ("Constants", f"c2 = {conv['c2_m_K']:.4e} m\u00b7K; Km = {conv['Km_lm_per_W']} lm/W; "
-                      f"{conv['summation']}"),
+        (
+            "Interpolation",
+            f"{rec.get('interpolation') or conv.get('interpolation_method', 'auto')} (used for this "
+            f"spectrum); extrapolation: {conv['extrapolation']}",
+        ),
+        ("Constants", f"c2 = {conv['c2_m_K']:.4e} m\u00b7K; Km = {conv['Km_lm_per_W']} lm/W; {conv['summation']}"),
         ("CCT method", conv["cct_method"]),
         ("Standards", "; ".join(STANDARDS + ((meta["tolerance_edition"],) if meta.get("tolerance_edition") else ()))),
-        ("Software", f"cctkit {meta['cctkit_version']}; tables from colour-science "
-                     f"{meta.get('colour_science_version') or 'n/a'}"),
+        (
+            "Software",
+            f"cctkit {meta['cctkit_version']}; tables from colour-science "
+            f"{meta.get('colour_science_version') or 'n/a'}",
+        ),
     ]
     return rows
 
 
-_INSTRUMENT_KEYS = ("instrument", "model", "manufacturer", "serial", "serial_number", "integration_time",
-                    "integration_time_ms", "calibration", "calibration_date", "operator", "measured_at", "date")
+_INSTRUMENT_KEYS = (
+    "instrument",
+    "model",
+    "manufacturer",
+    "serial",
+    "serial_number",
+    "integration_time",
+    "integration_time_ms",
+    "calibration",
+    "calibration_date",
+    "operator",
+    "measured_at",
+    "date",
+)
 
 
 def instrument_text(rec: dict[str, Any]) -> str:
@@ -292,8 +360,9 @@ def instrument_text(rec: dict[str, Any]) -> str:
     if not isinstance(md, dict) or not md:
         return ""
     keys = [k for k in _INSTRUMENT_KEYS if md.get(k) not in (None, "")]
-    keys += [k for k in sorted(md) if k not in keys and isinstance(md[k], (str, int, float))
-             and not isinstance(md[k], bool)][: max(0, 6 - len(keys))]
+    keys += [
+        k for k in sorted(md) if k not in keys and isinstance(md[k], (str, int, float)) and not isinstance(md[k], bool)
+    ][: max(0, 6 - len(keys))]
     return "; ".join(f"{k.replace('_', ' ')} {md[k]}" for k in keys[:8])
 
 
@@ -323,8 +392,12 @@ def ansi_bin(analysis, i: int) -> str:
     return str(name or "none")
 
 
-_LUMINOUS_LABEL = {"luminous_flux_lm": "Luminous flux", "illuminance_lx": "Illuminance",
-                   "luminance_cd_per_m2": "Luminance", "intensity_cd": "Luminous intensity"}
+_LUMINOUS_LABEL = {
+    "luminous_flux_lm": "Luminous flux",
+    "illuminance_lx": "Illuminance",
+    "luminance_cd_per_m2": "Luminance",
+    "intensity_cd": "Luminous intensity",
+}
 
 
 def u_text(U: float | None, unit: str = "") -> str:
@@ -339,14 +412,16 @@ def u_text(U: float | None, unit: str = "") -> str:
     return f"{text} {unit}" if unit else text
 
 
-def headline_cells(rec: dict[str, Any], *, ansi: str = "", intents: Sequence[str] = (),
-                   U: dict[str, float] | None = None) -> list[tuple[str, str, str, str]]:
+def headline_cells(
+    rec: dict[str, Any], *, ansi: str = "", intents: Sequence[str] = (), U: dict[str, float] | None = None
+) -> list[tuple[str, str, str, str]]:
     """The headline strip of a spectrum page: (label, value, detail, U) per cell, from the record.
 
     ``U`` maps record keys to expanded uncertainties (k = 2) of this spectrum
     (:class:`cctkit.uncertainty.Estimate.U`); a cell with a number that has one gets
     "U (k=2) ..." in the same units and order as its value(s), else "".
     """
+
     def v(key):
         return format_value(rec, key)
 
@@ -374,11 +449,18 @@ def headline_cells(rec: dict[str, Any], *, ansi: str = "", intents: Sequence[str
         cells.append((_LUMINOUS_LABEL[lum], f"{v(lum)} {unit}", rec["quantity"], us((lum, unit))))
     else:
         cells.append(("Luminous total", "relative", "no absolute scale in the data", ""))
-    cells.append(("Efficacy of radiation", f"{v('ler_lm_per_W')} lm/W", "LER; lamp efficacy needs power",
-                  us(("ler_lm_per_W", "lm/W"))))
+    cells.append(
+        (
+            "Efficacy of radiation",
+            f"{v('ler_lm_per_W')} lm/W",
+            "LER; lamp efficacy needs power",
+            us(("ler_lm_per_W", "lm/W")),
+        )
+    )
     cells.append(("Melanopic DER", v("melanopic_der"), "CIE S 026, D65 = 1", us(("melanopic_der", ""))))
-    cells.append(("TM-30 design intent", " ".join(intents) if intents else "none met",
-                  "Annex E levels (1 strictest)", ""))
+    cells.append(
+        ("TM-30 design intent", " ".join(intents) if intents else "none met", "Annex E levels (1 strictest)", "")
+    )
     return cells
 
 
@@ -406,14 +488,27 @@ def _strip(page: _Page, y: float, cells: Sequence[tuple[str, str, str, str]]) ->
     w = page.width / len(cells)
     for k, (label, value, detail, unc) in enumerate(cells):
         x = page.left + k * w
-        page.fig.add_artist(Rectangle((x / page.w, 1 - (y + h) / page.h), (w - 0.05) / page.w, h / page.h,
-                                      transform=page.fig.transFigure, fc="#f0f0f0" if k % 2 == 0 else "white",
-                                      ec="#9a9a9a", lw=0.5))
+        page.fig.add_artist(
+            Rectangle(
+                (x / page.w, 1 - (y + h) / page.h),
+                (w - 0.05) / page.w,
+                h / page.h,
+                transform=page.fig.transFigure,
+                fc="#f0f0f0" if k % 2 == 0 else "white",
+                ec="#9a9a9a",
+                lw=0.5,
+            )
+        )
         chars = int((w - 0.12) / 0.042)
         page.text(x + 0.06, y + 0.06, shorten(label, chars), fontsize=5.8, color=GREY)
         size = 10.5 if len(value) <= int((w - 0.1) / 0.085) else 8.0
-        page.text(x + 0.06, y + 0.2, shorten(value, int((w - 0.1) / (0.085 if size > 9 else 0.065))),
-                  fontsize=size, weight="bold")
+        page.text(
+            x + 0.06,
+            y + 0.2,
+            shorten(value, int((w - 0.1) / (0.085 if size > 9 else 0.065))),
+            fontsize=size,
+            weight="bold",
+        )
         if unc:
             page.text(x + 0.06, y + 0.4, shorten(unc, int((w - 0.1) / 0.034)), fontsize=5.0, weight="bold")
         lines = textwrap.wrap(detail, chars)[:2]
@@ -425,8 +520,19 @@ def _strip(page: _Page, y: float, cells: Sequence[tuple[str, str, str, str]]) ->
 # ---------------------------------------------------------------- pages
 
 
-def sample_page(analysis, i: int, rec: dict[str, Any], meta: dict[str, Any], *, paper: str, comparison,
-                diagram: str, regions, page_label: str, identity: int | None = None):
+def sample_page(
+    analysis,
+    i: int,
+    rec: dict[str, Any],
+    meta: dict[str, Any],
+    *,
+    paper: str,
+    comparison,
+    diagram: str,
+    regions,
+    page_label: str,
+    identity: int | None = None,
+):
     """One page for spectrum ``i``: the headline strip and the spectrum against its reference first,
     then the rendering detail (hue wheel, CIE 13.3 bars, chromaticity), then identity and provenance."""
     p = _Page(paper)
@@ -456,9 +562,11 @@ def sample_page(analysis, i: int, rec: dict[str, Any], meta: dict[str, Any], *, 
     side = 2.85
     axw = p.axes(p.left, y + 0.05, side, side)
     charts.hue_wheel_chart(analysis, axw, index=i, identity=identity)
-    key = ("Hue wheel (TM-30-20): the colour vector graphic in the middle (dashed: reference; arrows: reference "
-           "to test per hue bin); around it per bin, inner ring Rcs,h [%] (hatched: less chroma), middle ring "
-           "Rf,h (darker: lower fidelity), outer ring Rhs,h [1]; bin numbers outside.")
+    key = (
+        "Hue wheel (TM-30-20): the colour vector graphic in the middle (dashed: reference; arrows: reference "
+        "to test per hue bin); around it per bin, inner ring Rcs,h [%] (hatched: less chroma), middle ring "
+        "Rf,h (darker: lower fidelity), outer ring Rhs,h [1]; bin numbers outside."
+    )
     for j, line in enumerate(textwrap.wrap(key, 88)):
         p.text(p.left, y + side + 0.1 + 0.085 * j, line, fontsize=5.0, color=INK)
     rx = p.left + side + 0.75
@@ -480,10 +588,18 @@ def sample_page(analysis, i: int, rec: dict[str, Any], meta: dict[str, Any], *, 
     # Identity and provenance, two columns, then flags.
     rows = provenance_rows(rec, meta)
     half = (len(rows) + 1) // 2
-    yl = _kv_block(p, p.left, y, rows[:half], label_w=0.68, value_chars=62, pitch=0.105, fontsize=5.6,
-                   max_lines=2)
-    yr = _kv_block(p, p.left + p.width / 2 + 0.1, y, rows[half:], label_w=0.68, value_chars=62, pitch=0.105,
-                   fontsize=5.6, max_lines=3)
+    yl = _kv_block(p, p.left, y, rows[:half], label_w=0.68, value_chars=62, pitch=0.105, fontsize=5.6, max_lines=2)
+    yr = _kv_block(
+        p,
+        p.left + p.width / 2 + 0.1,
+        y,
+        rows[half:],
+        label_w=0.68,
+        value_chars=62,
+        pitch=0.105,
+        fontsize=5.6,
+        max_lines=3,
+    )
     y = max(yl, yr) + 0.04
     bottom = p.h - p.MARGIN - _FOOTER_H
     room = int((bottom - y - 0.13) / 0.11)  # flag lines that fit above the footer
@@ -495,8 +611,16 @@ def sample_page(analysis, i: int, rec: dict[str, Any], meta: dict[str, Any], *, 
     return p.fig
 
 
-def cover_page(records, meta: dict[str, Any], *, paper: str, contents: Sequence[str], page_label: str,
-               logo=None, inputs_page: str = ""):
+def cover_page(
+    records,
+    meta: dict[str, Any],
+    *,
+    paper: str,
+    contents: Sequence[str],
+    page_label: str,
+    logo=None,
+    inputs_page: str = "",
+):
     """The sign-off page: title, sign-off fields, inputs with their SHA-256, contents and the approval block."""
     p = _Page(paper)
     title = meta.get("title") or "Spectral measurement report"
@@ -509,17 +633,21 @@ def cover_page(records, meta: dict[str, Any], *, paper: str, contents: Sequence[
         ax = p.axes(p.right - lw, y + 0.05, lw, lh)
         ax.imshow(logo, interpolation="nearest")
         ax.set_axis_off()
-    fields = [("Project", meta.get("project") or "(not given)"),
-              ("Laboratory", meta.get("lab") or "(not given)"),
-              ("Operator", meta.get("operator") or "(not given)"),
-              ("Instrument", meta.get("instrument") or "(not given)")]
+    fields = [
+        ("Project", meta.get("project") or "(not given)"),
+        ("Laboratory", meta.get("lab") or "(not given)"),
+        ("Operator", meta.get("operator") or "(not given)"),
+        ("Instrument", meta.get("instrument") or "(not given)"),
+    ]
     from_files = sorted({instrument_text(r) for r in records} - {""})
     if from_files:
         fields.append(("From the files", "; ".join(from_files)))
     fields += [("Report date", meta["date"]), ("Notes", meta.get("notes") or "(none)")]
     p.text(p.left, y + 0.05, "Sign-off fields", fontsize=7.5, weight="bold")
-    y = _kv_block(p, p.left, y + 0.25, fields, label_w=1.0, value_chars=95, pitch=0.14, fontsize=7.0,
-                  max_lines=4) + 0.15
+    y = (
+        _kv_block(p, p.left, y + 0.25, fields, label_w=1.0, value_chars=95, pitch=0.14, fontsize=7.0, max_lines=4)
+        + 0.15
+    )
 
     p.text(p.left, y, f"Inputs ({len(records)} spectra)", fontsize=7.5, weight="bold")
     y += 0.2
@@ -537,8 +665,7 @@ def cover_page(records, meta: dict[str, Any], *, paper: str, contents: Sequence[
         y += 0.12
     if len(shown) < len(records):
         where = f"listed with its size on {inputs_page}" if inputs_page else "in the JSON output"
-        p.text(p.left, y, f"... and {len(records) - len(shown)} more: every file and SHA-256 is {where}",
-               fontsize=5.8)
+        p.text(p.left, y, f"... and {len(records) - len(shown)} more: every file and SHA-256 is {where}", fontsize=5.8)
         y += 0.12
     elif inputs_page:
         p.text(p.left, y, f"Every input file with its size and SHA-256: {inputs_page}", fontsize=5.8)
@@ -555,13 +682,32 @@ def cover_page(records, meta: dict[str, Any], *, paper: str, contents: Sequence[
     p.text(p.left, y, "Standards and conventions", fontsize=7.5, weight="bold")
     y += 0.2
     conv = meta["conventions"]
-    y = _kv_block(p, p.left, y, [
-        ("Standards", "; ".join(STANDARDS + ((meta["tolerance_edition"],) if meta.get("tolerance_edition") else ()))),
-        ("Conventions", f"{conv['summation']}; c2 = {conv['c2_m_K']:.4e} m\u00b7K; CCT: {conv['cct_method']}; "
-                        f"interpolation: {conv.get('interpolation_method', 'auto')}"),
-        ("Software", f"cctkit {meta['cctkit_version']}; tables from colour-science "
-                     f"{meta.get('colour_science_version') or 'n/a'}"),
-    ], label_w=1.0, value_chars=110, pitch=0.12, fontsize=6.0, max_lines=3)
+    y = _kv_block(
+        p,
+        p.left,
+        y,
+        [
+            (
+                "Standards",
+                "; ".join(STANDARDS + ((meta["tolerance_edition"],) if meta.get("tolerance_edition") else ())),
+            ),
+            (
+                "Conventions",
+                f"{conv['summation']}; c2 = {conv['c2_m_K']:.4e} m\u00b7K; CCT: {conv['cct_method']}; "
+                f"interpolation: {conv.get('interpolation_method', 'auto')}",
+            ),
+            (
+                "Software",
+                f"cctkit {meta['cctkit_version']}; tables from colour-science "
+                f"{meta.get('colour_science_version') or 'n/a'}",
+            ),
+        ],
+        label_w=1.0,
+        value_chars=110,
+        pitch=0.12,
+        fontsize=6.0,
+        max_lines=3,
+    )
     _approval_block(p, p.h - p.MARGIN - _FOOTER_H - 1.45, meta)
     _footer(p, meta, page_label)
     return p.fig
@@ -633,10 +779,14 @@ def inputs_pages(rows: Sequence[dict[str, Any]], meta: dict[str, Any], *, paper:
     """The inputs table, :data:`INPUT_ROWS_PER_PAGE` rows a page: file, role, size and SHA-256 of every input."""
     for k, label in enumerate(page_labels):
         p = _Page(paper)
-        part = rows[k * INPUT_ROWS_PER_PAGE:(k + 1) * INPUT_ROWS_PER_PAGE]
+        part = rows[k * INPUT_ROWS_PER_PAGE : (k + 1) * INPUT_ROWS_PER_PAGE]
         cont = f" (continued, {k + 1} of {len(page_labels)})" if len(page_labels) > 1 else ""
-        y = _header(p, f"Inputs{cont}", f"{len(rows)} files: each with the size and the SHA-256 of the bytes "
-                    "that were read and analysed", label)
+        y = _header(
+            p,
+            f"Inputs{cont}",
+            f"{len(rows)} files: each with the size and the SHA-256 of the bytes that were read and analysed",
+            label,
+        )
         cols = ((0.0, "#"), (0.3, "File"), (3.05, "Holds"), (3.85, "Size [bytes]"), (4.75, "SHA-256"))
         for x, head in cols:
             p.text(p.left + x, y, head, fontsize=6.2, weight="bold")
@@ -667,8 +817,11 @@ def _approval_block(p: _Page, y: float, meta: dict[str, Any]) -> None:
     h = 1.1
     for k, (head, key) in enumerate(APPROVAL_BOXES):
         x = p.left + k * (w + 0.1)
-        p.fig.add_artist(Rectangle((x / p.w, 1 - (y + h) / p.h), w / p.w, h / p.h, transform=p.fig.transFigure,
-                                   fc="white", ec=INK, lw=0.7))
+        p.fig.add_artist(
+            Rectangle(
+                (x / p.w, 1 - (y + h) / p.h), w / p.w, h / p.h, transform=p.fig.transFigure, fc="white", ec=INK, lw=0.7
+            )
+        )
         p.text(x + 0.08, y + 0.08, head, fontsize=7, weight="bold")
         name = meta.get(key) if key else ""
         for j, (label, value) in enumerate((("Name", name or ""), ("Signature", ""), ("Date", ""))):
@@ -685,8 +838,22 @@ def _line(p: _Page, x0: float, x1: float, y: float):
     return Line2D([x0 / p.w, x1 / p.w], [1 - y / p.h] * 2, transform=p.fig.transFigure, color=INK, lw=0.5)
 
 
-_COMPARE_KEYS = ("cct_K", "duv", "x", "y", "u_prime", "v_prime", "luminous", "ler_lm_per_W", "sp_ratio",
-                 "melanopic_der", "Ra", "R9", "Rf", "Rg")
+_COMPARE_KEYS = (
+    "cct_K",
+    "duv",
+    "x",
+    "y",
+    "u_prime",
+    "v_prime",
+    "luminous",
+    "ler_lm_per_W",
+    "sp_ratio",
+    "melanopic_der",
+    "Ra",
+    "R9",
+    "Rf",
+    "Rg",
+)
 
 
 def _luminous_key(records) -> str | None:
@@ -702,19 +869,44 @@ def _identity_key(p: _Page, x: float, y: float, k: int) -> None:
     from matplotlib.patches import Rectangle
 
     st = charts.series_style(k)
-    p.fig.add_artist(Rectangle(((x - 0.06) / p.w, 1 - (y + 0.05) / p.h), 0.12 / p.w, 0.1 / p.h,
-                               transform=p.fig.transFigure, fc="white", ec=st["color"], lw=0.6,
-                               hatch=st["hatch"] or None))
-    p.fig.add_artist(Line2D([x / p.w], [1 - y / p.h], transform=p.fig.transFigure, linestyle="none",
-                            marker=st["marker"], markersize=3.5, mfc=st["mfc"], mec=st["color"], mew=0.8))
+    p.fig.add_artist(
+        Rectangle(
+            ((x - 0.06) / p.w, 1 - (y + 0.05) / p.h),
+            0.12 / p.w,
+            0.1 / p.h,
+            transform=p.fig.transFigure,
+            fc="white",
+            ec=st["color"],
+            lw=0.6,
+            hatch=st["hatch"] or None,
+        )
+    )
+    p.fig.add_artist(
+        Line2D(
+            [x / p.w],
+            [1 - y / p.h],
+            transform=p.fig.transFigure,
+            linestyle="none",
+            marker=st["marker"],
+            markersize=3.5,
+            mfc=st["mfc"],
+            mec=st["color"],
+            mew=0.8,
+        )
+    )
 
 
-def comparison_page(analysis, indices: Sequence[int], records, meta, *, paper: str, comparison, diagram: str,
-                    regions, page_label: str):
+def comparison_page(
+    analysis, indices: Sequence[int], records, meta, *, paper: str, comparison, diagram: str, regions, page_label: str
+):
     """Candidates side by side: headline table, overlaid chromaticity and overlaid spectra."""
     p = _Page(paper)
-    y = _header(p, f"Comparison of {len(indices)} spectra",
-                f"quantity {records[indices[0]]['quantity']}; report date {meta['date']}", page_label)
+    y = _header(
+        p,
+        f"Comparison of {len(indices)} spectra",
+        f"quantity {records[indices[0]]['quantity']}; report date {meta['date']}",
+        page_label,
+    )
     lum = _luminous_key(records)
     keys = [k for k in _COMPARE_KEYS if k != "luminous" or lum]
     keys = [(lum or k) if k == "luminous" else k for k in keys]  # lum is set where "luminous" is kept
@@ -758,9 +950,17 @@ def comparison_page(analysis, indices: Sequence[int], records, meta, *, paper: s
         r = records[i]
         flag_text = ", ".join(f["code"] for f in r.get("flags", []))
         _identity_key(p, p.left + 0.05, y + 0.04, k)
-        p.text(p.left + 0.15, y, shorten(f"#{k + 1}  {r['name']}  -  {r.get('source') or 'no file'}"
-                                         + (f"  -  flags: {flag_text}" if flag_text else ""), 150), fontsize=5.6,
-               color=charts.series_style(k)["color"])
+        p.text(
+            p.left + 0.15,
+            y,
+            shorten(
+                f"#{k + 1}  {r['name']}  -  {r.get('source') or 'no file'}"
+                + (f"  -  flags: {flag_text}" if flag_text else ""),
+                150,
+            ),
+            fontsize=5.6,
+            color=charts.series_style(k)["color"],
+        )
         y += 0.1
     y += 0.3 + 0.12 * (-(-n // 6))  # room for the legend rows above the spectra
     bottom = p.h - p.MARGIN - _FOOTER_H
@@ -769,24 +969,45 @@ def comparison_page(analysis, indices: Sequence[int], records, meta, *, paper: s
     ax = p.axes(p.left + 0.5, y + 0.15, side, side)
     charts.chromaticity_chart(analysis, ax, indices=indices, diagram=diagram, regions=regions)  # numbered
     ax = p.axes(p.left + p.width / 2.0 + 0.5, y + 0.15, p.width / 2.0 - 0.5, side)
-    charts.spectra_overlay_chart(analysis, ax, indices=indices, comparison=comparison,
-                                 labels=[f"#{k + 1}" for k in range(n)])
-    p.text(p.left + p.width / 2.0 + 0.1, y - 0.12 - 0.12 * (-(-n // 6)), "Spectra, each scaled to Y = 100",
-           fontsize=7, weight="bold")
+    charts.spectra_overlay_chart(
+        analysis, ax, indices=indices, comparison=comparison, labels=[f"#{k + 1}" for k in range(n)]
+    )
+    p.text(
+        p.left + p.width / 2.0 + 0.1,
+        y - 0.12 - 0.12 * (-(-n // 6)),
+        "Spectra, each scaled to Y = 100",
+        fontsize=7,
+        weight="bold",
+    )
     y_bars = y + 0.15 + side + 0.85
     if bottom - y_bars > 1.0:
         ax = p.axes(p.left + 0.5, y_bars, p.width - 0.5, bottom - y_bars - 0.35)
         charts.index_comparison_chart(analysis, ax, indices=indices)
-        p.text(p.left, y_bars - 0.42, "Colour rendering indices by spectrum (bars in the order #1, #2, ... "
-               "within each index)", fontsize=7, weight="bold")
+        p.text(
+            p.left,
+            y_bars - 0.42,
+            "Colour rendering indices by spectrum (bars in the order #1, #2, ... within each index)",
+            fontsize=7,
+            weight="bold",
+        )
     _footer(p, meta, page_label)
     return p.fig
 
 
 _SUMMARY_COLS = (
-    ("#", None, 0.3), ("Name", "name", 1.4), ("CCT [K]", "cct_K", 0.5), ("Duv", "duv", 0.5),
-    ("x", "x", 0.45), ("y", "y", 0.45), ("lum", "luminous", 0.65), ("LER [lm/W]", "ler_lm_per_W", 0.55),
-    ("Ra", "Ra", 0.35), ("R9", "R9", 0.35), ("Rf", "Rf", 0.35), ("Rg", "Rg", 0.35), ("Flags", "flags", 0.0),
+    ("#", None, 0.3),
+    ("Name", "name", 1.4),
+    ("CCT [K]", "cct_K", 0.5),
+    ("Duv", "duv", 0.5),
+    ("x", "x", 0.45),
+    ("y", "y", 0.45),
+    ("lum", "luminous", 0.65),
+    ("LER [lm/W]", "ler_lm_per_W", 0.55),
+    ("Ra", "Ra", 0.35),
+    ("R9", "R9", 0.35),
+    ("Rf", "Rf", 0.35),
+    ("Rg", "Rg", 0.35),
+    ("Flags", "flags", 0.0),
 )
 
 
@@ -797,8 +1018,12 @@ def summary_table_pages(analysis, records, meta, *, paper: str, page_labels: Seq
     for page_no, start in enumerate(range(0, n, SUMMARY_ROWS_PER_PAGE)):
         p = _Page(paper)
         stop = min(n, start + SUMMARY_ROWS_PER_PAGE)
-        y = _header(p, f"Batch summary: {n} spectra", f"spectra {start + 1}\u2013{stop} of {n}; quantity "
-                    f"{records[0]['quantity']}", page_labels[page_no])
+        y = _header(
+            p,
+            f"Batch summary: {n} spectra",
+            f"spectra {start + 1}\u2013{stop} of {n}; quantity {records[0]['quantity']}",
+            page_labels[page_no],
+        )
         widths = [w for _, _, w in _SUMMARY_COLS]
         widths[-1] = p.width - sum(widths[:-1])
         xs = np.concatenate([[p.left], p.left + np.cumsum(widths[:-1])])
@@ -835,8 +1060,14 @@ def scatter_page(analysis, records, meta, *, paper: str, comparison, diagram: st
     """The whole batch in one chromaticity scatter, and all spectra overlaid."""
     p = _Page(paper)
     n = len(records)
-    y = _header(p, f"Batch chromaticity: {n} spectra", "points numbered as in the summary table"
-                if n <= 12 else "one point per spectrum; numbers and names in the summary table", page_label)
+    y = _header(
+        p,
+        f"Batch chromaticity: {n} spectra",
+        "points numbered as in the summary table"
+        if n <= 12
+        else "one point per spectrum; numbers and names in the summary table",
+        page_label,
+    )
     bottom = p.h - p.MARGIN - _FOOTER_H
     side = min(p.width - 0.6, (bottom - y) * 0.62)
     ax = p.axes(p.left + 0.55 + (p.width - 0.6 - side) / 2.0, y + 0.2, side, side)
@@ -875,8 +1106,19 @@ def summary_cells(records) -> tuple[list[str], list[list[str]]]:
     return header, rows
 
 
-def _table(fig, x_in: float, y_in: float, header, rows, *, w_in: float, h_in: float, fontsize: float = 6.0,
-           pitch: float = 0.17, right_from: int = 2) -> float:
+def _table(
+    fig,
+    x_in: float,
+    y_in: float,
+    header,
+    rows,
+    *,
+    w_in: float,
+    h_in: float,
+    fontsize: float = 6.0,
+    pitch: float = 0.17,
+    right_from: int = 2,
+) -> float:
     """Draw a table with columns as wide as their widest text (measured), numbers right-aligned."""
     from .charts import renderer_of
 
@@ -898,21 +1140,37 @@ def _table(fig, x_in: float, y_in: float, header, rows, *, w_in: float, h_in: fl
     for j, head in enumerate(header):
         right = j >= right_from
         x = xs[j] + (widths[j] if right else 0.0)
-        fig.text(x / w_in, 1 - y_in / h_in, head, fontsize=fontsize, va="top", weight="bold",
-                 ha="right" if right else "left", gid="summary-head")
+        fig.text(
+            x / w_in,
+            1 - y_in / h_in,
+            head,
+            fontsize=fontsize,
+            va="top",
+            weight="bold",
+            ha="right" if right else "left",
+            gid="summary-head",
+        )
     y = y_in + pitch
     for row in rows:
         for j, cell in enumerate(row):
             right = j >= right_from
             x = xs[j] + (widths[j] if right else 0.0)
-            fig.text(x / w_in, 1 - y / h_in, cell, fontsize=fontsize, va="top", ha="right" if right else "left",
-                     gid=f"summary-cell-{j}")
+            fig.text(
+                x / w_in,
+                1 - y / h_in,
+                cell,
+                fontsize=fontsize,
+                va="top",
+                ha="right" if right else "left",
+                gid=f"summary-cell-{j}",
+            )
         y += pitch
     return y
 
 
-def summary_picture(analysis, records, meta, *, comparison, diagram: str, regions, size_px=(1600, 1000),
-                    dpi: int = 150):
+def summary_picture(
+    analysis, records, meta, *, comparison, diagram: str, regions, size_px=(1600, 1000), dpi: int = 150
+):
     """A one-page summary picture (landscape) for a PNG; one spectrum or a batch."""
     from matplotlib.figure import Figure
 
@@ -923,8 +1181,15 @@ def summary_picture(analysis, records, meta, *, comparison, diagram: str, region
     title = meta.get("title") if meta.get("title") not in (None, "", "Spectral measurement report") else None
     head = title or (f"cctkit summary - {shorten(rec['name'], 60)}" if n == 1 else f"cctkit summary - {n} spectra")
     fig.text(0.015, 0.975, shorten(head, 90), fontsize=11, weight="bold", va="top")
-    fig.text(0.985, 0.975, f"cctkit {meta['cctkit_version']} | report date {meta['date']}", fontsize=6,
-             ha="right", va="top", color=GREY)
+    fig.text(
+        0.985,
+        0.975,
+        f"cctkit {meta['cctkit_version']} | report date {meta['date']}",
+        fontsize=6,
+        ha="right",
+        va="top",
+        color=GREY,
+    )
 
     def box(x, y, w, h):  # inches from top-left
         return fig.add_axes((x / w_in, 1 - (y + h) / h_in, w / w_in, h / h_in))
@@ -935,8 +1200,14 @@ def summary_picture(analysis, records, meta, *, comparison, diagram: str, region
         shown = rows if n <= 24 else rows[:20]
         y = _table(fig, 0.15, y, header, shown, w_in=w_in, h_in=h_in)
         if len(shown) < n:
-            fig.text(0.15 / w_in, 1 - y / h_in, f"... and {n - len(shown)} more (see the PDF report)",
-                     fontsize=6, va="top", color=GREY)
+            fig.text(
+                0.15 / w_in,
+                1 - y / h_in,
+                f"... and {n - len(shown)} more (see the PDF report)",
+                fontsize=6,
+                va="top",
+                color=GREY,
+            )
             y += 0.17
         if n <= charts.IDENTITIES:
             ax = box(0.55, y + 0.45, 3.3, min(2.3, 5.7 - y))
@@ -951,25 +1222,31 @@ def summary_picture(analysis, records, meta, *, comparison, diagram: str, region
         fig.text(0.15 / w_in, 1 - y / h_in, "Flags", fontsize=6.3, va="top")
         fig.text(1.45 / w_in, 1 - y / h_in, shorten(flags, 34), fontsize=6.3, va="top", weight="bold")
         y += 0.265
-        for label, value in (("File", shorten(rec.get("source") or "(not from a file)", 44, keep="tail")),
-                             ("SHA-256", (rec.get("sha256") or "")[:16] + "..."),
-                             ("Quantity", f"{rec['quantity']} [{rec.get('spectral_unit', '')}]"),
-                             ("Measured", "{:g}-{:g} nm, step {:g} nm".format(*rec["measured_range_nm"],
-                                                                           rec["measured_step_nm"]))):
+        for label, value in (
+            ("File", shorten(rec.get("source") or "(not from a file)", 44, keep="tail")),
+            ("SHA-256", (rec.get("sha256") or "")[:16] + "..."),
+            ("Quantity", f"{rec['quantity']} [{rec.get('spectral_unit', '')}]"),
+            ("Measured", "{:g}-{:g} nm, step {:g} nm".format(*rec["measured_range_nm"], rec["measured_step_nm"])),
+        ):
             fig.text(0.15 / w_in, 1 - y / h_in, label, fontsize=5.8, va="top", color=GREY)
             fig.text(1.45 / w_in, 1 - y / h_in, value, fontsize=5.8, va="top", color=GREY)
             y += 0.14
     std = textwrap.wrap("Standards: " + "; ".join(STANDARDS), 92)
     cautions = [c for line in CAUTIONS for c in textwrap.wrap(line, 92)]
     for k, line in enumerate(std + cautions):
-        fig.text(0.15 / w_in, (0.12 + 0.11 * (len(std) + len(cautions) - 1 - k)) / h_in, line, fontsize=4.8,
-                 color=GREY, va="bottom")
+        fig.text(
+            0.15 / w_in,
+            (0.12 + 0.11 * (len(std) + len(cautions) - 1 - k)) / h_in,
+            line,
+            fontsize=4.8,
+            color=GREY,
+            va="bottom",
+        )
 
     if n == 1:
         ax = box(3.85, 0.75, 3.3, 2.1)
         charts.spectrum_chart(analysis, ax, index=0, comparison=comparison)
-        fig.text(3.45 / w_in, 1 - 0.38 / h_in, "Spectrum and reference (equal Y)", fontsize=7, va="top",
-                 weight="bold")
+        fig.text(3.45 / w_in, 1 - 0.38 / h_in, "Spectrum and reference (equal Y)", fontsize=7, va="top", weight="bold")
         ax = box(3.85, 3.6, 3.3, 2.0)
         charts.cri_chart(analysis, ax, index=0)
         ax = box(7.85, 0.75, 2.5, 2.5)
@@ -979,8 +1256,9 @@ def summary_picture(analysis, records, meta, *, comparison, diagram: str, region
     else:
         idx = list(range(n))
         ax = box(4.55, 0.75, 2.75, 5.0)
-        charts.spectra_overlay_chart(analysis, ax, comparison=comparison,
-                                     labels=[f"#{k + 1}" for k in idx] if n <= charts.IDENTITIES else None)
+        charts.spectra_overlay_chart(
+            analysis, ax, comparison=comparison, labels=[f"#{k + 1}" for k in idx] if n <= charts.IDENTITIES else None
+        )
         ax = box(7.75, 0.75, 2.75, 4.8)
         charts.chromaticity_chart(analysis, ax, diagram=diagram, regions=regions)
     return fig

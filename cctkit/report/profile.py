@@ -22,9 +22,10 @@ from __future__ import annotations
 import datetime as _dt
 import json
 import os
+from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Any, Mapping
+from typing import Any
 
 from ..errors import InputError
 
@@ -33,8 +34,14 @@ __all__ = ["SignOff", "SECTIONS", "TEXT_FIELDS", "load_profile", "parse_profile"
 #: Page kinds a profile may include (all by default); the sign-off page always comes first.
 SECTIONS = ("verdict", "comparison", "spectra", "summary", "scatter")
 #: Free-text sign-off fields, as (key, label on the page).
-TEXT_FIELDS = (("title", "Title"), ("project", "Project"), ("lab", "Laboratory"), ("operator", "Operator"),
-               ("instrument", "Instrument"), ("notes", "Notes"))
+TEXT_FIELDS = (
+    ("title", "Title"),
+    ("project", "Project"),
+    ("lab", "Laboratory"),
+    ("operator", "Operator"),
+    ("instrument", "Instrument"),
+    ("notes", "Notes"),
+)
 _MAX_TEXT = 2000  # characters per field: a report field, not a document
 _MAX_PROFILE_BYTES = 64 * 1024
 DEFAULT_TITLE = "Spectral measurement report"
@@ -57,7 +64,7 @@ class SignOff:
     source: str = ""
     extra: Mapping[str, Any] = field(default_factory=dict)
 
-    def merged(self, **options: Any) -> "SignOff":
+    def merged(self, **options: Any) -> SignOff:
         """This profile with every option that is not None put over it."""
         given = {k: v for k, v in options.items() if v is not None}
         if "logo" in given:
@@ -79,10 +86,11 @@ def report_date(date: str | None = None) -> str:
     epoch = os.environ.get("SOURCE_DATE_EPOCH")
     if epoch:
         try:
-            return _dt.datetime.fromtimestamp(int(epoch), tz=_dt.timezone.utc).date().isoformat()
+            return _dt.datetime.fromtimestamp(int(epoch), tz=_dt.UTC).date().isoformat()
         except (ValueError, OverflowError, OSError):
-            raise InputError(f"SOURCE_DATE_EPOCH must be whole seconds since 1970, got {epoch!r}",
-                             source="SOURCE_DATE_EPOCH") from None
+            raise InputError(
+                f"SOURCE_DATE_EPOCH must be whole seconds since 1970, got {epoch!r}", source="SOURCE_DATE_EPOCH"
+            ) from None
     return _dt.date.today().isoformat()
 
 

@@ -11,18 +11,35 @@ Nothing here imports matplotlib.
 from __future__ import annotations
 
 import math
-from typing import Any, Mapping, Sequence
+from collections.abc import Mapping, Sequence
+from typing import Any
 
-__all__ = ["METRIC_TEXT", "metric_text", "value_text", "limit_text", "margin_text", "verdict_table",
-           "verdict_detail", "verdict_rows_csv", "summary_lines", "MARKS"]
+__all__ = [
+    "METRIC_TEXT",
+    "metric_text",
+    "value_text",
+    "limit_text",
+    "margin_text",
+    "verdict_table",
+    "verdict_detail",
+    "verdict_rows_csv",
+    "summary_lines",
+    "MARKS",
+]
 
 #: Metric -> (short column name, unit, format): the metric's usual precision, one per column.
 METRIC_TEXT: dict[str, tuple[str, str, str]] = {
     "cct_K": ("CCT", "K", "{:.0f}"),
     "duv": ("Duv", "1", "{:+.4f}"),
-    "x": ("x", "1", "{:.4f}"), "y": ("y", "1", "{:.4f}"), "u": ("u", "1", "{:.4f}"), "v": ("v", "1", "{:.4f}"),
-    "u_prime": ("u'", "1", "{:.4f}"), "v_prime": ("v'", "1", "{:.4f}"),
-    "X": ("X", "1", "{:.4g}"), "Y": ("Y", "1", "{:.4g}"), "Z": ("Z", "1", "{:.4g}"),
+    "x": ("x", "1", "{:.4f}"),
+    "y": ("y", "1", "{:.4f}"),
+    "u": ("u", "1", "{:.4f}"),
+    "v": ("v", "1", "{:.4f}"),
+    "u_prime": ("u'", "1", "{:.4f}"),
+    "v_prime": ("v'", "1", "{:.4f}"),
+    "X": ("X", "1", "{:.4g}"),
+    "Y": ("Y", "1", "{:.4g}"),
+    "Z": ("Z", "1", "{:.4g}"),
     "luminous_flux_lm": ("Flux", "lm", "{:.1f}"),
     "illuminance_lx": ("Illum.", "lx", "{:.1f}"),
     "luminance_cd_per_m2": ("Lumin.", "cd/m2", "{:.1f}"),
@@ -33,10 +50,14 @@ METRIC_TEXT: dict[str, tuple[str, str, str]] = {
     "sp_ratio": ("S/P", "1", "{:.3f}"),
     "melanopic_der": ("mel-DER", "1", "{:.3f}"),
     "melanopic_edi_lx": ("mel-EDI", "lx", "{:.1f}"),
-    "peak_nm": ("Peak", "nm", "{:.1f}"), "centroid_nm": ("Centroid", "nm", "{:.1f}"),
-    "fwhm_nm": ("FWHM", "nm", "{:.1f}"), "dominant_wavelength_nm": ("Dom. wl", "nm", "{:.1f}"),
+    "peak_nm": ("Peak", "nm", "{:.1f}"),
+    "centroid_nm": ("Centroid", "nm", "{:.1f}"),
+    "fwhm_nm": ("FWHM", "nm", "{:.1f}"),
+    "dominant_wavelength_nm": ("Dom. wl", "nm", "{:.1f}"),
     "purity": ("Purity", "1", "{:.3f}"),
-    "Ra": ("Ra", "1", "{:.1f}"), "Rf": ("Rf", "1", "{:.1f}"), "Rg": ("Rg", "1", "{:.1f}"),
+    "Ra": ("Ra", "1", "{:.1f}"),
+    "Rf": ("Rf", "1", "{:.1f}"),
+    "Rg": ("Rg", "1", "{:.1f}"),
     "sdcm": ("SDCM", "steps", "{:.2f}"),
     "ansi_quadrangle": ("Quadrangle", "uv", "{:+.4f}"),  # the value is a name; the margin is in uv
     "intent_fidelity": ("Fidelity", "level", "{:.0f}"),
@@ -139,11 +160,21 @@ def summary_lines(doc: Mapping[str, Any], claims, *, width: int = 100) -> list[s
                 return "-"
             return _fmt(v, fmt) if m == "ansi_quadrangle" else value_text(m, v)
 
-        rows.append([name, limit_text(first[j], quad) if first else "", "-" if U is None else f"{U:g}",
-                     str(st["count_pass"]), str(st.get("count_inconclusive", 0)), str(st.get("count_fail", 0)),
-                     stat(st["mean"]), "-" if st["std"] is None else stat(st["std"]).lstrip("+"),
-                     stat(st["min"]), stat(st["max"]),
-                     ("uv margin" if m == "ansi_quadrangle" else ("" if unit == "1" else unit))])
+        rows.append(
+            [
+                name,
+                limit_text(first[j], quad) if first else "",
+                "-" if U is None else f"{U:g}",
+                str(st["count_pass"]),
+                str(st.get("count_inconclusive", 0)),
+                str(st.get("count_fail", 0)),
+                stat(st["mean"]),
+                "-" if st["std"] is None else stat(st["std"]).lstrip("+"),
+                stat(st["min"]),
+                stat(st["max"]),
+                ("uv margin" if m == "ansi_quadrangle" else ("" if unit == "1" else unit)),
+            ]
+        )
     widths = [max(len(str(r[i])) for r in [head] + rows) for i in range(len(head))]
     right = [False, False, True, True, True, True, True, True, True, True, False]
     lines.append(f"per claim over {n} sample{'s' if n != 1 else ''}:")
@@ -209,16 +240,17 @@ def verdict_table(doc: Mapping[str, Any], claims, *, width: int = 100) -> str:
             row = [str(k + 1), _cut(s["name"], name_w), word] + [cols[j][1][k] for j in block]
             lines.append(_fit(row, widths, right))
         lines.append("")
-    lines.append("marks: ! failed check, ? inconclusive (within the guard band U); "
-                 "limits, margins: --wide or the CSV")
+    lines.append("marks: ! failed check, ? inconclusive (within the guard band U); limits, margins: --wide or the CSV")
     lines.append("")
     lines += summary_lines(doc, claims, width=width)
     lines.append("")
     counts = {k: sum(s["verdict"] == k for s in samples) for k in ("pass", "inconclusive", "fail")}
     if "decision" in doc:
         lines.append(_cut(f"decision rule: {doc['decision']}", width))
-    lines.append(f"verdict: {doc['verdict'].upper()}  (samples: {counts['pass']} pass, "
-                 f"{counts['inconclusive']} inconclusive, {counts['fail']} fail)")
+    lines.append(
+        f"verdict: {doc['verdict'].upper()}  (samples: {counts['pass']} pass, "
+        f"{counts['inconclusive']} inconclusive, {counts['fail']} fail)"
+    )
     return "\n".join(lines)
 
 
@@ -235,9 +267,12 @@ def verdict_detail(doc: Mapping[str, Any], claims) -> str:
             cells.append(f"{value_text(c['metric'], c['value'])} [{limit_text(c, quad)}] {margin_text(c)} {mark}")
         rows.append(cells)
     widths = [max(len(str(r[i])) for r in [head] + rows) for i in range(len(head))]
-    lines = [f"claims: {claims.source}", "cell: value [limit] margin result",
-             "  ".join(h.ljust(w) for h, w in zip(head, widths)).rstrip(),
-             "  ".join("-" * w for w in widths)]
+    lines = [
+        f"claims: {claims.source}",
+        "cell: value [limit] margin result",
+        "  ".join(h.ljust(w) for h, w in zip(head, widths)).rstrip(),
+        "  ".join("-" * w for w in widths),
+    ]
     lines += ["  ".join(str(c).ljust(w) for c, w in zip(r, widths)).rstrip() for r in rows]
     lines.append("")
     lines += summary_lines(doc, claims, width=10_000)

@@ -10,8 +10,9 @@ drive table; a PNG is one landscape picture of the first two.
 from __future__ import annotations
 
 import os
+from collections.abc import Iterable
 from pathlib import Path
-from typing import Any, Iterable
+from typing import Any
 
 import numpy as np
 
@@ -44,8 +45,17 @@ def channel_spectra_chart(path, ax) -> None:
     charts._band(ax)
     for k, name in enumerate(ch.names):
         st = series_style(k)
-        ax.plot(WAVELENGTH_NM, ch.values[k], color=st["color"], linestyle=st["linestyle"], marker=st["marker"],
-                markevery=(7 * k % 40, 40), markersize=2.5, lw=0.9, label=f"d{k + 1} {shorten(name, 18)}")
+        ax.plot(
+            WAVELENGTH_NM,
+            ch.values[k],
+            color=st["color"],
+            linestyle=st["linestyle"],
+            marker=st["marker"],
+            markevery=(7 * k % 40, 40),
+            markersize=2.5,
+            lw=0.9,
+            label=f"d{k + 1} {shorten(name, 18)}",
+        )
     ax.set_xlim(WAVELENGTH_NM[0], WAVELENGTH_NM[-1])
     ax.set_ylim(bottom=min(0.0, float(ch.values.min())))
     ax.set_xlabel("Wavelength [nm]")
@@ -80,25 +90,54 @@ def reachable_region_chart(path, ax, *, zoom: bool = False) -> None:
         ax.set_xlabel(charts.DIAGRAMS["uv"][0])
         ax.set_ylabel(charts.DIAGRAMS["uv"][1])
     closed = np.vstack([hull, hull[:1]])
-    ax.fill(closed[:, 0], closed[:, 1], facecolor="#eef3fa", edgecolor="#1f4e9a", lw=0.9, zorder=1.5,
-            label="reachable region")
+    ax.fill(
+        closed[:, 0],
+        closed[:, 1],
+        facecolor="#eef3fa",
+        edgecolor="#1f4e9a",
+        lw=0.9,
+        zorder=1.5,
+        label="reachable region",
+    )
     for k, p in enumerate(uv_ch):
         ax.plot(p[0], p[1], marker="s", ms=3.5, mfc="white", mec="#1f4e9a", mew=0.9, zorder=6, linestyle="none")
-        ax.annotate(f"d{k + 1}", p, xytext=(3, -7), textcoords="offset points", fontsize=5.5, color="#1f4e9a",
-                    zorder=7)
+        ax.annotate(f"d{k + 1}", p, xytext=(3, -7), textcoords="offset points", fontsize=5.5, color="#1f4e9a", zorder=7)
     ok = path.ok
     ax.plot(targets[:, 0], targets[:, 1], color=INK, lw=0.6, zorder=5)
     if zoom and len(finite):
         for j in sorted({0, len(targets) - 1}):
             if np.all(np.isfinite(targets[j])):
-                ax.annotate(f"{path.target_cct_K[j]:.0f} K", targets[j], xytext=(4, 6), textcoords="offset points",
-                            fontsize=5.5, zorder=7)
+                ax.annotate(
+                    f"{path.target_cct_K[j]:.0f} K",
+                    targets[j],
+                    xytext=(4, 6),
+                    textcoords="offset points",
+                    fontsize=5.5,
+                    zorder=7,
+                )
     if ok.any():
-        ax.plot(targets[ok, 0], targets[ok, 1], linestyle="none", marker="o", ms=2.2, color=INK, zorder=6,
-                label="set point reached")
+        ax.plot(
+            targets[ok, 0],
+            targets[ok, 1],
+            linestyle="none",
+            marker="o",
+            ms=2.2,
+            color=INK,
+            zorder=6,
+            label="set point reached",
+        )
     if (~ok).any():
-        ax.plot(targets[~ok, 0], targets[~ok, 1], linestyle="none", marker="x", ms=3.5, mew=0.9, color="#b35900",
-                zorder=6, label="set point refused")
+        ax.plot(
+            targets[~ok, 0],
+            targets[~ok, 1],
+            linestyle="none",
+            marker="x",
+            ms=3.5,
+            mew=0.9,
+            color="#b35900",
+            zorder=6,
+            label="set point refused",
+        )
     ax.legend(loc="lower right", fontsize="x-small", frameon=True, framealpha=0.9, edgecolor=LIGHT)
 
 
@@ -107,18 +146,32 @@ def drive_chart(path, ax) -> None:
     x = _x(path)
     for k, name in enumerate(path.channels.names):
         st = series_style(k)
-        ax.plot(x, path.drives[:, k], color=st["color"], linestyle=st["linestyle"], marker=st["marker"],
-                markersize=2.2, lw=0.9, label=f"d{k + 1} {shorten(name, 18)}")
+        ax.plot(
+            x,
+            path.drives[:, k],
+            color=st["color"],
+            linestyle=st["linestyle"],
+            marker=st["marker"],
+            markersize=2.2,
+            lw=0.9,
+            label=f"d{k + 1} {shorten(name, 18)}",
+        )
     ax.set_ylim(-0.03, 1.03)
     ax.set_ylabel("Drive level [0\u20131]")
     ax.set_xlabel("Target CCT [K]")
     ax.grid(True, color=LIGHT, lw=0.4)
-    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.2), fontsize="x-small", frameon=False,
-              ncol=min(5, len(path.channels)))
+    ax.legend(
+        loc="upper center",
+        bbox_to_anchor=(0.5, -0.2),
+        fontsize="x-small",
+        frameon=False,
+        ncol=min(5, len(path.channels)),
+    )
 
 
-def path_metric_chart(path, ax, keys: Iterable[str], *, ylabel: str, labels: Iterable[str] | None = None,
-                      limits: Iterable[float] = ()) -> None:
+def path_metric_chart(
+    path, ax, keys: Iterable[str], *, ylabel: str, labels: Iterable[str] | None = None, limits: Iterable[float] = ()
+) -> None:
     """One or two metrics of the returned blends along the path; ``limits`` draws dashed lines."""
     x = _x(path)
     keys = list(keys)
@@ -129,8 +182,9 @@ def path_metric_chart(path, ax, keys: Iterable[str], *, ylabel: str, labels: Ite
         if y is None:
             continue
         st = series_style(k)
-        ax.plot(x, y, color=st["color"], linestyle=st["linestyle"], marker=st["marker"], markersize=2.2, lw=0.9,
-                label=label)
+        ax.plot(
+            x, y, color=st["color"], linestyle=st["linestyle"], marker=st["marker"], markersize=2.2, lw=0.9, label=label
+        )
         shown = shown or bool(np.isfinite(y).any())
     for v in limits:
         ax.axhline(v, color=GREY, lw=0.7, linestyle="--")
@@ -156,20 +210,29 @@ def _summary_lines(path, doc: dict[str, Any]) -> list[tuple[str, str]]:
     for s in path.status:
         counts[s] = counts.get(s, 0) + 1
     step = doc["largest_drive_step"]
-    step_text = "n/a" if step["value"] is None else (
-        f"{step['value']:.3f} ({step['between_target_cct_K'][0]:.0f} K \u2192 {step['between_target_cct_K'][1]:.0f} K)")
+    step_text = (
+        "n/a"
+        if step["value"] is None
+        else (
+            f"{step['value']:.3f} ({step['between_target_cct_K'][0]:.0f} K \u2192 {step['between_target_cct_K'][1]:.0f} K)"
+        )
+    )
     lum_unit = ch.luminous_key.rsplit("_", 1)[-1]
     level = path.luminous_target[0]
     return [
-        ("Objective", f"{obj['sense']} {obj['quantity']}"
-                      + (f" (efficacy: {obj['efficacy_basis']})" if obj["quantity"] == "efficacy" else "")),
+        (
+            "Objective",
+            f"{obj['sense']} {obj['quantity']}"
+            + (f" (efficacy: {obj['efficacy_basis']})" if obj["quantity"] == "efficacy" else ""),
+        ),
         ("Constraints", ", ".join(cons + ["drives 0\u20131"])),
-        ("Luminous output", f"{level:.4g} {lum_unit} at every set point" + (" (flat)" if path.luminous_mode == "flat"
-                                                                             else "")),
+        (
+            "Luminous output",
+            f"{level:.4g} {lum_unit} at every set point" + (" (flat)" if path.luminous_mode == "flat" else ""),
+        ),
         ("Set points", ", ".join(f"{v} {k}" for k, v in counts.items())),
         ("Largest drive step", step_text),
-        ("Channels", f"{len(ch)}, {ch.quantity.value}" + (", with electrical power" if ch.power_W is not None
-                                                          else "")),
+        ("Channels", f"{len(ch)}, {ch.quantity.value}" + (", with electrical power" if ch.power_W is not None else "")),
         ("Assumed", doc["additivity"]),
         ("Solution", doc["guarantee"]),
     ]
@@ -183,8 +246,12 @@ def _fixture_page(path, doc, meta, *, paper: str, page_label: str, title: str):
     from .pages import _footer, _header, _kv_block, _Page
 
     page = _Page(paper)
-    y = _header(page, title, "Channel spectra, reachable region and drive levels along the path "
-                "(CIE 1960 uv, CIE 1931 2\u00b0 observer)", page_label)
+    y = _header(
+        page,
+        title,
+        "Channel spectra, reachable region and drive levels along the path (CIE 1960 uv, CIE 1931 2\u00b0 observer)",
+        page_label,
+    )
     left = page.left
     ax = page.axes(left + 0.45, y + 0.1, 3.0, 2.3)
     channel_spectra_chart(path, ax)
@@ -213,8 +280,9 @@ def _metrics_page(path, doc, meta, *, paper: str, page_label: str, title: str):
     from .pages import _footer, _header, _Page
 
     page = _Page(paper)
-    y = _header(page, title, "Every figure recomputed from the drive levels by the same measures as "
-                "cctkit inspect", page_label)
+    y = _header(
+        page, title, "Every figure recomputed from the drive levels by the same measures as cctkit inspect", page_label
+    )
     ch = path.channels
     lum_key = ch.luminous_key
     lum_unit = lum_key.rsplit("_", 1)[-1]
@@ -239,12 +307,21 @@ def _metrics_page(path, doc, meta, *, paper: str, page_label: str, title: str):
         dev_duv = np.nanmax(np.abs(path.metrics["duv"] - path.target_duv)) if path.ok.any() else np.nan
         dev_cct = np.nanmax(np.abs(path.metrics["cct_K"] - path.target_cct_K)) if path.ok.any() else np.nan
     if np.isfinite(dev_duv):
-        page.text(page.left, y_text - 0.2, f"Largest departure of a returned blend from its target: "
-                  f"|\u0394Duv| = {dev_duv:.1e}, |\u0394CCT| = {dev_cct:.1e} K (recomputed from the drive levels).",
-                  fontsize=6.5)
-    page.text(page.left, y_text, "Melanopic quantities describe the optical stimulus (CIE S 026); they are not "
-              "medical advice. Efficacy from electrical power depends on how the power was measured.",
-              fontsize=6, color=GREY)
+        page.text(
+            page.left,
+            y_text - 0.2,
+            f"Largest departure of a returned blend from its target: "
+            f"|\u0394Duv| = {dev_duv:.1e}, |\u0394CCT| = {dev_cct:.1e} K (recomputed from the drive levels).",
+            fontsize=6.5,
+        )
+    page.text(
+        page.left,
+        y_text,
+        "Melanopic quantities describe the optical stimulus (CIE S 026); they are not "
+        "medical advice. Efficacy from electrical power depends on how the power was measured.",
+        fontsize=6,
+        color=GREY,
+    )
     _footer(page, meta)
     return page.fig
 
@@ -257,24 +334,39 @@ def _table_pages(path, doc, meta, *, paper: str, labels: list[str], title: str):
     recs = doc["set_points"]
     lum_key = ch.luminous_key
     eff_key = "efficacy_lm_per_W" if ch.power_W is not None else "ler_lm_per_W"
-    cols: list[tuple[str, Any, str | None]] = [("target K", "target_cct_K", "{:.0f}"), ("Duv", "target_duv", "{:+.4f}"),
-                                              ("status", "status", None)]
+    cols: list[tuple[str, Any, str | None]] = [
+        ("target K", "target_cct_K", "{:.0f}"),
+        ("Duv", "target_duv", "{:+.4f}"),
+        ("status", "status", None),
+    ]
     cols += [(f"d{k + 1}", ("drive", n), "{:.3f}") for k, n in enumerate(ch.names)]
-    cols += [("CCT K", "cct_K", "{:.1f}"), ("Duv", "duv", "{:+.5f}"), (lum_key.rsplit("_", 1)[-1], lum_key, "{:.1f}"),
-             ("lm/W", eff_key, "{:.1f}"), ("Rf", "Rf", "{:.1f}"), ("Rg", "Rg", "{:.1f}"), ("Ra", "Ra", "{:.1f}"),
-             ("R9", "R9", "{:.1f}"), ("mel DER", "melanopic_der", "{:.3f}")]
+    cols += [
+        ("CCT K", "cct_K", "{:.1f}"),
+        ("Duv", "duv", "{:+.5f}"),
+        (lum_key.rsplit("_", 1)[-1], lum_key, "{:.1f}"),
+        ("lm/W", eff_key, "{:.1f}"),
+        ("Rf", "Rf", "{:.1f}"),
+        ("Rg", "Rg", "{:.1f}"),
+        ("Ra", "Ra", "{:.1f}"),
+        ("R9", "R9", "{:.1f}"),
+        ("mel DER", "melanopic_der", "{:.3f}"),
+    ]
     n_pages = max(1, -(-len(recs) // TABLE_ROWS_PER_PAGE))
     for p in range(n_pages):
         page = _Page(paper)
-        y = _header(page, title, "Drive table: d1\u2026 are " + ", ".join(
-            f"d{k + 1} {n}" for k, n in enumerate(ch.names)), labels[p])
+        y = _header(
+            page,
+            title,
+            "Drive table: d1\u2026 are " + ", ".join(f"d{k + 1} {n}" for k, n in enumerate(ch.names)),
+            labels[p],
+        )
         width = page.width
         xs = np.linspace(page.left, page.left + width, len(cols) + 1)[:-1]
         xs[3:] += 0.3 * np.linspace(1.0, 0.0, len(xs) - 3)  # the status column is wider
         for (label, _, _), x in zip(cols, xs):
             page.text(x, y + 0.05, label, fontsize=5.8, weight="bold")
         y += 0.22
-        for r in recs[p * TABLE_ROWS_PER_PAGE:(p + 1) * TABLE_ROWS_PER_PAGE]:
+        for r in recs[p * TABLE_ROWS_PER_PAGE : (p + 1) * TABLE_ROWS_PER_PAGE]:
             for (_, key, fmt), x in zip(cols, xs):
                 if isinstance(key, tuple):
                     v = r["drives"][key[1]]
@@ -292,13 +384,26 @@ def _table_pages(path, doc, meta, *, paper: str, labels: list[str], title: str):
             page.text(page.left, y, "Refused set points", fontsize=6.5, weight="bold")
             y += 0.16
             for r in refused[:12]:
-                page.text(page.left, y, shorten(f"{r['target_cct_K']:.0f} K, Duv {r['target_duv']:+.4f}: "
-                          f"{r['status']}: {r['reason']}" if r['target_duv'] is not None else
-                          f"{r['target_cct_K']:.0f} K: {r['status']}: {r['reason']}", 150), fontsize=5.6)
+                page.text(
+                    page.left,
+                    y,
+                    shorten(
+                        f"{r['target_cct_K']:.0f} K, Duv {r['target_duv']:+.4f}: {r['status']}: {r['reason']}"
+                        if r["target_duv"] is not None
+                        else f"{r['target_cct_K']:.0f} K: {r['status']}: {r['reason']}",
+                        150,
+                    ),
+                    fontsize=5.6,
+                )
                 y += 0.14
             if len(refused) > 12:
-                page.text(page.left, y, f"\u2026 and {len(refused) - 12} more (see the JSON/CSV drive table)",
-                          fontsize=5.6, color=GREY)
+                page.text(
+                    page.left,
+                    y,
+                    f"\u2026 and {len(refused) - 12} more (see the JSON/CSV drive table)",
+                    fontsize=5.6,
+                    color=GREY,
+                )
         _footer(page, meta)
         yield page.fig
 
@@ -309,8 +414,15 @@ def _picture(path, doc, meta, title: str):
     w_in, h_in = _PNG_SIZE_PX[0] / _PNG_DPI, _PNG_SIZE_PX[1] / _PNG_DPI
     fig = Figure(figsize=(w_in, h_in), dpi=_PNG_DPI)
     fig.text(0.015, 0.975, title, fontsize=11, weight="bold", va="top")
-    fig.text(0.985, 0.975, f"cctkit {meta['cctkit_version']} \u2022 {meta['date']}", fontsize=6, ha="right",
-             va="top", color=GREY)
+    fig.text(
+        0.985,
+        0.975,
+        f"cctkit {meta['cctkit_version']} \u2022 {meta['date']}",
+        fontsize=6,
+        ha="right",
+        va="top",
+        color=GREY,
+    )
 
     def box(x, y, w, h):
         return fig.add_axes((x / w_in, 1 - (y + h) / h_in, w / w_in, h / h_in))
@@ -330,8 +442,7 @@ def _picture(path, doc, meta, title: str):
     ax.set_title("Colour rendering", fontsize=7, loc="left")
     ax = box(7.55, 2.45, 2.8, 1.2)
     path_metric_chart(path, ax, (eff_key,), ylabel="lm/W")
-    ax.set_title("Efficacy" + (" (electrical)" if ch.power_W is not None else " of radiation"), fontsize=7,
-                 loc="left")
+    ax.set_title("Efficacy" + (" (electrical)" if ch.power_W is not None else " of radiation"), fontsize=7, loc="left")
     ax = box(7.55, 4.1, 2.8, 1.2)
     path_metric_chart(path, ax, ("melanopic_der",), ylabel="mel. DER")
     ax.set_title("Melanopic DER", fontsize=7, loc="left")
@@ -340,14 +451,27 @@ def _picture(path, doc, meta, title: str):
         fig.text(4.05 / w_in, 1 - y / h_in, label, fontsize=6, va="top", weight="bold")
         fig.text(5.25 / w_in, 1 - y / h_in, shorten(value, 40), fontsize=6, va="top")
         y += 0.17
-    fig.text(0.015, 0.02, shorten("Assumed: " + doc["additivity"] + ". Melanopic quantities are not medical advice.",
-                                  200), fontsize=5, color=GREY)
+    fig.text(
+        0.015,
+        0.02,
+        shorten("Assumed: " + doc["additivity"] + ". Melanopic quantities are not medical advice.", 200),
+        fontsize=5,
+        color=GREY,
+    )
     return fig
 
 
-def build_tuning_report(path, out: str | os.PathLike, *, overwrite: bool = False, inputs: Iterable = (),
-                        paper: str = "a4", date: str | None = None, title: str | None = None,
-                        document: dict | None = None):
+def build_tuning_report(
+    path,
+    out: str | os.PathLike,
+    *,
+    overwrite: bool = False,
+    inputs: Iterable = (),
+    paper: str = "a4",
+    date: str | None = None,
+    title: str | None = None,
+    document: dict | None = None,
+):
     """Write the tuning report of ``path`` (a :class:`cctkit.blend.BlendPath`) to ``out`` (.pdf or .png).
 
     ``document`` is ``path.document()`` when the caller has it (with any inputs it added).
@@ -374,15 +498,26 @@ def build_tuning_report(path, out: str | os.PathLike, *, overwrite: bool = False
         total = 2 + n_table
         labels = [f"page {k + 1} of {total}" for k in range(total)]
         titles = []
-        with PdfPages(tmp, metadata={"Title": name, "Creator": f"cctkit {meta['cctkit_version']}",
-                                     "Subject": "Drive levels of a multi-channel luminaire along a path",
-                                     **PDF_METADATA}) as pdf:
-            save_pdf_page(pdf, _fixture_page(path, doc, meta, paper=paper, page_label=labels[0], title=shorten(name, 70)))
+        with PdfPages(
+            tmp,
+            metadata={
+                "Title": name,
+                "Creator": f"cctkit {meta['cctkit_version']}",
+                "Subject": "Drive levels of a multi-channel luminaire along a path",
+                **PDF_METADATA,
+            },
+        ) as pdf:
+            save_pdf_page(
+                pdf, _fixture_page(path, doc, meta, paper=paper, page_label=labels[0], title=shorten(name, 70))
+            )
             titles.append("fixture")
-            save_pdf_page(pdf, _metrics_page(path, doc, meta, paper=paper, page_label=labels[1], title=shorten(name, 70)))
+            save_pdf_page(
+                pdf, _metrics_page(path, doc, meta, paper=paper, page_label=labels[1], title=shorten(name, 70))
+            )
             titles.append("metrics along the path")
-            for k, fig in enumerate(_table_pages(path, doc, meta, paper=paper, labels=labels[2:],
-                                                 title=shorten(name, 70))):
+            for k, fig in enumerate(
+                _table_pages(path, doc, meta, paper=paper, labels=labels[2:], title=shorten(name, 70))
+            ):
                 save_pdf_page(pdf, fig)
                 titles.append(f"drive table {k + 1}")
     return Report(path=target, kind="pdf", pages=tuple(titles))

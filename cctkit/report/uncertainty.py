@@ -9,8 +9,8 @@ from :func:`cctkit.uncertainty.monte_carlo`; the ellipse's vertices from
 from __future__ import annotations
 
 import os
+from collections.abc import Iterable
 from pathlib import Path
-from typing import Iterable
 
 import numpy as np
 
@@ -89,8 +89,9 @@ def _histogram(ax, s, key: str, label: str) -> None:
     ax.set_title(f"{label}: {d.shape[0]} draws; solid: value, dashed: 95 % interval", fontsize=6.5)
 
 
-def uncertainty_page(result, index: int, *, date: str, version: str, page_label: str | None = None,
-                     footer: str | None = None):
+def uncertainty_page(
+    result, index: int, *, date: str, version: str, page_label: str | None = None, footer: str | None = None
+):
     """The page (a matplotlib Figure) of spectrum ``index`` of ``result``.
 
     Inside a full report (:func:`cctkit.report.build_report` with ``uncertainty``) the page
@@ -110,10 +111,15 @@ def uncertainty_page(result, index: int, *, date: str, version: str, page_label:
         fig.text(x / W, 1 - y / H, t, **kw)
 
     text(0.45, 0.45, f"Measurement uncertainty: {s.name}", fontsize=11, weight="bold")
-    text(W - 0.45, 0.45, page_label or f"page {index + 1} of {len(result.spectra)}", fontsize=7, ha="right",
-         color=_GREY)
-    how = (f"adaptive (JCGM 101 7.9, {m.tolerance_digits} significant digits of u): {s.stages} stages, "
-           + ("stable" if s.converged else "NOT stable at max_draws") if m.draws is None else "fixed number of draws")
+    text(
+        W - 0.45, 0.45, page_label or f"page {index + 1} of {len(result.spectra)}", fontsize=7, ha="right", color=_GREY
+    )
+    how = (
+        f"adaptive (JCGM 101 7.9, {m.tolerance_digits} significant digits of u): {s.stages} stages, "
+        + ("stable" if s.converged else "NOT stable at max_draws")
+        if m.draws is None
+        else "fixed number of draws"
+    )
     text(0.45, 0.72, f"source {s.source}", fontsize=6.5, color=_GREY)
     text(0.45, 0.86, f"model {m.source}  SHA-256 {m.sha256}", fontsize=6.0, color=_GREY, family="monospace")
     text(0.45, 1.00, f"Monte Carlo M = {s.draws_M} draws, {how}; seed {m.seed}", fontsize=6.5, color=_GREY)
@@ -139,10 +145,12 @@ def uncertainty_page(result, index: int, *, date: str, version: str, page_label:
 
     foot = H - 0.95
     text(0.45, foot, "Cautions", fontsize=6.0, weight="bold")
-    lines = (UNCERTAINTY_CAUTION,
-             "U = 2u from the Monte Carlo draws; 95 % intervals are probabilistically symmetric (JCGM 101:2008 7.7); "
-             "U (GUM law) is 2u of the linearised propagation (JCGM 100:2008 5.1), for comparison.",
-             "Where the two U differ, the measure is not linear over the spread of the measured spectrum.")
+    lines = (
+        UNCERTAINTY_CAUTION,
+        "U = 2u from the Monte Carlo draws; 95 % intervals are probabilistically symmetric (JCGM 101:2008 7.7); "
+        "U (GUM law) is 2u of the linearised propagation (JCGM 100:2008 5.1), for comparison.",
+        "Where the two U differ, the measure is not linear over the spread of the measured spectrum.",
+    )
     for k, line in enumerate(lines):
         text(0.45, foot + 0.13 + 0.11 * k, "\u2022 " + line, fontsize=5.5)
     if footer is None:
@@ -152,8 +160,9 @@ def uncertainty_page(result, index: int, *, date: str, version: str, page_label:
     return fig
 
 
-def write_uncertainty_report(result, path: str | os.PathLike, *, overwrite: bool = False, inputs: Iterable = (),
-                             date: str | None = None) -> Path:
+def write_uncertainty_report(
+    result, path: str | os.PathLike, *, overwrite: bool = False, inputs: Iterable = (), date: str | None = None
+) -> Path:
     """Write one uncertainty page per spectrum to the PDF ``path`` (atomically; never over an input)."""
     from matplotlib.backends.backend_pdf import PdfPages
 
@@ -164,14 +173,19 @@ def write_uncertainty_report(result, path: str | os.PathLike, *, overwrite: bool
 
     out = Path(path)
     if out.suffix.lower() != ".pdf":
-        raise InputError(f"the uncertainty report is a PDF: the output must end in .pdf, got {out.name!r}",
-                         source=str(out))
+        raise InputError(
+            f"the uncertainty report is a PDF: the output must end in .pdf, got {out.name!r}", source=str(out)
+        )
     from .profile import report_date
 
     date = report_date(date)
-    info = {"Title": f"cctkit uncertainty: {result.spectra[0].name}" if len(result.spectra) == 1
-            else f"cctkit uncertainty: {len(result.spectra)} spectra",
-            "Creator": f"cctkit {__version__}", "CreationDate": None}
+    info = {
+        "Title": f"cctkit uncertainty: {result.spectra[0].name}"
+        if len(result.spectra) == 1
+        else f"cctkit uncertainty: {len(result.spectra)} spectra",
+        "Creator": f"cctkit {__version__}",
+        "CreationDate": None,
+    }
     with report_style(), atomic_path(out, overwrite=overwrite, inputs=list(inputs)) as tmp:
         with PdfPages(tmp, metadata=info) as pdf:
             for i in range(len(result.spectra)):

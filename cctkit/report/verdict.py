@@ -15,7 +15,8 @@ from __future__ import annotations
 
 import math
 import textwrap
-from typing import Any, Iterator, Sequence
+from collections.abc import Iterator, Sequence
+from typing import Any
 
 import numpy as np
 
@@ -50,27 +51,35 @@ VERDICT_COLUMNS_PER_PAGE = 6
 
 # Metric -> (label, unit, value format).  Headline rows first, then names only claims use.
 _LABELS: dict[str, tuple[str, str, str]] = {k: (lab, unit, fmt) for k, lab, unit, fmt in HEADLINE_ROWS}
-_LABELS.update({
-    "efficacy_lm_per_W": ("Efficacy", "lm/W", "{:.1f}"),
-    "power_W": ("Power", "W", "{:.2f}"),
-    "sdcm": ("SDCM", "steps", "{:.2f}"),
-    "ansi_quadrangle": ("Quadrangle", "", "{}"),
-    "peak_nm": ("Peak", "nm", "{:.1f}"),
-    "centroid_nm": ("Centroid", "nm", "{:.1f}"),
-    "fwhm_nm": ("FWHM", "nm", "{:.1f}"),
-    "dominant_wavelength_nm": ("Dominant wavelength", "nm", "{:.1f}"),
-    "purity": ("Purity", "1", "{:.3f}"),
-    "radiant_total_W": ("Radiant flux", "W", "{:.4g}"),
-    "radiant_total_W_per_m2": ("Irradiance", "W/m\u00b2", "{:.4g}"),
-    "radiant_total_W_per_sr_m2": ("Radiance", "W/(sr\u00b7m\u00b2)", "{:.4g}"),
-    "radiant_total_W_per_sr": ("Radiant intensity", "W/sr", "{:.4g}"),
-    "photon_flux_umol_per_s": ("Photon flux", "\u00b5mol/s", "{:.4g}"),
-    "ppf_umol_per_s": ("PPF", "\u00b5mol/s", "{:.4g}"),
-    "ppfd_umol_per_m2_s": ("PPFD", "\u00b5mol/(m\u00b2\u00b7s)", "{:.4g}"),
-})
+_LABELS.update(
+    {
+        "efficacy_lm_per_W": ("Efficacy", "lm/W", "{:.1f}"),
+        "power_W": ("Power", "W", "{:.2f}"),
+        "sdcm": ("SDCM", "steps", "{:.2f}"),
+        "ansi_quadrangle": ("Quadrangle", "", "{}"),
+        "peak_nm": ("Peak", "nm", "{:.1f}"),
+        "centroid_nm": ("Centroid", "nm", "{:.1f}"),
+        "fwhm_nm": ("FWHM", "nm", "{:.1f}"),
+        "dominant_wavelength_nm": ("Dominant wavelength", "nm", "{:.1f}"),
+        "purity": ("Purity", "1", "{:.3f}"),
+        "radiant_total_W": ("Radiant flux", "W", "{:.4g}"),
+        "radiant_total_W_per_m2": ("Irradiance", "W/m\u00b2", "{:.4g}"),
+        "radiant_total_W_per_sr_m2": ("Radiance", "W/(sr\u00b7m\u00b2)", "{:.4g}"),
+        "radiant_total_W_per_sr": ("Radiant intensity", "W/sr", "{:.4g}"),
+        "photon_flux_umol_per_s": ("Photon flux", "\u00b5mol/s", "{:.4g}"),
+        "ppf_umol_per_s": ("PPF", "\u00b5mol/s", "{:.4g}"),
+        "ppfd_umol_per_m2_s": ("PPFD", "\u00b5mol/(m\u00b2\u00b7s)", "{:.4g}"),
+    }
+)
 _LABELS.update({f"R{i}": (f"R{i}", "1", "{:.1f}") for i in range(1, 15)})
-_LABELS.update({"Ra": ("Ra", "1", "{:.1f}"), "Rf": ("Rf", "1", "{:.1f}"), "Rg": ("Rg", "1", "{:.1f}"),
-                "luminous_flux_lm": ("Flux", "lm", "{:.1f}")})
+_LABELS.update(
+    {
+        "Ra": ("Ra", "1", "{:.1f}"),
+        "Rf": ("Rf", "1", "{:.1f}"),
+        "Rg": ("Rg", "1", "{:.1f}"),
+        "luminous_flux_lm": ("Flux", "lm", "{:.1f}"),
+    }
+)
 
 
 def _label(metric: str) -> tuple[str, str]:
@@ -110,8 +119,11 @@ def check_verdict_matches(records: Sequence[dict], doc: dict) -> None:
     names = [r["name"] for r in records]
     got = [s["name"] for s in doc.get("samples", [])]
     if names != got:
-        raise InputError(f"the verdict is for {len(got)} sample(s) that are not the {len(names)} spectra of the "
-                         "report (names or order differ)", source="verdict")
+        raise InputError(
+            f"the verdict is for {len(got)} sample(s) that are not the {len(names)} spectra of the "
+            "report (names or order differ)",
+            source="verdict",
+        )
 
 
 # ---------------------------------------------------------------- chart
@@ -140,15 +152,18 @@ def _ellipse_text(claims) -> str:
 
     c = claims.chromaticity
     e = sdcm_ellipse(c)
-    where = ("IEC 60081 Annex D lamp ellipse" if c.sdcm_centre == "iec"
-             else "MacAdam (1942) ellipse interpolated at the ANSI quadrangle centre")
+    where = (
+        "IEC 60081 Annex D lamp ellipse"
+        if c.sdcm_centre == "iec"
+        else "MacAdam (1942) ellipse interpolated at the ANSI quadrangle centre"
+    )
     extra = " (outside MacAdam's data: nearest ellipse)" if e.extrapolated else ""
-    return (f"within {c.max_sdcm:g} SDCM of {e.name} (x {e.centre_xy[0]:.4f}, y {e.centre_xy[1]:.4f}), "
-            f"{where}{extra}")
+    return f"within {c.max_sdcm:g} SDCM of {e.name} (x {e.centre_xy[0]:.4f}, y {e.centre_xy[1]:.4f}), {where}{extra}"
 
 
-def _zoom_window(outlines: Sequence[charts.Outline], diagram: str,
-                 half_min: float) -> tuple[float, float, float, float] | None:
+def _zoom_window(
+    outlines: Sequence[charts.Outline], diagram: str, half_min: float
+) -> tuple[float, float, float, float] | None:
     """A square window around the claimed SDCM ellipse (else the quadrangle), in ``diagram`` coordinates.
 
     ``outlines`` are those of :func:`claim_outlines` (the ellipse, when claimed, comes last).
@@ -199,9 +214,18 @@ def chromaticity_verdicts(doc: dict) -> tuple[np.ndarray, str]:
     return np.array(out, dtype=object), ("chromaticity" if any_chroma else "overall")
 
 
-def verdict_chart(analysis, ax, doc: dict, claims, *, diagram: str = "uv", zoom: bool = False,
-                  legend: bool = True, number_outside=None,
-                  outlines: Sequence[charts.Outline] | None = None) -> list:
+def verdict_chart(
+    analysis,
+    ax,
+    doc: dict,
+    claims,
+    *,
+    diagram: str = "uv",
+    zoom: bool = False,
+    legend: bool = True,
+    number_outside=None,
+    outlines: Sequence[charts.Outline] | None = None,
+) -> list:
     """Chromaticity chart of the verdict: claimed regions and every sample, marked by its
     chromaticity verdict (:func:`chromaticity_verdicts`).
 
@@ -219,8 +243,9 @@ def verdict_chart(analysis, ax, doc: dict, claims, *, diagram: str = "uv", zoom:
     outlines = claim_outlines(claims) if outlines is None else tuple(outlines)
     win = _zoom_window(outlines, diagram, 0.002) if zoom else None
     # The chart draws the locus, lines and regions; the verdict marks the samples by result.
-    charts.chromaticity_chart(analysis, ax, diagram=diagram, regions=outlines, annotate=False, mark_samples=False,
-                              window=win)
+    charts.chromaticity_chart(
+        analysis, ax, diagram=diagram, regions=outlines, annotate=False, mark_samples=False, window=win
+    )
     if win is not None:
         win = (*ax.get_xlim(), *ax.get_ylim())  # the window as widened to equal scales
         for t in ax.texts:  # labels: keep those inside the zoomed box, clipped
@@ -239,10 +264,31 @@ def verdict_chart(analysis, ax, doc: dict, claims, *, diagram: str = "uv", zoom:
         sel = verdicts == key
         n = int(sel.sum())
         size = st["size"] * (1.5 if zoom else 1.0)
-        ax.plot(pts[sel, 0], pts[sel, 1], linestyle="none", marker=st["marker"], markersize=size,
-                mfc=st["mfc"], mec=INK, mew=0.7, zorder=6 if key != "pass" else 5, label=f"verdict-{key}")
-        handles.append(Line2D([], [], linestyle="none", marker=st["marker"], markersize=st["size"] * 1.3,
-                              mfc=st["mfc"], mec=INK, mew=0.7, label=f"{basis} {st['word']} ({n})"))
+        ax.plot(
+            pts[sel, 0],
+            pts[sel, 1],
+            linestyle="none",
+            marker=st["marker"],
+            markersize=size,
+            mfc=st["mfc"],
+            mec=INK,
+            mew=0.7,
+            zorder=6 if key != "pass" else 5,
+            label=f"verdict-{key}",
+        )
+        handles.append(
+            Line2D(
+                [],
+                [],
+                linestyle="none",
+                marker=st["marker"],
+                markersize=st["size"] * 1.3,
+                mfc=st["mfc"],
+                mec=INK,
+                mew=0.7,
+                label=f"{basis} {st['word']} ({n})",
+            )
+        )
         if key != "pass" and n_numbered <= _MAX_NUMBERED:
             for k in np.flatnonzero(sel):
                 inside = win is None or (win[0] <= pts[k, 0] <= win[1] and win[2] <= pts[k, 1] <= win[3])
@@ -250,17 +296,31 @@ def verdict_chart(analysis, ax, doc: dict, claims, *, diagram: str = "uv", zoom:
                 if o is not None and o[0] <= pts[k, 0] <= o[1] and o[2] <= pts[k, 1] <= o[3]:
                     continue
                 if np.all(np.isfinite(pts[k])) and inside:
-                    t = ax.annotate(f"#{k + 1}", pts[k], xytext=(4, 3), textcoords="offset points", fontsize=5.5,
-                                weight="bold", zorder=7,
-                                bbox={"boxstyle": "square,pad=0.05", "fc": "white", "ec": "none", "alpha": 0.8})
+                    t = ax.annotate(
+                        f"#{k + 1}",
+                        pts[k],
+                        xytext=(4, 3),
+                        textcoords="offset points",
+                        fontsize=5.5,
+                        weight="bold",
+                        zorder=7,
+                        bbox={"boxstyle": "square,pad=0.05", "fc": "white", "ec": "none", "alpha": 0.8},
+                    )
                     t._cctkit_movable = True
     charts.declutter(ax)
     for o in outlines:
         style: Any = o.linestyle  # one of matplotlib's line style names
         handles.append(Line2D([], [], color="#4d4d4d", lw=0.7, linestyle=style, label=o.label))
     if legend:
-        ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=6, frameon=False,
-                  borderaxespad=0.0, handlelength=2.2)
+        ax.legend(
+            handles=handles,
+            loc="upper left",
+            bbox_to_anchor=(1.02, 1.0),
+            fontsize=6,
+            frameon=False,
+            borderaxespad=0.0,
+            handlelength=2.2,
+        )
     return handles
 
 
@@ -273,7 +333,7 @@ def _metrics(doc: dict) -> list[str]:
 
 def _column_groups(metrics: Sequence[str]) -> list[list[str]]:
     k = VERDICT_COLUMNS_PER_PAGE
-    return [list(metrics[i:i + k]) for i in range(0, len(metrics), k)] or [[]]
+    return [list(metrics[i : i + k]) for i in range(0, len(metrics), k)] or [[]]
 
 
 def verdict_page_count(doc: dict) -> int:
@@ -293,22 +353,34 @@ def _decision_rows(doc: dict, claims) -> list[tuple[str, str]]:
     metrics = _metrics(doc)
     with_u = [(m, claims.uncertainty[m]) for m in metrics if m in claims.uncertainty]
     if "decision" in doc and with_u:
-        us = "; ".join(f"{_label(m)[0]} U = {_num(u)}" + (f" {_label(m)[1]}" if _label(m)[1] else "")
-                       for m, u in with_u)
+        us = "; ".join(
+            f"{_label(m)[0]} U = {_num(u)}" + (f" {_label(m)[1]}" if _label(m)[1] else "") for m, u in with_u
+        )
         plain = [m for m in metrics if m not in dict(with_u)]
-        rule = (f"{doc['decision']}. Guard band: pass when inside the limit by at least U, FAIL when outside "
-                f"by at least U, inconclusive in between.")
+        rule = (
+            f"{doc['decision']}. Guard band: pass when inside the limit by at least U, FAIL when outside "
+            f"by at least U, inconclusive in between."
+        )
         rows = [("Decision rule", rule), ("Expanded U (k = 2)", us)]
         if plain:
-            rows.append(("Simple acceptance", ", ".join(_label(m)[0] for m in plain)
-                         + ": pass within the limit (limit included), else FAIL"))
+            rows.append(
+                (
+                    "Simple acceptance",
+                    ", ".join(_label(m)[0] for m in plain) + ": pass within the limit (limit included), else FAIL",
+                )
+            )
         return rows
-    return [("Decision rule", "simple acceptance: a value passes when within its limits (limits included); "
-                              "no uncertainty U given")]
+    return [
+        (
+            "Decision rule",
+            "simple acceptance: a value passes when within its limits (limits included); no uncertainty U given",
+        )
+    ]
 
 
-def _kv(page: _Page, x: float, y: float, rows, *, label_w: float, chars: int, pitch: float = 0.13,
-        fontsize: float = 6.3) -> float:
+def _kv(
+    page: _Page, x: float, y: float, rows, *, label_w: float, chars: int, pitch: float = 0.13, fontsize: float = 6.3
+) -> float:
     for label, value in rows:
         page.text(x, y, label, fontsize=fontsize, weight="bold")
         lines = textwrap.wrap(value, chars) or [""]
@@ -325,14 +397,38 @@ def _verdict_badge(page: _Page, x: float, y: float, verdict: str):
 
     st = VERDICT_STYLE[verdict]
     w, h, strip = 1.6, 0.34, 0.28
-    page.fig.add_artist(Rectangle((x / page.w, 1 - (y + h) / page.h), w / page.w, h / page.h,
-                                  transform=page.fig.transFigure, fc="white", ec=INK, lw=1.0))
-    band = page.fig.add_artist(Rectangle((x / page.w, 1 - (y + h) / page.h), strip / page.w, h / page.h,
-                                         transform=page.fig.transFigure, fc="white", ec=INK, lw=1.0,
-                                         hatch=st["hatch"] or None))
-    word = page.text(x + strip + (w - strip) / 2, y + h / 2,
-                     f"verdict: {st['word'].upper() if verdict != 'pass' else 'PASS'}",
-                     fontsize=10, weight="bold", ha="center", va="center")
+    page.fig.add_artist(
+        Rectangle(
+            (x / page.w, 1 - (y + h) / page.h),
+            w / page.w,
+            h / page.h,
+            transform=page.fig.transFigure,
+            fc="white",
+            ec=INK,
+            lw=1.0,
+        )
+    )
+    band = page.fig.add_artist(
+        Rectangle(
+            (x / page.w, 1 - (y + h) / page.h),
+            strip / page.w,
+            h / page.h,
+            transform=page.fig.transFigure,
+            fc="white",
+            ec=INK,
+            lw=1.0,
+            hatch=st["hatch"] or None,
+        )
+    )
+    word = page.text(
+        x + strip + (w - strip) / 2,
+        y + h / 2,
+        f"verdict: {st['word'].upper() if verdict != 'pass' else 'PASS'}",
+        fontsize=10,
+        weight="bold",
+        ha="center",
+        va="center",
+    )
     return band, word
 
 
@@ -342,15 +438,21 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
     n = len(doc["samples"])
     cnt = _counts(doc)
     who = " \u2014 ".join(t for t in (claims.supplier, claims.product) if t)
-    header_y = _header(p, f"Claims verdict — {claims.supplier or claims.product or 'supplier not named'}",
-                       f"{n} sample{'s' if n != 1 else ''} checked against {who or claims.source}", page_label)
+    header_y = _header(
+        p,
+        f"Claims verdict — {claims.supplier or claims.product or 'supplier not named'}",
+        f"{n} sample{'s' if n != 1 else ''} checked against {who or claims.source}",
+        page_label,
+    )
     outlines = claim_outlines(claims)
     quad = None
     if claims.chromaticity is not None and claims.chromaticity.ansi_quadrangle:
         quad = f"{claims.chromaticity.nominal_cct_K}K"
-    rows = [("Claims file", claims.source),
-            ("Supplier", claims.supplier or "(not given)"),
-            ("Product", claims.product or "(not given)")]
+    rows = [
+        ("Claims file", claims.source),
+        ("Supplier", claims.supplier or "(not given)"),
+        ("Product", claims.product or "(not given)"),
+    ]
     c = claims.chromaticity
     if c is not None:
         chroma = []
@@ -365,15 +467,22 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
     y = _kv(p, p.left, header_y + 0.02, rows, label_w=1.05, chars=92)
     _verdict_badge(p, p.right - 1.6, header_y, doc["verdict"])
     y += 0.05
-    p.text(p.left, y, f"Samples: {cnt['pass']} pass, {cnt['inconclusive']} inconclusive, {cnt['fail']} FAIL "
-           f"(of {n}). A sample fails if any check fails; it is inconclusive if none fails and any is "
-           f"inconclusive.", fontsize=6.5)
+    p.text(
+        p.left,
+        y,
+        f"Samples: {cnt['pass']} pass, {cnt['inconclusive']} inconclusive, {cnt['fail']} FAIL "
+        f"(of {n}). A sample fails if any check fails; it is inconclusive if none fails and any is "
+        f"inconclusive.",
+        fontsize=6.5,
+    )
     y += 0.2
     nonpass = [(k + 1, s) for k, s in enumerate(doc["samples"]) if s["verdict"] != "pass"]
     if nonpass:
-        text = "; ".join(f"#{k} {s['name']} {VERDICT_STYLE[s['verdict']]['word']} "
-                         f"({', '.join(_label(ch['metric'])[0] for ch in s['checks'] if ch['result'] != 'pass')})"
-                         for k, s in nonpass)
+        text = "; ".join(
+            f"#{k} {s['name']} {VERDICT_STYLE[s['verdict']]['word']} "
+            f"({', '.join(_label(ch['metric'])[0] for ch in s['checks'] if ch['result'] != 'pass')})"
+            for k, s in nonpass
+        )
         lines = textwrap.wrap("Not passing: " + text, 150)
         if len(lines) > 4:
             lines = lines[:3] + [shorten(" ".join(lines[3:]), 150)]
@@ -383,11 +492,26 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
     y += 0.12
 
     # Batch summary: one row per claim.
-    p.text(p.left, y, "Batch summary (statistics of the measured values over all samples; ANSI quadrangle: of the "
-           "uv margin to the nearest edge)", fontsize=7.5, weight="bold")
+    p.text(
+        p.left,
+        y,
+        "Batch summary (statistics of the measured values over all samples; ANSI quadrangle: of the "
+        "uv margin to the nearest edge)",
+        fontsize=7.5,
+        weight="bold",
+    )
     y += 0.2
-    cols = (("Claim", 1.2), ("Limit", 0.95), ("U (k = 2)", 0.55), ("pass/incon./FAIL", 0.95), ("Mean", 0.7),
-            ("Std", 0.7), ("Min", 0.7), ("Max", 0.7), ("Unit", 0.5))
+    cols = (
+        ("Claim", 1.2),
+        ("Limit", 0.95),
+        ("U (k = 2)", 0.55),
+        ("pass/incon./FAIL", 0.95),
+        ("Mean", 0.7),
+        ("Std", 0.7),
+        ("Min", 0.7),
+        ("Max", 0.7),
+        ("Unit", 0.5),
+    )
     xs = np.concatenate([[p.left], p.left + np.cumsum([w for _, w in cols[:-1]])])
     for (head, _), x in zip(cols, xs):
         p.text(x, y, head, fontsize=6.3, weight="bold")
@@ -399,16 +523,23 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
         st = doc["summary"][m]
         label, unit = _label(m)
         U = claims.uncertainty.get(m)
+
         def stat(v: Any, m: str = m) -> str:
             if m == "ansi_quadrangle":
                 return "n/a" if v is None else f"{v:+.4f}"
             return _value_text(m, v)
 
-        cells = [label, _limit_text(check, quad), "\u2013" if U is None else _num(U),
-                 f"{st['count_pass']} / {st.get('count_inconclusive', 0)} / {st.get('count_fail', 0)}",
-                 stat(st["mean"]), stat(st["std"]).lstrip("+"), stat(st["min"]),
-                 stat(st["max"]),
-                 "uv" if m == "ansi_quadrangle" else unit]
+        cells = [
+            label,
+            _limit_text(check, quad),
+            "\u2013" if U is None else _num(U),
+            f"{st['count_pass']} / {st.get('count_inconclusive', 0)} / {st.get('count_fail', 0)}",
+            stat(st["mean"]),
+            stat(st["std"]).lstrip("+"),
+            stat(st["min"]),
+            stat(st["max"]),
+            "uv" if m == "ansi_quadrangle" else unit,
+        ]
         for text, x in zip(cells, xs):
             p.text(x, y, text, fontsize=6.3)
         y += 0.15
@@ -416,8 +547,14 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
     y += 0.12
 
     # Charts: the whole batch, and a zoom on the claimed ellipse.
-    p.text(p.left, y, "Chromaticity of the samples against the claimed regions (markers: the result of the "
-           "chromaticity claims alone; the table gives every claim)", fontsize=7.5, weight="bold")
+    p.text(
+        p.left,
+        y,
+        "Chromaticity of the samples against the claimed regions (markers: the result of the "
+        "chromaticity claims alone; the table gives every claim)",
+        fontsize=7.5,
+        weight="bold",
+    )
     y += 0.2
     bottom = p.h - p.MARGIN - _FOOTER_H
     gap = 0.78
@@ -429,23 +566,41 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
     if axz is not None:  # drawn first: the whole-batch view numbers only the points outside the zoom
         verdict_chart(analysis, axz, doc, claims, diagram=diagram, zoom=True, legend=False, outlines=outlines)
         zoom_win = (*axz.get_xlim(), *axz.get_ylim())
-    handles = verdict_chart(analysis, ax, doc, claims, diagram=diagram, legend=False, number_outside=zoom_win,
-                            outlines=outlines)
+    handles = verdict_chart(
+        analysis, ax, doc, claims, diagram=diagram, legend=False, number_outside=zoom_win, outlines=outlines
+    )
     ax.set_title("whole batch; " + ax.get_title(loc="left"), fontsize=5.5, color=GREY, loc="left")
     if axz is not None:
         from matplotlib.patches import Rectangle
 
         x_lo, x_hi = axz.get_xlim()
         y_lo, y_hi = axz.get_ylim()
-        ax.add_patch(Rectangle((x_lo, y_lo), x_hi - x_lo, y_hi - y_lo, fill=False, ec=GREY, lw=0.6,
-                               linestyle=(0, (1, 1)), zorder=4))
-        ax.annotate("zoom →", (x_hi, y_hi), xytext=(2, 2), textcoords="offset points", fontsize=5.5,
-                    color=GREY, ha="left", va="bottom")
-        axz.set_title(f"zoom (dotted box at left) on {outlines[-1].label}", fontsize=5.5,
-                      color=GREY, loc="left")
-    p.fig.legend(handles=handles, loc="upper center", ncol=len(handles), fontsize=6.3, frameon=False,
-                 bbox_to_anchor=(0.5, 1.0 - (y + 0.25 + side + 0.42) / p.h), handlelength=2.4,
-                 title=None)
+        ax.add_patch(
+            Rectangle(
+                (x_lo, y_lo), x_hi - x_lo, y_hi - y_lo, fill=False, ec=GREY, lw=0.6, linestyle=(0, (1, 1)), zorder=4
+            )
+        )
+        ax.annotate(
+            "zoom →",
+            (x_hi, y_hi),
+            xytext=(2, 2),
+            textcoords="offset points",
+            fontsize=5.5,
+            color=GREY,
+            ha="left",
+            va="bottom",
+        )
+        axz.set_title(f"zoom (dotted box at left) on {outlines[-1].label}", fontsize=5.5, color=GREY, loc="left")
+    p.fig.legend(
+        handles=handles,
+        loc="upper center",
+        ncol=len(handles),
+        fontsize=6.3,
+        frameon=False,
+        bbox_to_anchor=(0.5, 1.0 - (y + 0.25 + side + 0.42) / p.h),
+        handlelength=2.4,
+        title=None,
+    )
     _footer(p, meta, page_label)
     return p.fig
 
@@ -453,23 +608,54 @@ def verdict_page(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram
 def _cell_hatch(p: _Page, x: float, y: float, w: float, h: float, hatch: str) -> None:
     from matplotlib.patches import Rectangle
 
-    p.fig.add_artist(Rectangle((x / p.w, 1 - (y + h) / p.h), w / p.w, h / p.h, transform=p.fig.transFigure,
-                               fc="white", ec="#555555", lw=0.4, hatch=hatch, zorder=0))
+    p.fig.add_artist(
+        Rectangle(
+            (x / p.w, 1 - (y + h) / p.h),
+            w / p.w,
+            h / p.h,
+            transform=p.fig.transFigure,
+            fc="white",
+            ec="#555555",
+            lw=0.4,
+            hatch=hatch,
+            zorder=0,
+        )
+    )
 
 
 def _band(p: _Page, y: float, h: float) -> None:
     from matplotlib.patches import Rectangle
 
-    p.fig.add_artist(Rectangle((p.left / p.w, 1 - (y + h) / p.h), p.width / p.w, h / p.h,
-                               transform=p.fig.transFigure, fc="#f2f2f2", ec="none", zorder=-1))
+    p.fig.add_artist(
+        Rectangle(
+            (p.left / p.w, 1 - (y + h) / p.h),
+            p.width / p.w,
+            h / p.h,
+            transform=p.fig.transFigure,
+            fc="#f2f2f2",
+            ec="none",
+            zorder=-1,
+        )
+    )
 
 
 def _marker(p: _Page, x: float, y: float, verdict: str) -> None:
     from matplotlib.lines import Line2D
 
     st = VERDICT_STYLE[verdict]
-    p.fig.add_artist(Line2D([x / p.w], [1 - y / p.h], transform=p.fig.transFigure, linestyle="none",
-                            marker=st["marker"], markersize=st["size"], mfc=st["mfc"], mec=INK, mew=0.7))
+    p.fig.add_artist(
+        Line2D(
+            [x / p.w],
+            [1 - y / p.h],
+            transform=p.fig.transFigure,
+            linestyle="none",
+            marker=st["marker"],
+            markersize=st["size"],
+            mfc=st["mfc"],
+            mec=INK,
+            mew=0.7,
+        )
+    )
 
 
 def _wrap_cell(text: str, chars: int) -> list[str]:
@@ -480,8 +666,7 @@ def _wrap_cell(text: str, chars: int) -> list[str]:
     return lines
 
 
-def verdict_table_pages(doc: dict, claims, meta: dict, *, paper: str,
-                        page_labels: Sequence[str]) -> Iterator[Any]:
+def verdict_table_pages(doc: dict, claims, meta: dict, *, paper: str, page_labels: Sequence[str]) -> Iterator[Any]:
     """The verdict table: one row per sample, one column per claim (value and result); yields figures.
 
     :data:`VERDICT_ROWS_PER_PAGE` samples and :data:`VERDICT_COLUMNS_PER_PAGE` claims a page.
@@ -496,8 +681,12 @@ def verdict_table_pages(doc: dict, claims, meta: dict, *, paper: str,
         for g, metrics in enumerate(groups):
             p = _Page(paper)
             part = f"; claims {g + 1} of {len(groups)} groups" if len(groups) > 1 else ""
-            y = _header(p, f"Claims verdict by sample ({n} samples)",
-                        f"samples {start + 1}\u2013{stop} of {n}{part}; {claims.source}", page_labels[k_page])
+            y = _header(
+                p,
+                f"Claims verdict by sample ({n} samples)",
+                f"samples {start + 1}\u2013{stop} of {n}{part}; {claims.source}",
+                page_labels[k_page],
+            )
             k_page += 1
             name_w, verdict_w, num_w = 1.4, 0.9, 0.3
             col_w = (p.width - num_w - name_w - verdict_w) / max(1, len(metrics))
@@ -540,8 +729,13 @@ def verdict_table_pages(doc: dict, claims, meta: dict, *, paper: str,
                     p.text(p.left + num_w, y + 0.1, shorten(did, int(name_w / 0.042)), fontsize=5.5, color=GREY)
                 _marker(p, p.left + num_w + name_w + 0.06, y + 0.06, s["verdict"])
                 word = VERDICT_STYLE[s["verdict"]]["word"]
-                p.text(p.left + num_w + name_w + 0.16, y, word, fontsize=6.5,
-                       weight="bold" if s["verdict"] != "pass" else "normal")
+                p.text(
+                    p.left + num_w + name_w + 0.16,
+                    y,
+                    word,
+                    fontsize=6.5,
+                    weight="bold" if s["verdict"] != "pass" else "normal",
+                )
                 checks = {c["metric"]: c for c in s["checks"]}
                 for m, x in zip(metrics, x_cols):
                     c = checks[m]
@@ -551,29 +745,46 @@ def verdict_table_pages(doc: dict, claims, meta: dict, *, paper: str,
                         _cell_hatch(p, x + 0.02, top, col_w - 0.04, pitch - 0.01, st["hatch"])
                     box = {"boxstyle": "square,pad=0.08", "fc": "white", "ec": "none"} if st["hatch"] else None
                     p.text(x + 0.05, y, _value_text(m, c["value"]), fontsize=6.3, bbox=box)
-                    p.text(x + 0.05, y + 0.1, st["word"], fontsize=5.6, bbox=box,
-                           weight="bold" if r != "pass" else "normal", color=INK if r != "pass" else GREY)
+                    p.text(
+                        x + 0.05,
+                        y + 0.1,
+                        st["word"],
+                        fontsize=5.6,
+                        bbox=box,
+                        weight="bold" if r != "pass" else "normal",
+                        color=INK if r != "pass" else GREY,
+                    )
                 y += pitch
             p.rule(y - 0.04, lw=0.4)
             y += 0.06
-            key = ("Each cell: measured value, then the result of its check. Hatched cells do not pass: "
-                   "diagonal lines FAIL, dots inconclusive. Markers as in the chart: circle pass, triangle "
-                   "inconclusive, cross FAIL.")
+            key = (
+                "Each cell: measured value, then the result of its check. Hatched cells do not pass: "
+                "diagonal lines FAIL, dots inconclusive. Markers as in the chart: circle pass, triangle "
+                "inconclusive, cross FAIL."
+            )
             for line in textwrap.wrap(key, 150):
                 p.text(p.left, y, line, fontsize=6)
                 y += 0.11
             if any(c["metric"] == "ansi_quadrangle" for c in first):
-                p.text(p.left, y, "ANSI quadrangle: the value is the quadrangle that holds the sample "
-                       "(none: outside all ANSI C78.377 quadrangles).", fontsize=6)
+                p.text(
+                    p.left,
+                    y,
+                    "ANSI quadrangle: the value is the quadrangle that holds the sample "
+                    "(none: outside all ANSI C78.377 quadrangles).",
+                    fontsize=6,
+                )
                 y += 0.11
             _footer(p, meta, page_labels[k_page - 1])
             yield p.fig
 
 
-def verdict_pages(analysis, doc: dict, claims, meta: dict, *, paper: str, diagram: str = "uv",
-                  page_labels: Sequence[str]) -> Iterator[tuple[str, Any]]:
+def verdict_pages(
+    analysis, doc: dict, claims, meta: dict, *, paper: str, diagram: str = "uv", page_labels: Sequence[str]
+) -> Iterator[tuple[str, Any]]:
     """All verdict pages as (title, figure): the overview, then the table pages."""
-    yield "claims verdict", verdict_page(analysis, doc, claims, meta, paper=paper, diagram=diagram,
-                                         page_label=page_labels[0])
+    yield (
+        "claims verdict",
+        verdict_page(analysis, doc, claims, meta, paper=paper, diagram=diagram, page_label=page_labels[0]),
+    )
     for k, fig in enumerate(verdict_table_pages(doc, claims, meta, paper=paper, page_labels=page_labels[1:])):
         yield f"claims verdict table {k + 1}", fig
