@@ -444,7 +444,12 @@ def _import_matplotlib() -> None:
         return
     from matplotlib import artist
 
-    compose = artist.kwdoc
+    compose = getattr(artist, "kwdoc", None)
+    if compose is None:  # a matplotlib without this helper: import as usual, only slower
+        import matplotlib.backends.backend_pdf  # noqa: F401
+        import matplotlib.figure  # noqa: F401
+
+        return
     artist.kwdoc = lambda artist: ""
     try:
         import matplotlib.backends.backend_pdf  # noqa: F401
