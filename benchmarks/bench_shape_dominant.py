@@ -58,8 +58,7 @@ def exhaustive_hits(S: np.ndarray, W: np.ndarray, locus: np.ndarray):
 
 def exhaustive_dominant(xy, white_xy=(1 / 3, 1 / 3), observer: int = 2, chunk: int = 2048):
     """(dominant, complementary, purity, is_purple, boundary_xy) by :func:`exhaustive_hits`."""
-    from cctkit.constants import WAVELENGTH_NM as wl
-    from cctkit.dominant import spectral_locus_xy
+    from cctkit.dominant import block_from_hits, spectral_locus_xy
 
     S = np.asarray(xy, dtype=np.float64).reshape(-1, 2)
     W = np.broadcast_to(np.asarray(white_xy, dtype=np.float64), S.shape)
@@ -69,21 +68,9 @@ def exhaustive_dominant(xy, white_xy=(1 / 3, 1 / 3), observer: int = 2, chunk: i
     purple, boundary = np.zeros(n, dtype=bool), np.full((n, 2), np.nan)
     for start in range(0, n, chunk):
         sl = slice(start, start + chunk)
-        s_xy, w_xy = S[sl], W[sl]
-        finite = np.all(np.isfinite(s_xy), axis=1)
-        at_white = finite & (np.hypot(*(s_xy - w_xy).T) <= 1e-12)
-        t_f, j_f, s_f, t_b, j_b, s_b, back_ok, pi = exhaustive_hits(np.where(finite[:, None], s_xy, w_xy), w_xy, locus)
-        found = finite & ~at_white & np.isfinite(t_f)
-        is_purple = found & (j_f == pi)
-        lam_f = wl[np.minimum(j_f, wl.shape[0] - 2)] + s_f
-        lam_b = np.where(back_ok & finite & ~at_white, wl[np.minimum(j_b, wl.shape[0] - 2)] + s_b, np.nan)
-        dom[sl] = np.where(found, np.where(is_purple, -lam_b, lam_f), np.nan)
-        comp[sl] = lam_b
-        with np.errstate(divide="ignore"):
-            purity[sl] = np.where(found, 1.0 / t_f, np.where(at_white, 0.0, np.nan))
-        purple[sl] = is_purple
-        t_used = np.where(found, t_f, 0.0)[:, None]
-        boundary[sl] = np.where(found[:, None], w_xy + t_used * (s_xy - w_xy), np.nan)
+        dom[sl], comp[sl], purity[sl], purple[sl], boundary[sl] = block_from_hits(
+            S[sl], W[sl], lambda s_xy, w_xy: exhaustive_hits(s_xy, w_xy, locus)
+        )
     return dom, comp, purity, purple, boundary
 
 

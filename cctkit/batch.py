@@ -204,18 +204,12 @@ def _work(
     250 numbers per spectrum into text over the workers, and the parent receives the text
     (or the Arrow table) only.
     """
-    table = _results(spectra, observer, rendering, output, interpolation, csv_dialect, dominant_white)
-    return _formatted(table, observer, rendering, output, interpolation, csv_dialect, dominant_white)
+    table = _results(spectra, observer, rendering, interpolation, dominant_white)
+    return _formatted(table, output, csv_dialect)
 
 
 def _results(
-    spectra: Spectra,
-    observer: int,
-    rendering: bool,
-    output: str = ".csv",
-    interpolation: str = "auto",
-    csv_dialect: str = "comma",
-    dominant_white: str = "E",
+    spectra: Spectra, observer: int, rendering: bool, interpolation: str, dominant_white: str
 ) -> dict[str, np.ndarray]:
     """The first half of :func:`_work`: the chunk's table of results."""
     return spectra_results(
@@ -223,15 +217,7 @@ def _results(
     )  # one BLAS thread: see analyse()
 
 
-def _formatted(
-    table: dict[str, np.ndarray],
-    observer: int,
-    rendering: bool,
-    output: str = ".csv",
-    interpolation: str = "auto",
-    csv_dialect: str = "comma",
-    dominant_white: str = "E",
-) -> _ChunkResult:
+def _formatted(table: dict[str, np.ndarray], output: str, csv_dialect: str) -> _ChunkResult:
     """The second half of :func:`_work`: the table as the writer takes it (CSV text or an Arrow table)."""
     if output == ".csv":
         text = table_csv(table, list(table))

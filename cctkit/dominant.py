@@ -310,6 +310,28 @@ class DominantWavelength:
         return cols
 
 
+def block_from_hits(s_xy: np.ndarray, w: np.ndarray, hits: Any) -> tuple[np.ndarray, ...]:
+    """(dominant, complementary, purity, is_purple, boundary_xy) of one block of samples ``s_xy`` (M, 2)
+    seen from the white ``w``, given ``hits(S, W)`` (the ray-locus intersections, as :func:`_hits`).
+
+    Samples that are not finite or sit on the white get no wavelength (purity 0 on the white).
+    ``benchmarks/bench_shape_dominant.py`` passes its exhaustive intersection test here."""
+    wl = WAVELENGTH_NM
+    finite = np.all(np.isfinite(s_xy), axis=1)
+    at_white = finite & (np.hypot(*(s_xy - w).T) <= 1e-12)
+    t_f, j_f, s_f, t_b, j_b, s_b, back_ok, purple_index = hits(np.where(finite[:, None], s_xy, w), w)
+    found = finite & ~at_white & np.isfinite(t_f)
+    is_purple = found & (j_f == purple_index)
+    lam_f = wl[np.minimum(j_f, wl.shape[0] - 2)] + s_f
+    lam_b = np.where(back_ok & finite & ~at_white, wl[np.minimum(j_b, wl.shape[0] - 2)] + s_b, np.nan)
+    dom = np.where(found, np.where(is_purple, -lam_b, lam_f), np.nan)
+    with np.errstate(divide="ignore"):
+        purity = np.where(found, 1.0 / t_f, np.where(at_white, 0.0, np.nan))
+    t_used = np.where(found, t_f, 0.0)[:, None]
+    boundary = np.where(found[:, None], w + t_used * (s_xy - w), np.nan)
+    return dom, lam_b, purity, is_purple, boundary
+
+
 def dominant_wavelength(xy: Any, *, white_xy: Any = EQUAL_ENERGY_XY, observer: int = 2) -> DominantWavelength:
     """Dominant (or complementary) wavelength and excitation purity of chromaticities.
 
@@ -339,7 +361,6 @@ def dominant_wavelength(xy: Any, *, white_xy: Any = EQUAL_ENERGY_XY, observer: i
     S = np.broadcast_to(S, lead + (2,)).reshape(-1, 2)
     W = np.broadcast_to(W, lead + (2,)).reshape(-1, 2)
     locus = spectral_locus_xy(observer)
-    wl = WAVELENGTH_NM
 
     n = S.shape[0]
     dom = np.full(n, np.nan)
@@ -353,23 +374,9 @@ def dominant_wavelength(xy: Any, *, white_xy: Any = EQUAL_ENERGY_XY, observer: i
         rows_w = np.flatnonzero(which == k) if whites.shape[0] > 1 else np.arange(n)
         for start in range(0, rows_w.size, _CHUNK):  # blocks of samples bound memory; each block is vectorised
             sl = rows_w[start : start + _CHUNK]
-            s_xy = S[sl]
-            finite = np.all(np.isfinite(s_xy), axis=1)
-            at_white = finite & (np.hypot(*(s_xy - w).T) <= 1e-12)
-            t_f, j_f, s_f, t_b, j_b, s_b, back_ok, purple_index = _hits(
-                np.where(finite[:, None], s_xy, w), w, locus, observer
+            dom[sl], comp[sl], purity[sl], purple[sl], boundary[sl] = block_from_hits(
+                S[sl], w, lambda s_xy, w_xy: _hits(s_xy, w_xy, locus, observer)
             )
-            found = finite & ~at_white & np.isfinite(t_f)
-            is_purple = found & (j_f == purple_index)
-            lam_f = wl[np.minimum(j_f, wl.shape[0] - 2)] + s_f
-            lam_b = np.where(back_ok & finite & ~at_white, wl[np.minimum(j_b, wl.shape[0] - 2)] + s_b, np.nan)
-            dom[sl] = np.where(found, np.where(is_purple, -lam_b, lam_f), np.nan)
-            comp[sl] = lam_b
-            with np.errstate(divide="ignore"):
-                purity[sl] = np.where(found, 1.0 / t_f, np.where(at_white, 0.0, np.nan))
-            purple[sl] = is_purple
-            t_used = np.where(found, t_f, 0.0)[:, None]
-            boundary[sl] = np.where(found[:, None], w + t_used * (s_xy - w), np.nan)
     return DominantWavelength(
         dominant_wavelength_nm=dom.reshape(lead),
         complementary_wavelength_nm=comp.reshape(lead),

@@ -26,6 +26,7 @@ def test_inspect_names_and_uses_the_white():
     assert r.exit_code == 0, r.output
     rec = json.loads(r.stdout)["spectra"][0]
     assert default["dominant_white"] == "E" and rec["dominant_white"] == "D65"
+    # D65, CIE 1931 xy: CIE 15:2018 Table T.3 (from memory; checked against colour-science in test_dominant.py)
     assert (rec["dominant_white_x"], rec["dominant_white_y"]) == (0.31272, 0.32903)
     # the same chromaticity seen from D65 through the library (its check against the reference library
     # colour-science is in tests/test_dominant.py)
@@ -48,4 +49,5 @@ def test_batch_rows_carry_the_white(tmp_path):
     r = run("batch", DEMO, "--output", tmp_path / "b.csv", "--dominant-white", "A", "--no-rendering", "--workers", "1")
     assert r.exit_code == 0, r.output
     row = next(csv.DictReader((tmp_path / "b.csv").open()))
+    # illuminant A, x: CIE 15:2018 Table T.3 (from memory; checked against colour-science in test_dominant.py)
     assert row["dominant_white"] == "A" and float(row["dominant_white_x"]) == 0.44758

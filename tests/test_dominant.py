@@ -167,7 +167,7 @@ def test_named_white_points_against_reference_library():
         for name in WHITE_POINTS:
             # reference library: colour-science 0.4.7 CCS_ILLUMINANTS (4-5 digits), hence 5e-5
             assert resolve_white(name, observer=observer)[1] == pytest.approx(tuple(lib[name]), abs=5e-5)
-    assert resolve_white("d65") == ("D65", (0.31272, 0.32903))
+    assert resolve_white("d65") == ("D65", (0.31272, 0.32903))  # CIE 15:2018 Table T.3, from memory
     assert resolve_white("0.3,0.31") == ("0.3,0.31", (0.3, 0.31))
     with pytest.raises(InputError, match=r"white point must be one of E, D65, D50, A or x,y"):
         resolve_white("D75")
@@ -180,7 +180,7 @@ def test_white_point_changes_the_answer_and_is_recorded():
     e = dominant_wavelength(xy)
     a = dominant_wavelength(xy, white_xy="A")
     assert e.record(0)["dominant_white"] == "E" and a.record(0)["dominant_white"] == "A"
-    assert a.record(0)["dominant_white_x"] == 0.44758
+    assert a.record(0)["dominant_white_x"] == 0.44758  # illuminant A: CIE 15:2018 Table T.3, from memory
     # seen from A (yellower) the same point lies towards shorter wavelengths: a different answer
     assert a.dominant_wavelength_nm[0] < e.dominant_wavelength_nm[0] - 5
     colour = pytest.importorskip("colour")

@@ -406,6 +406,8 @@ def test_each_annex_e_threshold_classifies_on_either_side(crit):
 
 
 def test_annex_e_levels_pick_the_strictest_met():
+    # Levels (1 strictest) by the ANSI/IES TM-30-20 Annex E criteria as cctkit.report.intents holds them
+    # (from memory, marked there); each value sits just inside or outside one of those limits.
     assert _level("fidelity", 96, 100, 95, 0) == 1
     assert _level("fidelity", 94.9, 100, 95, 0) == 2
     assert _level("fidelity", 84.9, 100, 95, 0) == 0

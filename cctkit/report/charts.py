@@ -87,6 +87,26 @@ IDENTITY_LINES = ("-", "--", "-.", ":")
 IDENTITIES = len(IDENTITY_COLOURS)
 
 
+def _bin_arrows(ax, c, s, tx, ty) -> None:
+    """The sixteen hue-bin arrows, reference point (c, s) to test point (tx, ty), as one artist
+    (an arrow each was a tenth of a page's drawing time)."""
+    ax.quiver(
+        c,
+        s,
+        tx - c,
+        ty - s,
+        angles="xy",
+        scale_units="xy",
+        scale=1.0,
+        color=INK,
+        width=0.004,
+        headwidth=4.0,
+        headlength=5.0,
+        headaxislength=4.5,
+        zorder=3.5,
+    )
+
+
 def series_style(i: int) -> dict[str, Any]:
     """The identity of spectrum ``i`` of a report: colour, line style, marker, hatch, marker face.
 
@@ -929,23 +949,7 @@ def vector_graphic_chart(analysis, ax, *, index: int = 0) -> None:
         ax.text(0, 0, "no result", ha="center", va="center", color=GREY)
     else:
         ax.plot(np.append(tx, tx[0]), np.append(ty, ty[0]), color=INK, lw=1.1, marker="o", markersize=2.2, label="test")
-        # One artist for the sixteen arrows (reference to test per bin): an arrow each was a
-        # tenth of the page's drawing time.
-        ax.quiver(
-            c,
-            s,
-            tx - c,
-            ty - s,
-            angles="xy",
-            scale_units="xy",
-            scale=1.0,
-            color=INK,
-            width=0.004,
-            headwidth=4.0,
-            headlength=5.0,
-            headaxislength=4.5,
-            zorder=3.5,
-        )
+        _bin_arrows(ax, c, s, tx, ty)
     for k in range(16):
         ax.text(1.33 * c[k], 1.33 * s[k], str(k + 1), ha="center", va="center", fontsize=5, color=GREY)
     ax.set_xlim(-1.45, 1.45)
@@ -1139,23 +1143,7 @@ def hue_wheel_chart(analysis, ax, *, index: int = 0, identity: int | None = None
     else:
         ax.fill(tx, ty, facecolor="none", edgecolor=colour, lw=1.2, zorder=3)
         ax.plot(tx, ty, linestyle="none", marker="o", markersize=2.0, color=colour, zorder=3)
-        # One artist for the sixteen arrows (reference to test per bin): an arrow each was a
-        # tenth of the page's drawing time.
-        ax.quiver(
-            c,
-            s,
-            tx - c,
-            ty - s,
-            angles="xy",
-            scale_units="xy",
-            scale=1.0,
-            color=INK,
-            width=0.004,
-            headwidth=4.0,
-            headlength=5.0,
-            headaxislength=4.5,
-            zorder=3.5,
-        )
+        _bin_arrows(ax, c, s, tx, ty)
     lim = _RING_BIN + 0.2
     ax.set_xlim(-lim, lim)
     ax.set_ylim(-lim, lim)

@@ -1137,32 +1137,19 @@ def _table(
     xs = [x_in]
     for wv in widths[:-1]:
         xs.append(xs[-1] + wv + gap)
-    for j, head in enumerate(header):
-        right = j >= right_from
-        x = xs[j] + (widths[j] if right else 0.0)
-        fig.text(
-            x / w_in,
-            1 - y_in / h_in,
-            head,
-            fontsize=fontsize,
-            va="top",
-            weight="bold",
-            ha="right" if right else "left",
-            gid="summary-head",
-        )
-    y = y_in + pitch
-    for row in rows:
-        for j, cell in enumerate(row):
+    y = y_in
+    for cells, is_head in [(header, True)] + [(row, False) for row in rows]:
+        for j, cell in enumerate(cells):
             right = j >= right_from
-            x = xs[j] + (widths[j] if right else 0.0)
             fig.text(
-                x / w_in,
+                (xs[j] + (widths[j] if right else 0.0)) / w_in,
                 1 - y / h_in,
                 cell,
                 fontsize=fontsize,
                 va="top",
+                weight="bold" if is_head else "normal",
                 ha="right" if right else "left",
-                gid=f"summary-cell-{j}",
+                gid="summary-head" if is_head else f"summary-cell-{j}",
             )
         y += pitch
     return y
