@@ -161,20 +161,23 @@ def report_cmd(
         from ..claims import verify
 
         verdict = verify(records, claims).as_dict()
-    rep = build_report(
-        analysis,
-        output,
-        paper=paper_key,
-        pages=True if pages else None,
-        diagram=diagram_key,
-        overwrite=overwrite,
-        inputs=inputs,
-        verdict=verdict,
-        claims=claims,
-        records=records,
-        signoff=signoff,
-        uncertainty=unc,
-    )
+    from ..report.build import process_ends_after
+
+    with process_ends_after():  # nothing of the report is collected: the process ends next
+        rep = build_report(
+            analysis,
+            output,
+            paper=paper_key,
+            pages=True if pages else None,
+            diagram=diagram_key,
+            overwrite=overwrite,
+            inputs=inputs,
+            verdict=verdict,
+            claims=claims,
+            records=records,
+            signoff=signoff,
+            uncertainty=unc,
+        )
     if verdict is not None:
         info(f"claims verdict: {verdict['verdict']}")
     if rep.kind == "pdf":

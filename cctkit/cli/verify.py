@@ -146,17 +146,19 @@ def verify_cmd(
             )
         if report is not None:
             from ..report import build_report
+            from ..report.build import process_ends_after
 
-            rep = build_report(
-                analysis,
-                report,
-                overwrite=overwrite,
-                inputs=inputs,
-                verdict=doc,
-                claims=claims,
-                records=records,
-                uncertainty=unc_result,
-            )
+            with process_ends_after():  # nothing of the report is collected: the process ends next
+                rep = build_report(
+                    analysis,
+                    report,
+                    overwrite=overwrite,
+                    inputs=inputs,
+                    verdict=doc,
+                    claims=claims,
+                    records=records,
+                    uncertainty=unc_result,
+                )
     from .options import info
 
     if output is not None:
