@@ -515,7 +515,6 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int, measured_range_n
         flags[i] = (none,)
     if measured_range_nm is not None:
         from .rendering.tm30 import RANGE_NM
-
         from .spectra import range_array
 
         lo_hi = range_array(measured_range_nm)
