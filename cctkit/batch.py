@@ -27,6 +27,7 @@ over the same chunks give identical bytes.
 from __future__ import annotations
 
 import contextlib
+import functools
 import itertools
 import json
 import math
@@ -272,8 +273,13 @@ _CSV_SPECIAL = frozenset(',"\r\n')
 
 
 def _text_cells(col: np.ndarray) -> list[str]:
-    """Cells of a str/None column as :func:`cctkit.formats.csv_text` writes them, each distinct value once."""
-    uniq: dict[Any, str] = dict.fromkeys(col.tolist(), "")
+    """Cells of a str/None column as :func:`cctkit.formats.csv_text` writes them."""
+    vals = col.tolist()
+    uniq: dict[Any, str] = dict.fromkeys(vals, "")
+    if set(map(type, uniq)) == {str}:
+        joined = "\x00" + "\x00".join(uniq)  # each value's first character follows a NUL
+        if not any(c in joined for c in _CSV_SPECIAL) and not any("\x00" + c in joined for c in FORMULA_LEAD):
+            return vals  # plain text, as most columns are: the cells are the values
     for v in uniq:
         if v is None or v == "":
             uniq[v] = ""
@@ -281,42 +287,75 @@ def _text_cells(col: np.ndarray) -> list[str]:
             uniq[v] = v
         else:  # quoting (or a non-str cell): exactly what csv_text does for it
             uniq[v] = csv_text(["", ""], [[v, ""]], write_header=False)[:-2]
-    return [uniq[v] for v in col.tolist()]
+    return [uniq[v] for v in vals]
 
 
-def _float_cells_py(col: np.ndarray) -> list[str]:
-    """``repr(float(v))`` per value, empty for NaN/inf (the rule of :func:`cctkit.formats.csv_text`)."""
+def _repr_row(values: list[float]) -> str:
+    """One row of float cells by the rule of :func:`cctkit.formats.csv_text`: ``repr``, empty for NaN/inf."""
+    return ",".join(repr(v) if math.isfinite(v) else "" for v in values)
+
+
+#: Magnitudes [lo, hi) where orjson's text may differ from Python's ``repr``: below 1e-4 ``repr``
+#: switches to exponent form (``1.5e-05``) while orjson stays positional down to 1e-5 and writes
+#: one-digit exponents (``1e-09`` as ``1e-9``) down to 1e-9.  Everywhere else both print the same
+#: shortest round-trip digits in the same form (measured on random bit patterns; the tests hold it).
+#: The band is taken two decades wider below.
+_ORJSON_BAND = (1e-11, 1e-4)
+
+
+def _float_rows(block: np.ndarray) -> list[str]:
+    """The rows of a 2-D float block as CSV cells joined by commas, as ``csv_text`` writes them.
+
+    orjson prints the whole block in C (shortest round-trip digits, ~40 ns a value) and its
+    ``null`` (NaN/inf) becomes an empty cell; rows holding a value in :data:`_ORJSON_BAND`
+    are written again with ``repr`` -- or, where such rows are many, the columns holding
+    such values are.
+    """
+    import orjson
+
+    n, k = block.shape
+    if not _orjson_agrees():  # pragma: no cover - an orjson whose number text changed
+        return [_repr_row(r) for r in block.tolist()]
+    a = np.abs(block)
+    with np.errstate(invalid="ignore"):
+        band = (a >= _ORJSON_BAND[0]) & (a < _ORJSON_BAND[1])
+    hit = band.any(axis=1)
+    if k > 1 and 8 * np.count_nonzero(hit) > n:  # many rows: split off the columns that hold such values
+        bad = band.any(axis=0)
+        parts: list[list[str]] = []
+        edges = [0, *(np.flatnonzero(np.diff(bad)) + 1).tolist(), k]
+        for lo, hi in itertools.pairwise(edges):
+            if bad[lo]:
+                parts.extend(_float_cells(block[:, j]) for j in range(lo, hi))
+            else:
+                parts.append(_float_rows(block[:, lo:hi]))
+        return list(map(",".join, zip(*parts)))
+    text = orjson.dumps(np.ascontiguousarray(block), option=orjson.OPT_SERIALIZE_NUMPY).decode("ascii")
+    rows = text[2:-2].split("],[")
+    for i in np.flatnonzero(~np.isfinite(a).all(axis=1) & ~hit).tolist():
+        rows[i] = rows[i].replace("null", "")  # orjson writes NaN and inf as null
+    for i in np.flatnonzero(hit).tolist():
+        rows[i] = _repr_row(block[i].tolist())
+    return rows
+
+
+def _float_cells(col: np.ndarray) -> list[str]:
+    """``repr`` of each value, empty for NaN/inf (the rule of :func:`cctkit.formats.csv_text`)."""
     if np.isfinite(col).all():
         return list(map(float.__repr__, col.tolist()))
     return ["" if not math.isfinite(v) else repr(v) for v in col.tolist()]
 
 
-def _float_cells_arrow(col: np.ndarray):
-    """The cells of :func:`_float_cells_py` as an Arrow string array (NaN/inf as nulls), formatted in C++.
+@functools.cache
+def _orjson_agrees() -> bool:
+    """orjson prints these values as ``repr`` does, outside its band: else every row takes ``repr``."""
+    import orjson
 
-    Arrow's shortest round-trip text equals Python's ``repr`` for non-integral finite
-    values with 1e-4 <= |v| < 1e10 (both print the shortest digits that round-trip, in
-    positional notation there; the tests check it); the other values take ``repr``.
-    """
-    import pyarrow as pa
-    import pyarrow.compute as pc
-
-    finite = np.isfinite(col)
-    if col.shape[0] and finite[0] and (col == col[0]).all():  # a constant column: format once
-        return pa.array([repr(float(col[0]))] * col.shape[0], type=pa.string())
-    a = np.abs(col)
-    with np.errstate(invalid="ignore"):
-        other = finite & ~((a >= 1e-4) & (a < 1e10) & (col != np.trunc(col)))
-    cells = pc.cast(pa.array(col, mask=~finite), pa.string())
-    if other.any():
-        fixed = list(map(float.__repr__, col[other].tolist()))
-        cells = pc.replace_with_mask(cells, pa.array(other), pa.array(fixed, type=pa.string()))
-    return cells
+    probe = np.array([0.1, 1 / 3, -0.0, 0.0, 1e-4, 9.99e-12, 1e-300, 5e-324, 1.5e16, 1e22, 123.0, 1e15, 2.5e-3])
+    return orjson.dumps(probe, option=orjson.OPT_SERIALIZE_NUMPY).decode() == "[" + _repr_row(probe.tolist()) + "]"
 
 
-def _cells(col: np.ndarray, arrow: bool):
-    if col.dtype == np.float64:
-        return _float_cells_arrow(col) if arrow else _float_cells_py(col)
+def _cells(col: np.ndarray) -> list[str]:
     if col.dtype == bool:
         return np.where(col, "True", "False").tolist()
     if col.dtype == np.int64:
@@ -329,29 +368,25 @@ def table_csv(table: dict[str, np.ndarray], columns: list[str]) -> str:
 
     The bytes equal :func:`cctkit.formats.csv_text` over the same rows (tests hold it):
     floats at repr precision, NaN empty, strings quoted only where CSV needs it.  Each
-    column is formatted once, as a whole; with pyarrow installed the numbers are
-    formatted and the rows joined in Arrow's C++ kernels.
+    run of adjacent float columns is formatted as one block by orjson (see :func:`_float_rows`),
+    every other column once, as a whole; the rows are then joined.
     """
     n = _table_rows(table)
     if n == 0:
         return ""
-    try:
-        import pyarrow as pa
-        import pyarrow.compute as pc
-    except ImportError:
-        pa = None
-    if pa is None:
-        cells = [_cells(table[k], False) if k in table else [""] * n for k in columns]
-        return "".join(",".join(row) + "\n" for row in zip(*cells))
-    arrays = []
-    for k in columns:
-        c = _cells(table[k], True) if k in table else [""] * n
-        arrays.append(c if isinstance(c, pa.Array) else pa.array(c, type=pa.string()))
-    rows = pc.binary_join_element_wise(*arrays, ",", null_handling="replace", null_replacement="")
-    text = pc.binary_join_element_wise(rows, "\n", "")  # each row followed by its line end
-    _, offsets, data = text.buffers()
-    bounds = np.frombuffer(offsets, dtype=np.int32)[[text.offset, text.offset + len(text)]]
-    return data.to_pybytes()[bounds[0] : bounds[1]].decode("utf-8")
+    parts: list[list[str]] = []
+    run: list[np.ndarray] = []
+    for k in [*columns, None]:
+        col = table.get(k) if k is not None else None
+        if col is not None and col.dtype == np.float64:
+            run.append(col)
+            continue
+        if run:
+            parts.append(_float_rows(np.column_stack(run)))
+            run = []
+        if k is not None:
+            parts.append(_cells(col) if col is not None else [""] * n)
+    return "\n".join(map(",".join, zip(*parts))) + "\n"
 
 
 def _table_rows(table: dict[str, np.ndarray]) -> int:
@@ -403,18 +438,29 @@ class _ParquetWriter:
 
 
 def _arrow_table(table: dict[str, np.ndarray]):
-    """The table as a :class:`pyarrow.Table`; missing numbers (NaN) are nulls."""
+    """The table as a :class:`pyarrow.Table`; missing numbers (NaN) are nulls.
+
+    Built from the arrays' buffers (:mod:`cctkit.arrow_buffers`): ``pyarrow.array`` would
+    import pandas in every process that writes Parquet.
+    """
     import pyarrow as pa
+
+    from .arrow_buffers import bool_array, float_array, int_array, string_array
 
     arrays = []
     for k, col in table.items():
         t = _arrow_type(k, col)
         if col.dtype == np.float64:
-            arrays.append(pa.array(col, type=t, mask=~np.isfinite(col)))
-        elif col.dtype in (np.int64, bool):
-            arrays.append(pa.array(col, type=t))
+            arrays.append(float_array(col, np.isfinite(col)))
+        elif col.dtype == np.int64:
+            arrays.append(int_array(col))
+        elif col.dtype == bool:
+            arrays.append(bool_array(col))
+        elif t == pa.bool_():  # True/False with None
+            items = col.tolist()
+            arrays.append(bool_array(np.array([bool(v) for v in items]), np.array([v is not None for v in items])))
         else:
-            arrays.append(pa.array(col.tolist(), type=t))
+            arrays.append(string_array([None if v is None else str(v) for v in col.tolist()]))
     return pa.Table.from_arrays(arrays, names=list(table))
 
 

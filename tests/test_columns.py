@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 
 from cctkit.analysis import analyse
-from cctkit.batch import _float_cells_py, records_table, table_csv
+from cctkit.batch import _float_cells, _float_rows, records_table, table_csv
 from cctkit.constants import WAVELENGTH_NM
 from cctkit.formats import csv_text
 from cctkit.spectra import Spectra
@@ -95,10 +95,10 @@ def tricky_floats() -> np.ndarray:
 
 def test_float_cells_are_repr_or_empty():
     x = tricky_floats()
-    assert _float_cells_py(x) == ["" if not math.isfinite(v) else repr(v) for v in x.tolist()]
+    assert _float_cells(x) == ["" if not math.isfinite(v) else repr(v) for v in x.tolist()]
 
 
-def test_table_csv_equals_csv_text_bytes(monkeypatch):
+def test_table_csv_equals_csv_text_bytes():
     x = tricky_floats()
     n = x.shape[0]
     names = np.empty(n, dtype=object)
@@ -106,25 +106,39 @@ def test_table_csv_equals_csv_text_bytes(monkeypatch):
     names[:] = [specials[i % len(specials)] for i in range(n)]
     table = {
         "name": names,
+        "plain": np.array([f"lamp {i}" for i in range(n)], dtype=object),
         "value": x,
         "scaled": x * 1e-3,
         "count": np.arange(n, dtype=np.int64) - 3,
         "ok": np.arange(n) % 3 == 0,
+        "tiny": np.where(np.arange(n) % 2 == 0, x * 1e-7, 0.5),  # many rows with 1e-11 <= |v| < 1e-4
+        "last": x[::-1].copy(),
     }
     cols = list(table) + ["absent"]
     expected = csv_text(cols, zip(*(table[k].tolist() if k in table else [None] * n for k in cols)), write_header=False)
-    assert table_csv(table, cols) == expected  # with pyarrow (a test dependency): numbers formatted in Arrow
-    import builtins
+    assert table_csv(table, cols) == expected
+    few = {k: v[:40] for k, v in table.items()}  # few rows: each one in the band written again by repr
+    expected = csv_text(cols, zip(*(few[k].tolist() if k in few else [None] * 40 for k in cols)), write_header=False)
+    assert table_csv(few, cols) == expected
 
-    real_import = builtins.__import__
 
-    def no_arrow(name, *args, **kwargs):
-        if name.startswith("pyarrow"):
-            raise ImportError(name)
-        return real_import(name, *args, **kwargs)
+def random_doubles(n: int, seed: int) -> np.ndarray:
+    """Every kind of double: random bit patterns (all exponents, both signs, subnormals, NaN/inf)."""
+    bits = np.random.default_rng(seed).integers(0, 2**64, size=n, dtype=np.uint64, endpoint=False)
+    return bits.view(np.float64)
 
-    monkeypatch.setattr(builtins, "__import__", no_arrow)
-    assert table_csv(table, cols) == expected  # and without it
+
+@pytest.mark.parametrize("seed", [1, 2])
+def test_float_rows_are_repr_for_any_double(seed):
+    """The orjson route against Python's repr on random doubles, and around the band it leaves to repr."""
+    rng = np.random.default_rng(seed)
+    edges = (1e-4, 1e-5, 1e-9, 1e-10, 1e-11, 1e15, 1e16)
+    near_band = np.array([e * (1 + k * np.finfo(float).eps) for e in edges for k in (-2, -1, 0, 1, 2)])
+    logs = 10 ** rng.uniform(-14, 18, 100_000)
+    for x in (random_doubles(200_000, seed), logs[np.abs(logs) >= 1e-4], logs, np.concatenate([near_band, -near_band])):
+        x = x[: x.size // 5 * 5].reshape(-1, 5)
+        expected = [",".join("" if not math.isfinite(v) else repr(v) for v in r) for r in x.tolist()]
+        assert _float_rows(x) == expected
 
 
 @pytest.mark.parametrize("quantity", ["radiant-flux", "irradiance", "radiance", "intensity", "relative"])
@@ -141,3 +155,51 @@ def test_each_measure_has_columns_matching_its_record(quantity):
             assert list(cols) == list(rec), f"{type(part).__name__}.columns() must follow record()"
             for k, v in rec.items():
                 assert (v is None and not np.isfinite(cols[k][i])) or v == cols[k][i], (type(part).__name__, k)
+
+
+def test_arrow_buffers_equal_pyarrow_conversions():
+    """The buffer-built Arrow arrays equal pyarrow's own conversions (which import pandas)."""
+    pa = pytest.importorskip("pyarrow")
+    from cctkit import arrow_buffers as ab
+
+    x = tricky_floats()
+    ok = np.isfinite(x)
+    assert ab.float_array(x, ok).equals(pa.array(x, mask=~ok))
+    assert ab.float_array(x[ok]).equals(pa.array(x[ok]))
+    k = np.arange(-5, 70, dtype=np.int64)
+    assert ab.int_array(k).equals(pa.array(k))
+    b = k % 3 == 0
+    assert ab.bool_array(b).equals(pa.array(b))
+    assert ab.bool_array(b, k % 5 != 0).equals(pa.array([bool(v) if j % 5 else None for j, v in zip(k, b)]))
+    for items in (["a", None, "", "lamp, 3", "é ü", None], ["plain"] * 9, [None, None], []):
+        assert ab.string_array(items).equals(pa.array(items, type=pa.string()))
+    table = pa.table({"a": pa.array(x[ok][:40]), "b": pa.array([f"r{i}" for i in range(40)])})
+    sliced = table.slice(7, 20).column("a")  # an offset into the buffer
+    np.testing.assert_array_equal(ab.floats_from_arrow(sliced), x[ok][7:27])
+    two = pa.chunked_array([pa.array(x[ok][:5]), pa.array(x[ok][5:9])])
+    np.testing.assert_array_equal(ab.floats_from_arrow(two), x[ok][:9])
+    assert ab.floats_from_arrow(pa.array([1.0, None])) is None  # nulls: the caller's own route
+    assert ab.floats_from_arrow(pa.array([1, 2])) is None
+
+
+def test_batch_runs_do_not_import_pandas(tmp_path):
+    """pyarrow's array conversions import pandas (~0.5 s a process): the batch path avoids them."""
+    pytest.importorskip("pyarrow")
+    import subprocess
+    import sys
+
+    wl = np.arange(380, 781, 5)
+    src = tmp_path / "wide.csv"
+    values = leds(10)[[0, 4, 5, 6, 7, 8]][:, np.searchsorted(WAVELENGTH_NM, wl)]
+    rows = [f"L{i}," + ",".join(f"{v:.5g}" for v in r) for i, r in enumerate(values)]
+    src.write_text("name," + ",".join(map(str, wl)) + "\n" + "\n".join(rows) + "\n")
+    code = (
+        "import sys\nfrom cctkit.readers.wide import open_chunked\nfrom cctkit.batch import run_batch\n"
+        "for out in sys.argv[2:]:\n    run_batch(open_chunked(sys.argv[1], chunk_size=4), out, workers=1)\n"
+        "print('pandas' in sys.modules)"
+    )
+    outs = [str(tmp_path / "o.csv"), str(tmp_path / "o.parquet")]
+    res = subprocess.run([sys.executable, "-c", code, str(src), *outs], capture_output=True, text=True, check=True)
+    assert res.stdout.strip() == "False"
+    pq = pytest.importorskip("pyarrow.parquet")
+    assert pq.read_table(outs[1]).num_rows == 6

@@ -653,7 +653,11 @@ def _arrow_values(bodies: list[str], delimiter: str | None, L: int) -> np.ndarra
         return None
     if table.num_rows != len(bodies) or table.num_columns != L:
         return None
-    return np.column_stack([table.column(k).to_numpy() for k in range(L)])
+    from ..arrow_buffers import floats_from_arrow  # not to_numpy(): it imports pandas (~0.5 s)
+
+    cols = [floats_from_arrow(table.column(k)) for k in range(L)]
+    present = [c for c in cols if c is not None]
+    return np.column_stack(present) if len(present) == L else None
 
 
 def _file_wavelength(head: _WideHead, column: int) -> float:
@@ -815,6 +819,8 @@ def _parquet_values(batch, wl_columns, L: int, source: str, offset: int, lenient
     """The batch's values (rows, L); with ``lenient`` a missing value is NaN (its row is then skipped)."""
     import pyarrow as pa
 
+    from ..arrow_buffers import floats_from_arrow
+
     if wl_columns is not None:
         cols = []
         for name in wl_columns:
@@ -826,7 +832,8 @@ def _parquet_values(batch, wl_columns, L: int, source: str, offset: int, lenient
                 raise InputError(f"row {offset + r + 1}: missing value at {name} nm", source=source)
             if col.null_count:
                 col = col.cast(pa.float64()).fill_null(float("nan"))
-            cols.append(col.to_numpy(zero_copy_only=False).astype(np.float64, copy=False))
+            fast = floats_from_arrow(col)  # not to_numpy(): it imports pandas (~0.5 s)
+            cols.append(fast if fast is not None else col.to_numpy(zero_copy_only=False).astype(np.float64, copy=False))
         return np.stack(cols, axis=1)
     col = batch.column("values")
     if not (pa.types.is_list(col.type) or pa.types.is_fixed_size_list(col.type) or pa.types.is_large_list(col.type)):
@@ -850,4 +857,6 @@ def _parquet_values(batch, wl_columns, L: int, source: str, offset: int, lenient
     elif flat.null_count:
         r = int(np.flatnonzero(np.asarray(flat.is_null()))[0]) // L
         raise InputError(f"row {offset + r + 1}: missing value in column 'values'", source=source)
-    return flat.to_numpy(zero_copy_only=False).astype(np.float64, copy=False).reshape(-1, L)
+    fast = floats_from_arrow(flat)
+    values = fast if fast is not None else flat.to_numpy(zero_copy_only=False).astype(np.float64, copy=False)
+    return values.reshape(-1, L)
