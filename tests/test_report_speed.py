@@ -41,3 +41,34 @@ def test_process_ends_after_leaves_the_report_to_the_exit():
         assert gc.get_freeze_count() > frozen
     finally:
         gc.unfreeze()  # this test process goes on: give the objects back to the collector
+
+
+def test_spectrum_pages_drawn_over_the_previous_one_give_the_same_bytes(tmp_path, monkeypatch):
+    """Spectrum pages reuse the previous page's axes; the PDF is byte for byte the one drawn on new
+    figures, also across a page whose CIE 13.3 chart is a placeholder (no CCT: its frame is
+    dotted, so that axes is not used again) and pages before and after it."""
+    import numpy as np
+    from conftest import build_report_strict as build
+
+    from cctkit.analysis import analyse
+    from cctkit.planck import spectral_exitance
+    from cctkit.report import pages
+    from cctkit.spectra import Quantity, Spectra
+
+    wl = np.arange(380.0, 781.0, 5.0)
+
+    def led(T_K, bump_nm, height):
+        bb = spectral_exitance(T_K, wl)
+        return bb / bb.max() + height * np.exp(-0.5 * ((wl - bump_nm) / 12.0) ** 2)
+
+    green = np.exp(-0.5 * ((wl - 530.0) / 15.0) ** 2)  # |Duv| > 0.05: no CCT, no reference, no CRI
+    values = np.stack([led(2700.0, 450.0, 0.3), green, led(5000.0, 445.0, 0.5), led(6500.0, 455.0, 1.2)])
+    a = analyse(Spectra(wl, values, ("warm", "green filter", "neutral", "cool"), quantity=Quantity.RELATIVE))
+    emptied = []
+    empty = pages._empty
+    monkeypatch.setattr(pages, "_empty", lambda ax: (emptied.append(ax), empty(ax)))
+    build(a, tmp_path / "reused.pdf")
+    assert len(emptied) >= 12  # most axes of pages 2-4 were drawn over, not made anew
+    monkeypatch.setattr(pages, "_reusable", lambda ax, rect, kw: False)
+    build(a, tmp_path / "new.pdf")
+    assert (tmp_path / "reused.pdf").read_bytes() == (tmp_path / "new.pdf").read_bytes()

@@ -756,6 +756,7 @@ def _write_pdf(
                 titles.append(title)
                 save_pdf_page(pdf, fig)
         body = labels_v[n_verdict : total - 1 - n_inputs]
+        last_sample = None  # the previous spectrum page's figure, drawn over by the next one
         for k, (kind, arg) in enumerate(plan[1:]):
             common = {"paper": paper}
             if kind == "sample":
@@ -770,8 +771,10 @@ def _write_pdf(
                     regions=regions,
                     page_label=body[k],
                     identity=ident,
+                    reuse=last_sample,
                     **common,
                 )
+                last_sample = fig
             elif kind == "comparison":
                 fig = pg.comparison_page(
                     analysis,

@@ -249,6 +249,7 @@ def shorten(text: str, width: int, *, keep: str = "end") -> str:
 
 def not_computed(ax, what: str) -> None:
     """Mark ``ax`` as a placeholder: ``what`` was not computed for this report."""
+    ax._cctkit_placeholder = True  # its frame is changed: a later page does not draw on it again
     ax.set_xticks([])
     ax.set_yticks([])
     for side in ax.spines.values():
