@@ -72,3 +72,38 @@ def test_spectrum_pages_drawn_over_the_previous_one_give_the_same_bytes(tmp_path
     monkeypatch.setattr(pages, "_reusable", lambda ax, rect, kw: False)
     build(a, tmp_path / "new.pdf")
     assert (tmp_path / "reused.pdf").read_bytes() == (tmp_path / "new.pdf").read_bytes()
+
+
+def test_chart_locus_lines_from_the_cache_are_the_computed_ones(tmp_path, monkeypatch):
+    """The chromaticity chart's lines read back from the table cache equal, bit for bit, a fresh
+    computation (and a second process-wide lookup reads the file written by the first)."""
+    import numpy as np
+
+    from cctkit.report import charts
+
+    monkeypatch.setenv("CCTKIT_CACHE_DIR", str(tmp_path))
+    charts._locus_geometry.cache_clear()
+    try:
+        written = charts._locus_geometry(2)
+        assert list(tmp_path.glob("chart-locus-2-*.npz"))
+        charts._locus_geometry.cache_clear()
+        read = charts._locus_geometry(2)
+        temps = sorted(read["iso"])
+        fresh = charts._locus_arrays(2, temps)
+        for got in (written, read):
+            for key in ("locus", "duv_lines", "spectral"):
+                assert np.array_equal(got[key], fresh[key])
+            assert all(np.array_equal(got["iso"][t], fresh["iso"][k]) for k, t in enumerate(temps))
+    finally:
+        charts._locus_geometry.cache_clear()
+
+
+def test_report_style_restores_the_pdf_writers_font_reader():
+    from matplotlib.backends import backend_pdf
+
+    from cctkit.report.build import report_style
+
+    original = backend_pdf.AFM
+    with report_style():
+        assert backend_pdf.AFM is not original
+    assert backend_pdf.AFM is original
