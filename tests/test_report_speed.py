@@ -107,3 +107,28 @@ def test_report_style_restores_the_pdf_writers_font_reader():
     with report_style():
         assert backend_pdf.AFM is not original
     assert backend_pdf.AFM is original
+
+
+def test_remembered_text_layout_gives_the_same_bytes(tmp_path, monkeypatch):
+    """Text laid out once and remembered (build._layout_memo) draws the same PDF as text laid out
+    each time it is measured or drawn; the original layout is back after the report."""
+    import contextlib
+
+    import numpy as np
+    from conftest import build_report_strict as build
+    from matplotlib.text import Text
+
+    from cctkit.analysis import analyse
+    from cctkit.planck import spectral_exitance
+    from cctkit.report import build as report_build
+    from cctkit.spectra import Quantity, Spectra
+
+    wl = np.arange(380.0, 781.0, 5.0)
+    values = np.stack([spectral_exitance(t, wl) for t in (3000.0, 5600.0)])
+    a = analyse(Spectra(wl, values / values.max(), ("lamp a", "lamp b"), quantity=Quantity.RELATIVE))
+    original = Text.__dict__["_get_layout"]
+    build(a, tmp_path / "memo.pdf")
+    assert Text.__dict__["_get_layout"] is original
+    monkeypatch.setattr(report_build, "_layout_memo", contextlib.nullcontext)
+    build(a, tmp_path / "plain.pdf")
+    assert (tmp_path / "memo.pdf").read_bytes() == (tmp_path / "plain.pdf").read_bytes()

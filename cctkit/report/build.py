@@ -432,6 +432,7 @@ def report_style():
     stack.enter_context(_font_memo())
     stack.enter_context(_core_font_heights())
     stack.enter_context(_afm_read_once())
+    stack.enter_context(_layout_memo())
     stack.enter_context(_young_gc())
     return stack
 
@@ -590,6 +591,56 @@ class _core_font_heights:
 
     def __exit__(self, *exc):
         self._cls.get_str_bbox_and_descent = self._orig
+        return False
+
+
+class _layout_memo:
+    """Remember how each text is laid out (its lines, their sizes and offsets) while a report is drawn.
+
+    matplotlib lays a text out anew every time it is measured or drawn (a tick label three or
+    four times a page: its box, its axis's and its siblings' boxes, then drawing), although the
+    result depends only on what the key below holds, never on where the text stands.  The
+    memo holds the original's own results, so the pages are the same bytes; texts that wrap to
+    the figure or use TeX are laid out as usual.  Restored on exit."""
+
+    def __enter__(self):
+        from matplotlib.text import Text
+
+        self._cls = Text
+        self._orig = Text.__dict__["_get_layout"]
+        layout = self._orig
+        memo: dict = {}
+
+        def _get_layout(text, renderer):
+            if text.get_wrap() or text.get_usetex():
+                return layout(text, renderer)
+            base = getattr(renderer, "_renderer", renderer)  # the PDF writer's mixed-mode wrapper
+            try:
+                key = (
+                    type(base),
+                    text.figure.dpi,
+                    text.get_text(),
+                    text.get_parse_math(),
+                    hash(text.get_fontproperties()),
+                    text._linespacing,
+                    text._get_multialignment(),
+                    text.get_rotation(),
+                    text._horizontalalignment,
+                    text._verticalalignment,
+                    text.get_rotation_mode(),
+                )
+            except AttributeError:  # a matplotlib that keeps these otherwise: no memo
+                return layout(text, renderer)
+            found = memo.get(key)
+            if found is None:
+                found = memo[key] = layout(text, renderer)
+            return found
+
+        Text._get_layout = _get_layout
+        return self
+
+    def __exit__(self, *exc):
+        self._cls._get_layout = self._orig
         return False
 
 
