@@ -481,14 +481,19 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int, measured_range_n
     flags: list[tuple[Flag, ...]] = [()] * V.shape[0]
     has_ref = np.isfinite(r.cct_K)
     poor = np.flatnonzero(has_ref & ~np.asarray(r.cri.valid, dtype=bool))
+    made: dict[str, tuple[Flag, ...]] = {}  # one flag per distinct text: most spectra share a few
     for i, dc in zip(poor.tolist(), np.asarray(r.cri.dc)[poor].tolist()):
-        flags[i] = (
-            Flag(
-                "cri-not-meaningful",
-                f"chromaticity distance DC = {dc:.4f} from the reference is >= {DC_LIMIT}: "
-                "CIE 13.3 says the index is then not meaningful",
-            ),
-        )
+        text = f"{dc:.4f}"
+        flag = made.get(text)
+        if flag is None:
+            flag = made[text] = (
+                Flag(
+                    "cri-not-meaningful",
+                    f"chromaticity distance DC = {text} from the reference is >= {DC_LIMIT}: "
+                    "CIE 13.3 says the index is then not meaningful",
+                ),
+            )
+        flags[i] = flag
     T = np.asarray(T, dtype=np.float64)
     with np.errstate(invalid="ignore"):
         above = (
@@ -510,8 +515,9 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int, measured_range_n
         flags[i] = (none,)
     if measured_range_nm is not None:
         from .rendering.tm30 import RANGE_NM
+        from .spectra import range_array
 
-        lo_hi = np.array([r_[:2] for r_ in measured_range_nm], dtype=np.float64).reshape(-1, 2)
+        lo_hi = range_array(measured_range_nm)
         short = has_ref & ((lo_hi[:, 0] > RANGE_NM[0]) | (lo_hi[:, 1] < RANGE_NM[1]))
         for i in np.flatnonzero(short).tolist():
             lo, hi = lo_hi[i]

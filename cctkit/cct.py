@@ -12,7 +12,8 @@ How the exact solver works, vectorised over any leading shape:
    analytic temperature derivative of Planck's law.
 2. For each point p the nearest locus point is the root of
    g(m) = (p - uv(m)) . uv'(m); a vectorised bisection over the table nodes
-   brackets it between two nodes.
+   brackets it between two nodes (for many points a 2-D lookup of uv guesses the
+   node, and the sign change of g verifies it: the same node, found faster).
 3. Within the bracket, uv(m) is the cubic Hermite interpolant of the exact node
    values and derivatives, and Newton's method on g finds the root.
 
@@ -152,11 +153,12 @@ class _Grid:
     cells: int  # cells per side
     lo: np.ndarray  # (cells * cells,) lowest node a point of the cell can bracket
     span: np.ndarray  # (cells * cells,) nodes to search from lo (large where the cell needs the full search)
+    cell: np.ndarray  # (cells * cells,) int32 lo * 64 + (nodes a bracket may start at) - 1; -1: full search
+    foot: np.ndarray  # ((cells + 1) ** 2,) float32 mired of the nearest locus point at each corner (NaN: none)
 
 
 _GRID_CELLS = 512
 _GRID_SPAN = 32  # a cell whose bracket can lie among more nodes than this is searched in full
-_GRID_STEPS = 5  # = log2(_GRID_SPAN)
 _GRID_MIN_POINTS = 4096  # fewer points are searched in full: building the lookup costs ~2e5 points' search
 
 
@@ -166,8 +168,10 @@ def _grid(observer: int, c2: float) -> _Grid:
 
     Built once from the full bisection at the cell corners (the bracket node is monotone along
     the locus and moves by less than a node between neighbouring corners, so it is widened by
-    one node each side); every bracket found through it is verified, and a point whose cell
-    or verification fails is searched in full, so the result is the full search's.
+    one node each side), with the mired of each corner's nearest locus point, from which a
+    point's node is guessed by bilinear interpolation.  Every bracket found through it is
+    verified, and a point whose cell or verification fails is searched in full, so the result
+    is the full search's.
     """
     tab = _table(observer, c2)
     G = _GRID_CELLS
@@ -180,6 +184,7 @@ def _grid(observer: int, c2: float) -> _Grid:
         edges = u0 + step * np.arange(G + 1), v0 + step * np.arange(G + 1)
         cu, cv = (a.ravel() for a in np.meshgrid(*edges, indexing="ij"))
         k, ok = _bisect(tab, cu, cv)
+        foot = _solve(tab, k, ok, cu, cv)[2]  # the mired of each corner's nearest locus point
         k = np.where(ok, k, -(10**9)).reshape(G + 1, G + 1)
         corners = np.stack([k[:-1, :-1], k[1:, :-1], k[:-1, 1:], k[1:, 1:]])
         K = tab.m.shape[0]
@@ -190,53 +195,112 @@ def _grid(observer: int, c2: float) -> _Grid:
             "lo": lo.ravel().astype(np.intp),
             "span": span.ravel().astype(np.intp),
             "geometry": np.array([u0, v0, 1.0 / step]),
+            "foot": np.where(ok, foot, np.nan),
         }
 
     from .tables import cached_arrays
 
-    # cached beside the locus table: building it costs ~0.1 s, a worker's or a short command's whole share
-    arr = cached_arrays(f"cct-grid-{observer}-{c2!r}-h{_H_MIRED}-g{G}", build, ("lo", "span", "geometry"))
+    # cached beside the locus table: building it costs ~0.2 s, a worker's or a short command's whole share
+    arr = cached_arrays(f"cct-grid-{observer}-{c2!r}-h{_H_MIRED}-g{G}-b", build, ("lo", "span", "geometry", "foot"))
     u0, v0, inv_step = (float(x) for x in arr["geometry"])
-    return _Grid((u0, v0), inv_step, G, arr["lo"].astype(np.intp), arr["span"].astype(np.intp))
+    lo, span = arr["lo"].astype(np.intp), arr["span"].astype(np.intp)
+    # small tables, as few cache lines per point as may be: the cell's node range packed in one int32
+    # (lo * 64 + nodes - 1, -1 where the cell needs the full search), the foot mired in float32 (a guess)
+    cell = np.where(span <= _GRID_SPAN, lo * 64 + np.minimum(span, _GRID_SPAN) - 1, -1).astype(np.int32)
+    foot = np.ascontiguousarray(arr["foot"], dtype=np.float32)
+    return _Grid((u0, v0), inv_step, G, lo, span, cell, foot)
 
 
 def _bracket(tab: _Table, grid: _Grid, pu: np.ndarray, pv: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """:func:`_bisect`'s node and bracket flag, through the 2-D lookup (full search where it cannot say)."""
-    with np.errstate(invalid="ignore"):
-        iu = np.floor((pu - grid.origin[0]) * grid.inv_step)
-        iv = np.floor((pv - grid.origin[1]) * grid.inv_step)
-        inside = (iu >= 0) & (iu < grid.cells) & (iv >= 0) & (iv < grid.cells)
-    cell = np.where(inside, iu * grid.cells + iv, 0).astype(np.intp)
-    lo = grid.lo[cell]
-    hi = lo + np.minimum(grid.span[cell], _GRID_SPAN)
-    for _ in range(_GRID_STEPS):
-        mid = (lo + hi) >> 1
-        up = _g(tab, mid, pu, pv) >= 0
-        lo = np.where(up, mid, lo)
-        hi = np.where(up, hi, mid)
-    k = lo
-    good = inside & (grid.span[cell] <= _GRID_SPAN) & (_g(tab, k, pu, pv) >= 0) & (_g(tab, k + 1, pu, pv) < 0)
-    bracketed = good.copy()
-    rest = np.flatnonzero(~good)
-    if rest.size:
-        k[rest], bracketed[rest] = _bisect(tab, pu[rest], pv[rest])
+    k, bracketed, _ = _bracket_segments(tab, grid, pu, pv)
     return k, bracketed
+
+
+def _bracket_segments(tab: _Table, grid: _Grid, pu: np.ndarray, pv: np.ndarray):
+    """:func:`_bracket`, with the table values of the segments (:func:`_segments`) and g at both ends.
+
+    The node is guessed from the corners' foot mired (bilinear in the cell), kept within the
+    cell's node range, and verified by the sign change of g at its two ends, from the values
+    the Newton steps need anyway; the few points whose guess fails are searched in full.
+    """
+    G = grid.cells
+    with np.errstate(invalid="ignore"):
+        fu = (pu - grid.origin[0]) * grid.inv_step
+        fv = (pv - grid.origin[1]) * grid.inv_step
+        iu = np.floor(fu)
+        iv = np.floor(fv)
+        inside = (iu >= 0) & (iu < G) & (iv >= 0) & (iv < G)
+        a = fu - iu
+        b = fv - iv
+    iu_i = np.where(inside, iu, 0.0).astype(np.intp)
+    iv_i = np.where(inside, iv, 0.0).astype(np.intp)
+    cell = iu_i * G + iv_i
+    corner = cell + iu_i  # (cells + 1) corners per row
+    f = grid.foot
+    m0 = f[corner]
+    m1 = f[corner + 1]
+    m0 += a * (f[corner + G + 1] - m0)  # along u at v of the cell's lower edge ...
+    m1 += a * (f[corner + G + 2] - m1)  # ... and of its upper edge
+    with np.errstate(invalid="ignore"):
+        m0 += b * (m1 - m0)
+        m0 -= tab.m[0]
+        m0 *= 1.0 / tab.h
+        guess = np.where(np.isfinite(m0), m0, -1.0)
+    packed = grid.cell[cell]
+    lo = packed >> 6
+    k = np.clip(guess, lo, lo + (packed & 63)).astype(np.intp)  # floor: the guess is >= lo >= 0 here
+    seg = _segments(tab, k)
+    (u0, u1, du0, du1), (v0, v1, dv0, dv1) = seg
+    gk = (pu - u0) * du0 + (pv - v0) * dv0  # _g at k and k + 1, from the gathered values
+    gk1 = (pu - u1) * du1 + (pv - v1) * dv1
+    bracketed = inside & (packed >= 0) & (gk >= 0) & (gk1 < 0)
+    rest = np.flatnonzero(~bracketed)
+    if rest.size:
+        pr, qr = pu[rest], pv[rest]
+        kr, bracketed[rest] = _bisect(tab, pr, qr)
+        k[rest] = kr
+        (u0r, u1r, du0r, du1r), (v0r, v1r, dv0r, dv1r) = _segments(tab, kr)
+        for full, part in zip((u0, u1, du0, du1, v0, v1, dv0, dv1), (u0r, u1r, du0r, du1r, v0r, v1r, dv0r, dv1r)):
+            full[rest] = part
+        gk[rest] = (pr - u0r) * du0r + (qr - v0r) * dv0r
+        gk1[rest] = (pr - u1r) * du1r + (qr - v1r) * dv1r
+    return k, bracketed, (seg, gk, gk1)
+
+
+#: Points solved at once: the solver's temporaries of a block stay in the processor's cache.
+_BLOCK = 8192
 
 
 def _exact(uv: np.ndarray, observer: int, c2: float) -> tuple[np.ndarray, np.ndarray]:
     tab = _table(observer, c2)
     p = uv.reshape(-1, 2)
-    pu = np.ascontiguousarray(p[:, 0])
-    pv = np.ascontiguousarray(p[:, 1])
-    if pu.shape[0] < _GRID_MIN_POINTS:
-        k, bracketed = _bisect(tab, pu, pv)  # the lookup gives these same nodes (tests/test_cct_bracket.py)
-    else:
-        k, bracketed = _bracket(tab, _grid(observer, c2), pu, pv)
+    n = p.shape[0]
+    grid = _grid(observer, c2) if n >= _GRID_MIN_POINTS else None
+    cct = np.empty(n)
+    duv = np.empty(n)
+    for s in range(0, n, _BLOCK):  # each value depends on its own point only: blocks change no bit
+        pu = np.ascontiguousarray(p[s : s + _BLOCK, 0])
+        pv = np.ascontiguousarray(p[s : s + _BLOCK, 1])
+        if grid is None:
+            k, bracketed = _bisect(tab, pu, pv)  # the lookup gives these same nodes (tests/test_cct_bracket.py)
+            cct[s : s + _BLOCK], duv[s : s + _BLOCK], _ = _solve(tab, k, bracketed, pu, pv)
+        else:
+            k, bracketed, found = _bracket_segments(tab, grid, pu, pv)
+            cct[s : s + _BLOCK], duv[s : s + _BLOCK], _ = _solve(tab, k, bracketed, pu, pv, found)
+    shape = uv.shape[:-1]
+    return cct.reshape(shape), duv.reshape(shape)
 
-    seg = _segments(tab, k)
-    (u0, u1, du0, du1), (v0, v1, dv0, dv1) = seg
-    gk = (pu - u0) * du0 + (pv - v0) * dv0  # _g at k and k + 1, from the gathered values
-    gk1 = (pu - u1) * du1 + (pv - v1) * dv1
+
+def _solve(tab: _Table, k: np.ndarray, bracketed: np.ndarray, pu: np.ndarray, pv: np.ndarray, found=None):
+    """CCT [K], Duv and the foot point's mired of points bracketed at node k: Hermite + Newton."""
+    if found is None:
+        seg = _segments(tab, k)
+        (u0, u1, du0, du1), (v0, v1, dv0, dv1) = seg
+        gk = (pu - u0) * du0 + (pv - v0) * dv0  # _g at k and k + 1, from the gathered values
+        gk1 = (pu - u1) * du1 + (pv - v1) * dv1
+    else:
+        seg, gk, gk1 = found
     with np.errstate(divide="ignore", invalid="ignore"):
         t = np.clip(np.where(gk != gk1, gk / (gk - gk1), 0.5), 0.0, 1.0)
     for _ in range(_NEWTON_STEPS):
@@ -247,7 +311,8 @@ def _exact(uv: np.ndarray, observer: int, c2: float) -> tuple[np.ndarray, np.nda
         with np.errstate(divide="ignore", invalid="ignore"):
             t = t - np.where(dg != 0, gt / dg, 0.0) / tab.h  # g is a function of m = m_k + t h
     (fu, du, _), (fv, dv, _) = _hermite(tab, seg, t, second=False)
-    cct = 1e6 / (tab.m[k] + t * tab.h)
+    m = tab.m[k] + t * tab.h
+    cct = 1e6 / m
     # Normal pointing above: d(uv)/dm points towards *lower* T, so n = (-dv, du) / |d|.
     norm = np.hypot(du, dv)
     duv = ((pu - fu) * -dv + (pv - fv) * du) / norm
@@ -257,8 +322,7 @@ def _exact(uv: np.ndarray, observer: int, c2: float) -> tuple[np.ndarray, np.nda
     # A point whose nearest locus point lies outside the table (below 900 K, above 200000 K) has no
     # root to find: its Duv is withheld (NaN), never taken from the end of the table.
     duv = np.where(finite & bracketed, duv, np.nan)
-    shape = uv.shape[:-1]
-    return cct.reshape(shape), duv.reshape(shape)
+    return cct, duv, m
 
 
 def table_range_K(method: str) -> tuple[float, float]:

@@ -49,7 +49,7 @@ from .colorimetry import safe_divide
 from .constants import C_M_PER_S, H_J_S, KM_LM_PER_W, KM_SCOTOPIC_LM_PER_W, WAVELENGTH_NM
 from .errors import Flag, InputError
 from .formats import finite_or_none as _num
-from .spectra import Quantity
+from .spectra import Quantity, range_array
 
 __all__ = [
     "N_A_PER_MOL",
@@ -189,7 +189,7 @@ def measured_sums(wavelength_nm: Any, values: Any, ranges=None) -> np.ndarray:
 
 def measured_mask(measured_range_nm) -> np.ndarray:
     """(N, 471) True where the working grid lies inside each spectrum's measured range (lo, hi, ...)."""
-    r = np.array([m[:2] for m in measured_range_nm], dtype=np.float64).reshape(-1, 2)
+    r = range_array(measured_range_nm)
     return (WAVELENGTH_NM >= r[:, :1] - 1e-9) & (WAVELENGTH_NM <= r[:, 1:] + 1e-9)
 
 
@@ -200,7 +200,7 @@ def range_masks(measured_range_nm) -> tuple[np.ndarray, np.ndarray]:
     ``masks[which]`` is :func:`measured_mask`; spectra of one file (or one batch chunk) share
     one range, and their coverage is worked out once.
     """
-    r = np.array([m[:2] for m in measured_range_nm], dtype=np.float64).reshape(-1, 2)
+    r = range_array(measured_range_nm)
     if r.shape[0] == 0 or (r == r[0]).all():
         return measured_mask(r[:1]), np.zeros(r.shape[0], dtype=np.intp)
     distinct, which = np.unique(r, axis=0, return_inverse=True)
@@ -211,6 +211,8 @@ def inside_range(v: np.ndarray, masks: np.ndarray, which: np.ndarray) -> np.ndar
     """``v`` (N, 471) with the values outside each spectrum's measured range set to 0 (see :func:`range_masks`)."""
     # C order whatever the layout of v, as np.where with a full (N, 471) mask gives: BLAS may round a
     # product in another layout differently in the last bit
+    if masks.shape[0] == 1 and masks[0].all() and v.dtype == np.float64 and v.flags.c_contiguous:
+        return v  # every spectrum covers the grid: np.where would copy v value for value
     return np.ascontiguousarray(np.where(masks[0] if masks.shape[0] == 1 else masks[which], v, 0.0))
 
 
@@ -417,7 +419,7 @@ def photometry(
     if measured_totals is None:
         measured_totals = measured_sums(WAVELENGTH_NM, vm)
     totals = np.asarray(measured_totals, dtype=np.float64).reshape(n, 3)
-    rng = np.array([m[:2] for m in measured_range_nm], dtype=np.float64).reshape(n, 2)
+    rng = range_array(measured_range_nm).reshape(n, 2).copy()  # kept in the result: its own copy
     phot_rng = np.column_stack([np.maximum(rng[:, 0], WAVELENGTH_NM[0]), np.minimum(rng[:, 1], WAVELENGTH_NM[-1])])
     ppf_rng = np.column_stack([np.maximum(rng[:, 0], PAR_BAND_NM[0]), np.minimum(rng[:, 1], PAR_BAND_NM[1])])
     ppf_rng[ppf_rng[:, 0] > ppf_rng[:, 1]] = np.nan

@@ -78,7 +78,9 @@ def _range_index(measured_range_nm, n_spectra: int) -> tuple[np.ndarray, np.ndar
     last = WAVELENGTH_NM.shape[0] - 1
     if measured_range_nm is None:
         return np.zeros(n_spectra, dtype=np.intp), np.full(n_spectra, last, dtype=np.intp)
-    rng = np.asarray([tuple(r)[:2] for r in measured_range_nm], dtype=np.float64).reshape(-1, 2)
+    from .spectra import range_array
+
+    rng = range_array(measured_range_nm)
     if rng.shape[0] != n_spectra:
         raise ValueError(f"measured_range_nm must give one (lo, hi) per spectrum ({n_spectra}), got {rng.shape[0]}")
     first = np.clip(np.ceil(rng[:, 0] - WAVELENGTH_NM[0] - 1e-9), 0, last).astype(np.intp)

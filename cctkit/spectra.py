@@ -61,6 +61,7 @@ __all__ = [
     "concatenate",
     "signal_problems",
     "require_signal",
+    "range_array",
 ]
 
 MIN_POINTS = 5
@@ -549,6 +550,27 @@ def concatenate(items: Iterable[Spectra], *, interpolation: str = "auto") -> Spe
     )
 
 
+_LAST_RANGES: tuple = (None, None)
+
+
+def range_array(measured_range_nm) -> np.ndarray:
+    """(N, 2) float array of the (lo, hi) [nm] of each measured range (lo, hi[, step]), read-only.
+
+    The measures of one :func:`cctkit.analysis.analyse` call each need this of the same tuple; the
+    last tuple converted is remembered (by identity: a tuple of tuples cannot change), which spares
+    a Python loop over every spectrum per measure.
+    """
+    global _LAST_RANGES
+    key, arr = _LAST_RANGES
+    if key is measured_range_nm:
+        return arr
+    arr = np.asarray([tuple(m)[:2] for m in measured_range_nm], dtype=np.float64).reshape(-1, 2)
+    arr.setflags(write=False)
+    if isinstance(measured_range_nm, tuple) and all(type(m) is tuple for m in measured_range_nm):
+        _LAST_RANGES = (measured_range_nm, arr)
+    return arr
+
+
 def signal_problems(spectra: Spectra) -> tuple[Flag | None, ...]:
     """Per spectrum, why nothing can be computed from it (a ``no-visible-data`` or ``no-signal``
     flag), or None when something can.
@@ -559,12 +581,16 @@ def signal_problems(spectra: Spectra) -> tuple[Flag | None, ...]:
     lo_vis, hi_vis = VISIBLE_BAND_NM
     wl = spectra.wavelength_nm
     n = len(spectra)
-    r = np.array([m[:2] for m in spectra.measured_range_nm], dtype=np.float64).reshape(n, 2)
+    r = range_array(spectra.measured_range_nm).reshape(n, 2)
     lo, hi = r[:, 0], r[:, 1]
     outside = (hi < lo_vis) | (lo > hi_vis)
-    # the measured part of 380-780 nm, spectrum by spectrum, as one (N, L) mask
-    inside = (wl >= np.maximum(lo, lo_vis)[:, None] - 1e-9) & (wl <= np.minimum(hi, hi_vis)[:, None] + 1e-9)
-    signal = (inside & (spectra.values > 0)).any(axis=1)
+    if n and (r == r[0]).all():  # one measured range (a file, a batch chunk): one band of columns
+        cols = np.flatnonzero((wl >= max(lo[0], lo_vis) - 1e-9) & (wl <= min(hi[0], hi_vis) + 1e-9))
+        band = spectra.values[:, cols[0] : cols[-1] + 1] if cols.size else spectra.values[:, :0]
+        signal = (band > 0).any(axis=1)
+    else:  # the measured part of 380-780 nm, spectrum by spectrum, as one (N, L) mask
+        inside = (wl >= np.maximum(lo, lo_vis)[:, None] - 1e-9) & (wl <= np.minimum(hi, hi_vis)[:, None] + 1e-9)
+        signal = (inside & (spectra.values > 0)).any(axis=1)
     out: list[Flag | None] = [None] * n
     for i in np.flatnonzero(outside | ~signal).tolist():
         if outside[i]:

@@ -35,3 +35,23 @@ def test_lookup_bracket_equals_full_bisection(observer):
         np.testing.assert_array_equal(ok, ok_full)
         np.testing.assert_array_equal(k[ok], k_full[ok])
     assert ok_full.sum() > 1000  # the second set reaches the locus too
+
+
+@pytest.mark.parametrize("observer", [2, 10])
+def test_blocks_and_lookup_give_the_bits_of_the_plain_bisection(observer):
+    """cct_duv of many points (solved in blocks, bracketed through the lookup) equals, bit for bit,
+    cct_duv of the same points a few at a time (each searched by the full bisection)."""
+    rng = np.random.default_rng(21)
+    n = 2 * cct._BLOCK + 1234
+    T = np.exp(rng.uniform(np.log(900.0), np.log(120000.0), n))
+    pts = uv_from_cct_duv(T, rng.uniform(-0.08, 0.08, n), observer=observer)
+    pts[::97] = rng.uniform(-0.2, 0.8, pts[::97].shape)  # some anywhere
+    pts[5] = [np.nan, 0.3]
+    whole = cct.cct_duv(pts, observer=observer)
+    small = cct._GRID_MIN_POINTS - 1
+    parts = [cct.cct_duv(pts[s : s + small], observer=observer) for s in range(0, n, small)]
+    for name in ("cct_K", "duv"):
+        got = getattr(whole, name)
+        plain = np.concatenate([getattr(p, name) for p in parts])
+        assert got.tobytes() == plain.tobytes()
+    assert np.isfinite(whole.cct_K).sum() > n // 2

@@ -142,3 +142,32 @@ def test_sprague_by_rows_gives_the_bits_of_the_column_stencil():
         v = rng.random((37, wl.size))
         got = _sprague(wl, v, WAVELENGTH_NM)
         assert got.flags["C_CONTIGUOUS"] and got.tobytes() == by_columns(wl, v, WAVELENGTH_NM).tobytes()
+
+
+def test_range_array_is_the_plain_conversion_and_remembers_only_immutable_input():
+    from cctkit.spectra import range_array
+
+    ranges = tuple(RANGES[i % len(RANGES)] for i in range(50))
+    plain = np.array([r[:2] for r in ranges], dtype=np.float64)
+    got = range_array(ranges)
+    assert np.array_equal(got, plain) and not got.flags.writeable
+    assert range_array(ranges) is got  # the same tuple again: remembered
+    as_list = [list(r) for r in ranges]
+    first = range_array(as_list)
+    as_list[0][1] = 700.0  # a list can change between calls: never remembered
+    assert range_array(as_list)[0, 1] == 700.0 and first[0, 1] == 830.0
+
+
+def test_full_coverage_skips_the_copy_with_the_same_totals():
+    from cctkit.photometry import inside_range, range_masks
+
+    s = _chunk()
+    full = ((360.0, 830.0, 1.0),) * len(s)
+    masks, which = range_masks(full)
+    v = np.ascontiguousarray(s.values)
+    assert inside_range(v, masks, which) is v  # nothing to mask
+    assert np.array_equal(inside_range(v, masks, which), np.where(masks[which], v, 0.0))
+    # the totals are those of the masked copy, bit for bit (CIE 15:2018: V(lambda)-weighted sum)
+    ph = photometry(v, s.quantity, measured_range_nm=full)
+    copy = np.ascontiguousarray(np.where(masks[which], v, 0.0))
+    assert np.array_equal(ph.luminous, KM_LM_PER_W * (copy @ table("cmf_2")[:, 1]))

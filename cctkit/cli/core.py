@@ -222,21 +222,6 @@ def inspect_cmd(
         typer.echo(format_records(records).rstrip("\n"))
 
 
-def _coordinate_pair(name: str, text: str, rest: list[str]) -> tuple[float, float]:
-    """``"0.3127,0.3290"`` (or ``"0.3127"`` followed by ``"0.3290"`` in ``rest``) as two numbers."""
-    parts = [p for p in text.replace(";", ",").split(",")] if "," in text or ";" in text else [text]
-    if len(parts) == 1 and rest:
-        parts.append(rest.pop(0))
-    try:
-        if len(parts) != 2:
-            raise ValueError
-        return float(parts[0]), float(parts[1])
-    except ValueError:
-        raise InputError(
-            f"{name} takes two numbers separated by a comma, e.g. {name} 0.3127,0.3290; got {' '.join(parts)!r}"
-        ) from None
-
-
 def cct_cmd(
     xy: str | None = typer.Option(
         None, "--xy", metavar="X,Y", help="CIE 1931 chromaticity, e.g. --xy 0.3127,0.3290 (or --xy 0.3127 0.3290)."
@@ -249,58 +234,15 @@ def cct_cmd(
     rest: list[str] | None = typer.Argument(None, hidden=True),  # the second number of the "X Y" form
 ) -> None:
     """CCT and Duv of one chromaticity (from a datasheet, say)."""
-    import numpy as np
+    # the plain forms of this command are answered by cctkit.entry without the framework, by the same function
+    from ..entry import cct_result
 
-    from ..cct import METHODS, cct_duv, table_range_text
-    from ..colorimetry import uvp_to_uv, xy_to_uv
-    from ..constants import DUV_LIMIT
-
-    given = [(n, v) for n, v in (("--xy", xy), ("--uv", uv), ("--uvp", uvp)) if v is not None]
-    if len(given) != 1:
-        raise InputError("give exactly one of --xy X,Y, --uv U,V or --uvp U',V'")
-    if method not in METHODS:
-        raise InputError(f"--method must be one of {', '.join(METHODS)}, got {method!r}")
-    extra = list(rest or [])
-    name, pair = given[0][0], _coordinate_pair(*given[0], extra)
-    if extra:
-        raise InputError(f"unexpected argument {extra[0]!r}; give the chromaticity as {name} X,Y")
-    p = np.asarray(pair, dtype=float)
-    if not np.all(np.isfinite(p)) or np.any(p <= 0) or np.any(p >= 1):
-        raise InputError(f"{name} values must be chromaticity coordinates between 0 and 1, got {pair[0]:g} {pair[1]:g}")
-    if name == "--xy":
-        if p.sum() >= 1:
-            raise InputError(f"--xy {pair[0]:g} {pair[1]:g} is not a chromaticity (x + y must be below 1)")
-        p = xy_to_uv(p)
-    elif name == "--uvp":
-        p = uvp_to_uv(p)
-    r = cct_duv(p, method=method, observer=parse_observer(observer))
-    cct, duv = float(r.cct_K), float(r.duv)
-    meaningful = bool(r.in_domain)
-    doc = {
-        "cct_K": cct if meaningful else None,
-        "duv": duv if np.isfinite(duv) else None,
-        "method": method,
-        "u": float(p[0]),
-        "v": float(p[1]),
-    }
-    if not meaningful:
-        if not np.isfinite(duv):
-            doc["warning"] = (
-                f"the nearest Planckian point lies outside the {method} table "
-                f"({table_range_text(method)}): CCT and Duv not computed"
-            )
-        elif abs(duv) > DUV_LIMIT:
-            doc["warning"] = f"|Duv| = {abs(duv):.4f} exceeds {DUV_LIMIT}: CCT is not meaningful"
-        else:
-            doc["warning"] = "nearest Planckian point outside 1000-100000 K: CCT not reported"
+    doc, lines = cct_result(xy, uv, uvp, method, observer, list(rest or []))
     if json_out:
         emit_json(doc)
-        if "warning" in doc:
-            info(f"warning: {doc['warning']}")
-        return
-    typer.echo(f"CCT  {cct:.1f} K" if meaningful else "CCT  n/a")
-    typer.echo(f"Duv  {format_number(duv, '{:+.5f}')}" if np.isfinite(duv) else "Duv  n/a")
-    typer.echo(f"method  {method}; CIE 1960 uv = ({p[0]:.5f}, {p[1]:.5f})")
+    else:
+        for line in lines:
+            typer.echo(line)
     if "warning" in doc:
         info(f"warning: {doc['warning']}")
 

@@ -15,6 +15,7 @@ from typing import Any
 
 import typer
 
+from ..entry import parse_observer  # noqa: F401  (re-exported for the commands)
 from ..errors import InputError
 from ..formats import csv_text, dumps  # noqa: F401  (re-exported for the commands)
 
@@ -142,13 +143,6 @@ def write_output(
     atomic_write(path, text, overwrite=overwrite, inputs=inputs)
     if announce:
         info(f"wrote {path}")
-
-
-def parse_observer(value: str) -> int:
-    key = str(value).replace("°", "").replace("deg", "").strip()
-    if key not in ("2", "10"):
-        raise InputError(f"--observer must be 2 or 10, got {value!r}")
-    return int(key)
 
 
 def require_suffix(path: Path, allowed: tuple[str, ...], option: str = "--output") -> str:

@@ -305,7 +305,9 @@ def short_range_rule(values, measured_range_nm) -> tuple[np.ndarray, np.ndarray]
         selects their reference is that of this spectrum, as in the standards' procedure.
     """
     v = np.asarray(values, dtype=np.float64)
-    rng = np.asarray([tuple(r)[:2] for r in measured_range_nm], dtype=np.float64).reshape(-1, 2)
+    from ..spectra import range_array
+
+    rng = range_array(measured_range_nm)
     if rng.shape[0] != v.shape[0]:
         raise ValueError(f"measured_range_nm must give one (lo, hi) per spectrum ({v.shape[0]}), got {rng.shape[0]}")
     lo = np.maximum(rng[:, 0], RANGE_NM[0])

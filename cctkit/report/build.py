@@ -278,7 +278,11 @@ def build_report(
     meta["design_intents"] = design_intents(analysis)
     if uncertainty is not None:
         meta["uncertainty_U"] = uncertainty_of(uncertainty, records)
-    with report_style():
+    from ..analysis import one_blas_thread
+
+    # One BLAS thread, as in analyse(): the same numbers on any machine, and no idle BLAS threads
+    # spinning beside the drawing (a fifth more CPU time on a one-spectrum report).
+    with report_style(), one_blas_thread():
         from .charts import reference_comparison
 
         comparison = reference_comparison(analysis)
@@ -427,6 +431,8 @@ def report_style():
     stack.enter_context(_quiet_font_lookup())
     stack.enter_context(_font_memo())
     stack.enter_context(_core_font_heights())
+    stack.enter_context(_afm_read_once())
+    stack.enter_context(_layout_memo())
     stack.enter_context(_young_gc())
     return stack
 
@@ -588,6 +594,85 @@ class _core_font_heights:
         return False
 
 
+class _layout_memo:
+    """Remember how each text is laid out (its lines, their sizes and offsets) while a report is drawn.
+
+    matplotlib lays a text out anew every time it is measured or drawn (a tick label three or
+    four times a page: its box, its axis's and its siblings' boxes, then drawing), although the
+    result depends only on what the key below holds, never on where the text stands.  The
+    memo holds the original's own results, so the pages are the same bytes; texts that wrap to
+    the figure or use TeX are laid out as usual.  Restored on exit."""
+
+    def __enter__(self):
+        from matplotlib.text import Text
+
+        self._cls = Text
+        self._orig = Text.__dict__["_get_layout"]
+        layout = self._orig
+        memo: dict = {}
+
+        def _get_layout(text, renderer):
+            if text.get_wrap() or text.get_usetex():
+                return layout(text, renderer)
+            base = getattr(renderer, "_renderer", renderer)  # the PDF writer's mixed-mode wrapper
+            try:
+                key = (
+                    type(base),
+                    text.figure.dpi,
+                    text.get_text(),
+                    text.get_parse_math(),
+                    hash(text.get_fontproperties()),
+                    text._linespacing,
+                    text._get_multialignment(),
+                    text.get_rotation(),
+                    text._horizontalalignment,
+                    text._verticalalignment,
+                    text.get_rotation_mode(),
+                )
+            except AttributeError:  # a matplotlib that keeps these otherwise: no memo
+                return layout(text, renderer)
+            found = memo.get(key)
+            if found is None:
+                found = memo[key] = layout(text, renderer)
+            return found
+
+        Text._get_layout = _get_layout
+        return self
+
+    def __exit__(self, *exc):
+        self._cls._get_layout = self._orig
+        return False
+
+
+class _afm_read_once:
+    """Let the PDF writer name each core font from the metrics already read for measuring text.
+
+    matplotlib reads a core font's metrics file once to measure text and again, whole, when it
+    writes the font's entry at the end of the file, only to take its name from it (3 fonts, a
+    twentieth of a one-spectrum report).  Restored on exit; a no-op where matplotlib differs."""
+
+    def __enter__(self):
+        from matplotlib.backends import _backend_pdf_ps, backend_pdf
+
+        self._mod, self._orig = backend_pdf, backend_pdf.__dict__.get("AFM")
+        read = getattr(_backend_pdf_ps, "_cached_get_afm_from_fname", None)
+        if self._orig is None or read is None:
+            self._mod = None
+            return self
+
+        def afm(fh):
+            name = getattr(fh, "name", None)
+            return read(name) if isinstance(name, str) else self._orig(fh)
+
+        backend_pdf.AFM = afm
+        return self
+
+    def __exit__(self, *exc):
+        if self._mod is not None:
+            self._mod.AFM = self._orig
+        return False
+
+
 class _font_memo:
     """Remember matplotlib's font lookups while a report is drawn (its settings do not change then).
 
@@ -608,12 +693,27 @@ class _font_memo:
         sizeless = all(f.size == "scalable" for f in (*fm.fontManager.ttflist, *fm.fontManager.afmlist))
 
         def findfont(prop, fontext="ttf", directory=None, fallback_to_default=True, rebuild_if_missing=True):
-            fp = fm.FontProperties._from_any(prop).copy()  # a copy: a text may change its properties later
-            if sizeless:
-                fp.set_size(10.0)
-            key = (fp, fontext, directory, fallback_to_default, rebuild_if_missing)
+            fp = fm.FontProperties._from_any(prop)
+            # what FontProperties compares by (its __hash__), without copying it on every lookup
+            key = (
+                tuple(fp.get_family()),
+                fp.get_style(),
+                fp.get_variant(),
+                fp.get_weight(),
+                fp.get_stretch(),
+                None if sizeless else fp.get_size(),
+                fp.get_file(),
+                fp.get_math_fontfamily(),
+                fontext,
+                directory,
+                fallback_to_default,
+                rebuild_if_missing,
+            )
             found = memo.get(key)
             if found is None:
+                fp = fp.copy()  # a copy: a text may change its properties later
+                if sizeless:
+                    fp.set_size(10.0)
                 found = memo[key] = lookup(fp, fontext, directory, fallback_to_default, rebuild_if_missing)
             return found
 
@@ -756,6 +856,7 @@ def _write_pdf(
                 titles.append(title)
                 save_pdf_page(pdf, fig)
         body = labels_v[n_verdict : total - 1 - n_inputs]
+        last_sample = None  # the previous spectrum page's figure, drawn over by the next one
         for k, (kind, arg) in enumerate(plan[1:]):
             common = {"paper": paper}
             if kind == "sample":
@@ -770,8 +871,10 @@ def _write_pdf(
                     regions=regions,
                     page_label=body[k],
                     identity=ident,
+                    reuse=last_sample,
                     **common,
                 )
+                last_sample = fig
             elif kind == "comparison":
                 fig = pg.comparison_page(
                     analysis,

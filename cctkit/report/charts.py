@@ -249,6 +249,7 @@ def shorten(text: str, width: int, *, keep: str = "end") -> str:
 
 def not_computed(ax, what: str) -> None:
     """Mark ``ax`` as a placeholder: ``what`` was not computed for this report."""
+    ax._cctkit_placeholder = True  # its frame is changed: a later page does not draw on it again
     ax.set_xticks([])
     ax.set_yticks([])
     for side in ax.spines.values():
@@ -576,26 +577,54 @@ def _locus_geometry(observer: int) -> dict[str, Any]:
     """The lines every chromaticity chart draws, in CIE 1960 uv, computed once per observer:
     the Planckian locus, the constant-Duv lines, the isotemperature lines of :data:`_ISO_LEVELS`
     (:func:`cctkit.locus.uv_from_cct_duv`, i.e. :func:`cctkit.locus.isotemperature_line`) and
-    the spectrum locus (the colour-matching functions' chromaticities)."""
+    the spectrum locus (the colour-matching functions' chromaticities).
+
+    Kept in the table cache (:func:`cctkit.tables.cached_arrays`) beside the tables they come
+    from: computing them was a tenth of a one-spectrum report's drawing time."""
+    import hashlib
+
+    from ..constants import C2_M_K
+    from ..tables import cached_arrays
+
+    temps = sorted({t for level in _ISO_LEVELS for t in level})
+    # the cache key names everything the lines depend on besides the tables and versions
+    recipe = repr((observer, C2_M_K, DUV_LIMIT, _LOCUS_T, _DUV_LINES, temps)).encode()
+    key = f"chart-locus-{observer}-{hashlib.sha256(recipe).hexdigest()[:16]}"
+    arr = cached_arrays(key, lambda: _locus_arrays(observer, temps), ("locus", "duv_lines", "iso", "spectral"))
+    return {
+        "locus": arr["locus"],
+        "duv_lines": arr["duv_lines"],
+        "iso": dict(zip(temps, arr["iso"])),
+        "spectral": arr["spectral"],
+    }
+
+
+#: Temperatures the locus and the constant-Duv lines are drawn through (start, stop [K], points).
+_LOCUS_T = (1000.0, 100000.0, 700)
+
+
+def _locus_arrays(observer: int, temps: list[int]) -> dict[str, np.ndarray]:
+    from ..analysis import one_blas_thread
     from ..colorimetry import XYZ_to_uv
     from ..locus import locus_normal
     from ..tables import cmfs
 
-    T = np.geomspace(1000.0, 100000.0, 700)
+    T = np.geomspace(_LOCUS_T[0], _LOCUS_T[1], int(_LOCUS_T[2]))
     duvs = np.asarray(_DUV_LINES, dtype=np.float64)
     # uv_from_cct_duv is uv(T) + Duv n(T): the locus and its normal once per temperature, not per line.
-    uv, n = locus_normal(T, observer=observer)
+    # One BLAS thread: the cached lines are the same bits whoever computes them first.
+    with one_blas_thread():
+        uv, n = locus_normal(T, observer=observer)
+        iso_uv, iso_n = locus_normal(np.asarray(temps, dtype=np.float64), observer=observer)
     duv_lines = uv[None, :, :] + duvs[:, None, None] * n[None, :, :]
-    temps = sorted({t for level in _ISO_LEVELS for t in level})
     grid = np.linspace(-DUV_LIMIT, DUV_LIMIT, 41)
-    iso_uv, iso_n = locus_normal(np.asarray(temps, dtype=np.float64), observer=observer)
     iso = iso_uv[:, None, :] + grid[None, :, None] * iso_n[:, None, :]
     with np.errstate(all="ignore"):
         spectral = XYZ_to_uv(np.asarray(cmfs(observer), dtype=np.float64))
     return {
         "locus": uv,
         "duv_lines": duv_lines,
-        "iso": dict(zip(temps, iso)),
+        "iso": iso,
         "spectral": spectral[np.all(np.isfinite(spectral), axis=1)],
     }
 

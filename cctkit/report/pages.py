@@ -168,25 +168,54 @@ def headline_rows(rec: dict[str, Any]) -> list[tuple[str, str, str, str]]:
 
 
 class _Page:
-    """A figure with a coordinate system in inches from the top-left corner of the paper."""
+    """A figure with a coordinate system in inches from the top-left corner of the paper.
+
+    ``reuse``: the figure of an earlier page of the same layout, already written.  Its axes are
+    emptied and handed out again, in order, wherever a page asks for axes at the same place
+    (:meth:`axes`): a new Axes and its ticks cost about a third of a spectrum page's time, and
+    a report's spectrum pages all have the same layout.  Call :meth:`finish` once the page is drawn.
+    """
 
     MARGIN = 0.45
 
-    def __init__(self, paper: str, landscape: bool = False):
+    def __init__(self, paper: str, landscape: bool = False, *, reuse=None):
         from matplotlib.figure import Figure
 
         w, h = PAPER_IN[paper]
         if landscape:
             w, h = h, w
         self.w, self.h = w, h
-        self.fig = Figure(figsize=(w, h))
+        self._spare: list = []
+        if reuse is not None and tuple(reuse.get_size_inches()) == (w, h):
+            self.fig = reuse
+            for artist in [*reuse.texts, *reuse.artists, *reuse.lines, *reuse.patches, *reuse.images]:
+                artist.remove()
+            self._spare = list(reuse.axes)
+        else:
+            self.fig = Figure(figsize=(w, h))
         self.left = self.MARGIN
         self.right = w - self.MARGIN
         self.width = self.right - self.left
 
     def axes(self, x: float, y: float, w: float, h: float, **kw):
         """Axes whose plotting box spans x..x+w [in] from the left, y..y+h [in] from the top."""
-        return self.fig.add_axes((x / self.w, 1.0 - (y + h) / self.h, w / self.w, h / self.h), **kw)
+        rect = (x / self.w, 1.0 - (y + h) / self.h, w / self.w, h / self.h)
+        if self._spare:
+            ax = self._spare.pop(0)
+            if _reusable(ax, rect, kw):
+                _empty(ax)
+                return ax
+            for old in [ax, *self._spare]:  # the layout differs from here on: new axes, in order
+                self.fig.delaxes(old)
+            self._spare = []
+        return self.fig.add_axes(rect, **kw)
+
+    def finish(self):
+        """The figure, without the earlier page's axes this page did not ask for."""
+        for old in self._spare:
+            self.fig.delaxes(old)
+        self._spare = []
+        return self.fig
 
     def text(self, x: float, y: float, s: str, **kw):
         kw.setdefault("va", "top")
@@ -204,6 +233,39 @@ class _Page:
                 lw=lw,
             )
         )
+
+
+def _reusable(ax, rect, kw) -> bool:
+    """Whether ``ax`` of an earlier page can serve as axes at ``rect`` (figure fraction) with ``kw``."""
+    if set(kw) - {"sharex"} or getattr(ax, "_cctkit_placeholder", False):
+        return False
+    if not all(hasattr(ax, a) for a in ("_children", "_get_lines", "_get_patches_for_fill", "_left_title")):
+        return False  # a matplotlib that keeps these elsewhere: new axes, only slower
+    if kw.get("sharex") is not getattr(ax, "_sharex", False):
+        return False
+    old = ax.get_position(original=True).bounds
+    return all(abs(a - b) < 1e-12 for a, b in zip(old, rect))
+
+
+def _empty(ax) -> None:
+    """Take everything a chart drew off ``ax``, keeping its axis objects and their ticks.
+
+    What a chart sets on the axes itself (limits, ticks, aspect, axis on/off) it sets again on
+    every page; the rest is put back as a new Axes has it: no titles or axis labels, no data
+    limits, the property cycles restarted, the position as placed (a fixed aspect moved it).
+    A chart that changes the frame (:func:`charts.not_computed`) marks the axes as not to be
+    used again."""
+    for artist in list(ax._children):
+        artist.remove()
+    if ax.legend_ is not None:
+        ax.legend_.remove()
+    ax.containers.clear()
+    for text in (ax.title, ax._left_title, ax._right_title, ax.xaxis.label, ax.yaxis.label):
+        text.set_text("")
+    ax.ignore_existing_data_limits = True
+    ax._get_lines = type(ax._get_lines)()
+    ax._get_patches_for_fill = type(ax._get_patches_for_fill)("Polygon")
+    ax._set_position(ax.get_position(original=True), which="active")
 
 
 def _header(page: _Page, title: str, subtitle: str, page_label: str) -> float:
@@ -532,10 +594,14 @@ def sample_page(
     regions,
     page_label: str,
     identity: int | None = None,
+    reuse=None,
 ):
     """One page for spectrum ``i``: the headline strip and the spectrum against its reference first,
-    then the rendering detail (hue wheel, CIE 13.3 bars, chromaticity), then identity and provenance."""
-    p = _Page(paper)
+    then the rendering detail (hue wheel, CIE 13.3 bars, chromaticity), then identity and provenance.
+
+    ``reuse``: the figure of the previous spectrum page, once it is written; it is drawn over
+    (its axes emptied and used again), which is quicker than a new figure."""
+    p = _Page(paper, reuse=reuse)
     sub = " | ".join(t for t in (meta.get("title"), meta.get("project"), meta.get("lab")) if t)
     y = _header(p, f"{rec['name']}", sub or (rec.get("source") or ""), page_label)
     intents = (meta.get("design_intents") or {}).get(i, ())
@@ -608,7 +674,7 @@ def sample_page(
     elif bottom - y >= 0.1:
         p.text(p.left, y, f"Flags ({len(rec.get('flags', []))}): see the JSON record", fontsize=5.8)
     _footer(p, meta, page_label, rec.get("sha256"))
-    return p.fig
+    return p.finish()
 
 
 def cover_page(
