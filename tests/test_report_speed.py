@@ -135,3 +135,19 @@ def test_remembered_text_layout_gives_the_same_bytes(tmp_path, monkeypatch):
     monkeypatch.setattr(report_pages, "_reusable", lambda ax, rect, kw: False)
     build(a, tmp_path / "plain.pdf", paper="letter", diagram="xy")
     assert (tmp_path / "memo.pdf").read_bytes() == (tmp_path / "plain.pdf").read_bytes()
+
+
+def test_a_report_command_run_inside_another_program_freezes_nothing(tmp_path):
+    """Only a run from the console entry point (which exits next) leaves the report's objects
+    uncollected; the same command run in-process (a test's runner, a script) frees them as usual."""
+    from typer.testing import CliRunner
+
+    from cctkit import cli
+
+    src = tmp_path / "one.csv"
+    src.write_text("wavelength_nm,lamp\n" + "\n".join(f"{w},{1 + w / 1000:.4f}" for w in range(380, 781, 5)) + "\n")
+    assert not cli.CONSOLE_RUN
+    frozen = gc.get_freeze_count()
+    r = CliRunner().invoke(cli.app, ["report", str(src), "-o", str(tmp_path / "one.pdf"), "--date", "2026-01-15"])
+    assert r.exit_code == 0, r.output
+    assert gc.get_freeze_count() == frozen and gc.isenabled()
