@@ -1,7 +1,7 @@
 """A tight numpy version of analyse()'s main arithmetic: the floor cctkit is measured against.
 
 No dataclasses, no flags, no records, no validation: one product of the spectra with every
-weighting function, CCT/Duv, both colour-rendering references at tristimulus level and
+weighting function (photometric, photon, PPF and alpha-opic totals among its columns), CCT/Duv, both colour-rendering references at tristimulus level and
 CIE 13.3 / CIE 224 / TM-30 written as plain array expressions.  Shape and dominant
 wavelength are called from cctkit on both sides (their arithmetic is not duplicated here),
 and so is the CCT solver (``bench_cct.py`` measures it against its own floor).  The
@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from cctkit.alphaopic import D65_ELR_W_PER_LM, action_spectra
 from cctkit.cct import cct_duv
 from cctkit.constants import KM_LM_PER_W, WAVELENGTH_NM
 from cctkit.dominant import dominant_wavelength
@@ -28,11 +29,13 @@ _FL = 0.2 * _K**4 * 500.0 + 0.1 * (1.0 - _K**4) ** 2 * np.cbrt(500.0)
 
 
 def weights() -> np.ndarray:
-    """(471, 3 + 42 + 3 + 297 + 1 + 2): XYZ 2 deg, TCS, XYZ 10 deg 380-780, CES, Y10, V', photons."""
+    """(471, 3 + 42 + 3 + 297 + 1 + 2 + 1 + 5): XYZ 2 deg, TCS, XYZ 10 deg 380-780, CES, Y10, V', photons,
+    photons over 400-700 nm (PPF), the five alpha-opic action spectra."""
     L = WAVELENGTH_NM.shape[0]
     c2, c10 = cmfs(2), cmfs(10) * ((WAVELENGTH_NM >= 380) & (WAVELENGTH_NM <= 780))[:, None]
     tcs, ces = table("tcs_1995"), table("ces_2017")
     photons = (WAVELENGTH_NM * 1e-9 / (6.62607015e-34 * 299792458.0 * 6.02214076e23) * 1e6)[:, None]
+    par = ((WAVELENGTH_NM >= 400) & (WAVELENGTH_NM <= 700))[:, None]
     return np.ascontiguousarray(
         np.concatenate(
             [
@@ -43,6 +46,8 @@ def weights() -> np.ndarray:
                 cmfs(10)[:, 1:2],
                 table("v_scotopic")[:, None],
                 photons,
+                photons * par,
+                action_spectra(),
             ],
             axis=1,
         )
@@ -96,7 +101,12 @@ def floor(values: np.ndarray, W: np.ndarray, day_rows: np.ndarray) -> dict[str, 
         "ler": xyz[:, 1] / values.sum(1),
         "sp": 1700.06 * R[:, 346] / xyz[:, 1],
         "photons": R[:, 347],
+        "ppf": R[:, 348],
+        "uvp": np.stack([u, 1.5 * v], -1),
     }
+    alpha = R[:, 349:354]
+    elr = alpha / xyz[:, 1:2]
+    out.update(alpha=alpha, alpha_elr=elr, alpha_edi=alpha / D65_ELR_W_PER_LM, alpha_der=elr / D65_ELR_W_PER_LM)
     out["shape"] = spectral_shape(values)
     out["dominant"] = dominant_wavelength(xy)
     T = np.where(
@@ -177,6 +187,18 @@ def floor(values: np.ndarray, W: np.ndarray, day_rows: np.ndarray) -> dict[str, 
     out["Rhs"] = (-sh[..., 0] * np.sin(th) + sh[..., 1] * np.cos(th)) / Cr
     out["Rf_h"] = 10 * np.log1p(np.exp((100 - 6.73 * bsum(dE) / cnt) / 10))
     return out
+
+
+#: Blockings the benchmark times the floor with (0: all spectra at once); it takes the fastest.  Blocks
+#: keep the temporaries in the processor's cache, which pays on a shared machine (analyse() works in
+#: blocks too: 4096 spectra for the products, 1024 for the colour appearance model).
+FLOOR_BLOCKS = (0, 4096, 1024)
+
+
+def floor_blocks(values: np.ndarray, W: np.ndarray, day_rows: np.ndarray, block: int) -> list[dict[str, np.ndarray]]:
+    """:func:`floor` of ``values`` in blocks of ``block`` spectra (all at once for 0)."""
+    step = block or values.shape[0]
+    return [floor(values[i : i + step], W, day_rows) for i in range(0, values.shape[0], step)]
 
 
 def prepare():

@@ -130,3 +130,22 @@ def test_cam_with_one_matrix_per_white_equals_the_stepwise_model():
     close(xyz_to_cam02ucs(XYZ[0], XYZ_w[0, 0]), cam02ucs_stepwise(XYZ[0], XYZ_w[0, 0]))  # one white
     per_sample = np.broadcast_to(XYZ_w, XYZ.shape)
     close(xyz_to_cam02ucs(XYZ, per_sample), cam02ucs_stepwise(XYZ, per_sample))  # a white per sample
+
+
+def test_blocks_of_the_appearance_model_change_no_bit(monkeypatch):
+    # colour_rendition runs the appearance model in blocks inside each chunk (the chunks fix the matrix
+    # products, whose rounding can depend on the rows multiplied together), writing into the whole
+    # result arrays; any blocking gives the same bits (each value depends on its own spectrum only)
+    import cctkit.rendering as rendering
+
+    v, T = sources(250)
+    T[np.isnan(T)] = 3000.0
+    monkeypatch.setattr(rendering, "_CHUNK", 100)  # several chunks, the last a short one
+    runs = []
+    for block in (100, 32, 1024, 7):
+        monkeypatch.setattr(rendering, "_CAM_BLOCK", block)
+        runs.append(colour_rendition(v, cct_K=T, duv=np.zeros_like(T)).tm30)
+    for r in runs[1:]:
+        for name in ("Jab_test_i", "Jab_ref_i", "Rf_i", "Rf", "Rg", "Rcs_h", "hue_bin_i"):
+            assert getattr(r, name).tobytes() == getattr(runs[0], name).tobytes(), name
+        assert r.reference == runs[0].reference

@@ -36,9 +36,9 @@ from .reference import (
     reference_cie13_3,
     reference_cie224,
 )
-from .tm30 import Tm30Result, tm30, tm30_samples
-from .tm30 import from_rows as tm30_from_rows
-from .tristimulus import rendering_rows
+from .tm30 import Tm30Result, jab_into, tm30, tm30_samples
+from .tm30 import from_jab as tm30_from_jab
+from .tristimulus import column, rendering_rows
 
 __all__ = [
     "Reference",
@@ -165,15 +165,25 @@ def colour_rendition(values, *, cct_K=None, duv=None, measured_range_nm=None) ->
     T_ref = reference_cct(T, None if np.all(np.isnan(duv)) else duv)
     if v.ndim != 2 or v.shape[1] != 471 or T_ref.shape != (v.shape[0],):
         raise ValueError(f"values must have shape (N, 471) and cct_K shape (N,), got {v.shape} and {T_ref.shape}")
-    cri_parts, tm30_parts = [], []
-    for i in range(0, v.shape[0], _CHUNK):  # chunks bound memory; both references built once per chunk
+    n = v.shape[0]
+    if n == 0:
+        return Rendition(cct_K=T_ref, duv=duv, cri=cie13_3(v, T_ref), tm30=tm30(v, T_ref))
+    # Chunks bound the memory of the references and the colour appearance model's temporaries; the
+    # samples' J'a'b' (a result) go straight into the whole arrays, and the per-spectrum TM-30 steps run
+    # once over them (each value depends on its own spectrum only: the same bits as chunk by chunk).
+    cri_parts, m224 = [], []
+    ces = column({"block": "both"}, "samples10")  # the CIE 224 samples' XYZ columns
+    Jt, Jr = (np.empty((n, (ces.stop - ces.start) // 3, 3)) for _ in range(2))
+    for i in range(0, n, _CHUNK):  # both references built once per chunk
         T_c = T_ref[i : i + _CHUNK]
         rows = rendering_rows(v[i : i + _CHUNK], T_c, which="both")
         cri_parts.append(cri_from_rows(rows, T_c))
-        tm30_parts.append(tm30_from_rows(rows, T_c))
-    if not cri_parts:
-        return Rendition(cct_K=T_ref, duv=duv, cri=cie13_3(v, T_ref), tm30=tm30(v, T_ref))
-    fidelity = _concatenate(tm30_parts)
+        for j in range(0, T_c.shape[0], _CAM_BLOCK):  # the appearance model in blocks that stay in cache
+            end = min(j + _CAM_BLOCK, T_c.shape[0])
+            sub = {key: rows[key][j:end] for key in ("test", "ref224")}
+            jab_into({**sub, "block": rows["block"]}, Jt[i + j : i + end], Jr[i + j : i + end])
+        m224.append(rows["m224"])
+    fidelity = tm30_from_jab(Jt, Jr, T_ref, np.concatenate(m224))
     if measured_range_nm is not None:
         fidelity = _short_range_tm30(v, T_ref, fidelity, measured_range_nm)
     return Rendition(cct_K=T_ref, duv=duv, cri=_concatenate(cri_parts), tm30=fidelity)
@@ -214,6 +224,9 @@ def _put_rows(result, rows: np.ndarray, sub):
 
 #: Spectra per block of the rendering computation (bounds the memory of the (n, 99, 3) arrays).
 _CHUNK = 4096
+#: Spectra per block of the colour appearance model: its (n, 99) temporaries then stay in the processor's
+#: cache (measured ~10 % faster than whole chunks on a 2-core machine with a 512 KiB L2 per core).
+_CAM_BLOCK = 1024
 
 
 def _concatenate(parts):

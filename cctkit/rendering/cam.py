@@ -159,13 +159,15 @@ def xyz_to_cam02ucs(
     Y_b: float = 20.0,
     surround: Surround = AVERAGE,
     D: float | None = 1.0,
+    out: np.ndarray | None = None,
 ) -> np.ndarray:
     """CAM02-UCS J', a', b' of ``XYZ`` under white ``XYZ_w`` (parameters as :func:`ciecam02_JMh`).
 
-    Equal to ``cam02ucs(ciecam02_JMh(...))`` but takes cos h, sin h from a, b directly.
+    Equal to ``cam02ucs(ciecam02_JMh(...))`` but takes cos h, sin h from a, b directly.  ``out``
+    (shape ``XYZ.shape``, float64) receives the result when given.
     """
     J, M, a, b, ab = _forward(XYZ, XYZ_w, L_A=L_A, Y_b=Y_b, surround=surround, D=D)
     Jp = 1.7 * J / (1.0 + 0.007 * J)
     with np.errstate(invalid="ignore", divide="ignore"):
         scale = np.log1p(0.0228 * M) / (0.0228 * ab)
-    return np.stack([Jp, scale * a, scale * b], axis=-1)
+    return np.stack([Jp, scale * a, scale * b], axis=-1, out=out)

@@ -175,12 +175,29 @@ def _chunk(test, ref, cmf, sample_w, cf) -> dict[str, np.ndarray]:
     return _fields(_jab(test, cmf, sample_w), _jab(ref, cmf, sample_w), cf)
 
 
-def _jab_from_rows(rows: np.ndarray, xyz: slice, samples: slice) -> np.ndarray:
-    """CAM02-UCS J'a'b' (n, 99, 3) of the CES from rows of :func:`.tristimulus.rendering_rows`."""
+def _jab_from_rows(rows: np.ndarray, xyz: slice, samples: slice, out: np.ndarray | None = None) -> np.ndarray:
+    """CAM02-UCS J'a'b' (n, 99, 3) of the CES from rows of :func:`.tristimulus.rendering_rows` (into ``out``)."""
     with np.errstate(divide="ignore", invalid="ignore"):
         k = 100.0 / rows[:, xyz.start + 1]
         XYZ_s = rows[:, samples].reshape(rows.shape[0], -1, 3) * k[:, None, None]
-        return xyz_to_cam02ucs(XYZ_s, (rows[:, xyz] * k[:, None])[:, None, :])
+        return xyz_to_cam02ucs(XYZ_s, (rows[:, xyz] * k[:, None])[:, None, :], out=out)
+
+
+def jab_into(rows: dict, test_out: np.ndarray, ref_out: np.ndarray) -> None:
+    """CAM02-UCS J'a'b' of the CES under the test sources and their CIE 224 references (rows of
+    :func:`.tristimulus.rendering_rows`) written into ``test_out`` and ``ref_out`` (n, 99, 3)."""
+    from .tristimulus import column
+
+    xyz, samples = column(rows, "xyz10"), column(rows, "samples10")
+    _jab_from_rows(rows["test"], xyz, samples, out=test_out)
+    _jab_from_rows(rows["ref224"], xyz, samples, out=ref_out)
+
+
+def from_jab(Jt: np.ndarray, Jr: np.ndarray, T: np.ndarray, m224: np.ndarray, *, cf: float = CF_CIE224) -> Tm30Result:
+    """:class:`Tm30Result` from the CES' J'a'b' under test and reference (:func:`jab_into`) and the blend weights."""
+    from .reference import _kinds
+
+    return Tm30Result(**_fields(Jt, Jr, cf), cct_K=T, reference=_kinds(m224))
 
 
 def from_rows(rows: dict, T: np.ndarray, *, cf: float = CF_CIE224) -> Tm30Result:
