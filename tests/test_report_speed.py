@@ -111,7 +111,8 @@ def test_report_style_restores_the_pdf_writers_font_reader():
 
 def test_remembered_text_layout_gives_the_same_bytes(tmp_path, monkeypatch):
     """Text laid out once and remembered (build._layout_memo) draws the same PDF as text laid out
-    each time it is measured or drawn; the original layout is back after the report."""
+    each time it is measured or drawn; the original layout is back after the report.  On Letter
+    paper with the CIE 1931 diagram, and the second build also on new axes for every page."""
     import contextlib
 
     import numpy as np
@@ -121,14 +122,32 @@ def test_remembered_text_layout_gives_the_same_bytes(tmp_path, monkeypatch):
     from cctkit.analysis import analyse
     from cctkit.planck import spectral_exitance
     from cctkit.report import build as report_build
+    from cctkit.report import pages as report_pages
     from cctkit.spectra import Quantity, Spectra
 
     wl = np.arange(380.0, 781.0, 5.0)
     values = np.stack([spectral_exitance(t, wl) for t in (3000.0, 5600.0)])
     a = analyse(Spectra(wl, values / values.max(), ("lamp a", "lamp b"), quantity=Quantity.RELATIVE))
     original = Text.__dict__["_get_layout"]
-    build(a, tmp_path / "memo.pdf")
+    build(a, tmp_path / "memo.pdf", paper="letter", diagram="xy")
     assert Text.__dict__["_get_layout"] is original
     monkeypatch.setattr(report_build, "_layout_memo", contextlib.nullcontext)
-    build(a, tmp_path / "plain.pdf")
+    monkeypatch.setattr(report_pages, "_reusable", lambda ax, rect, kw: False)
+    build(a, tmp_path / "plain.pdf", paper="letter", diagram="xy")
     assert (tmp_path / "memo.pdf").read_bytes() == (tmp_path / "plain.pdf").read_bytes()
+
+
+def test_a_report_command_run_inside_another_program_freezes_nothing(tmp_path):
+    """Only a run from the console entry point (which exits next) leaves the report's objects
+    uncollected; the same command run in-process (a test's runner, a script) frees them as usual."""
+    from typer.testing import CliRunner
+
+    from cctkit import cli
+
+    src = tmp_path / "one.csv"
+    src.write_text("wavelength_nm,lamp\n" + "\n".join(f"{w},{1 + w / 1000:.4f}" for w in range(380, 781, 5)) + "\n")
+    assert not cli.CONSOLE_RUN
+    frozen = gc.get_freeze_count()
+    r = CliRunner().invoke(cli.app, ["report", str(src), "-o", str(tmp_path / "one.pdf"), "--date", "2026-01-15"])
+    assert r.exit_code == 0, r.output
+    assert gc.get_freeze_count() == frozen and gc.isenabled()

@@ -421,6 +421,12 @@ def _app_for(args: list[str]) -> _App:
     return globals().get("app") or __getattr__("app")
 
 
+#: True once :func:`main` runs: the process ends when its command does (see ``options.ending_process``).
+CONSOLE_RUN = False
+
+
 def main() -> None:
     """Console-script entry point."""
+    global CONSOLE_RUN
+    CONSOLE_RUN = True
     _app_for(sys.argv[1:])()

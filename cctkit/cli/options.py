@@ -188,3 +188,19 @@ def parse_interpolation(value: str) -> str:
     if key not in INTERPOLATION_METHODS:
         raise InputError(f"--interpolation must be one of {', '.join(INTERPOLATION_METHODS)}, got {value!r}")
     return key
+
+
+def ending_process():
+    """Around a report written just before the process ends: :func:`cctkit.report.build.process_ends_after`
+    (no garbage collection of the report's objects) when the command runs from the console entry
+    point, which exits afterwards; nothing when it runs inside another program (a test's runner,
+    a script calling the app), whose memory must be collected as usual."""
+    from contextlib import nullcontext
+
+    from . import CONSOLE_RUN
+
+    if not CONSOLE_RUN:
+        return nullcontext()
+    from ..report.build import process_ends_after
+
+    return process_ends_after()

@@ -161,9 +161,9 @@ def report_cmd(
         from ..claims import verify
 
         verdict = verify(records, claims).as_dict()
-    from ..report.build import process_ends_after
+    from .options import ending_process
 
-    with process_ends_after():  # nothing of the report is collected: the process ends next
+    with ending_process():  # from the console, nothing of the report is collected: the process ends next
         rep = build_report(
             analysis,
             output,

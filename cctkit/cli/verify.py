@@ -146,9 +146,9 @@ def verify_cmd(
             )
         if report is not None:
             from ..report import build_report
-            from ..report.build import process_ends_after
+            from .options import ending_process
 
-            with process_ends_after():  # nothing of the report is collected: the process ends next
+            with ending_process():  # from the console, nothing of the report is collected: the process ends next
                 rep = build_report(
                     analysis,
                     report,
