@@ -38,7 +38,7 @@ from collections import deque
 from collections.abc import Callable, Generator, Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, TextIO
+from typing import Any, BinaryIO
 
 import numpy as np
 
@@ -180,13 +180,13 @@ def _column(key: str, items: list[Any]) -> np.ndarray:
 
 @dataclass(frozen=True)
 class _ChunkResult:
-    """A worker's answer, only what the writing process writes: CSV text, or an Arrow table.
+    """A worker's answer, only what the writing process writes: CSV rows (UTF-8), or an Arrow table.
 
     ``columns`` names the columns in order (the CSV header, the Parquet schema).
     """
 
     columns: list[str]
-    csv_text: str | None = None
+    csv_bytes: bytes | None = None
     arrow: Any = None
 
 
@@ -221,12 +221,12 @@ def _results(
 def _formatted(table: dict[str, np.ndarray], output: str, csv_dialect: str) -> _ChunkResult:
     """The second half of :func:`_work`: the table as the writer takes it (CSV text or an Arrow table)."""
     if output == ".csv":
-        text = table_csv(table, list(table))
+        data = _csv_bytes(table, list(table))
         if csv_dialect != "comma":  # the rule every command's --csv-dialect follows, run in the workers
             from .spreadsheet import csv_in_dialect
 
-            text = csv_in_dialect(text, csv_dialect)
-        return _ChunkResult(list(table), csv_text=text)
+            data = csv_in_dialect(data.decode("utf-8"), csv_dialect).encode("utf-8")
+        return _ChunkResult(list(table), csv_bytes=data)
     return _ChunkResult(list(table), arrow=_arrow_table(table))
 
 
@@ -239,7 +239,7 @@ class _CsvWriter:
 
     def __init__(self, path: Path, columns: list[str] | None = None, csv_dialect: str = "comma"):
         # with ``columns`` the file already holds the header and some rows (a resumed run): append
-        self._fh: TextIO = open(path, "a" if columns else "w", encoding="utf-8", newline="")
+        self._fh: BinaryIO = open(path, "ab" if columns else "wb")
         self.columns: list[str] | None = list(columns) if columns else None
         self._dialect = csv_dialect
 
@@ -257,11 +257,11 @@ class _CsvWriter:
                 from .spreadsheet import csv_in_dialect
 
                 header = csv_in_dialect(header, self._dialect)
-            self._fh.write(header)
+            self._fh.write(header.encode("utf-8"))
         _checked_columns(self.columns, result.columns)
         if result.columns != self.columns:
             raise RuntimeError("a chunk produced its columns in another order than the first chunk")
-        self._fh.write(result.csv_text or "")
+        self._fh.write(result.csv_bytes or b"")
 
     def close(self) -> None:
         self._fh.flush()
@@ -303,8 +303,8 @@ def _repr_row(values: list[float]) -> str:
 _ORJSON_BAND = (1e-11, 1e-4)
 
 
-def _float_rows(block: np.ndarray) -> list[str]:
-    """The rows of a 2-D float block as CSV cells joined by commas, as ``csv_text`` writes them.
+def _float_rows(block: np.ndarray) -> list[bytes]:
+    """The rows of a 2-D float block as CSV cells joined by commas (UTF-8), as ``csv_text`` writes them.
 
     orjson prints the whole block in C (shortest round-trip digits, ~40 ns a value) and its
     ``null`` (NaN/inf) becomes an empty cell; rows holding a value in :data:`_ORJSON_BAND`
@@ -315,28 +315,35 @@ def _float_rows(block: np.ndarray) -> list[str]:
 
     n, k = block.shape
     if not _orjson_agrees():  # pragma: no cover - an orjson whose number text changed
-        return [_repr_row(r) for r in block.tolist()]
+        return [_repr_row(r).encode() for r in block.tolist()]
     a = np.abs(block)
     with np.errstate(invalid="ignore"):
         band = (a >= _ORJSON_BAND[0]) & (a < _ORJSON_BAND[1])
     hit = band.any(axis=1)
     if k > 1 and 8 * np.count_nonzero(hit) > n:  # many rows: split off the columns that hold such values
         bad = band.any(axis=0)
-        parts: list[list[str]] = []
+        parts: list[list[bytes]] = []
         edges = [0, *(np.flatnonzero(np.diff(bad)) + 1).tolist(), k]
         for lo, hi in itertools.pairwise(edges):
             if bad[lo]:
-                parts.extend(_float_cells(block[:, j]) for j in range(lo, hi))
+                parts.extend(_encoded(_float_cells(block[:, j])) for j in range(lo, hi))
             else:
                 parts.append(_float_rows(block[:, lo:hi]))
-        return list(map(",".join, zip(*parts)))
-    text = orjson.dumps(np.ascontiguousarray(block), option=orjson.OPT_SERIALIZE_NUMPY).decode("ascii")
-    rows = text[2:-2].split("],[")
+        return list(map(b",".join, zip(*parts)))
+    rows = orjson.dumps(np.ascontiguousarray(block), option=orjson.OPT_SERIALIZE_NUMPY)[2:-2].split(b"],[")
     for i in np.flatnonzero(~np.isfinite(a).all(axis=1) & ~hit).tolist():
-        rows[i] = rows[i].replace("null", "")  # orjson writes NaN and inf as null
+        rows[i] = rows[i].replace(b"null", b"")  # orjson writes NaN and inf as null
     for i in np.flatnonzero(hit).tolist():
-        rows[i] = _repr_row(block[i].tolist())
+        rows[i] = _repr_row(block[i].tolist()).encode()
     return rows
+
+
+def _encoded(cells: list[str]) -> list[bytes]:
+    """The cells in UTF-8, encoded as one text where no cell holds a NUL."""
+    joined = "\x00".join(cells)
+    if not cells or joined.count("\x00") != len(cells) - 1:
+        return [c.encode("utf-8") for c in cells]
+    return joined.encode("utf-8").split(b"\x00")
 
 
 def _float_cells(col: np.ndarray) -> list[str]:
@@ -366,15 +373,20 @@ def _cells(col: np.ndarray) -> list[str]:
 def table_csv(table: dict[str, np.ndarray], columns: list[str]) -> str:
     """The rows of ``table`` (no header) as CSV text in ``columns`` order, column by column.
 
-    The bytes equal :func:`cctkit.formats.csv_text` over the same rows (tests hold it):
+    The text equals :func:`cctkit.formats.csv_text` over the same rows (tests hold it):
     floats at repr precision, NaN empty, strings quoted only where CSV needs it.  Each
     run of adjacent float columns is formatted as one block by orjson (see :func:`_float_rows`),
     every other column once, as a whole; the rows are then joined.
     """
+    return _csv_bytes(table, columns).decode("utf-8")
+
+
+def _csv_bytes(table: dict[str, np.ndarray], columns: list[str]) -> bytes:
+    """:func:`table_csv` in UTF-8, as the batch writer takes it (no text decoded and encoded again)."""
     n = _table_rows(table)
     if n == 0:
-        return ""
-    parts: list[list[str]] = []
+        return b""
+    parts: list[list[bytes]] = []
     run: list[np.ndarray] = []
     for k in [*columns, None]:
         col = table.get(k) if k is not None else None
@@ -385,8 +397,8 @@ def table_csv(table: dict[str, np.ndarray], columns: list[str]) -> str:
             parts.append(_float_rows(np.column_stack(run)))
             run = []
         if k is not None:
-            parts.append(_cells(col) if col is not None else [""] * n)
-    return "\n".join(map(",".join, zip(*parts))) + "\n"
+            parts.append(_encoded(_cells(col)) if col is not None else [b""] * n)
+    return b"\n".join(map(b",".join, zip(*parts))) + b"\n"
 
 
 def _table_rows(table: dict[str, np.ndarray]) -> int:
@@ -539,9 +551,69 @@ def _ordered_map(
 def _inline(chunks: Iterator[Spectra], opts: tuple) -> _Results:
     # Formatting one chunk in a second thread while the next is analysed was tried and measured
     # slower on the shared 2-core machine (5.6-6.3 s against 4.0-5.4 s for 12,288 spectra): the two
-    # compete for the cores and the interpreter lock.
-    for chunk in chunks:
-        yield len(chunk), _work(chunk, *opts)
+    # compete for the cores and the interpreter lock.  Reading ahead is another matter: Arrow's CSV
+    # parser and the hashing run without the interpreter lock (see _read_ahead).
+    ahead = _read_ahead(chunks) if os.environ.get("CCTKIT_NO_READ_AHEAD") != "1" else chunks
+    try:
+        for chunk in ahead:
+            yield len(chunk), _work(chunk, *opts)
+    finally:
+        close = getattr(ahead, "close", None)
+        if close is not None:
+            close()
+
+
+def _read_ahead(chunks: Iterator[Spectra], depth: int = 1) -> Generator[Spectra, None, None]:
+    """The chunks, read by a thread up to ``depth`` chunks ahead of their use.
+
+    An error of the reader is raised here, at the chunk where it happened; closing this
+    generator stops the thread (within a chunk's reading) and closes ``chunks``.
+    Used only where no process is forked later: a fork while the thread holds a lock
+    would leave that lock held in the child.
+    """
+    import queue
+    import threading
+
+    q: queue.Queue = queue.Queue(maxsize=depth)
+    stop = threading.Event()
+    end = object()
+
+    def put(item) -> bool:
+        while not stop.is_set():
+            try:
+                q.put(item, timeout=0.05)
+                return True
+            except queue.Full:
+                continue
+        return False
+
+    def read() -> None:
+        try:
+            for chunk in chunks:
+                if not put((chunk, None)):
+                    return
+            put((end, None))
+        except BaseException as exc:  # noqa: BLE001 - handed to the consuming thread, raised there
+            put((None, exc))
+        finally:
+            close = getattr(chunks, "close", None)
+            if close is not None:
+                with contextlib.suppress(Exception):
+                    close()
+
+    thread = threading.Thread(target=read, name="cctkit-read-ahead", daemon=True)
+    thread.start()
+    try:
+        while True:
+            chunk, exc = q.get()
+            if exc is not None:
+                raise exc
+            if chunk is end:
+                return
+            yield chunk
+    finally:
+        stop.set()
+        thread.join()
 
 
 def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> _Results:
@@ -564,6 +636,10 @@ def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> _Result
             max_workers=workers, mp_context=context, initializer=_worker_init, initargs=(os.getpid(),)
         )
 
+    import tempfile
+
+    spool = tempfile.mkdtemp(prefix="cctkit-batch-")  # the workers' results, one file per chunk
+    opts = (spool, *opts)
     pool = new_pool()
     pending: deque[list] = deque()  # [chunk, future, attempts], in input order
     window = 2 * workers
@@ -577,7 +653,7 @@ def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> _Result
                     exhausted = True
                     break
                 try:
-                    future = pool.submit(_work, chunk, *opts)
+                    future = pool.submit(_spooled_work, chunk, *opts)
                 except BrokenProcessPool:  # a worker died since the last look: run it on the new pool below
                     future = None
                 pending.append([chunk, future, 0])
@@ -600,15 +676,44 @@ def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> _Result
                 pool.shutdown(wait=True, cancel_futures=True)
                 pool = new_pool()
                 for entry in pending:  # run what was in flight again, in order
-                    entry[1] = pool.submit(_work, entry[0], *opts)
+                    entry[1] = pool.submit(_spooled_work, entry[0], *opts)
                 continue
             pending.popleft()
-            yield len(item[0]), result
+            yield len(item[0]), _unspooled(result)
     except BaseException:  # stopped, or a chunk failed: do not wait for the chunks still running
         _stop_workers(pool)
         raise
     finally:
         pool.shutdown(wait=True, cancel_futures=True)
+        import shutil
+
+        shutil.rmtree(spool, ignore_errors=True)
+
+
+def _spooled_work(spectra: Spectra, spool: str, *opts) -> str:
+    """:func:`_work` in a local worker, its result left in a file of ``spool``; returns the file's path.
+
+    Only the path goes back through the pool's pipe: a message that short is written in one
+    piece, so a worker stopped or killed while answering cannot leave half a message, on
+    which the pool's result reader would wait forever (seen: a run stopped by SIGTERM hung).
+    """
+    import pickle
+    import tempfile
+
+    result = _work(spectra, *opts)
+    fd, path = tempfile.mkstemp(dir=spool, suffix=".chunk")
+    with os.fdopen(fd, "wb") as fh:
+        pickle.dump(result, fh, protocol=pickle.HIGHEST_PROTOCOL)
+    return path
+
+
+def _unspooled(path: str) -> _ChunkResult:
+    import pickle
+
+    with open(path, "rb") as fh:
+        result = pickle.load(fh)
+    os.unlink(path)
+    return result
 
 
 #: How often a chunk runs again after a local worker process died while running it.

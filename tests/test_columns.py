@@ -138,7 +138,7 @@ def test_float_rows_are_repr_for_any_double(seed):
     for x in (random_doubles(200_000, seed), logs[np.abs(logs) >= 1e-4], logs, np.concatenate([near_band, -near_band])):
         x = x[: x.size // 5 * 5].reshape(-1, 5)
         expected = [",".join("" if not math.isfinite(v) else repr(v) for v in r) for r in x.tolist()]
-        assert _float_rows(x) == expected
+        assert [r.decode() for r in _float_rows(x)] == expected
 
 
 @pytest.mark.parametrize("quantity", ["radiant-flux", "irradiance", "radiance", "intensity", "relative"])
