@@ -55,3 +55,51 @@ def test_blocks_and_lookup_give_the_bits_of_the_plain_bisection(observer):
         plain = np.concatenate([getattr(p, name) for p in parts])
         assert got.tobytes() == plain.tobytes()
     assert np.isfinite(whole.cct_K).sum() > n // 2
+
+
+def _basis_form(tab, k, pu, pv):
+    """The solver's Newton steps on the Hermite basis functions in m (its earlier form, kept as the check)."""
+    h = tab.h
+    seg = cct._segments(tab, k)
+    (u0, u1, du0, du1), (v0, v1, dv0, dv1) = seg
+    gk, gk1 = (pu - u0) * du0 + (pv - v0) * dv0, (pu - u1) * du1 + (pv - v1) * dv1
+    t = np.clip(np.where(gk != gk1, gk / (gk - gk1), 0.5), 0.0, 1.0)
+
+    def hermite(t):
+        t2, t3 = t * t, t * t * t
+        out = []
+        for p0, p1, d0, d1 in seg:
+            m0, m1 = d0 * h, d1 * h
+            f = (2 * t3 - 3 * t2 + 1) * p0 + (t3 - 2 * t2 + t) * m0 + (-2 * t3 + 3 * t2) * p1 + (t3 - t2) * m1
+            d = ((6 * t2 - 6 * t) * p0 + (3 * t2 - 4 * t + 1) * m0 + (-6 * t2 + 6 * t) * p1 + (3 * t2 - 2 * t) * m1) / h
+            d2 = ((12 * t - 6) * p0 + (6 * t - 4) * m0 + (-12 * t + 6) * p1 + (6 * t - 2) * m1) / (h * h)
+            out.append((f, d, d2))
+        return out
+
+    for _ in range(2):
+        (fu, du, d2u), (fv, dv, d2v) = hermite(t)
+        ru, rv = pu - fu, pv - fv
+        t = t - (ru * du + rv * dv) / (-(du * du + dv * dv) + ru * d2u + rv * d2v) / h
+    (fu, du, _), (fv, dv, _) = hermite(t)
+    return 1e6 / (tab.m[k] + t * h), ((pu - fu) * -dv + (pv - fv) * du) / np.hypot(du, dv)
+
+
+@pytest.mark.parametrize("observer", [2, 10])
+def test_polynomial_form_equals_the_hermite_basis_form(observer):
+    # The interpolant is evaluated as a cubic in t by Horner's rule (fewer operations): the same
+    # interpolant and Newton steps, so equal to rounding -- CCT within 1e-10 relative, Duv within
+    # 1e-15 absolute (common practice, no source: the solver's own accuracy is ~1e-5 K, test_cct.py).
+    rng = np.random.default_rng(31)
+    n = 60_000
+    T = np.exp(rng.uniform(np.log(1000.0), np.log(100000.0), n))
+    pts = uv_from_cct_duv(T, rng.uniform(-0.05, 0.05, n), observer=observer)
+    c2 = resolve_c2("cie")
+    tab = cct._table(observer, c2)
+    pu, pv = np.ascontiguousarray(pts[:, 0]), np.ascontiguousarray(pts[:, 1])
+    k, ok = cct._bisect(tab, pu, pv)
+    T_ref, duv_ref = _basis_form(tab, k, pu, pv)
+    got = cct.cct_duv(pts, observer=observer)
+    fine = ok & np.isfinite(got.cct_K)
+    assert fine.sum() > 0.99 * n
+    np.testing.assert_allclose(got.cct_K[fine], T_ref[fine], rtol=1e-10, atol=0)
+    np.testing.assert_allclose(got.duv[fine], duv_ref[fine], rtol=0, atol=1e-15)

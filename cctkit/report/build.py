@@ -694,21 +694,9 @@ class _font_memo:
 
         def findfont(prop, fontext="ttf", directory=None, fallback_to_default=True, rebuild_if_missing=True):
             fp = fm.FontProperties._from_any(prop)
-            # what FontProperties compares by (its __hash__), without copying it on every lookup
-            key = (
-                tuple(fp.get_family()),
-                fp.get_style(),
-                fp.get_variant(),
-                fp.get_weight(),
-                fp.get_stretch(),
-                None if sizeless else fp.get_size(),
-                fp.get_file(),
-                fp.get_math_fontfamily(),
-                fontext,
-                directory,
-                fallback_to_default,
-                rebuild_if_missing,
-            )
+            # FontProperties compare by their hash (as matplotlib's own lookup cache takes them),
+            # which is cheaper than copying the properties on every lookup
+            key = (hash(fp), fontext, directory, fallback_to_default, rebuild_if_missing)
             found = memo.get(key)
             if found is None:
                 fp = fp.copy()  # a copy: a text may change its properties later
