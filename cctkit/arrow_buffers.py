@@ -11,7 +11,7 @@ Each returns None, or takes the ordinary pyarrow route, for what it does not han
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 
@@ -73,8 +73,11 @@ def string_array(items: Sequence[str | None]):
     """A string Arrow array of ``items``; None is null."""
     import pyarrow as pa
 
-    valid = np.fromiter((v is not None for v in items), dtype=bool, count=len(items))
-    texts = [v if v is not None else "" for v in items]
+    if None in items:
+        valid: np.ndarray | None = np.fromiter((v is not None for v in items), dtype=bool, count=len(items))
+        texts = [v if v is not None else "" for v in items]
+    else:  # the usual case: no copy, no per-item Python step
+        valid, texts = None, cast(list[str], list(items))
     joined = "".join(texts)
     if joined.isascii():
         data = joined.encode("ascii")

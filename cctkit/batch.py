@@ -472,7 +472,10 @@ def _arrow_table(table: dict[str, np.ndarray]):
             items = col.tolist()
             arrays.append(bool_array(np.array([bool(v) for v in items]), np.array([v is not None for v in items])))
         else:
-            arrays.append(string_array([None if v is None else str(v) for v in col.tolist()]))
+            items = col.tolist()
+            if not set(map(type, items)) <= {str, type(None)}:
+                items = [None if v is None else str(v) for v in items]
+            arrays.append(string_array(items))
     return pa.Table.from_arrays(arrays, names=list(table))
 
 
