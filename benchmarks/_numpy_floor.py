@@ -112,11 +112,9 @@ def floor(values: np.ndarray, W: np.ndarray, day_rows: np.ndarray) -> dict[str, 
     T = np.where(
         np.isfinite(c.cct_K) & (np.abs(c.duv) <= 0.05) & (c.cct_K >= 1000) & (c.cct_K <= 25000), c.cct_K, np.nan
     )
-    # references at tristimulus level
-    P = np.full((n, 346), np.nan)
-    D = np.full((n, 346), np.nan)
+    # references at tristimulus level, each computed for the spectra that have it only
     low = T < 5000
-    P[low] = spectral_exitance(T[low]) @ W[:, :346]
+    P = spectral_exitance(T[low]) @ W[:, :346]
     hi = T >= 4000
     dxy = daylight_xy(T[hi])
     x, y = dxy[:, 0], dxy[:, 1]
@@ -129,11 +127,18 @@ def floor(values: np.ndarray, W: np.ndarray, day_rows: np.ndarray) -> dict[str, 
         ],
         -1,
     )
-    D[hi] = coef @ day_rows
-    r13 = np.where((T >= 5000)[:, None], D, P)
-    m = np.clip((5000 - T) / 1000, 0, 1)[:, None]
+    D = coef @ day_rows
+    r13 = np.full((n, 346), np.nan)
+    r13[low] = P
+    r13[T >= 5000] = D[T[hi] >= 5000]
+    m = np.clip((5000 - T) / 1000, 0, 1)
     Pn, Dn = P * (100 / P[:, 345:346]), D * (100 / D[:, 345:346])
-    r224 = np.where(m >= 1, Pn, np.where(m <= 0, Dn, m * Pn + (1 - m) * Dn))
+    r224 = np.full((n, 346), np.nan)
+    r224[m >= 1] = Pn[m[low] >= 1]
+    r224[m <= 0] = Dn[m[hi] <= 0]
+    mix = (m > 0) & (m < 1)
+    mb = m[mix][:, None]
+    r224[mix] = mb * Pn[mix[low]] + (1 - mb) * Dn[mix[hi]]
 
     # CIE 13.3
     def scaled(rows, a, b):

@@ -128,23 +128,32 @@ def rendering_rows(
     planck = finite & (T < CIE13_3_DAYLIGHT_FROM_K)  # also where CIE 224 has a Planckian part: hi = 5000 K
     day = finite & (T >= lo)
     n, k = T.shape[0], W.shape[1]
-    P = np.full((n, k), np.nan)
-    D = np.full((n, k), np.nan)
-    if planck.any():
-        P[planck] = spectral_exitance(T[planck], WAVELENGTH_NM) @ W
-    if day.any():
-        D[day] = _daylight_coefficients(T[day], round_m) @ day_rows
+    # the rows of each reference, computed for the spectra that have it only (P: Planckian, D: daylight)
+    P = spectral_exitance(T[planck], WAVELENGTH_NM) @ W if planck.any() else np.zeros((0, k))
+    D = _daylight_coefficients(T[day], round_m) @ day_rows if day.any() else np.zeros((0, k))
     out = {"test": np.asarray(values, dtype=np.float64) @ W, "block": which}
     if which in ("cri", "both"):
-        out["ref13"] = np.where((finite & (T >= CIE13_3_DAYLIGHT_FROM_K))[:, None], D, P)
+        ref13 = np.full((n, k), np.nan)
+        ref13[planck] = P  # below 5000 K
+        above = finite & (T >= CIE13_3_DAYLIGHT_FROM_K)
+        ref13[above] = D[above[day]]
+        out["ref13"] = ref13
     m224 = np.clip((hi - T) / (hi - lo), 0.0, 1.0)
     if which in ("tm30", "both"):
         y = (_Y10_FULL if blend_observer == 10 else _Y2_FULL) - off
+        ref224 = np.full((n, k), np.nan)
+        pure_p, pure_d = m224 >= 1, m224 <= 0  # NaN (no reference) is neither: its row stays NaN
+        blend = finite & ~pure_p & ~pure_d
         with np.errstate(invalid="ignore", divide="ignore"):
-            Pn = P * (100.0 / P[:, y])[:, None]
-            Dn = D * (100.0 / D[:, y])[:, None]
-        mix = m224[:, None] * Pn + (1.0 - m224)[:, None] * Dn
-        out["ref224"] = np.where((m224 >= 1)[:, None], Pn, np.where((m224 <= 0)[:, None], Dn, mix))
+            for rows, of, R in ((pure_p, planck, P), (pure_d, day, D)):
+                if rows.any():
+                    sub = R[rows[of]]
+                    ref224[rows] = sub * (100.0 / sub[:, y])[:, None]
+            if blend.any():  # between the two (CIE 224: 4000-5000 K), both exist; the same arithmetic
+                Pb, Db = P[blend[planck]], D[blend[day]]
+                m = m224[blend][:, None]
+                ref224[blend] = m * (Pb * (100.0 / Pb[:, y])[:, None]) + (1.0 - m) * (Db * (100.0 / Db[:, y])[:, None])
+        out["ref224"] = ref224
     out["m13"] = np.where(finite, np.where(T >= CIE13_3_DAYLIGHT_FROM_K, 0.0, 1.0), np.nan)
     out["m224"] = m224
     return out
