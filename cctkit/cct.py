@@ -265,7 +265,7 @@ def _bracket_segments(tab: _Table, grid: _Grid, pu: np.ndarray, pv: np.ndarray):
 
 
 #: Points solved at once: the solver's temporaries of a block stay in the processor's cache.
-_BLOCK = 8192
+_BLOCK = 16384
 
 
 def _exact(uv: np.ndarray, observer: int, c2: float) -> tuple[np.ndarray, np.ndarray]:

@@ -39,7 +39,14 @@ def XYZ(values: np.ndarray, *, observer: int = 2) -> np.ndarray:
 def safe_divide(a, b):
     """a / b, NaN where b is 0 (no warnings)."""
     with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(b != 0, a / np.where(b != 0, b, 1.0), np.nan)
+        q = np.asarray(np.true_divide(a, b))
+        if q.dtype != np.float64:  # other precisions: the plain form, whose result type numpy decides
+            return np.where(b != 0, a / np.where(b != 0, b, 1.0), np.nan)
+    zero = np.asarray(b) == 0
+    if zero.any():  # one pass over b when nothing is zero: the same values as dividing where b != 0
+        q = np.array(q, copy=True)
+        np.copyto(q, np.nan, where=zero)
+    return q
 
 
 def XYZ_to_xy(XYZ: np.ndarray) -> np.ndarray:

@@ -171,3 +171,16 @@ def test_full_coverage_skips_the_copy_with_the_same_totals():
     ph = photometry(v, s.quantity, measured_range_nm=full)
     copy = np.ascontiguousarray(np.where(masks[which], v, 0.0))
     assert np.array_equal(ph.luminous, KM_LM_PER_W * (copy @ table("cmf_2")[:, 1]))
+
+
+def test_safe_divide_gives_the_masked_quotient_bit_for_bit():
+    from cctkit.colorimetry import safe_divide
+
+    rng = np.random.default_rng(3)
+    a, b = rng.normal(size=(40, 6)), rng.normal(size=(40, 6))
+    b[::4, 1], b[2, 2], b[3, 3], a[5, 5] = 0.0, -0.0, np.nan, np.inf
+    for x, y in ((a, b), (a, b[:, :1]), (a[0], b[0]), (1.0, 0.0), (a.astype(np.float32), b.astype(np.float32))):
+        with np.errstate(divide="ignore", invalid="ignore"):
+            plain = np.where(y != 0, x / np.where(y != 0, y, 1.0), np.nan)  # NaN where the divisor is 0
+        got = safe_divide(x, y)
+        assert got.dtype == plain.dtype and got.shape == plain.shape and got.tobytes() == plain.tobytes()
