@@ -639,9 +639,7 @@ def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> _Result
             max_workers=workers, mp_context=context, initializer=_worker_init, initargs=(os.getpid(),)
         )
 
-    import tempfile
-
-    spool = tempfile.mkdtemp(prefix="cctkit-batch-")  # the workers' results, one file per chunk
+    spool = _new_spool()  # the workers' results, one file per chunk
     opts = (spool, *opts)
     pool = new_pool()
     pending: deque[list] = deque()  # [chunk, future, attempts], in input order
@@ -691,6 +689,26 @@ def _local_pool(chunks: Iterator[Spectra], workers: int, opts: tuple) -> _Result
         import shutil
 
         shutil.rmtree(spool, ignore_errors=True)
+
+
+def _new_spool() -> str:
+    """A new folder for the workers' results, in the system's temporary folder; first the folders
+    of earlier runs that were killed (their process is gone) are removed."""
+    import shutil
+    import tempfile
+
+    from .safe_io import _alive
+
+    base = Path(tempfile.gettempdir())
+    for old in base.glob(f"{_SPOOL_PREFIX}*"):
+        pid = old.name[len(_SPOOL_PREFIX) :].partition("-")[0]
+        if pid.isdigit() and not _alive(int(pid)):
+            shutil.rmtree(old, ignore_errors=True)
+    return tempfile.mkdtemp(prefix=f"{_SPOOL_PREFIX}{os.getpid()}-", dir=base)
+
+
+#: Name of the workers' result folders: the prefix, the process id of the run, a random part.
+_SPOOL_PREFIX = "cctkit-spool-"
 
 
 def _spooled_work(spectra: Spectra, spool: str, *opts) -> str:

@@ -306,3 +306,25 @@ def test_dask_worker_killed_mid_run_loses_and_doubles_nothing(lot, reference, tm
     # Every row once, in order, with the same bytes: the chunk function is pure, and a Dask worker process
     # computes with one BLAS thread like this one.
     assert (tmp_path / "dask.csv").read_bytes() == (tmp_path / "here.csv").read_bytes()
+
+
+def test_result_folders_of_killed_runs_are_removed_live_ones_kept(lot, tmp_path, monkeypatch):
+    """Workers hand their results over through files in a folder named after the run's process;
+    a run removes the folders whose process is gone (a killed run's) and its own at the end."""
+    import tempfile
+
+    from cctkit import batch
+
+    spool = tmp_path / "tmp"
+    spool.mkdir()
+    monkeypatch.setattr(tempfile, "tempdir", str(spool))
+    gone = subprocess.run([sys.executable, "-c", "import os; print(os.getpid())"], capture_output=True, text=True)
+    dead = spool / f"{batch._SPOOL_PREFIX}{int(gone.stdout)}-abc"
+    live = spool / f"{batch._SPOOL_PREFIX}{os.getpid()}-def"
+    for folder in (dead, live):
+        folder.mkdir()
+        (folder / "x.chunk").write_bytes(b"left")
+    r = run("batch", lot, "-o", tmp_path / "out.csv", "--chunk-size", 50, "--workers", 2, "--no-rendering")
+    assert r.exit_code == 0, r.output
+    assert "2 local processes" in r.output
+    assert sorted(p.name for p in spool.iterdir()) == [live.name]
