@@ -33,7 +33,7 @@ def coordinate_pair(name: str, text: str, rest: list[str]) -> tuple[float, float
         return float(parts[0]), float(parts[1])
     except ValueError:
         raise InputError(
-            f"{name} takes two numbers separated by a comma, e.g. {name} 0.3127,0.3290; got {' '.join(parts)!r}"
+            f"{name} takes two numbers separated by a comma, e.g. {name} 0.3127,0.3290; got {','.join(parts)!r}"
         ) from None
 
 
