@@ -46,7 +46,7 @@ from .analysis import (
     flatten_record,
     metadata_text,
 )  # flatten_record re-exported: the flattening rule records_table follows
-from .errors import CctkitError, InputError, Stopped
+from .errors import CctkitError, InputError, Stopped, raise_if_stopped
 from .formats import FORMULA_LEAD, csv_text
 from .progress import Progress  # a live bar on a terminal, plain lines elsewhere
 from .spectra import Spectra
@@ -1003,6 +1003,7 @@ def run_batch(
             writer = _ParquetWriter(tmp, {"cctkit": json.dumps(metadata or {}, default=str)})
         try:
             for n, result in results:
+                raise_if_stopped()
                 writer.write(result)
                 count += n
                 n_chunks += 1
@@ -1013,6 +1014,7 @@ def run_batch(
         if count == 0:
             raise InputError("no spectra found", source=source.path)
         _unchanged(source, identity)
+        raise_if_stopped()
     progress.finish()
     return BatchSummary(str(out), count, n_chunks, time.perf_counter() - t0, executor, tuple(notes))
 
@@ -1160,6 +1162,7 @@ def _resumable(
         chunks = 0
     try:
         for n, result in results:
+            raise_if_stopped()
             writer.write(result)
             count += n
             chunks += 1
@@ -1192,6 +1195,7 @@ def _resumable(
     if count == 0:
         raise InputError("no spectra found", source=source.path)
     _unchanged(source, identity)
+    raise_if_stopped()
     place(partial, out, overwrite=overwrite, inputs=inputs)
     journal.unlink()
     return count

@@ -62,6 +62,21 @@ class Stopped(BaseException):
         super().__init__(self.reason)
 
 
+#: Signals received by :func:`cctkit.cli`'s stop handler, in order (see :func:`raise_if_stopped`).
+STOP_SIGNALS: list[int] = []
+
+
+def raise_if_stopped() -> None:
+    """Raise :class:`Stopped` for a signal the stop handler recorded.
+
+    The handler raises at once too; this is the safety net at each chunk a long run writes, for a
+    raise that Python code called from C may have discarded (a signal was seen, now and then, to
+    leave ``cctkit batch`` running to its end).
+    """
+    if STOP_SIGNALS:
+        raise Stopped(STOP_SIGNALS[0])
+
+
 @dataclass(frozen=True)
 class Flag:
     """A doubtful condition found while measuring, carried with the results.

@@ -339,3 +339,27 @@ def test_result_folders_of_killed_runs_are_removed_live_ones_kept(lot, tmp_path,
     assert r.exit_code == 0, r.output
     assert "2 local processes" in r.output
     assert sorted(p.name for p in spool.iterdir()) == [live.name]
+
+
+@pytest.mark.parametrize("suffix", [".csv", ".parquet"])
+def test_a_signal_whose_raise_was_discarded_still_stops_the_run(lot, tmp_path, suffix):
+    """The stop handler records each signal before it raises; should the raise be lost on its way (Python
+    code called from C may discard it), the run stops at its next chunk and writes nothing."""
+    from cctkit import errors
+    from cctkit.batch import Progress, run_batch
+    from cctkit.readers.wide import open_chunked
+
+    class SignalSeen(Progress):
+        def update(self, n):
+            super().update(n)
+            if self.done == 20:
+                errors.STOP_SIGNALS.append(signal.SIGTERM)  # what the handler leaves, its raise discarded
+
+    out = tmp_path / f"out{suffix}"
+    try:
+        with pytest.raises(errors.Stopped) as caught:
+            run_batch(open_chunked(lot, chunk_size=10), out, rendering=False, progress=SignalSeen(None, enabled=False))
+    finally:
+        errors.STOP_SIGNALS.clear()
+    assert caught.value.code == 143
+    assert list(tmp_path.iterdir()) == []  # nothing written, no temporary file left

@@ -252,7 +252,10 @@ def _stop_signals():
         yield
         return
 
+    from ..errors import STOP_SIGNALS
+
     def stop(signum, frame):
+        STOP_SIGNALS.append(signum)  # for raise_if_stopped, should this raise be discarded on its way
         raise Stopped(signum)
 
     saved = {sig: signal.signal(sig, stop) for sig in (signal.SIGINT, signal.SIGTERM)}
@@ -261,6 +264,7 @@ def _stop_signals():
     finally:
         for sig, handler in saved.items():
             signal.signal(sig, handler)
+        STOP_SIGNALS.clear()
 
 
 def _plain(exc: BaseException) -> str:
