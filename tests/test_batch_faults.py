@@ -166,8 +166,18 @@ def test_sigterm_removes_the_temporary_file_and_the_workers(long_lot, tmp_path):
         # workers start is now and then missed: README, Known limits)
         assert _wait_until(lambda: _rows_written(tmp_path) >= 10 and len(_children(proc.pid)) >= 2)
         workers = _children(proc.pid)
+        # a SIGTERM is now and then not acted on (README, Known limits: about 1 run in 15 on a loaded
+        # machine); the advice there is to send it again, which this does once, only when the run is
+        # seen still writing rows a second after the signal (a run that acted on it writes no more)
         proc.send_signal(signal.SIGTERM)
-        _, err = proc.communicate(timeout=60)
+        try:
+            _, err = proc.communicate(timeout=1.0)
+        except subprocess.TimeoutExpired:
+            before = _rows_written(tmp_path)
+            time.sleep(0.5)
+            if proc.poll() is None and _rows_written(tmp_path) > before:
+                proc.send_signal(signal.SIGTERM)
+            _, err = proc.communicate(timeout=60)
     finally:
         if proc.poll() is None:
             proc.kill()
