@@ -174,17 +174,12 @@ def _quick_cct(args: list[str]) -> bool:
 
 def main() -> None:
     """Console-script entry point: the plain ``cct`` forms here, everything else by :func:`cctkit.cli.main`."""
-    import signal
+    from .errors import Stopped, stop_signals
 
-    from .errors import Stopped
-
-    def stop(signum, frame):
-        raise Stopped(signum)
-
-    saved = {sig: signal.signal(sig, stop) for sig in (signal.SIGINT, signal.SIGTERM)}
     try:  # as the full command line answers a signal or a closed pipe
-        if _quick_cct(sys.argv[1:]):
-            return
+        with stop_signals():
+            if _quick_cct(sys.argv[1:]):
+                return
     except Stopped as exc:
         sys.stderr.write(f"cctkit: {exc.reason}; {exc.note}\n")
         sys.exit(exc.code)
@@ -194,9 +189,6 @@ def main() -> None:
         except (OSError, ValueError):
             pass
         sys.exit(0)
-    finally:
-        for sig, handler in saved.items():
-            signal.signal(sig, handler)
     from .cli import main as full
 
     full()

@@ -6,6 +6,8 @@ stderr and exit status 2.  Nothing here imports the command-line framework.
 
 from __future__ import annotations
 
+import contextlib
+from collections.abc import Iterator
 from dataclasses import dataclass
 
 __all__ = ["CctkitError", "InputError", "Stopped", "Flag"]
@@ -75,6 +77,31 @@ def raise_if_stopped() -> None:
     """
     if STOP_SIGNALS:
         raise Stopped(STOP_SIGNALS[0])
+
+
+@contextlib.contextmanager
+def stop_signals() -> Iterator[None]:
+    """Ctrl-C (SIGINT) and SIGTERM raise :class:`Stopped` (recorded in :data:`STOP_SIGNALS`
+    first), so every temporary file is removed on the way out; the earlier handlers come back
+    afterwards.  Outside the main thread, where no handler can be set, nothing changes."""
+    import signal
+    import threading
+
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+
+    def stop(signum, frame):
+        STOP_SIGNALS.append(signum)  # for raise_if_stopped, should this raise be discarded on its way
+        raise Stopped(signum)
+
+    saved = {sig: signal.signal(sig, stop) for sig in (signal.SIGINT, signal.SIGTERM)}
+    try:
+        yield
+    finally:
+        for sig, handler in saved.items():
+            signal.signal(sig, handler)
+        STOP_SIGNALS.clear()
 
 
 @dataclass(frozen=True)

@@ -22,7 +22,7 @@ import typer
 from typer.core import TyperCommand, TyperGroup
 
 from .. import __version__
-from ..errors import CctkitError, Stopped
+from ..errors import CctkitError, Stopped, stop_signals
 
 __all__ = ["app", "main"]
 
@@ -175,7 +175,7 @@ class _OneLineErrors(TyperGroup):
             safe_io.forget_inputs()
         streams = _guard_streams()
         try:
-            with _one_line_warnings(), _stop_signals():
+            with _one_line_warnings(), stop_signals():
                 rv = super().main(
                     args=args,
                     prog_name=prog_name or "cctkit",
@@ -240,31 +240,6 @@ def _verbosity_first(args: list[str]) -> list[str]:
         command_seen = command_seen or not a.startswith("-")
         rest.append(a)
     return front + rest
-
-
-@contextlib.contextmanager
-def _stop_signals():
-    """Ctrl-C (SIGINT) and SIGTERM raise :class:`Stopped`, so every temporary file is removed on the way out."""
-    import signal
-    import threading
-
-    if threading.current_thread() is not threading.main_thread():
-        yield
-        return
-
-    from ..errors import STOP_SIGNALS
-
-    def stop(signum, frame):
-        STOP_SIGNALS.append(signum)  # for raise_if_stopped, should this raise be discarded on its way
-        raise Stopped(signum)
-
-    saved = {sig: signal.signal(sig, stop) for sig in (signal.SIGINT, signal.SIGTERM)}
-    try:
-        yield
-    finally:
-        for sig, handler in saved.items():
-            signal.signal(sig, handler)
-        STOP_SIGNALS.clear()
 
 
 def _plain(exc: BaseException) -> str:
