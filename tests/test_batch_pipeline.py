@@ -82,7 +82,7 @@ def test_byte_route_equals_line_route_on_mixed_lines(tmp_path, chunk_size, monke
     lines[12] = ",,,"
     lines[20] = '"lamp, quoted",' + ",".join(rows[20])
     lines[30] = "  lamp padded  ," + ",".join(rows[30]) + "  "
-    lines[40] = ",".join(rows[40]).join(["," , ""])  # no name: named after the file and its row
+    lines[40] = "," + ",".join(rows[40])  # no name: named after the file and its row
     lines[50] = "Lüminaire 50," + ",".join(rows[50])  # not ASCII
     lines[60] = "% another comment"
     lines[70] = "lamp 70," + ",".join(r.upper() for r in rows[70])  # 1E-05 style cells
@@ -133,7 +133,8 @@ def test_bad_rows_give_the_same_error_or_skip_on_both_routes(tmp_path, bad, skip
 def test_descending_header_and_unit_directive_on_the_byte_route(tmp_path):
     rows = _rows(20)
     head = ["name", *map(str, WL[::-1])]
-    text = "# unit: mW/m2/nm\n" + ",".join(head) + "\n" + "".join(f"n{k}," + ",".join(r) + "\n" for k, r in enumerate(rows))
+    body = "".join(f"n{k}," + ",".join(r) + "\n" for k, r in enumerate(rows))
+    text = "# unit: mW/m2/nm\n" + ",".join(head) + "\n" + body
     path = tmp_path / "desc.csv"
     path.write_text(text, encoding="utf-8")
     _assert_same(*_both(path, 6))
