@@ -142,3 +142,97 @@ def test_descending_header_and_unit_directive_on_the_byte_route(tmp_path):
     assert isinstance(got, list)
     # mW -> W, and the file's last column is the first wavelength
     assert got[0].values[0, 0] == float(rows[0][-1]) * 1e-3
+
+
+# --------------------------------------------------------------------------- writers
+
+
+@pytest.fixture(scope="module")
+def small_lot(tmp_path_factory) -> Path:
+    """A wide CSV of 60 LED-like spectra of our own."""
+    path = tmp_path_factory.mktemp("lot") / "lot.csv"
+    return _write(path, [",".join([f"unit {k:02d}", *r]) for k, r in enumerate(_rows(60, seed=3))])
+
+
+def _batch(source: Path, out: Path, **kw):
+    from cctkit.batch import run_batch
+    from cctkit.readers.wide import open_chunked
+
+    return run_batch(open_chunked(source, chunk_size=16), out, rendering=False, **kw)
+
+
+def test_parquet_written_behind_equals_parquet_written_in_place(small_lot, tmp_path, monkeypatch):
+    import cctkit.batch as batch
+
+    behind = []
+    real = batch._ParquetWriter.__init__
+
+    def spy(self, path, metadata, **kw):
+        behind.append(kw.get("behind", False))
+        real(self, path, metadata, **kw)
+
+    monkeypatch.setattr(batch._ParquetWriter, "__init__", spy)
+    _batch(small_lot, tmp_path / "behind.parquet", workers=1)
+    monkeypatch.setattr(batch._ParquetWriter, "__init__", lambda self, path, metadata, **kw: real(self, path, metadata))
+    _batch(small_lot, tmp_path / "in-place.parquet", workers=1)
+    assert behind == [True]  # one process: the chunks were encoded by the writing thread
+    assert (tmp_path / "behind.parquet").read_bytes() == (tmp_path / "in-place.parquet").read_bytes()
+
+
+def test_a_failed_write_behind_is_one_error_and_leaves_nothing(small_lot, tmp_path, monkeypatch):
+    import errno
+    import threading
+
+    import pyarrow.parquet as pq
+
+    real = pq.ParquetWriter.write_table
+    calls = []
+
+    def full_disk(self, table, *a, **k):
+        calls.append(threading.current_thread().name)
+        if len(calls) == 2:
+            raise OSError(errno.ENOSPC, "No space left on device")
+        return real(self, table, *a, **k)
+
+    monkeypatch.setattr(pq.ParquetWriter, "write_table", full_disk)
+    out_dir = tmp_path / "out"
+    out_dir.mkdir()
+    with pytest.raises(InputError, match="No space left on device") as caught:
+        _batch(small_lot, out_dir / "r.parquet", workers=1)
+    assert caught.value.source == str(out_dir / "r.parquet")
+    assert calls[0].startswith("cctkit-parquet-writer")
+    assert list(out_dir.iterdir()) == []  # no output, no temporary file
+    assert not [t for t in threading.enumerate() if t.name.startswith("cctkit-parquet-writer")]
+
+
+@pytest.mark.parametrize("suffix", [".parquet", ".csv"])
+def test_ctrl_c_while_a_chunk_is_written_leaves_nothing(small_lot, tmp_path, suffix):
+    import threading
+
+    from cctkit.batch import Progress
+
+    class Interrupted(Progress):
+        def update(self, n):
+            super().update(n)
+            if self.done >= 32:
+                raise KeyboardInterrupt
+
+    out_dir = tmp_path / "out"
+    out_dir.mkdir()
+    with pytest.raises(KeyboardInterrupt):
+        _batch(small_lot, out_dir / f"r{suffix}", workers=1, progress=Interrupted(None, enabled=False))
+    assert list(out_dir.iterdir()) == []
+    assert not [t for t in threading.enumerate() if t.name.startswith("cctkit-parquet-writer")]
+
+
+def test_csv_output_has_its_writeback_started_chunk_by_chunk(small_lot, tmp_path, monkeypatch):
+    import cctkit.batch as batch
+
+    ranges = []
+    real = batch._start_writeback
+    monkeypatch.setattr(batch, "_start_writeback", lambda fd, a, b: ranges.append((a, b)) or real(fd, a, b))
+    out = tmp_path / "r.csv"
+    _batch(small_lot, out, workers=1)
+    assert len(ranges) == 4  # 60 spectra in chunks of 16
+    assert all(b > a for a, b in ranges) and all(x[1] == y[0] for x, y in zip(ranges, ranges[1:]))
+    assert ranges[-1][1] == out.stat().st_size

@@ -59,7 +59,7 @@ from typing import BinaryIO
 
 import numpy as np
 
-from ..errors import Flag, InputError
+from ..errors import Flag, InputError, quiet_arrow_signals
 from ..spectra import MIN_POINTS, Quantity, Spectra, sha256_of_file, to_working_grid
 from . import (
     SPECTRUM_SUFFIXES,
@@ -417,6 +417,16 @@ def _wide_head(p: Path, source: str) -> _WideHead | None:
     named = _WAVELENGTH_CELL.match(cells[0]) is None
     wl_cells = cells[1:] if named else cells
     if len(wl_cells) < MIN_POINTS:
+        few = [m for m in map(_WAVELENGTH_CELL.match, wl_cells) if m is not None]
+        if named and len(wl_cells) >= 2 and len(few) == len(wl_cells):  # a name column, then wavelengths: too few
+            nm = [float(m.group(1)) for m in few]
+            if all(_HEADER_RANGE_NM[0] <= v <= _HEADER_RANGE_NM[1] for v in nm):
+                raise InputError(
+                    f"the header names only {len(nm)} wavelengths ({min(nm):g}-{max(nm):g} nm); "
+                    f"a spectrum needs at least {MIN_POINTS}",
+                    source=source,
+                    line=header_line,
+                )
         return None
     matches = [m for m in map(_WAVELENGTH_CELL.match, wl_cells) if m is not None]
     if len(matches) != len(wl_cells):
@@ -804,6 +814,7 @@ def _arrow_parse(
         import pyarrow.csv as pacsv
     except ImportError:  # pragma: no cover - a declared dependency
         return None
+    quiet_arrow_signals(pa)  # its per-call signal handling loses a stop signal now and then
     names = [f"c{k}" for k in range(L)]
     types = dict.fromkeys(names, pa.float64())
     if named:
