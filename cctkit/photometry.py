@@ -422,7 +422,12 @@ def photometry(
     from .tables import table
 
     return photometry_of_sums(
-        q, vm @ _V(), vm @ table("v_scotopic"), measured_totals, measured_range_nm=measured_range_nm, masks=(masks, which)
+        q,
+        vm @ _V(),
+        vm @ table("v_scotopic"),
+        measured_totals,
+        measured_range_nm=measured_range_nm,
+        masks=(masks, which),
     )
 
 
