@@ -261,12 +261,40 @@ class _CsvWriter:
         _checked_columns(self.columns, result.columns)
         if result.columns != self.columns:
             raise RuntimeError("a chunk produced its columns in another order than the first chunk")
+        start = self._fh.tell()
         self._fh.write(result.csv_bytes or b"")
+        self._fh.flush()
+        _start_writeback(self._fh.fileno(), start, self._fh.tell())
 
     def close(self) -> None:
         self._fh.flush()
         os.fsync(self._fh.fileno())
         self._fh.close()
+
+
+def _start_writeback(fd: int, start: int, end: int) -> None:
+    """Have the kernel start writing bytes [start, end) of the file to the disk, without waiting for it
+    (Linux ``sync_file_range``): the ``fsync`` at the end then finds little left to write, where it
+    otherwise waited for the whole file (~0.25 s per 50 MB).  Elsewhere, or if refused, nothing happens:
+    the ``fsync`` still makes the file durable and reports what went wrong."""
+    call = _sync_file_range()
+    if call is not None and end > start:
+        call(fd, start, end - start, 2)  # SYNC_FILE_RANGE_WRITE (<linux/fs.h>): start writing, return at once
+
+
+@functools.cache
+def _sync_file_range() -> Any:
+    if not sys.platform.startswith("linux"):
+        return None
+    try:
+        import ctypes
+
+        call = ctypes.CDLL(None, use_errno=True).sync_file_range
+    except (OSError, AttributeError):  # pragma: no cover - a C library without it
+        return None
+    call.argtypes = [ctypes.c_int, ctypes.c_int64, ctypes.c_int64, ctypes.c_uint]
+    call.restype = ctypes.c_int
+    return call
 
 
 _CSV_SPECIAL = frozenset(',"\r\n')
@@ -413,14 +441,27 @@ def _checked_columns(columns: list[str], table: Iterable[str]) -> list[str]:
 
 
 class _ParquetWriter:
-    """Parquet row groups appended chunk by chunk; missing numbers are nulls."""
+    """Parquet row groups appended chunk by chunk; missing numbers are nulls.
 
-    def __init__(self, path: Path, metadata: dict[str, str]):
+    With ``behind``, each chunk is encoded and written by a thread while the caller goes on
+    (pyarrow's writer runs without the interpreter lock), one chunk at a time and in order, so
+    the file's bytes are those of writing in the caller; an error of that write is raised by the
+    next :meth:`write` or by :meth:`close`.  Not where processes are forked while the writer
+    runs: the thread may hold a lock of Arrow's that a forked child would find held.
+    """
+
+    def __init__(self, path: Path, metadata: dict[str, str], *, behind: bool = False):
         self._path = path
         self._metadata = metadata
         self._writer: Any = None  # a pyarrow.parquet.ParquetWriter once the first chunk is in
         self._schema: Any = None
         self.columns: list[str] | None = None
+        self._behind: Any = None  # the writing thread (a one-thread executor) with ``behind``
+        self._pending: Any = None  # the future of the chunk being written
+        if behind:
+            from concurrent.futures import ThreadPoolExecutor
+
+            self._behind = ThreadPoolExecutor(1, thread_name_prefix="cctkit-parquet-writer")
 
     def write(self, result: _ChunkResult) -> None:
         import pyarrow as pa
@@ -442,11 +483,26 @@ class _ParquetWriter:
             tbl = pa.Table.from_arrays(arrays, schema=self._schema)
         else:
             tbl = tbl.replace_schema_metadata(self._schema.metadata)
-        self._writer.write_table(tbl)
+        if self._behind is None:
+            self._writer.write_table(tbl)
+            return
+        self._wait()
+        self._pending = self._behind.submit(self._writer.write_table, tbl)
+
+    def _wait(self) -> None:
+        """Until the chunk being written is written; its error raised here."""
+        pending, self._pending = self._pending, None
+        if pending is not None:
+            pending.result()
 
     def close(self) -> None:
-        if self._writer is not None:
-            self._writer.close()
+        try:
+            self._wait()
+        finally:
+            if self._behind is not None:
+                self._behind.shutdown(wait=True)
+            if self._writer is not None:
+                self._writer.close()
 
 
 def _arrow_table(table: dict[str, np.ndarray]):
@@ -1000,7 +1056,9 @@ def run_batch(
         if suffix == ".csv":
             writer: Any = _CsvWriter(tmp, csv_dialect=csv_dialect)
         else:
-            writer = _ParquetWriter(tmp, {"cctkit": json.dumps(metadata or {}, default=str)})
+            writer = _ParquetWriter(
+                tmp, {"cctkit": json.dumps(metadata or {}, default=str)}, behind=executor == "this process"
+            )
         try:
             for n, result in results:
                 raise_if_stopped()

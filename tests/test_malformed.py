@@ -62,6 +62,13 @@ CASES: list[tuple[str, str, str | bytes, int | None, str]] = [
     ("utf16-bom-only", "bom16.json", codecs.BOM_UTF16_LE + " \n".encode("utf-16-le"), None, r"file is empty"),
     ("comments-only", "notes.csv", "# a\n// b\n% c\n", None, r"no data rows \(only comments"),
     ("header-only", "hdr.csv", "wavelength,A\n", 1, r"header but no data rows"),
+    (
+        "too-few-wavelengths-in-rows",
+        "few.csv",
+        "name,500,510\nlamp A,1,2\n",
+        1,
+        r"the header names only 2 wavelengths \(500-510 nm\) for spectra in rows; a spectrum needs at least 5$",
+    ),
     ("one-column", "one.csv", rows(*[str(w) for w in WL]), 1, r"needs a wavelength column and at least one value"),
     ("nan-cell", "nan.csv", GOOD.replace("390,0.3", "390,nan"), 3, r"missing value 'nan' in column 2"),
     ("na-cell", "na.csv", GOOD.replace("395,0.4", "395,n/a"), 4, r"missing value 'n/a' in column 2"),
@@ -524,6 +531,12 @@ WIDE_CASES = [
         r"binary file, not text \(control character 0x07\)$",
     ),
     ("wide-header-only", wide("# quantity: irradiance", WIDE_HEAD), 2, r"header but no data rows$"),
+    (
+        "wide-too-few-wavelengths",
+        "name;500;510;520\nlamp A;1;2;3\n",
+        1,
+        r"the header names only 3 wavelengths \(500-520 nm\); a spectrum needs at least 5$",
+    ),
 ]
 
 

@@ -463,12 +463,16 @@ def stream_codec(blocks: Iterable[bytes], source: str) -> tuple[str, str, int, t
         return codec, label, skip, ()
     check = codecs.getincrementaldecoder("utf-8")()
     utf8 = True
+    ascii_so_far = True  # the decoder holds nothing back after ASCII: such blocks need no decoding
     offset = 0
     for block in itertools.chain([head], it):
         nul = block.find(b"\x00")
         if nul >= 0:
             raise InputError(f"binary file, not text (NUL byte at offset {offset + nul})", source=source)
         offset += len(block)
+        if ascii_so_far and block.isascii():
+            continue
+        ascii_so_far = False
         if utf8:
             try:
                 check.decode(block)

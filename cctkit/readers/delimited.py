@@ -37,7 +37,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
-from ..spectra import Quantity
+from ..spectra import MIN_POINTS, Quantity
 from . import (
     ParsedSpectra,
     TableLayout,
@@ -301,6 +301,16 @@ def find_table(rows, split, decimal_comma: bool, wcol: int, *, source: str) -> T
     if not segments:
         wide = [(n, c) for (n, _), c in zip(rows, cells) if len(c) >= 2]
         if wide:
+            line, first = wide[0]
+            heads = [_value([c], 0, pattern) for c in first[1:]]
+            nm = [v for v in heads if v is not None and 100 <= v <= 3000]  # plausible wavelengths [nm]
+            if len(wide) > 1 and len(nm) == len(heads):  # a name column, then wavelengths: spectra in rows, too few
+                raise InputError(
+                    f"the header names only {len(nm)} wavelengths ({min(nm):g}-{max(nm):g} nm) for spectra in "
+                    f"rows; a spectrum needs at least {MIN_POINTS}",
+                    source=source,
+                    line=line,
+                )
             raise InputError("header but no data rows", source=source, line=wide[-1][0])
         raise InputError(f"no table of numbers found (lines {rows[0][0]}-{rows[-1][0]} hold text only)", source=source)
 

@@ -55,10 +55,11 @@ import stat
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import BinaryIO
 
 import numpy as np
 
-from ..errors import Flag, InputError
+from ..errors import Flag, InputError, quiet_arrow_signals
 from ..spectra import MIN_POINTS, Quantity, Spectra, sha256_of_file, to_working_grid
 from . import (
     SPECTRUM_SUFFIXES,
@@ -340,6 +341,7 @@ class _WideHead:
     sha256: str
     line_ends: int
     controls: bool = True  # the bytes may hold control characters: check line by line
+    carriage_returns: bool = True  # the bytes may hold CR (line ends other than LF alone)
 
 
 #: Every byte but the ASCII controls the readers refuse (see ``readers.check_controls``): deleting these
@@ -347,9 +349,9 @@ class _WideHead:
 _NOT_CONTROL = bytes(b for b in range(256) if not (b <= 0x08 or 0x0E <= b <= 0x1F or b == 0x7F))
 
 
-def _scan(p: Path, source: str) -> tuple[tuple[str, str, int, tuple[Flag, ...]], str, int, bool]:
-    """The text codec (see :func:`cctkit.readers.stream_codec`), SHA-256 and line count of the file, and
-    whether any byte is an ASCII control character, in one pass.
+def _scan(p: Path, source: str) -> tuple[tuple[str, str, int, tuple[Flag, ...]], str, int, bool, bool]:
+    """The text codec (see :func:`cctkit.readers.stream_codec`), SHA-256 and line count of the file,
+    whether any byte is an ASCII control character, and whether any is a CR, in one pass.
 
     The count is of line ends (LF, CR LF or a lone CR) plus an unterminated last
     line: at least the number of lines.
@@ -358,13 +360,17 @@ def _scan(p: Path, source: str) -> tuple[tuple[str, str, int, tuple[Flag, ...]],
     ends = 0
     last = b""
     controls = False
+    cr = False
 
     def blocks() -> Iterator[bytes]:
-        nonlocal ends, last, controls
+        nonlocal ends, last, controls, cr
         for block in iter(lambda: fh.read(_BLOCK_BYTES), b""):
             h.update(block)
             controls = controls or bool(block.translate(None, _NOT_CONTROL))
-            ends += block.count(b"\n") + block.count(b"\r") - block.count(b"\r\n")
+            ends += block.count(b"\n")
+            if b"\r" in block:  # one C search; most files have none
+                cr = True
+                ends += block.count(b"\r") - block.count(b"\r\n")
             if last.endswith(b"\r") and block.startswith(b"\n"):
                 ends -= 1
             last = block
@@ -375,7 +381,7 @@ def _scan(p: Path, source: str) -> tuple[tuple[str, str, int, tuple[Flag, ...]],
             codec = stream_codec(blocks(), source)
     except OSError as exc:
         raise InputError(f"cannot read the file ({_oserror_text(exc)})", source=source) from None
-    return codec, h.hexdigest(), ends + (0 if last.endswith((b"\n", b"\r")) else 1), controls
+    return codec, h.hexdigest(), ends + (0 if last.endswith((b"\n", b"\r")) else 1), controls, cr
 
 
 def _open_text(p: Path, source: str, codec: str, bom: int):
@@ -396,7 +402,7 @@ def _checked(lines: Iterable[str], source: str) -> Iterator[str]:
 
 def _wide_head(p: Path, source: str) -> _WideHead | None:
     """The header of a wide CSV, or ``None`` when the file is not one (a long layout)."""
-    (codec, label, bom, text_flags), digest, line_ends, controls = _scan(p, source)
+    (codec, label, bom, text_flags), digest, line_ends, controls, cr = _scan(p, source)
     directives: dict[str, tuple[str, int]] = {}
     with _open_text(p, source, codec, bom) as fh:
         try:
@@ -411,6 +417,16 @@ def _wide_head(p: Path, source: str) -> _WideHead | None:
     named = _WAVELENGTH_CELL.match(cells[0]) is None
     wl_cells = cells[1:] if named else cells
     if len(wl_cells) < MIN_POINTS:
+        few = [m for m in map(_WAVELENGTH_CELL.match, wl_cells) if m is not None]
+        if named and len(wl_cells) >= 2 and len(few) == len(wl_cells):  # a name column, then wavelengths: too few
+            nm = [float(m.group(1)) for m in few]
+            if all(_HEADER_RANGE_NM[0] <= v <= _HEADER_RANGE_NM[1] for v in nm):
+                raise InputError(
+                    f"the header names only {len(nm)} wavelengths ({min(nm):g}-{max(nm):g} nm); "
+                    f"a spectrum needs at least {MIN_POINTS}",
+                    source=source,
+                    line=header_line,
+                )
         return None
     matches = [m for m in map(_WAVELENGTH_CELL.match, wl_cells) if m is not None]
     if len(matches) != len(wl_cells):
@@ -448,6 +464,7 @@ def _wide_head(p: Path, source: str) -> _WideHead | None:
         line_ends,
         # in UTF-8 and Latin-1 a control character is its own byte: a file without one needs no line check
         controls or codec not in ("utf-8", "latin-1"),
+        cr or codec not in ("utf-8", "latin-1"),
     )
 
 
@@ -471,6 +488,9 @@ def _open_wide(
 def _iter_wide(
     p: Path, source: str, chunk_size: int, quantity: Quantity, head: _WideHead, skipped: list[InputError] | None = None
 ) -> Iterator[Spectra]:
+    if not head.controls and not head.carriage_returns:
+        yield from _iter_wide_bytes(p, source, chunk_size, quantity, head, skipped)
+        return
     stem = p.stem or source
     count = 0
     directives = dict(head.directives)
@@ -506,6 +526,142 @@ def _iter_wide(
         count += len(rows)
     if count == 0:
         raise InputError("header but no data rows", source=source, line=head.header_line)
+
+
+def _iter_wide_bytes(
+    p: Path, source: str, chunk_size: int, quantity: Quantity, head: _WideHead, skipped: list[InputError] | None = None
+) -> Iterator[Spectra]:
+    """:func:`_iter_wide` for a file of LF line ends in UTF-8 or Latin-1 without control characters, read as bytes.
+
+    A chunk of plain data lines (ASCII, no quote, no blank, comment or padded line: see
+    :func:`_plain_rows`) goes to Arrow's parser as one block of bytes, names and numbers alike;
+    any other chunk goes line by line through :func:`cctkit.readers.content_lines` and
+    :func:`_wide_chunk`, exactly as :func:`_iter_wide` reads it.  The spectra are the same
+    (``tests/test_batch.py`` compares both routes).
+    """
+    stem = p.stem or source
+    count = 0
+    directives = dict(head.directives)
+
+    def no_late_directive() -> None:
+        late = [(line, key) for key, (_, line) in directives.items() if key not in head.directives]
+        if late:
+            line, key = min(late)
+            raise InputError(f"'# {key}:' after the header; directives must come before it", source=source, line=line)
+
+    rows: list[tuple[int, str]] = []  # content lines of a chunk read line by line
+    try:
+        fh = open(p, "rb")
+        fh.seek(head.bom)
+    except OSError as exc:
+        raise InputError(f"cannot read the file ({_oserror_text(exc)})", source=source) from None
+    with fh:
+        reader = _LineReader(fh)
+        number = len(reader.take(head.header_line))  # the lines up to the header, already read by _wide_head
+        while True:
+            lines = reader.take(chunk_size - len(rows))
+            if not lines:
+                break
+            first = number + 1
+            number += len(lines)
+            if not rows:
+                plain = _plain_rows(b"\n".join(lines), len(lines), head)
+                if plain is not None:
+                    no_late_directive()
+                    names, values = plain
+                    if names is None:
+                        names = [f"{stem}#{count + k + 1}" for k in range(len(lines))]
+                    numbers = list(range(first, first + len(lines)))
+                    chunk = _wide_spectra(numbers, names, values, {}, source, stem, count, quantity, head, skipped)
+                    if chunk is not None:
+                        yield chunk
+                    count += len(lines)
+                    continue
+            try:
+                text = [line.decode(head.codec) for line in lines]
+            except UnicodeDecodeError:
+                raise InputError(f"not valid {head.label} text", source=source) from None
+            rows.extend(content_lines(text, directives, source=source, start=first))
+            if len(rows) == chunk_size:
+                no_late_directive()
+                chunk = _wide_chunk(rows, source, stem, count, quantity, head, skipped)
+                if chunk is not None:
+                    yield chunk
+                count += len(rows)
+                rows = []
+    no_late_directive()
+    if rows:
+        chunk = _wide_chunk(rows, source, stem, count, quantity, head, skipped)
+        if chunk is not None:
+            yield chunk
+        count += len(rows)
+    if count == 0:
+        raise InputError("header but no data rows", source=source, line=head.header_line)
+
+
+class _LineReader:
+    """Lines (without their LF) of a binary file, handed out in batches of a given count."""
+
+    def __init__(self, fh: BinaryIO):
+        self._fh = fh
+        self._lines: list[bytes] = []
+        self._next = 0
+        self._rest = b""  # the start of a line the last block did not end
+        self._eof = False
+
+    def take(self, n: int) -> list[bytes]:
+        """The next ``n`` lines, fewer at the end of the file."""
+        out: list[bytes] = []
+        while len(out) < n:
+            if self._next == len(self._lines) and not self._fill():
+                break
+            k = min(n - len(out), len(self._lines) - self._next)
+            out += self._lines[self._next : self._next + k]
+            self._next += k
+        return out
+
+    def _fill(self) -> bool:
+        if self._eof:
+            return False
+        block = self._fh.read(_BLOCK_BYTES)
+        if not block:
+            self._eof = True
+            self._lines, self._next, self._rest = ([self._rest] if self._rest else []), 0, b""
+            return bool(self._lines)
+        self._lines = (self._rest + block).split(b"\n")
+        self._rest = self._lines.pop()
+        self._next = 0
+        return True
+
+
+#: First bytes of a line that :func:`_plain_rows` leaves to the line-by-line route: white space (stripped
+#: there), a separator (a line of separators only, or an empty name), a comment's lead (# // %).
+_NOT_PLAIN_FIRST = np.zeros(256, dtype=bool)
+_NOT_PLAIN_FIRST[list(b" \t\x0b\x0c,;#/%")] = True
+_NOT_PLAIN_LAST = np.zeros(256, dtype=bool)
+_NOT_PLAIN_LAST[list(b" \t\x0b\x0c")] = True
+
+
+def _plain_rows(data: bytes, n: int, head: _WideHead) -> tuple[list[str] | None, np.ndarray] | None:
+    """Names (None for a file without a name column) and values of ``n`` LF-separated data lines, parsed
+    by Arrow in one go; None where the lines are not all plain: not ASCII, a quote, an empty line, a
+    line whose first or last byte is in :data:`_NOT_PLAIN_FIRST` / :data:`_NOT_PLAIN_LAST`, or a cell
+    Arrow does not read as a number (such lines take the line-by-line route, which names what is wrong).
+
+    On plain lines the line-by-line route strips nothing and splits the name off at the first
+    delimiter: the cells Arrow sees are the same text, and the numbers the same bits.
+    """
+    if not data.isascii() or b'"' in data:
+        return None
+    a = np.frombuffer(data, dtype=np.uint8)
+    breaks = np.flatnonzero(a == 10)
+    if breaks.size != n - 1:
+        return None
+    starts = np.concatenate(([0], breaks + 1))
+    ends = np.concatenate((breaks, [a.size]))
+    if (starts >= ends).any() or _NOT_PLAIN_FIRST[a[starts]].any() or _NOT_PLAIN_LAST[a[ends - 1]].any():
+        return None
+    return _arrow_parse(data, head.delimiter, head.wavelength_nm.size, head.named, n)
 
 
 def _wide_chunk(
@@ -547,6 +703,24 @@ def _wide_chunk(
         values = fast
     else:  # outside the handler: errors kept for a report must not hold this frame through their context
         values = _cell_by_cell(rows, head, source, None if skipped is None else bad_rows)
+    numbers = [number for number, _ in rows]
+    return _wide_spectra(numbers, names, values, bad_rows, source, stem, offset, quantity, head, skipped)
+
+
+def _wide_spectra(
+    numbers: list[int],
+    names: list[str],
+    values: np.ndarray,
+    bad_rows: dict[int, InputError],
+    source: str,
+    stem: str,
+    offset: int,
+    quantity: Quantity,
+    head: _WideHead,
+    skipped: list[InputError] | None,
+) -> Spectra | None:
+    """The spectra of rows parsed into ``names`` and ``values`` (lines ``numbers`` of the file): the checks
+    every row passes, the file's order and unit applied."""
     bad = ~np.isfinite(values)
     if bad.any():
         for r in np.flatnonzero(bad.any(axis=1)).tolist():
@@ -554,7 +728,7 @@ def _wide_chunk(
                 continue
             c = int(np.argmax(bad[r]))
             exc = InputError(
-                f"missing or non-finite value at {_file_wavelength(head, c):g} nm", source=source, line=rows[r][0]
+                f"missing or non-finite value at {_file_wavelength(head, c):g} nm", source=source, line=numbers[r]
             )
             if skipped is None:
                 raise exc
@@ -568,8 +742,8 @@ def _wide_chunk(
         names[k] = f"{stem}#{offset + k + 1}"
     if skipped is not None:
         for r in _no_signal_rows(head.wavelength_nm, values, exclude=bad_rows):
-            bad_rows[r] = InputError(_NO_SIGNAL, source=source, line=rows[r][0])
-    keep = np.ones(len(rows), dtype=bool)
+            bad_rows[r] = InputError(_NO_SIGNAL, source=source, line=numbers[r])
+    keep = np.ones(len(numbers), dtype=bool)
     if bad_rows:
         assert skipped is not None  # without it the first bad row raised above
         for r in sorted(bad_rows):
@@ -622,17 +796,33 @@ def _arrow_values(bodies: list[str], delimiter: str | None, L: int) -> np.ndarra
     Arrow and ``np.loadtxt`` both round each decimal number correctly, so the values are the same bits
     (``tests/test_batch.py``); Arrow parses a chunk several times faster.
     """
-    if delimiter not in (",", ";", "\t") or not bodies:
+    if not bodies:
+        return None
+    parsed = _arrow_parse("\n".join(bodies).encode("utf-8"), delimiter, L, False, len(bodies))
+    return None if parsed is None else parsed[1]
+
+
+def _arrow_parse(
+    data: bytes, delimiter: str | None, L: int, named: bool, n: int
+) -> tuple[list[str] | None, np.ndarray] | None:
+    """``n`` rows of ``data`` (CSV without quotes) parsed by Arrow: the first cells as text when ``named``,
+    then exactly ``L`` numbers; None where Arrow cannot read them so (see :func:`_arrow_values`)."""
+    if delimiter not in (",", ";", "\t"):
         return None
     try:
         import pyarrow as pa
         import pyarrow.csv as pacsv
     except ImportError:  # pragma: no cover - a declared dependency
         return None
+    quiet_arrow_signals(pa)  # its per-call signal handling loses a stop signal now and then
     names = [f"c{k}" for k in range(L)]
+    types = dict.fromkeys(names, pa.float64())
+    if named:
+        names.insert(0, "name")
+        types["name"] = pa.string()
     try:
         table = pacsv.read_csv(
-            io.BytesIO("\n".join(bodies).encode("utf-8")),
+            io.BytesIO(data),
             read_options=pacsv.ReadOptions(column_names=names, use_threads=False, block_size=1 << 30),
             parse_options=pacsv.ParseOptions(
                 delimiter=delimiter,
@@ -643,7 +833,7 @@ def _arrow_values(bodies: list[str], delimiter: str | None, L: int) -> np.ndarra
                 ignore_empty_lines=False,
             ),
             convert_options=pacsv.ConvertOptions(
-                column_types=dict.fromkeys(names, pa.float64()),
+                column_types=types,
                 null_values=[],
                 strings_can_be_null=False,
                 quoted_strings_can_be_null=False,
@@ -651,13 +841,16 @@ def _arrow_values(bodies: list[str], delimiter: str | None, L: int) -> np.ndarra
         )
     except (pa.ArrowException, ValueError, UnicodeError):
         return None
-    if table.num_rows != len(bodies) or table.num_columns != L:
+    if table.num_rows != n or table.num_columns != len(names):
         return None
     from ..arrow_buffers import floats_from_arrow  # not to_numpy(): it imports pandas (~0.5 s)
 
-    cols = [floats_from_arrow(table.column(k)) for k in range(L)]
+    cols = [floats_from_arrow(table.column(k)) for k in range(int(named), len(names))]
     present = [c for c in cols if c is not None]
-    return np.column_stack(present) if len(present) == L else None
+    if len(present) != L:
+        return None
+    text = [str(x).strip() for x in table.column(0).to_pylist()] if named else None
+    return text, np.column_stack(present)
 
 
 def _file_wavelength(head: _WideHead, column: int) -> float:

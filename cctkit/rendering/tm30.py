@@ -200,6 +200,21 @@ def from_jab(Jt: np.ndarray, Jr: np.ndarray, T: np.ndarray, m224: np.ndarray, *,
     return Tm30Result(**_fields(Jt, Jr, cf), cct_K=T, reference=_kinds(m224))
 
 
+def fields_into(Jt: np.ndarray, Jr: np.ndarray, out: dict, rows: slice, *, cf: float = CF_CIE224) -> None:
+    """The per-spectrum :class:`Tm30Result` arrays of the spectra ``rows`` (from their J'a'b' ``Jt[rows]``,
+    ``Jr[rows]``) written into the whole arrays ``out`` (allocated at the first call; J'a'b' not copied).
+
+    Each value depends on its own spectrum only, so any blocking gives the bits of :func:`from_jab`.
+    """
+    n = Jt.shape[0]
+    for key, value in _fields(Jt[rows], Jr[rows], cf).items():
+        if key in ("Jab_test_i", "Jab_ref_i"):
+            continue
+        if key not in out:
+            out[key] = np.empty((n,) + value.shape[1:], dtype=value.dtype)
+        out[key][rows] = value
+
+
 def from_rows(rows: dict, T: np.ndarray, *, cf: float = CF_CIE224) -> Tm30Result:
     """:class:`Tm30Result` from :func:`.tristimulus.rendering_rows` (the reference built at tristimulus level)."""
     from .reference import _kinds

@@ -1,0 +1,93 @@
+"""analyse() in cache-sized blocks gives the bits of the whole-chunk arithmetic.
+
+``colour_rendition`` works through each 4096-spectrum chunk in blocks (``rendering._BLOCK``):
+the test rows, both references, CIE 13.3, the appearance model and the TM-30 steps run block
+by block.  A BLAS rounds the rows of an incomplete last tile of a product differently, so
+the blocks start on multiples of ``tristimulus.ROW_ALIGN`` and each reference's rows are
+computed over an aligned window of that reference's rows: every number keeps its bits.
+These tests hold that bit for bit (the comparison is ``tobytes``) with one BLAS thread, as
+``analyse()`` runs (with several threads a BLAS splits the rows among them, which moves the
+tiles); the block of the size of a whole chunk is the arithmetic of the code before the blocks.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from cctkit.analysis import one_blas_thread
+from cctkit.constants import WAVELENGTH_NM
+from cctkit.rendering import colour_rendition
+from cctkit.rendering.tristimulus import ROW_ALIGN, rendering_row_blocks, rendering_rows
+
+
+def sources(n: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
+    """Our own white LEDs with reference CCTs over 1000-25000 K: Planckian, blend, daylight and none mixed."""
+    rng = np.random.default_rng(seed)
+    wl = WAVELENGTH_NM[None, :]
+    v = 0.01 * (
+        np.exp(-0.5 * ((wl - rng.uniform(440, 462, (n, 1))) / 9.5) ** 2)
+        + rng.uniform(0.2, 2.0, (n, 1)) * np.exp(-0.5 * ((wl - rng.uniform(540, 615, (n, 1))) / 55.0) ** 2)
+    )
+    T = np.exp(rng.uniform(np.log(1000.0), np.log(25000.0), n))
+    T[rng.random(n) < 0.05] = np.nan  # no reference
+    T[:4] = [4000.0, 5000.0, 4500.0, np.nan]  # the blend's edges
+    return v, T
+
+
+@pytest.fixture(autouse=True)
+def _one_blas_thread():
+    with one_blas_thread():
+        yield
+
+
+def same_bits(a, b, what):
+    a, b = np.asarray(a), np.asarray(b)
+    assert a.shape == b.shape and a.tobytes() == b.tobytes(), what
+
+
+@pytest.mark.parametrize("n, seed", [(333, 1), (517, 2), (64, 3), (21, 4)])
+def test_row_blocks_equal_the_rows_of_the_whole_product(n, seed):
+    v, T = sources(n, seed)
+    whole = rendering_rows(v, T, which="both")
+    for block in (ROW_ALIGN, 3 * ROW_ALIGN, 512):
+        parts = list(rendering_row_blocks(v, T, block, which="both"))
+        assert [p[0] for p in parts] == list(range(0, n, block)) and parts[-1][1] == n
+        for key in ("test", "ref13", "ref224", "m13", "m224"):
+            same_bits(np.concatenate([p[2][key] for p in parts]), whole[key], (key, block))
+
+
+def test_row_blocks_of_one_standard_and_the_two_degree_blend():
+    v, T = sources(200, 5)
+    for which, blend_observer in (("cri", 10), ("tm30", 10), ("tm30", 2)):
+        whole = rendering_rows(v, T, which=which, blend_observer=blend_observer)
+        parts = [p[2] for p in rendering_row_blocks(v, T, 32, which=which, blend_observer=blend_observer)]
+        for key in whole:
+            if key != "block":
+                same_bits(np.concatenate([p[key] for p in parts]), whole[key], (which, key))
+
+
+def test_a_block_off_the_row_alignment_is_refused():
+    v, T = sources(100, 6)
+    with pytest.raises(ValueError, match=f"multiple of {ROW_ALIGN}"):
+        next(rendering_row_blocks(v, T, ROW_ALIGN + 1))
+
+
+def test_colour_rendition_in_blocks_gives_the_bits_of_whole_chunks(monkeypatch):
+    import cctkit.rendering as rendering
+
+    v, T = sources(700, 7)
+    monkeypatch.setattr(rendering, "_CHUNK", 320)  # several chunks, the last a short one
+    runs = {}
+    for block in (320, 16, 64, 512):  # 320: one block per chunk, the arithmetic before the blocks
+        monkeypatch.setattr(rendering, "_BLOCK", block)
+        runs[block] = colour_rendition(v, cct_K=T, duv=np.zeros_like(T))
+    first = runs[320]
+    for block, r in runs.items():
+        for part in ("cri", "tm30"):
+            a, b = getattr(r, part), getattr(first, part)
+            for name, value in vars(a).items():
+                if isinstance(value, tuple):
+                    assert value == getattr(b, name), (block, part, name)
+                else:
+                    same_bits(value, getattr(b, name), (block, part, name))
