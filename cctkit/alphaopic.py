@@ -43,16 +43,16 @@ from typing import Any
 import numpy as np
 
 from .colorimetry import safe_divide
-from .constants import KE_MEL_D65_W_PER_LM, WAVELENGTH_NM
+from .constants import KE_MEL_D65_W_PER_LM, KM_LM_PER_W, WAVELENGTH_NM
 from .errors import Flag
 from .formats import finite_or_none as _num
 from .photometry import (
+    _V,
     COVERAGE_LIMIT,
     _quantity,
     coverage_flag,
     grid_values,
     inside_range,
-    luminous_total,
     range_masks,
     uncovered_share,
 )
@@ -66,6 +66,7 @@ __all__ = [
     "RECORD_KEYS",
     "AlphaOpic",
     "alpha_opic",
+    "alpha_opic_of_sums",
     "action_spectra",
     "melanopic_action_spectrum",
 ]
@@ -207,8 +208,6 @@ def alpha_opic(values: Any, quantity: Quantity | str = Quantity.RELATIVE, *, mea
     CIE S 026/E:2018: definitions of alpha-opic irradiance/radiance, ELR, EDI, EDL and DER;
     Table 2 (action spectra; D65 efficacies).
     """
-    from .tables import table
-
     q = _quantity(quantity)
     v = np.atleast_2d(grid_values(values))
     n = v.shape[0]
@@ -216,12 +215,32 @@ def alpha_opic(values: Any, quantity: Quantity | str = Quantity.RELATIVE, *, mea
         measured_range_nm = ((float(WAVELENGTH_NM[0]), float(WAVELENGTH_NM[-1])),) * n
     masks, which = range_masks(measured_range_nm)
     v = inside_range(v, masks, which)
+    return alpha_opic_of_sums(
+        q, v @ action_spectra(), v @ _V(), measured_range_nm=measured_range_nm, masks=(masks, which)
+    )
+
+
+def alpha_opic_of_sums(
+    quantity: Quantity | str, alpha_sums, luminous_sum, *, measured_range_nm, masks=None
+) -> AlphaOpic:
+    """:func:`alpha_opic` from the plain sums it is made of (so a caller can compute them in one pass).
+
+    ``alpha_sums`` (N, 5) and ``luminous_sum`` (N,) are the values inside the measured range
+    (:func:`cctkit.photometry.inside_range`) times the action spectra (:func:`action_spectra`) and
+    V(lambda), summed at 1 nm; ``masks`` the :func:`cctkit.photometry.range_masks` of ``measured_range_nm``
+    when the caller has them.
+    """
+    from .tables import table
+
+    q = _quantity(quantity)
+    masks, which = range_masks(measured_range_nm) if masks is None else masks
+    n = which.shape[0]
     s = action_spectra()
     share = uncovered_share(masks, s)[which]  # (N, 5)
     short = share > COVERAGE_LIMIT
     v_short = uncovered_share(masks, table("cmf_2")[:, 1])[which] > COVERAGE_LIMIT
-    radiant = np.where(short, np.nan, v @ s)
-    lum = np.where(v_short, np.nan, luminous_total(v))
+    radiant = np.where(short, np.nan, alpha_sums)
+    lum = np.where(v_short, np.nan, KM_LM_PER_W * np.asarray(luminous_sum, dtype=np.float64))
     elr = safe_divide(radiant, lum[:, None])
     flags: list[tuple[Flag, ...]] = [()] * n
     for i in np.flatnonzero(short.any(axis=1)).tolist():  # only the spectra with a withheld quantity

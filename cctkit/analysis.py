@@ -16,7 +16,7 @@ import numpy as np
 
 from . import __version__
 from .cct import CctResult, cct_duv
-from .colorimetry import XYZ, XYZ_to_uv, XYZ_to_xy, uv_to_uvp
+from .colorimetry import XYZ_to_uv, XYZ_to_xy, uv_to_uvp
 from .constants import C2_M_K, DUV_LIMIT, KM_LM_PER_W
 from .errors import Flag
 from .formats import finite_or_none
@@ -377,7 +377,7 @@ def analyse(
 def _analyse(
     g: Spectra, V: np.ndarray, problems, *, observer: int, rendering: bool, white: tuple = ("E", (1.0 / 3.0, 1.0 / 3.0))
 ) -> Analysis:
-    raw = XYZ(V, observer=observer)
+    raw, sums = _weighted_sums(g, V, observer)
     if g.quantity is Quantity.RELATIVE:
         with np.errstate(divide="ignore", invalid="ignore"):
             scale = np.where(raw[:, 1] != 0, 100.0 / raw[:, 1], np.nan)
@@ -392,7 +392,7 @@ def _analyse(
         _cct_flag_rows(cct, problems),
         lambda i: (problems[i],) if problems[i] is not None else _cct_flags(cct, i, uv),
     )
-    parts = _extra_measures(g, V, xy, observer=int(observer), white=white)
+    parts = _extra_measures(g, V, xy, observer=int(observer), white=white, sums=sums)
     flags = _add_flags(
         flags,
         _flagged(parts["photometry"].flags, parts["alphaopic"].flags, parts["shape"].flags),
@@ -407,21 +407,54 @@ def _analyse(
     )
 
 
+def _weighted_sums(g: Spectra, V: np.ndarray, observer: int) -> tuple[np.ndarray, dict[str, Any]]:
+    """XYZ sums of ``V`` and the photometric and alpha-opic sums of its measured part, in one pass over the values.
+
+    The same bits as each product on its own (:func:`cctkit.colorimetry.products_in_blocks`);
+    when some spectrum leaves part of the grid unmeasured, the measured part is a second array.
+    """
+    from .alphaopic import action_spectra
+    from .colorimetry import products_in_blocks
+    from .photometry import _V, inside_range, range_masks
+    from .tables import cmfs, table
+
+    masks = range_masks(g.measured_range_nm)
+    vm = inside_range(V, *masks)
+    weights = [_V(), table("v_scotopic"), action_spectra()]
+    if vm is V:
+        raw, lum, sco, alpha = products_in_blocks(V, [cmfs(observer), *weights])
+    else:
+        (raw,) = products_in_blocks(V, [cmfs(observer)])
+        lum, sco, alpha = products_in_blocks(vm, weights)
+    return raw, {"masks": masks, "luminous": lum, "scotopic": sco, "alpha": alpha}
+
+
 def _extra_measures(
-    g: Spectra, V: np.ndarray, xy, *, observer: int, white: tuple = ("E", (1.0 / 3.0, 1.0 / 3.0))
+    g: Spectra, V: np.ndarray, xy, *, observer: int, white: tuple = ("E", (1.0 / 3.0, 1.0 / 3.0)), sums=None
 ) -> dict[str, Any]:
-    """Photometry, alpha-opic quantities, spectral shape, dominant wavelength."""
-    from .alphaopic import alpha_opic
+    """Photometry, alpha-opic quantities, spectral shape, dominant wavelength (from :func:`_weighted_sums`)."""
+    from .alphaopic import alpha_opic_of_sums
     from .dominant import dominant_wavelength
-    from .photometry import photometry
+    from .photometry import measured_sums, photometry_of_sums
     from .shape import spectral_shape
 
+    if sums is None:
+        sums = _weighted_sums(g, V, observer)[1]
+    totals = g.measured_totals
+    if totals is None:
+        from .constants import WAVELENGTH_NM
+        from .photometry import inside_range
+
+        totals = measured_sums(WAVELENGTH_NM, inside_range(V, *sums["masks"]))
+    ranges = g.measured_range_nm
     return {
-        "photometry": photometry(
-            V, g.quantity, measured_range_nm=g.measured_range_nm, measured_totals=g.measured_totals
+        "photometry": photometry_of_sums(
+            g.quantity, sums["luminous"], sums["scotopic"], totals, measured_range_nm=ranges, masks=sums["masks"]
         ),
-        "alphaopic": alpha_opic(V, g.quantity, measured_range_nm=g.measured_range_nm),
-        "shape": spectral_shape(V, measured_range_nm=g.measured_range_nm),
+        "alphaopic": alpha_opic_of_sums(
+            g.quantity, sums["alpha"], sums["luminous"], measured_range_nm=ranges, masks=sums["masks"]
+        ),
+        "shape": spectral_shape(V, measured_range_nm=ranges),
         "dominant": dominant_wavelength(xy, white_xy=white[0], observer=observer),
     }
 

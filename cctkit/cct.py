@@ -16,7 +16,10 @@ How the exact solver works, vectorised over any leading shape:
    node, and the sign change of g verifies it: the same node, found faster).
 3. Within the bracket, uv(m) is the cubic Hermite interpolant of the exact node
    values and derivatives (written once per point as a cubic in the fraction t of
-   the segment, evaluated by Horner's rule), and Newton's method on g finds the root.
+   the segment, evaluated by Horner's rule), and Newton's method on g finds the root
+   (two steps from the secant of g over the segment); Duv is the signed distance
+   from the locus point where the last step starts (it is stationary at the foot
+   point, so the last step's change of ~1e-6 of a segment cannot move it).
 
 With nodes every 0.25 mired the interpolant is accurate to far better than
 1 mK over 1000-25000 K (see ``tests/test_cct.py`` for the measured errors).
@@ -76,6 +79,15 @@ class _Table:
     du: np.ndarray  # (K,) du/dm
     dv: np.ndarray
     h: float
+    # The cubic of each segment k (nodes k and k + 1) in its fraction t (:func:`_cubic`; c0 = u[k],
+    # c1 = du[k] h): c2, 2 c2 and c3 of u and of v, (K,) each, the last row (no segment) 0.  Worked
+    # out element-wise once for every segment, so the same bits as point by point.
+    cu2: np.ndarray
+    cu2x2: np.ndarray
+    cu3: np.ndarray
+    cv2: np.ndarray
+    cv2x2: np.ndarray
+    cv3: np.ndarray
 
 
 @lru_cache(maxsize=8)
@@ -91,10 +103,13 @@ def _table(observer: int, c2: float) -> _Table:
 
     arr = cached_arrays(f"cct-locus-{observer}-{c2!r}-h{_H_MIRED}", build, ("m", "u", "v", "du", "dv"))
     cols = [np.ascontiguousarray(arr[k]) for k in ("m", "u", "v", "du", "dv")]
-    for a in cols:
-        a.setflags(write=False)
     m, u, v, du, dv = cols
-    return _Table(m, u, v, du, dv, h=_H_MIRED)
+    k, k1 = np.arange(m.shape[0] - 1), np.arange(1, m.shape[0])
+    cu, cv = _cubic(_H_MIRED, ((u[k], u[k1], du[k], du[k1]), (v[k], v[k1], dv[k], dv[k1])))
+    coef = [np.append(a, 0.0) for a in (cu[2], 2 * cu[2], cu[3], cv[2], 2 * cv[2], cv[3])]
+    for a in cols + coef:
+        a.setflags(write=False)
+    return _Table(m, u, v, du, dv, _H_MIRED, *coef)
 
 
 def _segments(tab: _Table, k: np.ndarray) -> tuple[tuple[np.ndarray, ...], tuple[np.ndarray, ...]]:
@@ -103,22 +118,16 @@ def _segments(tab: _Table, k: np.ndarray) -> tuple[tuple[np.ndarray, ...], tuple
     return ((tab.u[k], tab.u[k1], tab.du[k], tab.du[k1]), (tab.v[k], tab.v[k1], tab.dv[k], tab.dv[k1]))
 
 
-def _cubic(tab: _Table, seg) -> tuple[tuple[np.ndarray, ...], tuple[np.ndarray, ...]]:
-    """The cubic Hermite interpolant of the locus on the segments ``seg`` (:func:`_segments`) as
-    c0 + t (c1 + t (c2 + t c3)) in the fraction t of the segment: (c0, c1, c2, c3) for u and for v."""
-    h = tab.h
+def _cubic(h: float, seg) -> tuple[tuple[np.ndarray, ...], tuple[np.ndarray, ...]]:
+    """The cubic Hermite interpolant of the locus on the segments ``seg`` (:func:`_segments`) of
+    ``h`` mired, as c0 + t (c1 + t (c2 + t c3)) in the fraction t of the segment: (c0, c1, c2, c3)
+    for u and for v."""
     out = []
     for p0, p1, d0, d1 in seg:
         m0, m1 = d0 * h, d1 * h  # derivatives with respect to t
         dp = p1 - p0
         out.append((p0, m0, 3 * dp - 2 * m0 - m1, m0 + m1 - 2 * dp))
     return out[0], out[1]
-
-
-def _value_slope(c, t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """The cubic ``c`` (:func:`_cubic`) and its derivative with respect to t, at t."""
-    c0, c1, c2, c3 = c
-    return c0 + t * (c1 + t * (c2 + t * c3)), c1 + t * (2 * c2 + 3 * t * c3)
 
 
 def _g(tab: _Table, k: np.ndarray, pu: np.ndarray, pv: np.ndarray) -> np.ndarray:
@@ -142,6 +151,51 @@ def _bisect(tab: _Table, pu: np.ndarray, pv: np.ndarray) -> tuple[np.ndarray, np
     return np.minimum(lo, K - 2), bracketed
 
 
+class _Work:
+    """Buffers for one block of points, allocated once per call and reused block after block."""
+
+    def __init__(self, n: int):
+        f = [np.empty(n) for _ in range(24)]
+        self.pu, self.pv, self.a, self.b, self.t, self.fu, self.fv, self.su, self.sv, self.x, self.y, self.g = f[:12]
+        self.u0, self.v0, self.du0, self.dv0, self.gk, self.gk1 = f[12:18]  # :func:`_ends`
+        self.cu, self.cv = tuple(f[18:21]), tuple(f[21:24])  # the cubics' c2, 2 c2, c3 (:func:`_solve`)
+        self.k = np.empty(n, dtype=np.intp)
+        self.k1 = np.empty(n, dtype=np.intp)
+        self.iv = np.empty(n, dtype=np.intp)
+        self.bracketed = np.empty(n, dtype=bool)
+        self.mask = np.empty(n, dtype=bool)
+        self.mask2 = np.empty(n, dtype=bool)
+        self.rows = np.empty((n, 8), dtype=np.float32)
+
+    def part(self, n: int) -> _Work:
+        """The same buffers' first n points (the last, shorter block)."""
+        w = object.__new__(_Work)
+        for name, a in vars(self).items():
+            setattr(w, name, tuple(b[:n] for b in a) if isinstance(a, tuple) else a[:n])
+        return w
+
+
+def _ends(tab: _Table, w: _Work) -> None:
+    """What the Newton steps need of the segment at node ``w.k``: u, v, du/dm, dv/dm at the node
+    and g at both ends (:func:`_g`, from the same gathered values), into ``w``."""
+    k, k1, x, y = w.k, w.k1, w.x, w.y
+    np.add(k, 1, out=k1)
+    tab.u.take(k, mode="clip", out=w.u0)  # k >= -1 (-1: a cell searched in full); "clip" skips the check
+    tab.v.take(k, mode="clip", out=w.v0)
+    tab.du.take(k, mode="clip", out=w.du0)
+    tab.dv.take(k, mode="clip", out=w.dv0)
+    gk = np.subtract(w.pu, w.u0, out=w.gk)
+    gk *= w.du0
+    np.subtract(w.pv, w.v0, out=x)
+    x *= w.dv0
+    gk += x
+    gk1 = np.subtract(w.pu, tab.u.take(k1, mode="clip", out=x), out=w.gk1)
+    gk1 *= tab.du.take(k1, mode="clip", out=x)
+    np.subtract(w.pv, tab.v.take(k1, mode="clip", out=x), out=y)
+    y *= tab.dv.take(k1, mode="clip", out=x)
+    gk1 += y
+
+
 @dataclass(frozen=True)
 class _Grid:
     origin: tuple[float, float]  # u, v of the grid's corner
@@ -149,8 +203,11 @@ class _Grid:
     cells: int  # cells per side
     lo: np.ndarray  # (cells * cells,) lowest node a point of the cell can bracket
     span: np.ndarray  # (cells * cells,) nodes to search from lo (large where the cell needs the full search)
-    cell: np.ndarray  # (cells * cells,) int32 lo * 64 + (nodes a bracket may start at) - 1; -1: full search
-    foot: np.ndarray  # ((cells + 1) ** 2,) float32 mired of the nearest locus point at each corner (NaN: none)
+    # (cells * cells, 8) float32, one row of 32 bytes per cell (one cache line's half): the foot
+    # point's position in table nodes, (m - m_0) / h, at the cell's corners (u, v), (u + 1, v),
+    # (u, v + 1), (u + 1, v + 1) (NaN: none); the first and last node a bracket of the cell's
+    # points may start at (-1, -1: the cell needs the full search); 2 unused.
+    rows: np.ndarray
 
 
 _GRID_CELLS = 512
@@ -180,7 +237,7 @@ def _grid(observer: int, c2: float) -> _Grid:
         edges = u0 + step * np.arange(G + 1), v0 + step * np.arange(G + 1)
         cu, cv = (a.ravel() for a in np.meshgrid(*edges, indexing="ij"))
         k, ok = _bisect(tab, cu, cv)
-        foot = _solve(tab, k, ok, cu, cv)[2]  # the mired of each corner's nearest locus point
+        foot = _solve_nodes(tab, k, ok, cu, cv)[2]  # the mired of each corner's nearest locus point
         k = np.where(ok, k, -(10**9)).reshape(G + 1, G + 1)
         corners = np.stack([k[:-1, :-1], k[1:, :-1], k[:-1, 1:], k[1:, 1:]])
         K = tab.m.shape[0]
@@ -200,127 +257,201 @@ def _grid(observer: int, c2: float) -> _Grid:
     arr = cached_arrays(f"cct-grid-{observer}-{c2!r}-h{_H_MIRED}-g{G}-b", build, ("lo", "span", "geometry", "foot"))
     u0, v0, inv_step = (float(x) for x in arr["geometry"])
     lo, span = arr["lo"].astype(np.intp), arr["span"].astype(np.intp)
-    # small tables, as few cache lines per point as may be: the cell's node range packed in one int32
-    # (lo * 64 + nodes - 1, -1 where the cell needs the full search), the foot mired in float32 (a guess)
-    cell = np.where(span <= _GRID_SPAN, lo * 64 + np.minimum(span, _GRID_SPAN) - 1, -1).astype(np.int32)
-    foot = np.ascontiguousarray(arr["foot"], dtype=np.float32)
-    return _Grid((u0, v0), inv_step, G, lo, span, cell, foot)
+    # everything a point's guess reads in one row (one cache line), in float32: a guess needs no more
+    f = ((arr["foot"] - tab.m[0]) / tab.h).reshape(G + 1, G + 1)
+    rows = np.zeros((G * G, 8), dtype=np.float32)
+    for j, corner in enumerate((f[:-1, :-1], f[1:, :-1], f[:-1, 1:], f[1:, 1:])):
+        rows[:, j] = corner.ravel()
+    searched = span <= _GRID_SPAN  # the node range of the cell: [lo, lo + span - 1]
+    rows[:, 4] = np.where(searched, lo, -1)
+    rows[:, 5] = np.where(searched, lo + span - 1, -1)
+    rows.setflags(write=False)
+    return _Grid((u0, v0), inv_step, G, lo, span, rows)
 
 
 def _bracket(tab: _Table, grid: _Grid, pu: np.ndarray, pv: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """:func:`_bisect`'s node and bracket flag, through the 2-D lookup (full search where it cannot say)."""
-    k, bracketed, _ = _bracket_segments(tab, grid, pu, pv)
+    w = _Work(pu.shape[0])
+    np.copyto(w.pu, pu)
+    np.copyto(w.pv, pv)
+    rest = _guess(tab, grid, w)
+    k, bracketed = w.k.copy(), w.bracketed.copy()
+    k[rest], bracketed[rest] = _bisect(tab, pu[rest], pv[rest])
     return k, bracketed
 
 
-def _bracket_segments(tab: _Table, grid: _Grid, pu: np.ndarray, pv: np.ndarray):
-    """:func:`_bracket`, with the table values of the segments (:func:`_segments`) and g at both ends.
+def _guess(tab: _Table, grid: _Grid, w: _Work) -> np.ndarray:
+    """The node of the points ``w.pu``, ``w.pv`` through the 2-D lookup, verified, into ``w.k`` and
+    ``w.bracketed``, with :func:`_ends`; returns the points (indices) whose guess failed: they
+    need the full search (:func:`_bisect`; ~0.4 % of points near the locus, off by one node).
 
-    The node is guessed from the corners' foot mired (bilinear in the cell), kept within the
-    cell's node range, and verified by the sign change of g at its two ends, from the values
-    the Newton steps need anyway; the few points whose guess fails are searched in full.
+    The node is guessed from the corners' foot (bilinear in the cell), kept within the cell's
+    node range, and verified by the sign change of g at its two ends, from the values the
+    Newton steps need anyway.  The guess only decides where to look: a node is taken only once
+    verified, so the result is the full search's whatever the guess's rounding.
     """
     G = grid.cells
+    a, b, x, y, cell, iv, rows = w.a, w.b, w.x, w.y, w.k1, w.iv, w.rows
     with np.errstate(invalid="ignore"):
-        fu = (pu - grid.origin[0]) * grid.inv_step
-        fv = (pv - grid.origin[1]) * grid.inv_step
-        iu = np.floor(fu)
-        iv = np.floor(fv)
-        inside = (iu >= 0) & (iu < G) & (iv >= 0) & (iv < G)
-        a = fu - iu
-        b = fv - iv
-    iu_i = np.where(inside, iu, 0.0).astype(np.intp)
-    iv_i = np.where(inside, iv, 0.0).astype(np.intp)
-    cell = iu_i * G + iv_i
-    corner = cell + iu_i  # (cells + 1) corners per row
-    f = grid.foot
-    m0 = f[corner]
-    m1 = f[corner + 1]
-    m0 += a * (f[corner + G + 1] - m0)  # along u at v of the cell's lower edge ...
-    m1 += a * (f[corner + G + 2] - m1)  # ... and of its upper edge
+        np.subtract(w.pu, grid.origin[0], out=a)
+        a *= grid.inv_step
+        np.subtract(w.pv, grid.origin[1], out=b)
+        b *= grid.inv_step
+        np.floor(a, out=x)
+        np.floor(b, out=y)
+        a -= x  # position within the cell
+        b -= y
+        np.copyto(cell, x, casting="unsafe")  # NaN, inf, far away: some integer outside 0..G-1
+        np.copyto(iv, y, casting="unsafe")
+    inside = np.less(cell.view(np.uintp), G, out=w.mask)  # 0 <= cell < G, as one unsigned comparison
+    inside &= np.less(iv.view(np.uintp), G, out=w.bracketed)
+    cell *= G
+    cell += iv
+    grid.rows.take(cell, axis=0, mode="clip", out=rows)  # a point outside takes any row: not verified below
     with np.errstate(invalid="ignore"):
-        m0 += b * (m1 - m0)
-        m0 -= tab.m[0]
-        m0 *= 1.0 / tab.h
-        guess = np.where(np.isfinite(m0), m0, -1.0)
-    packed = grid.cell[cell]
-    lo = packed >> 6
-    k = np.clip(guess, lo, lo + (packed & 63)).astype(np.intp)  # floor: the guess is >= lo >= 0 here
-    seg = _segments(tab, k)
-    (u0, u1, du0, du1), (v0, v1, dv0, dv1) = seg
-    gk = (pu - u0) * du0 + (pv - v0) * dv0  # _g at k and k + 1, from the gathered values
-    gk1 = (pu - u1) * du1 + (pv - v1) * dv1
-    bracketed = inside & (packed >= 0) & (gk >= 0) & (gk1 < 0)
-    rest = np.flatnonzero(~bracketed)
-    if rest.size:
-        pr, qr = pu[rest], pv[rest]
-        kr, bracketed[rest] = _bisect(tab, pr, qr)
-        k[rest] = kr
-        (u0r, u1r, du0r, du1r), (v0r, v1r, dv0r, dv1r) = _segments(tab, kr)
-        for full, part in zip((u0, u1, du0, du1, v0, v1, dv0, dv1), (u0r, u1r, du0r, du1r, v0r, v1r, dv0r, dv1r)):
-            full[rest] = part
-        gk[rest] = (pr - u0r) * du0r + (qr - v0r) * dv0r
-        gk1[rest] = (pr - u1r) * du1r + (qr - v1r) * dv1r
-    return k, bracketed, (seg, gk, gk1)
+        np.subtract(rows[:, 1], rows[:, 0], out=x)
+        x *= a
+        x += rows[:, 0]  # along u at the cell's lower v ...
+        np.subtract(rows[:, 3], rows[:, 2], out=y)
+        y *= a
+        y += rows[:, 2]  # ... and at its upper v
+        y -= x
+        y *= b
+        y += x
+        # within the cell's node range (fmin/fmax: a NaN guess takes the range's end)
+        np.fmin(y, rows[:, 5], out=y)
+        np.fmax(y, rows[:, 4], out=y)
+    k = w.k
+    np.copyto(k, y, casting="unsafe")  # >= 0 except in a cell that needs the full search (-1)
+    _ends(tab, w)
+    bracketed = np.greater_equal(w.gk, 0.0, out=w.bracketed)
+    bracketed &= inside
+    bracketed &= np.less(w.gk1, 0.0, out=w.mask)
+    bracketed &= np.greater_equal(k, 0, out=w.mask)
+    return np.flatnonzero(~bracketed)
 
 
-#: Points solved at once: the solver's temporaries of a block stay in the processor's cache.
-_BLOCK = 16384
+#: Points solved at once: the solver's buffers for a block stay near the processor.
+_BLOCK = 8192
 
 
 def _exact(uv: np.ndarray, observer: int, c2: float) -> tuple[np.ndarray, np.ndarray]:
     tab = _table(observer, c2)
     p = uv.reshape(-1, 2)
     n = p.shape[0]
-    grid = _grid(observer, c2) if n >= _GRID_MIN_POINTS else None
+    if n < _GRID_MIN_POINTS:
+        pu, pv = np.ascontiguousarray(p[:, 0]), np.ascontiguousarray(p[:, 1])
+        k, bracketed = _bisect(tab, pu, pv)  # the lookup gives these same nodes (tests/test_cct_bracket.py)
+        cct, duv, _ = _solve_nodes(tab, k, bracketed, pu, pv)
+        return cct.reshape(uv.shape[:-1]), duv.reshape(uv.shape[:-1])
+    grid = _grid(observer, c2)
     cct = np.empty(n)
     duv = np.empty(n)
+    whole = _Work(min(n, _BLOCK))
+    missed = []
     for s in range(0, n, _BLOCK):  # each value depends on its own point only: blocks change no bit
-        pu = np.ascontiguousarray(p[s : s + _BLOCK, 0])
-        pv = np.ascontiguousarray(p[s : s + _BLOCK, 1])
-        if grid is None:
-            k, bracketed = _bisect(tab, pu, pv)  # the lookup gives these same nodes (tests/test_cct_bracket.py)
-            cct[s : s + _BLOCK], duv[s : s + _BLOCK], _ = _solve(tab, k, bracketed, pu, pv)
-        else:
-            k, bracketed, found = _bracket_segments(tab, grid, pu, pv)
-            cct[s : s + _BLOCK], duv[s : s + _BLOCK], _ = _solve(tab, k, bracketed, pu, pv, found)
+        e = min(s + _BLOCK, n)
+        w = whole if e - s == whole.pu.shape[0] else whole.part(e - s)
+        np.copyto(w.pu, p[s:e, 0])
+        np.copyto(w.pv, p[s:e, 1])
+        rest = _guess(tab, grid, w)
+        if rest.size:
+            missed.append(rest + s)
+        _solve(tab, w, cct[s:e], duv[s:e])  # the missed points' results are replaced below
+    if missed:  # searched in full all at once: a search's many small steps cost the same for 10 points or 1000
+        i = np.concatenate(missed)
+        pu, pv = p[i, 0], p[i, 1]
+        k, bracketed = _bisect(tab, pu, pv)
+        cct[i], duv[i], _ = _solve_nodes(tab, k, bracketed, pu, pv)
     shape = uv.shape[:-1]
     return cct.reshape(shape), duv.reshape(shape)
 
 
-def _solve(tab: _Table, k: np.ndarray, bracketed: np.ndarray, pu: np.ndarray, pv: np.ndarray, found=None):
-    """CCT [K], Duv and the foot point's mired of points bracketed at node k: Hermite + Newton."""
-    if found is None:
-        seg = _segments(tab, k)
-        (u0, u1, du0, du1), (v0, v1, dv0, dv1) = seg
-        gk = (pu - u0) * du0 + (pv - v0) * dv0  # _g at k and k + 1, from the gathered values
-        gk1 = (pu - u1) * du1 + (pv - v1) * dv1
-    else:
-        seg, gk, gk1 = found
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = np.clip(np.where(gk != gk1, gk / (gk - gk1), 0.5), 0.0, 1.0)
-    cu, cv = _cubic(tab, seg)
-    for _ in range(_NEWTON_STEPS):  # on g as a function of t (m = m_k + t h: the same root)
-        fu, du = _value_slope(cu, t)
-        fv, dv = _value_slope(cv, t)
-        ru, rv = pu - fu, pv - fv
-        gt = ru * du + rv * dv
-        dg = -(du * du + dv * dv) + ru * (2 * cu[2] + 6 * t * cu[3]) + rv * (2 * cv[2] + 6 * t * cv[3])
-        with np.errstate(divide="ignore", invalid="ignore"):
-            t = t - np.where(dg != 0, gt / dg, 0.0)
-    fu, du = _value_slope(cu, t)
-    fv, dv = _value_slope(cv, t)
-    m = tab.m[k] + t * tab.h
-    cct = 1e6 / m
-    # Normal pointing above: d(uv)/dm points towards *lower* T, so n = (-dv, du) / |d|.
-    norm = np.hypot(du, dv)
-    duv = ((pu - fu) * -dv + (pv - fv) * du) / norm
-    finite = np.isfinite(pu) & np.isfinite(pv)
-    outside = ~bracketed | (cct < T_MIN_K * (1 - 1e-9)) | (cct > T_MAX_K * (1 + 1e-9)) | ~finite
-    cct = np.where(outside, np.nan, cct)
+def _solve(tab: _Table, w: _Work, cct: np.ndarray, duv: np.ndarray) -> np.ndarray:
+    """CCT [K] and Duv, into ``cct`` and ``duv``, of the points of ``w`` bracketed at node ``w.k``
+    (:func:`_ends` gathered): Hermite + Newton.  Returns the foot point's mired (a buffer of ``w``).
+
+    Newton's method on g(t) (m = m_k + t h: the same root) from the secant of g over the
+    segment, two steps; CCT from where the second step lands.  Duv is taken where the second
+    step starts: Duv is stationary at the foot point (its derivative along the locus is
+    -curvature * g, zero at the root), so the first step's remaining error in t, ~1e-6 of a
+    segment at most, moves it by ~1e-18, below the rounding of its own evaluation
+    (tests/test_cct_bracket.py holds it within 1e-15 of the evaluation where the second lands).
+    """
+    h = tab.h
+    k, t, x, y, g, ru, rv, su, sv = w.k, w.t, w.x, w.y, w.g, w.fu, w.fv, w.su, w.sv
+    cu1, cv1 = w.du0, w.dv0  # scaled in place: du/dm, dv/dm are not needed after the bracket
+    cu = tuple(a.take(k, mode="clip", out=o) for a, o in zip((tab.cu2, tab.cu2x2, tab.cu3), w.cu))
+    cv = tuple(a.take(k, mode="clip", out=o) for a, o in zip((tab.cv2, tab.cv2x2, tab.cv3), w.cv))
+    with np.errstate(all="ignore"):  # points without a bracket compute nonsense, withheld below
+        np.subtract(w.gk, w.gk1, out=t)
+        np.divide(w.gk, t, out=t)  # bracketed: gk >= 0 > gk1, so 0 <= t <= 1
+        cu1 *= h  # the cubic's c1 (:func:`_cubic`); c2, 2 c2 and c3 come from the table
+        cv1 *= h
+        for step in range(_NEWTON_STEPS):
+            np.multiply(t, 3.0, out=g)
+            for p, c0, c1, (c2, c2x2, c3), r, s in ((w.pu, w.u0, cu1, cu, ru, su), (w.pv, w.v0, cv1, cv, rv, sv)):
+                np.multiply(c3, t, out=r)  # the cubic by Horner's rule ...
+                r += c2
+                r *= t
+                r += c1
+                r *= t
+                r += c0
+                np.subtract(p, r, out=r)  # ... and p minus it
+                np.multiply(g, c3, out=s)  # its derivative c1 + t (2 c2 + 3 t c3)
+                s += c2x2
+                s *= t
+                s += c1
+            if step == _NEWTON_STEPS - 1:
+                # Normal pointing above: d(uv)/dm points towards *lower* T, so n = (-dv, du) / |d|.
+                np.multiply(rv, su, out=x)
+                x -= np.multiply(ru, sv, out=y)
+                np.divide(x, np.hypot(su, sv, out=y), out=duv)
+            g += g  # 6 t
+            np.multiply(g, cu[2], out=x)
+            x += cu[1]
+            x *= ru
+            np.multiply(g, cv[2], out=y)
+            y += cv[1]
+            y *= rv
+            np.multiply(ru, su, out=g)
+            g += np.multiply(rv, sv, out=ru)  # g(t) = r . d
+            su *= su
+            sv *= sv
+            su += sv
+            x -= su
+            x += y  # g'(t) = -|d|^2 + r . (2 c2 + 6 t c3)
+            g /= x
+            zero = np.equal(x, 0.0, out=w.mask)
+            if zero.any():
+                g[zero] = 0.0
+            t -= g
+        t *= h
+        t += tab.m.take(k, mode="clip", out=x)
+        np.divide(1e6, t, out=cct)
+    ok = np.isfinite(w.pu, out=w.mask)
+    ok &= np.isfinite(w.pv, out=w.mask2)
+    ok &= w.bracketed
     # A point whose nearest locus point lies outside the table (below 900 K, above 200000 K) has no
     # root to find: its Duv is withheld (NaN), never taken from the end of the table.
-    duv = np.where(finite & bracketed, duv, np.nan)
+    bad = np.logical_not(ok, out=w.mask2)
+    np.copyto(duv, np.nan, where=bad)
+    bad |= np.less(cct, T_MIN_K * (1 - 1e-9), out=w.mask)
+    bad |= np.greater(cct, T_MAX_K * (1 + 1e-9), out=w.mask)
+    np.copyto(cct, np.nan, where=bad)
+    return t
+
+
+def _solve_nodes(tab: _Table, k: np.ndarray, bracketed: np.ndarray, pu: np.ndarray, pv: np.ndarray):
+    """:func:`_solve` of points already bracketed (node ``k``) in one go: CCT [K], Duv, foot mired."""
+    w = _Work(pu.shape[0])
+    np.copyto(w.pu, pu)
+    np.copyto(w.pv, pv)
+    w.k[:] = k
+    w.bracketed[:] = bracketed
+    _ends(tab, w)
+    cct, duv = np.empty(pu.shape[0]), np.empty(pu.shape[0])
+    m = _solve(tab, w, cct, duv)
     return cct, duv, m
 
 

@@ -56,6 +56,7 @@ __all__ = [
     "PAR_BAND_NM",
     "Photometry",
     "photometry",
+    "photometry_of_sums",
     "luminous_total",
     "radiant_total",
     "luminous_efficacy_of_radiation",
@@ -418,6 +419,30 @@ def photometry(
     vm = inside_range(v, masks, which)
     if measured_totals is None:
         measured_totals = measured_sums(WAVELENGTH_NM, vm)
+    from .tables import table
+
+    return photometry_of_sums(
+        q,
+        vm @ _V(),
+        vm @ table("v_scotopic"),
+        measured_totals,
+        measured_range_nm=measured_range_nm,
+        masks=(masks, which),
+    )
+
+
+def photometry_of_sums(
+    quantity: Quantity | str, luminous_sum, scotopic_sum, measured_totals, *, measured_range_nm, masks=None
+) -> Photometry:
+    """:func:`photometry` from the plain sums it is made of (so a caller can compute them in one pass).
+
+    ``luminous_sum`` and ``scotopic_sum`` (N,) are the values inside the measured range (:func:`inside_range`)
+    times V(lambda) and V'(lambda), summed at 1 nm; ``measured_totals`` (N, 3) as in :func:`photometry`;
+    ``masks`` the :func:`range_masks` of ``measured_range_nm`` when the caller has them.
+    """
+    q = _quantity(quantity)
+    masks, which = range_masks(measured_range_nm) if masks is None else masks
+    n = which.shape[0]
     totals = np.asarray(measured_totals, dtype=np.float64).reshape(n, 3)
     rng = range_array(measured_range_nm).reshape(n, 2).copy()  # kept in the result: its own copy
     phot_rng = np.column_stack([np.maximum(rng[:, 0], WAVELENGTH_NM[0]), np.minimum(rng[:, 1], WAVELENGTH_NM[-1])])
@@ -429,8 +454,8 @@ def photometry(
     weights = np.column_stack([_V(), table("v_scotopic"), np.where(par, WAVELENGTH_NM, 0.0)])
     share = uncovered_share(masks, weights)[which]
     short = share > COVERAGE_LIMIT
-    lum = np.where(short[:, 0], np.nan, luminous_total(vm))
-    sco = np.where(short[:, 1], np.nan, scotopic_total(vm))
+    lum = np.where(short[:, 0], np.nan, KM_LM_PER_W * np.asarray(luminous_sum, dtype=np.float64))
+    sco = np.where(short[:, 1], np.nan, KM_SCOTOPIC_LM_PER_W * np.asarray(scotopic_sum, dtype=np.float64))
     rad = totals[:, 0]
     ppf = np.where(short[:, 2], np.nan, totals[:, 2])
     names = (

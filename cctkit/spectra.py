@@ -587,7 +587,11 @@ def signal_problems(spectra: Spectra) -> tuple[Flag | None, ...]:
     if n and (r == r[0]).all():  # one measured range (a file, a batch chunk): one band of columns
         cols = np.flatnonzero((wl >= max(lo[0], lo_vis) - 1e-9) & (wl <= min(hi[0], hi_vis) + 1e-9))
         band = spectra.values[:, cols[0] : cols[-1] + 1] if cols.size else spectra.values[:, :0]
-        signal = (band > 0).any(axis=1)
+        # one column first (nearly every spectrum is positive mid-band), the whole band only for the rest
+        signal = band[:, band.shape[1] // 2] > 0 if band.shape[1] else np.zeros(n, dtype=bool)
+        rest = np.flatnonzero(~signal)
+        if rest.size and band.shape[1]:
+            signal[rest] = (band[rest] > 0).any(axis=1)
     else:  # the measured part of 380-780 nm, spectrum by spectrum, as one (N, L) mask
         inside = (wl >= np.maximum(lo, lo_vis)[:, None] - 1e-9) & (wl <= np.minimum(hi, hi_vis)[:, None] + 1e-9)
         signal = (inside & (spectra.values > 0)).any(axis=1)

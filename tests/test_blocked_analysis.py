@@ -91,3 +91,60 @@ def test_colour_rendition_in_blocks_gives_the_bits_of_whole_chunks(monkeypatch):
                     assert value == getattr(b, name), (block, part, name)
                 else:
                     same_bits(value, getattr(b, name), (block, part, name))
+
+
+def test_signal_check_of_one_measured_range_follows_the_rule():
+    from cctkit.spectra import VISIBLE_BAND_NM, Spectra, signal_problems
+
+    v, _ = sources(12, 8)
+    mid = (np.abs(WAVELENGTH_NM - 580.0) < 3)[None, :]
+    v[1] = 0.0  # all zero
+    v[2] = -v[2]  # all negative
+    v[3] = np.where(mid[0], 0.0, v[3])  # zero mid-band, positive elsewhere
+    v[4] = np.where(WAVELENGTH_NM < 778.0, -1.0, 1e-9)  # positive only at the band's red end
+    v[5] = np.where(WAVELENGTH_NM > 380.0, 0.0, 1e-9)  # positive only at 380 nm, the band's first point
+    v[6] = np.where((WAVELENGTH_NM < 380.0) | (WAVELENGTH_NM > 780.0), 1.0, 0.0)  # positive outside the band only
+    s = Spectra(WAVELENGTH_NM, v, tuple(f"s{i}" for i in range(12)))
+    inside = (WAVELENGTH_NM >= VISIBLE_BAND_NM[0]) & (WAVELENGTH_NM <= VISIBLE_BAND_NM[1])
+    expected = [None if np.any(row[inside] > 0) else "no-signal" for row in v]  # the rule, spectrum by spectrum
+    assert [None if p is None else p.code for p in signal_problems(s)] == expected
+    assert expected.count("no-signal") == 3  # the all-zero, all-negative and outside-only spectra
+
+
+def test_products_in_blocks_give_the_bits_of_each_plain_product():
+    from cctkit.alphaopic import action_spectra
+    from cctkit.colorimetry import products_in_blocks
+    from cctkit.tables import cmfs, table
+
+    v, _ = sources(1037, 9)
+    weights = [cmfs(2), table("cmf_2")[:, 1], table("v_scotopic"), action_spectra()]
+    for block in (ROW_ALIGN, 512):
+        for got, w in zip(products_in_blocks(v, weights, block=block), weights):
+            same_bits(got, v @ w, block)
+    with pytest.raises(ValueError, match=f"multiple of {ROW_ALIGN}"):
+        products_in_blocks(v, weights, block=100)
+
+
+@pytest.mark.parametrize("mixed", [False, True])
+def test_analyse_sums_in_one_pass_give_the_bits_of_the_measures_alone(mixed):
+    from cctkit.alphaopic import alpha_opic
+    from cctkit.analysis import analyse
+    from cctkit.colorimetry import XYZ
+    from cctkit.constants import KM_LM_PER_W
+    from cctkit.photometry import photometry
+    from cctkit.spectra import Spectra
+
+    v, _ = sources(700, 10)
+    ranges = ((360.0, 830.0, 1.0), (400.0, 700.0, 1.0), (420.0, 680.0, 2.0), (380.0, 780.0, 5.0))
+    kw = {"measured_range_nm": tuple(ranges[i % 4] for i in range(700))} if mixed else {}
+    s = Spectra(WAVELENGTH_NM, v, tuple(f"s{i}" for i in range(700)), quantity="irradiance", **kw)
+    a = analyse(s, rendering=False)
+    same_bits(a.XYZ, XYZ(v) * KM_LM_PER_W, "XYZ")
+    p = photometry(v, "irradiance", measured_range_nm=s.measured_range_nm, measured_totals=s.measured_totals)
+    q = alpha_opic(v, "irradiance", measured_range_nm=s.measured_range_nm)
+    for name in ("luminous", "scotopic", "radiant", "ler_lm_per_W", "sp_ratio", "photon_umol", "ppf_umol"):
+        same_bits(getattr(a.photometry, name), getattr(p, name), name)
+    for name in ("radiant", "elr_W_per_lm", "edi", "der"):
+        same_bits(getattr(a.alphaopic, name), getattr(q, name), name)
+    assert a.photometry.flags == p.flags and a.alphaopic.flags == q.flags
+    assert mixed == any(a.photometry.flags)  # the mixed ranges withhold some totals

@@ -24,7 +24,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..colorimetry import XYZ_to_uv
+from ..colorimetry import safe_divide
 from ..tables import cmfs, table
 
 __all__ = ["Cri13Result", "cie13_3", "cie13_3_samples", "DC_LIMIT"]
@@ -85,18 +85,16 @@ def _source_and_samples(values: np.ndarray, reflect: np.ndarray, cmf: np.ndarray
     return XYZ_w * k[:, None], XYZ_s * k[:, None, None]
 
 
-def _cd(uv: np.ndarray):
-    u, v = uv[..., 0], uv[..., 1]
+def _uv(XYZ: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """CIE 1960 u, v of (..., 3) as two arrays: the arithmetic of :func:`cctkit.colorimetry.XYZ_to_uv`, unstacked."""
+    d = XYZ[..., 0] + 15.0 * XYZ[..., 1] + 3.0 * XYZ[..., 2]
+    return safe_divide(4.0 * XYZ[..., 0], d), safe_divide(6.0 * XYZ[..., 1], d)
+
+
+def _cd(u: np.ndarray, v: np.ndarray):
     c = (4.0 - u - 10.0 * v) / v
     d = (1.708 * v + 0.404 - 1.481 * u) / v
     return c, d
-
-
-def _uvw(Y: np.ndarray, uv: np.ndarray, uv_white: np.ndarray) -> np.ndarray:
-    W = 25.0 * np.cbrt(Y) - 17.0
-    U = 13.0 * W * (uv[..., 0] - uv_white[..., None, 0])
-    V = 13.0 * W * (uv[..., 1] - uv_white[..., None, 1])
-    return np.stack([U, V, W], axis=-1)
 
 
 def cie13_3_samples(values, reference_values, *, reflectances: np.ndarray | None = None):
@@ -132,21 +130,26 @@ def differences_from_rows(test_rows: np.ndarray, ref_rows: np.ndarray, xyz: slic
 
 
 def _differences(XYZ_k, XYZ_ki, XYZ_r, XYZ_ri):
-    uv_k, uv_ki = XYZ_to_uv(XYZ_k), XYZ_to_uv(XYZ_ki)
-    uv_r, uv_ri = XYZ_to_uv(XYZ_r), XYZ_to_uv(XYZ_ri)
-    dc = np.hypot(*(uv_k - uv_r).T)
+    """dE (N, S) and DC (N,): CIE 13.3 section 5, the von Kries adaptation in c, d and CIE 1964 U*V*W*."""
+    (u_k, v_k), (u_ki, v_ki) = _uv(XYZ_k), _uv(XYZ_ki)
+    (u_r, v_r), (u_ri, v_ri) = _uv(XYZ_r), _uv(XYZ_ri)
+    dc = np.hypot(u_k - u_r, v_k - v_r)
 
-    c_k, d_k = _cd(uv_k)
-    c_r, d_r = _cd(uv_r)
-    c_ki, d_ki = _cd(uv_ki)
+    c_k, d_k = _cd(u_k, v_k)
+    c_r, d_r = _cd(u_r, v_r)
+    c_ki, d_ki = _cd(u_ki, v_ki)
     fc = (c_r / c_k)[:, None] * c_ki
     fd = (d_r / d_k)[:, None] * d_ki
     den = 16.518 + 1.481 * fc - fd
-    uv_adapted = np.stack([(10.872 + 0.404 * fc - 4.0 * fd) / den, 5.520 / den], axis=-1)
+    u_a, v_a = (10.872 + 0.404 * fc - 4.0 * fd) / den, 5.520 / den  # the test samples' adapted u, v
 
-    uvw_test = _uvw(XYZ_ki[..., 1], uv_adapted, uv_r)
-    uvw_ref = _uvw(XYZ_ri[..., 1], uv_ri, uv_r)
-    dE = np.linalg.norm(uvw_test - uvw_ref, axis=-1)
+    # U*V*W* of the samples, all relative to the reference white (u_r, v_r)
+    W_t = 25.0 * np.cbrt(XYZ_ki[..., 1]) - 17.0
+    W_r = 25.0 * np.cbrt(XYZ_ri[..., 1]) - 17.0
+    dU = 13.0 * W_t * (u_a - u_r[:, None]) - 13.0 * W_r * (u_ri - u_r[:, None])
+    dV = 13.0 * W_t * (v_a - v_r[:, None]) - 13.0 * W_r * (v_ri - v_r[:, None])
+    dW = W_t - W_r
+    dE = np.sqrt(dU * dU + dV * dV + dW * dW)  # the sum np.linalg.norm forms over (dU, dV, dW)
     return dE, dc
 
 

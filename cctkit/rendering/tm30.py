@@ -226,19 +226,25 @@ def from_rows(rows: dict, T: np.ndarray, *, cf: float = CF_CIE224) -> Tm30Result
 
 
 def _fields(Jt: np.ndarray, Jr: np.ndarray, cf: float) -> dict[str, np.ndarray]:
-    dE = np.linalg.norm(Jt - Jr, axis=-1)  # (n, 99)
+    d = [Jt[..., k] - Jr[..., k] for k in range(3)]
+    dE = np.sqrt(d[0] * d[0] + d[1] * d[1] + d[2] * d[2])  # (n, 99): the sum np.linalg.norm(Jt - Jr, axis=-1) forms
     hue = np.arctan2(Jr[..., 2], Jr[..., 1]) % (2.0 * np.pi)
-    finite = np.isfinite(hue)
-    bins = np.minimum((np.where(finite, hue, 0.0) / (2.0 * np.pi / N_BINS)).astype(np.int64), N_BINS - 1)
-    bins = np.where(finite, bins, -1)  # a spectrum without a result (NaN) falls in no bin
     n = Jt.shape[0]
+    row_start = N_BINS * np.arange(n)[:, None]
+    finite = np.isfinite(hue)
+    if finite.all():
+        bins = np.minimum((hue / (2.0 * np.pi / N_BINS)).astype(np.int64), N_BINS - 1)
+        flat = (bins + row_start).ravel()
+    else:
+        bins = np.minimum((np.where(finite, hue, 0.0) / (2.0 * np.pi / N_BINS)).astype(np.int64), N_BINS - 1)
+        bins = np.where(finite, bins, -1)  # a spectrum without a result (NaN) falls in no bin
+        flat = np.where(finite, bins + row_start, n * N_BINS).ravel()
     # bin sums by one bincount over the flat index (spectrum, bin); spectra without a bin drop out
-    flat = np.where(bins >= 0, bins + N_BINS * np.arange(n)[:, None], n * N_BINS).ravel()
 
     def bin_sum(w: np.ndarray) -> np.ndarray:
         return np.bincount(flat, weights=w.ravel(), minlength=n * N_BINS + 1)[: n * N_BINS].reshape(n, N_BINS)
 
-    count = bin_sum(np.ones(bins.shape))
+    count = np.bincount(flat, minlength=n * N_BINS + 1)[: n * N_BINS].reshape(n, N_BINS).astype(np.float64)
     with np.errstate(invalid="ignore", divide="ignore"):
         inv = np.where(count > 0, 1.0 / count, np.nan)
         ab_t = np.stack([bin_sum(Jt[..., 1]), bin_sum(Jt[..., 2])], axis=-1) * inv[..., None]

@@ -25,6 +25,7 @@ from functools import lru_cache
 
 import numpy as np
 
+from ..colorimetry import ROW_ALIGN
 from ..constants import WAVELENGTH_NM
 from ..planck import spectral_exitance
 from ..tables import cmfs, table
@@ -122,12 +123,6 @@ def rendering_rows(
     ):
         return rows
     raise AssertionError("unreachable")  # pragma: no cover - one block always comes
-
-
-#: Row alignment of the blocks of :func:`rendering_row_blocks`: a multiple of the row tile of the BLAS
-#: matrix kernels (OpenBLAS: 4 on Haswell/Zen, 16 on SkylakeX), so that a block's products give every row
-#: the bits it has in the product over all rows (only the rows of an incomplete last tile round differently).
-ROW_ALIGN = 16
 
 
 def _rows_of(product, a: int, b: int, k: int) -> np.ndarray:
