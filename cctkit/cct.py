@@ -421,19 +421,16 @@ def _solve(tab: _Table, w: _Work, cct: np.ndarray, duv: np.ndarray) -> np.ndarra
             x -= su
             x += y  # g'(t) = -|d|^2 + r . (2 c2 + 6 t c3)
             g /= x
-            zero = np.equal(x, 0.0, out=w.mask)
-            if zero.any():
-                g[zero] = 0.0
+            if not np.isfinite(np.add.reduce(g)):  # one pass; where g'(t) = 0, no step
+                g[x == 0] = 0.0
             t -= g
         t *= h
         t += tab.m.take(k, mode="clip", out=x)
         np.divide(1e6, t, out=cct)
-    ok = np.isfinite(w.pu, out=w.mask)
-    ok &= np.isfinite(w.pv, out=w.mask2)
-    ok &= w.bracketed
     # A point whose nearest locus point lies outside the table (below 900 K, above 200000 K) has no
-    # root to find: its Duv is withheld (NaN), never taken from the end of the table.
-    bad = np.logical_not(ok, out=w.mask2)
+    # root to find: its Duv is withheld (NaN), never taken from the end of the table.  (A bracketed
+    # point is finite: through the lookup it is inside the grid, and :func:`_solve_nodes` checks.)
+    bad = np.logical_not(w.bracketed, out=w.mask2)
     np.copyto(duv, np.nan, where=bad)
     bad |= np.less(cct, T_MIN_K * (1 - 1e-9), out=w.mask)
     bad |= np.greater(cct, T_MAX_K * (1 + 1e-9), out=w.mask)
@@ -447,7 +444,9 @@ def _solve_nodes(tab: _Table, k: np.ndarray, bracketed: np.ndarray, pu: np.ndarr
     np.copyto(w.pu, pu)
     np.copyto(w.pv, pv)
     w.k[:] = k
-    w.bracketed[:] = bracketed
+    # the bisection can find a sign change for an infinite coordinate: such a point is withheld
+    np.logical_and(bracketed, np.isfinite(pu), out=w.bracketed)
+    w.bracketed &= np.isfinite(pv)
     _ends(tab, w)
     cct, duv = np.empty(pu.shape[0]), np.empty(pu.shape[0])
     m = _solve(tab, w, cct, duv)
