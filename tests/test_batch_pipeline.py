@@ -236,3 +236,37 @@ def test_csv_output_has_its_writeback_started_chunk_by_chunk(small_lot, tmp_path
     assert len(ranges) == 4  # 60 spectra in chunks of 16
     assert all(b > a for a, b in ranges) and all(x[1] == y[0] for x, y in zip(ranges, ranges[1:]))
     assert ranges[-1][1] == out.stat().st_size
+
+
+@pytest.mark.parametrize("how", ["kernel", "across file systems", "appending"])
+def test_rows_left_in_a_result_file_are_copied_after_what_is_written(tmp_path, monkeypatch, how):
+    import errno
+    import os
+
+    import cctkit.batch as batch
+
+    spool = tmp_path / "spool"
+    spool.mkdir()
+    result = batch._ChunkResult(["a", "b"], csv_bytes=b"1.5,x\n" * 50_000)
+    monkeypatch.setattr(batch, "_work", lambda spectra, *opts: result)
+    path = batch._spooled_work(None, str(spool))
+    got = batch._unspooled(path)
+    assert list(spool.iterdir()) == []  # the name is gone at once; the open file holds the rows
+    assert got.columns == ["a", "b"] and got.csv_bytes is None and got.csv_file is not None
+    if how == "across file systems":
+
+        def refuse(*a, **k):
+            raise OSError(errno.EXDEV, "Invalid cross-device link")
+
+        monkeypatch.setattr(os, "copy_file_range", refuse)
+    out = tmp_path / "out.csv"
+    out.write_bytes(b"a,b\n")
+    writer = batch._CsvWriter(out, columns=["a", "b"]) if how == "appending" else batch._CsvWriter(out)
+    if how != "appending":
+        writer.columns = ["a", "b"]
+        writer._fh.write(b"a,b\n")
+    writer.write(got)
+    writer.write(batch._ChunkResult(["a", "b"], csv_bytes=b"2.5,y\n"))  # written after the copied rows
+    writer.close()
+    assert got.csv_file.closed
+    assert out.read_bytes() == b"a,b\n" + b"1.5,x\n" * 50_000 + b"2.5,y\n"
