@@ -289,13 +289,23 @@ def _cct_flag_rows(cct: CctResult, problems) -> np.ndarray:
     duv = np.asarray(cct.duv, dtype=np.float64)
     with np.errstate(invalid="ignore"):
         rows = ~np.isfinite(duv) | (np.abs(duv) > DUV_LIMIT) | ~np.isfinite(np.asarray(cct.cct_K))
-    rows |= np.array([p is not None for p in problems], dtype=bool).reshape(rows.shape)
+    rows |= _present(problems).reshape(rows.shape)
     return np.flatnonzero(rows)
+
+
+def _present(items) -> np.ndarray:
+    """(N,) bool: which of the per-spectrum items (flag tuples, or a flag or None) is there (non-empty, not None)."""
+    return np.fromiter(map(bool, items), dtype=bool, count=len(items))
 
 
 def _flagged(*per_spectrum) -> np.ndarray:
     """Indices where any of the per-spectrum flag tuples is non-empty."""
-    return np.flatnonzero([any(t) for t in zip(*per_spectrum)]) if per_spectrum[0] else np.zeros(0, dtype=np.intp)
+    if not per_spectrum[0]:
+        return np.zeros(0, dtype=np.intp)
+    rows = _present(per_spectrum[0])
+    for flags in per_spectrum[1:]:
+        rows |= _present(flags)
+    return np.flatnonzero(rows)
 
 
 def _add_flags(flags: tuple, rows: np.ndarray, make=None) -> tuple:
@@ -368,7 +378,7 @@ def analyse(
     # Spectra nothing can be computed from (no visible data, no signal) get every measure withheld
     # and a flag; the command line refuses them before this point (analysis.read_files).
     problems = signal_problems(g)
-    empty = np.array([p is not None for p in problems])
+    empty = _present(problems)
     V = np.where(empty[:, None], np.nan, g.values) if empty.any() else g.values
     with np.errstate(invalid="ignore", divide="ignore"), one_blas_thread():
         return _analyse(g, V, problems, observer=int(observer), rendering=rendering, white=white)
@@ -515,8 +525,7 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int, measured_range_n
     has_ref = np.isfinite(r.cct_K)
     poor = np.flatnonzero(has_ref & ~np.asarray(r.cri.valid, dtype=bool))
     made: dict[str, tuple[Flag, ...]] = {}  # one flag per distinct text: most spectra share a few
-    for i, dc in zip(poor.tolist(), np.asarray(r.cri.dc)[poor].tolist()):
-        text = f"{dc:.4f}"
+    for i, text in zip(poor.tolist(), _four_decimals(np.asarray(r.cri.dc)[poor])):
         flag = made.get(text)
         if flag is None:
             flag = made[text] = (
@@ -565,6 +574,33 @@ def _rendering(V: np.ndarray, cct: CctResult, *, observer: int, measured_range_n
                 ),
             )
     return r.cri, r.tm30, tuple(flags)
+
+
+def _four_decimals(x: np.ndarray) -> list[str]:
+    """``f"{v:.4f}"`` of each value, formatted once per distinct text.
+
+    Values in [+0, 1e8) whose last kept digit is not a near tie are rounded to integers of 1e-4 in
+    one array step (x * 1e4 is within 1e-4 of the exact product there, so rounding it gives the
+    digits the format rounds to); the others (ties, negatives, NaN, large) are formatted one by one.
+    """
+    x = np.asarray(x, dtype=np.float64)
+    with np.errstate(invalid="ignore"):
+        scaled = x * 1e4
+        frac = scaled - np.floor(scaled)
+        plain = ~np.signbit(x) & (scaled < 1e12) & (np.abs(frac - 0.5) > 1e-3)
+    keys = np.where(plain, np.rint(np.where(plain, scaled, 0.0)), -1.0).astype(np.int64).tolist()
+    texts: dict[int, str] = {}
+    out = []
+    for k, v in zip(keys, x.tolist()):
+        if k < 0:
+            out.append(f"{v:.4f}")
+            continue
+        t = texts.get(k)
+        if t is None:
+            q, rem = divmod(k, 10000)
+            t = texts[k] = f"{q}.{rem:04d}"
+        out.append(t)
+    return out
 
 
 def read_files(files, *, quantity=None, layout=None) -> list[Spectra]:

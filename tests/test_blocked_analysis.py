@@ -148,3 +148,27 @@ def test_analyse_sums_in_one_pass_give_the_bits_of_the_measures_alone(mixed):
         same_bits(getattr(a.alphaopic, name), getattr(q, name), name)
     assert a.photometry.flags == p.flags and a.alphaopic.flags == q.flags
     assert mixed == any(a.photometry.flags)  # the mixed ranges withhold some totals
+
+
+def test_four_decimal_texts_are_the_format_of_each_value():
+    from cctkit.analysis import _four_decimals
+
+    rng = np.random.default_rng(11)
+    x = np.concatenate(
+        [
+            rng.uniform(0, 0.05, 20000),  # DC values
+            rng.uniform(0, 1e8, 2000),
+            np.arange(0, 2000) * 1e-4 + 0.5e-4,  # ties of the last digit (as near as binary gets)
+            np.nextafter(np.arange(1, 200) * 1e-4 + 0.5e-4, 0),
+            [0.0, -0.0, 1e-300, 5e-324, -1e-5, -2.5, np.nan, np.inf, -np.inf, 1e8, 1e12, 1e20, 0.99995, 9999.99995],
+        ]
+    )
+    assert _four_decimals(x) == [f"{v:.4f}" for v in x.tolist()]
+
+
+def test_reference_kinds_by_weight():
+    from cctkit.rendering.reference import _kinds
+
+    kinds = _kinds(np.array([1.0, 0.0, 0.5, np.nan, 1e-12, 1.0 - 1e-16, -0.0]))
+    assert kinds == ("planckian", "daylight", "blend", "none", "blend", "blend", "daylight")
+    assert all(type(k) is str for k in kinds)

@@ -102,10 +102,14 @@ def _as_cct(cct_K) -> np.ndarray:
     return T
 
 
+_KIND_NAMES = np.array(["planckian", "daylight", "blend", "none"], dtype=object)
+
+
 def _kinds(m: np.ndarray) -> tuple[str, ...]:
     m = np.asarray(m, dtype=np.float64)
-    kind = np.where(m == 1, "planckian", np.where(m == 0, "daylight", "blend"))
-    return tuple(np.where(np.isfinite(m), kind, "none").tolist())
+    kind = np.where(m == 1, 0, np.where(m == 0, 1, 2))
+    kind[~np.isfinite(m)] = 3
+    return tuple(_KIND_NAMES[kind].tolist())
 
 
 def _to_Y100(values: np.ndarray, observer: int = 2) -> np.ndarray:
