@@ -49,7 +49,7 @@ class _Work:
         self.k1 = np.empty(n, dtype=np.intp)
         self.ok = np.empty(n, dtype=bool)
         self.ok2 = np.empty(n, dtype=bool)
-        self.rows = np.empty((n, 8), dtype=np.float32)
+        self.rows = np.empty((n, 4), dtype=np.float32)
 
 
 def floor_cct_duv(
@@ -80,7 +80,7 @@ def floor_cct_duv(
         cell, iv, k, k1, ok, rows = W.cell, W.iv, W.k, W.k1, W.ok, W.rows
         np.copyto(pu, p[s:e, 0])
         np.copyto(pv, p[s:e, 1])
-        # the guess: bilinear in the cell, within the cell's node range
+        # the guess: bilinear in the cell (within the cell's node range by the lookup's construction)
         np.subtract(pu, ou, out=a)
         a *= inv
         np.subtract(pv, ov, out=b)
@@ -94,17 +94,13 @@ def floor_cct_duv(
         cell *= G
         cell += iv
         grid.rows.take(cell, axis=0, mode="clip", out=rows)
-        np.subtract(rows[:, 1], rows[:, 0], out=x)
-        x *= a
+        np.multiply(rows[:, 1], a, out=x)
         x += rows[:, 0]
-        np.subtract(rows[:, 3], rows[:, 2], out=y)
-        y *= a
+        np.multiply(rows[:, 3], a, out=y)
         y += rows[:, 2]
         y -= x
         y *= b
         y += x
-        np.fmin(y, rows[:, 5], out=y)
-        np.fmax(y, rows[:, 4], out=y)
         np.copyto(k, y, casting="unsafe")
         np.add(k, 1, out=k1)
         # the bracket's check: g at both ends of the segment

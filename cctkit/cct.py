@@ -165,7 +165,7 @@ class _Work:
         self.bracketed = np.empty(n, dtype=bool)
         self.mask = np.empty(n, dtype=bool)
         self.mask2 = np.empty(n, dtype=bool)
-        self.rows = np.empty((n, 8), dtype=np.float32)
+        self.rows = np.empty((n, 4), dtype=np.float32)
 
     def part(self, n: int) -> _Work:
         """The same buffers' first n points (the last, shorter block)."""
@@ -203,10 +203,9 @@ class _Grid:
     cells: int  # cells per side
     lo: np.ndarray  # (cells * cells,) lowest node a point of the cell can bracket
     span: np.ndarray  # (cells * cells,) nodes to search from lo (large where the cell needs the full search)
-    # (cells * cells, 8) float32, one row of 32 bytes per cell (one cache line's half): the foot
-    # point's position in table nodes, (m - m_0) / h, at the cell's corners (u, v), (u + 1, v),
-    # (u, v + 1), (u + 1, v + 1) (NaN: none); the first and last node a bracket of the cell's
-    # points may start at (-1, -1: the cell needs the full search); 2 unused.
+    # (cells * cells, 4) float32, one row of 16 bytes per cell: with f the foot point's position in
+    # table nodes, (m - m_0) / h, at the cell's corners (u, v), (u + 1, v), (u, v + 1), (u + 1, v + 1):
+    # f00, f10 - f00, f01, f11 - f01 (NaN: the cell is searched in full)
     rows: np.ndarray
 
 
@@ -257,14 +256,18 @@ def _grid(observer: int, c2: float) -> _Grid:
     arr = cached_arrays(f"cct-grid-{observer}-{c2!r}-h{_H_MIRED}-g{G}-b", build, ("lo", "span", "geometry", "foot"))
     u0, v0, inv_step = (float(x) for x in arr["geometry"])
     lo, span = arr["lo"].astype(np.intp), arr["span"].astype(np.intp)
-    # everything a point's guess reads in one row (one cache line), in float32: a guess needs no more
-    f = ((arr["foot"] - tab.m[0]) / tab.h).reshape(G + 1, G + 1)
-    rows = np.zeros((G * G, 8), dtype=np.float32)
-    for j, corner in enumerate((f[:-1, :-1], f[1:, :-1], f[:-1, 1:], f[1:, 1:])):
-        rows[:, j] = corner.ravel()
-    searched = span <= _GRID_SPAN  # the node range of the cell: [lo, lo + span - 1]
-    rows[:, 4] = np.where(searched, lo, -1)
-    rows[:, 5] = np.where(searched, lo + span - 1, -1)
+    # everything a point's guess reads in one row, in float32: a guess needs no more
+    f = ((arr["foot"] - tab.m[0]) / tab.h).astype(np.float32).reshape(G + 1, G + 1)
+    c00, c10, c01, c11 = (c.ravel() for c in (f[:-1, :-1], f[1:, :-1], f[:-1, 1:], f[1:, 1:]))
+    corners = np.stack([c00, c10, c01, c11], axis=1)
+    # A bilinear guess lies between the cell's corners (to float32 rounding, ~1e-5 of a node), so
+    # its node lies within the cell's node range [lo, lo + span - 1] where the corners' (with a
+    # margin) do: a cell where they do not, or where span is large, is searched in full.
+    with np.errstate(invalid="ignore"):
+        usable = (span <= _GRID_SPAN) & (np.floor(corners.min(axis=1) - 1e-3) >= lo)
+        usable &= np.floor(corners.max(axis=1) + 1e-3) <= lo + span - 1  # NaN corners: False
+    rows = np.stack([c00, c10 - c00, c01, c11 - c01], axis=1)
+    rows[~usable] = np.nan
     rows.setflags(write=False)
     return _Grid((u0, v0), inv_step, G, lo, span, rows)
 
@@ -309,20 +312,16 @@ def _guess(tab: _Table, grid: _Grid, w: _Work) -> np.ndarray:
     cell += iv
     grid.rows.take(cell, axis=0, mode="clip", out=rows)  # a point outside takes any row: not verified below
     with np.errstate(invalid="ignore"):
-        np.subtract(rows[:, 1], rows[:, 0], out=x)
-        x *= a
+        np.multiply(rows[:, 1], a, out=x)
         x += rows[:, 0]  # along u at the cell's lower v ...
-        np.subtract(rows[:, 3], rows[:, 2], out=y)
-        y *= a
+        np.multiply(rows[:, 3], a, out=y)
         y += rows[:, 2]  # ... and at its upper v
         y -= x
         y *= b
         y += x
-        # within the cell's node range (fmin/fmax: a NaN guess takes the range's end)
-        np.fmin(y, rows[:, 5], out=y)
-        np.fmax(y, rows[:, 4], out=y)
-    k = w.k
-    np.copyto(k, y, casting="unsafe")  # >= 0 except in a cell that needs the full search (-1)
+        np.fmax(y, -1.0, out=y)  # NaN: the cell is searched in full (node -1, never verified)
+        k = w.k
+        np.copyto(k, y, casting="unsafe")  # within the cell's node range (:func:`_grid`)
     _ends(tab, w)
     bracketed = np.greater_equal(w.gk, 0.0, out=w.bracketed)
     bracketed &= inside
@@ -422,19 +421,16 @@ def _solve(tab: _Table, w: _Work, cct: np.ndarray, duv: np.ndarray) -> np.ndarra
             x -= su
             x += y  # g'(t) = -|d|^2 + r . (2 c2 + 6 t c3)
             g /= x
-            zero = np.equal(x, 0.0, out=w.mask)
-            if zero.any():
-                g[zero] = 0.0
+            if not np.isfinite(np.add.reduce(g)):  # one pass; where g'(t) = 0, no step
+                g[x == 0] = 0.0
             t -= g
         t *= h
         t += tab.m.take(k, mode="clip", out=x)
         np.divide(1e6, t, out=cct)
-    ok = np.isfinite(w.pu, out=w.mask)
-    ok &= np.isfinite(w.pv, out=w.mask2)
-    ok &= w.bracketed
     # A point whose nearest locus point lies outside the table (below 900 K, above 200000 K) has no
-    # root to find: its Duv is withheld (NaN), never taken from the end of the table.
-    bad = np.logical_not(ok, out=w.mask2)
+    # root to find: its Duv is withheld (NaN), never taken from the end of the table.  (A bracketed
+    # point is finite: through the lookup it is inside the grid, and :func:`_solve_nodes` checks.)
+    bad = np.logical_not(w.bracketed, out=w.mask2)
     np.copyto(duv, np.nan, where=bad)
     bad |= np.less(cct, T_MIN_K * (1 - 1e-9), out=w.mask)
     bad |= np.greater(cct, T_MAX_K * (1 + 1e-9), out=w.mask)
@@ -448,7 +444,9 @@ def _solve_nodes(tab: _Table, k: np.ndarray, bracketed: np.ndarray, pu: np.ndarr
     np.copyto(w.pu, pu)
     np.copyto(w.pv, pv)
     w.k[:] = k
-    w.bracketed[:] = bracketed
+    # the bisection can find a sign change for an infinite coordinate: such a point is withheld
+    np.logical_and(bracketed, np.isfinite(pu), out=w.bracketed)
+    w.bracketed &= np.isfinite(pv)
     _ends(tab, w)
     cct, duv = np.empty(pu.shape[0]), np.empty(pu.shape[0])
     m = _solve(tab, w, cct, duv)
