@@ -42,7 +42,7 @@ import numpy as np
 
 from ..constants import WAVELENGTH_NM
 from ..tables import cmfs, table
-from .cam import xyz_to_cam02ucs
+from .cam import _log1p, xyz_to_cam02ucs
 
 __all__ = [
     "vector_graphic_xy",
@@ -124,7 +124,7 @@ class Tm30Result:
 def fidelity_from_dE(dE, *, cf: float = CF_CIE224) -> np.ndarray:
     """Rf = 10 ln(exp((100 - c_f dE)/10) + 1) (CIE 224:2017 section 4.6)."""
     dE = np.asarray(dE, dtype=np.float64)
-    return 10.0 * np.log1p(np.exp((100.0 - cf * dE) / 10.0))
+    return 10.0 * _log1p(np.exp((100.0 - cf * dE) / 10.0))
 
 
 def _weights() -> tuple[np.ndarray, np.ndarray]:
