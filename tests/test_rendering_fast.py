@@ -149,3 +149,17 @@ def test_blocks_of_the_appearance_model_change_no_bit(monkeypatch):
         for name in ("Jab_test_i", "Jab_ref_i", "Rf_i", "Rf", "Rg", "Rcs_h", "hue_bin_i"):
             assert getattr(r, name).tobytes() == getattr(runs[0], name).tobytes(), name
         assert r.reference == runs[0].reference
+
+
+def test_no_spectra_give_empty_results_of_the_standards_shapes():
+    """An empty (0, 471) array is a valid batch of no spectra: the results are empty arrays of the shapes each standard
+    fixes (CIE 13.3-1995: 14 test samples; ANSI/IES TM-30-20: 99 samples, 16 hue bins), not an error from inside."""
+    from cctkit.rendering import cie13_3, colour_rendition, tm30
+
+    none, no_cct = np.empty((0, 471)), np.empty(0)
+    cri = cie13_3(none, no_cct)
+    assert cri.Ra.shape == (0,) and cri.R.shape == (0, 14)  # CIE 13.3-1995: R1-R14
+    t = tm30(none, no_cct)
+    assert t.Rf.shape == (0,) and t.Rf_i.shape == (0, 99) and t.Rf_h.shape == (0, 16)  # ANSI/IES TM-30-20
+    assert t.Jab_test_i.shape == (0, 99, 3)
+    assert colour_rendition(none).cct_K.shape == (0,)

@@ -120,7 +120,8 @@ def _samples(test: np.ndarray, ref: np.ndarray, rho: np.ndarray):
 def _scaled(rows: np.ndarray, xyz: slice, samples: slice):
     """Source XYZ (n, 3) scaled to Y = 100 and its samples' XYZ (n, S, 3) from weight-matrix rows."""
     k = 100.0 / rows[:, xyz.start + 1]
-    return rows[:, xyz] * k[:, None], rows[:, samples].reshape(rows.shape[0], -1, 3) * k[:, None, None]
+    s = rows[:, samples]
+    return rows[:, xyz] * k[:, None], s.reshape(s.shape[0], s.shape[1] // 3, 3) * k[:, None, None]  # no -1: N may be 0
 
 
 def differences_from_rows(test_rows: np.ndarray, ref_rows: np.ndarray, xyz: slice, samples: slice):

@@ -141,7 +141,7 @@ def _jab(values: np.ndarray, cmf: np.ndarray, sample_w: np.ndarray) -> np.ndarra
     XYZ_w = values @ cmf
     with np.errstate(divide="ignore", invalid="ignore"):
         k = 100.0 / XYZ_w[:, 1]
-        XYZ_s = (values @ sample_w).reshape(values.shape[0], -1, 3) * k[:, None, None]
+        XYZ_s = (values @ sample_w).reshape(values.shape[0], sample_w.shape[1] // 3, 3) * k[:, None, None]  # N may be 0
         return xyz_to_cam02ucs(XYZ_s, (XYZ_w * k[:, None])[:, None, :])
 
 
@@ -179,7 +179,8 @@ def _jab_from_rows(rows: np.ndarray, xyz: slice, samples: slice, out: np.ndarray
     """CAM02-UCS J'a'b' (n, 99, 3) of the CES from rows of :func:`.tristimulus.rendering_rows` (into ``out``)."""
     with np.errstate(divide="ignore", invalid="ignore"):
         k = 100.0 / rows[:, xyz.start + 1]
-        XYZ_s = rows[:, samples].reshape(rows.shape[0], -1, 3) * k[:, None, None]
+        s_rows = rows[:, samples]
+        XYZ_s = s_rows.reshape(s_rows.shape[0], s_rows.shape[1] // 3, 3) * k[:, None, None]  # no -1: N may be 0
         return xyz_to_cam02ucs(XYZ_s, (rows[:, xyz] * k[:, None])[:, None, :], out=out)
 
 
