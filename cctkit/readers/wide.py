@@ -485,6 +485,14 @@ def _open_wide(
     return ChunkedInput(source, "wide-csv", estimate, (source,), chunk_size, make)
 
 
+def _no_late_directive(directives: dict[str, tuple[str, int]], head: _WideHead, source: str) -> None:
+    """Refuse a ``# key:`` directive found after the header (``directives`` holds every one read so far)."""
+    late = [(line, key) for key, (_, line) in directives.items() if key not in head.directives]
+    if late:
+        line, key = min(late)
+        raise InputError(f"'# {key}:' after the header; directives must come before it", source=source, line=line)
+
+
 def _iter_wide(
     p: Path, source: str, chunk_size: int, quantity: Quantity, head: _WideHead, skipped: list[InputError] | None = None
 ) -> Iterator[Spectra]:
@@ -493,13 +501,7 @@ def _iter_wide(
         return
     stem = p.stem or source
     count = 0
-    directives = dict(head.directives)
-
-    def no_late_directive() -> None:
-        late = [(line, key) for key, (_, line) in directives.items() if key not in head.directives]
-        if late:
-            line, key = min(late)
-            raise InputError(f"'# {key}:' after the header; directives must come before it", source=source, line=line)
+    directives = dict(head.directives)  # grows with every directive line read after the header
 
     rows: list[tuple[int, str]] = []
     with _open_text(p, source, head.codec, head.bom) as fh:
@@ -510,7 +512,7 @@ def _iter_wide(
                     continue
                 rows.append((number, s))
                 if len(rows) == chunk_size:
-                    no_late_directive()
+                    _no_late_directive(directives, head, source)
                     chunk = _wide_chunk(rows, source, stem, count, quantity, head, skipped)
                     if chunk is not None:  # None: every row of it was bad and skipped
                         yield chunk
@@ -518,7 +520,7 @@ def _iter_wide(
                     rows = []
         except UnicodeDecodeError:
             raise InputError(f"not valid {head.label} text", source=source) from None
-    no_late_directive()
+    _no_late_directive(directives, head, source)
     if rows:
         chunk = _wide_chunk(rows, source, stem, count, quantity, head, skipped)
         if chunk is not None:
@@ -541,13 +543,7 @@ def _iter_wide_bytes(
     """
     stem = p.stem or source
     count = 0
-    directives = dict(head.directives)
-
-    def no_late_directive() -> None:
-        late = [(line, key) for key, (_, line) in directives.items() if key not in head.directives]
-        if late:
-            line, key = min(late)
-            raise InputError(f"'# {key}:' after the header; directives must come before it", source=source, line=line)
+    directives = dict(head.directives)  # grows with every directive line read after the header
 
     rows: list[tuple[int, str]] = []  # content lines of a chunk read line by line
     try:
@@ -567,7 +563,7 @@ def _iter_wide_bytes(
             if not rows:
                 plain = _plain_rows(b"\n".join(lines), len(lines), head)
                 if plain is not None:
-                    no_late_directive()
+                    _no_late_directive(directives, head, source)
                     names, values = plain
                     if names is None:
                         names = [f"{stem}#{count + k + 1}" for k in range(len(lines))]
@@ -583,13 +579,13 @@ def _iter_wide_bytes(
                 raise InputError(f"not valid {head.label} text", source=source) from None
             rows.extend(content_lines(text, directives, source=source, start=first))
             if len(rows) == chunk_size:
-                no_late_directive()
+                _no_late_directive(directives, head, source)
                 chunk = _wide_chunk(rows, source, stem, count, quantity, head, skipped)
                 if chunk is not None:
                     yield chunk
                 count += len(rows)
                 rows = []
-    no_late_directive()
+    _no_late_directive(directives, head, source)
     if rows:
         chunk = _wide_chunk(rows, source, stem, count, quantity, head, skipped)
         if chunk is not None:
