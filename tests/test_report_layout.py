@@ -100,6 +100,35 @@ def test_summary_picture_text_never_overlaps(nine, nine_relative, tmp_path):
                 assert charts.layout_problems(ax) == [], ax
 
 
+def test_batch_scatter_page_title_clears_the_chart_above():
+    """The title over the overlaid spectra sat on the chromaticity chart's u tick labels (seen on the demo's lot
+    report, 25 spectra); every text of the page, the axes' tick labels and axis labels included, stands apart."""
+    from matplotlib import rc_context
+
+    from cctkit.report.build import _RC
+
+    a = analyse(_lamps(25))
+    recs = a.records()
+    meta = report_meta(date="2026-01-15", records=recs)
+    with rc_context(_RC):
+        fig = pages.scatter_page(
+            a,
+            recs,
+            meta,
+            paper="a4",
+            comparison=charts.reference_comparison(a),
+            diagram="uv",
+            regions=None,
+            page_label="page 5 of 6",
+        )
+        r = charts.renderer_of(fig)
+        title = [t for t in fig.texts if t.get_text() == "Spectra, each scaled to Y = 100"]
+        assert len(title) == 1
+        chart = fig.axes[0]
+        below = [*chart.get_xticklabels(), chart.xaxis.label]
+        assert charts.text_collisions(title + below, r) == []
+
+
 # ---------------------------------------------------------------- charts: no overlapping text
 
 

@@ -1138,10 +1138,10 @@ def scatter_page(analysis, records, meta, *, paper: str, comparison, diagram: st
     side = min(p.width - 0.6, (bottom - y) * 0.62)
     ax = p.axes(p.left + 0.55 + (p.width - 0.6 - side) / 2.0, y + 0.2, side, side)
     charts.chromaticity_chart(analysis, ax, diagram=diagram, regions=regions)
-    y2 = y + side + 0.65
+    y2 = y + side + 1.0  # below the chart's tick labels and axis label: the title, then the spectra
     ax = p.axes(p.left + 0.55, y2, p.width - 0.6, bottom - y2 - 0.45)
     charts.spectra_overlay_chart(analysis, ax, comparison=comparison, legend=n <= 12)
-    p.text(p.left, y2 - 0.45, "Spectra, each scaled to Y = 100", fontsize=7, weight="bold")
+    p.text(p.left, y2 - 0.38, "Spectra, each scaled to Y = 100", fontsize=7, weight="bold")
     _footer(p, meta, page_label)
     return p.fig
 
